@@ -1,0 +1,1 @@
+"""Rayleigh–Schrödinger perturbation series (placeholder while the kernels are written)."""
