@@ -1,0 +1,417 @@
+"""Oscillator bases: functions, quadrature and exact operators.
+
+Two bases cover every channel of DESIGN §2:
+
+- :class:`HermiteBasis` — 1D Hermite functions φ_n((x − x₀)/b), n = 0 … N−1;
+- :class:`RadialBasis` — radial oscillator functions of a central well in d = 1, 2, 3
+  dimensions, R_n(r) ∝ r^λ e^{−r²/2b²} L_n^{(α)}(r²/b²) with α = λ + d/2 − 1 (λ = l, or an
+  effective non-integer λ when an inverse-square term is absorbed into the centrifugal one).
+
+Basis functions are never built as polynomial × normalisation (that overflows, see
+PITFALLS §4). They come from the normalised three-term recurrence of the orthonormal
+polynomials p_n of the basis weight, run with a per-point logarithmic scale so that values at
+far points keep their *relative* accuracy (PITFALLS §0).
+
+Operators that are polynomials of the coordinate (powers of x, even powers of r) and the
+kinetic energy are exact banded matrices from the infinite-space recurrences; everything else is
+integrated by Gauss quadrature whose point count grows until the matrix stops changing.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from functools import cached_property
+
+import numpy as np
+from scipy.linalg import eigh_tridiagonal
+from scipy.special import gammaln, roots_legendre
+
+from .errors import NumericalError
+
+__all__ = ["HermiteBasis", "RadialBasis", "OrthogonalFamily", "QUADRATURE_RTOL"]
+
+QUADRATURE_RTOL = 1e-13  # default: matrix elements stable to ~50 ulp of the largest element
+_RESCALE = 1e150  # rescale the recurrence when a value exceeds this
+_MAX_POINTS = 20000  # hard cap of the adaptive quadrature
+_PANEL_ORDER = 24  # Gauss–Legendre points per panel
+
+
+@dataclass(frozen=True)
+class OrthogonalFamily:
+    """Orthonormal polynomials of a weight, from their Jacobi recurrence.
+
+    x p_k = β_{k+1} p_{k+1} + a_k p_k + β_k p_{k−1}, with p_0 = 1/√μ₀ (μ₀ the weight's mass).
+    Hermite (weight e^{−x²}): a_k = 0, β_k = √(k/2), μ₀ = √π.
+    Laguerre (weight x^α e^{−x}): a_k = 2k + α + 1, β_k = −√(k(k+α)), μ₀ = Γ(α+1); the sign
+    keeps p_n(0) > 0, the sign of the standard L_n^{(α)}.
+    """
+
+    kind: str  # "hermite" | "laguerre"
+    alpha: float = 0.0
+
+    def a(self, k: np.ndarray) -> np.ndarray:
+        k = np.asarray(k, dtype=float)
+        return np.zeros_like(k) if self.kind == "hermite" else 2.0 * k + self.alpha + 1.0
+
+    def beta(self, k: np.ndarray) -> np.ndarray:
+        k = np.asarray(k, dtype=float)
+        if self.kind == "hermite":
+            return np.sqrt(k / 2.0)
+        return -np.sqrt(k * (k + self.alpha))
+
+    @property
+    def log_p0(self) -> float:
+        if self.kind == "hermite":
+            return -0.25 * math.log(math.pi)
+        return -0.5 * float(gammaln(self.alpha + 1.0))
+
+    def jacobi(self, n: int) -> np.ndarray:
+        """Exact n × n Jacobi (coordinate) matrix, tridiagonal."""
+        k = np.arange(n)
+        j = np.diag(self.a(k))
+        off = self.beta(k[1:])
+        return j + np.diag(off, 1) + np.diag(off, -1)
+
+    def values(self, x: np.ndarray, rows: int, norm_terms: int = 0
+               ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Scaled values of p_0 … p_{rows−1} at ``x``.
+
+        Returns ``(vals, logs, lognorm)`` with p_k(x) = vals[k] · exp(logs[k]) and, when
+        ``norm_terms`` > 0, lognorm = ½ log Σ_{k<norm_terms} p_k(x)² (the inverse square root of
+        the Christoffel function: the Gauss weight at a node is exp(−2·lognorm)).
+        """
+        x = np.asarray(x, dtype=float)
+        n_run = max(rows, norm_terms)
+        vals = np.empty((rows, x.size))
+        logs = np.empty((rows, x.size))
+        s = np.full(x.size, self.log_p0)  # current log scale
+        p_prev = np.zeros(x.size)
+        p_cur = np.ones(x.size)
+        sumsq = np.zeros(x.size)
+        for k in range(n_run):
+            if k < rows:
+                vals[k] = p_cur
+                logs[k] = s
+            if k < norm_terms:
+                sumsq += p_cur * p_cur
+            if k == n_run - 1:
+                break
+            b_next = float(self.beta(k + 1))
+            p_next = ((x - float(self.a(k))) * p_cur - float(self.beta(k)) * p_prev) / b_next
+            p_prev, p_cur = p_cur, p_next
+            big = np.abs(p_cur) > _RESCALE
+            if np.any(big):
+                f = np.where(big, np.abs(p_cur), 1.0)
+                p_cur = p_cur / f
+                p_prev = p_prev / f
+                sumsq = sumsq / (f * f)
+                s = s + np.log(f)
+        lognorm = 0.5 * np.log(sumsq) + s if norm_terms else np.zeros(x.size)
+        return vals, logs, lognorm
+
+    def gauss_nodes(self, m: int) -> np.ndarray:
+        """Nodes of the m-point Gauss rule (Golub–Welsch eigenvalues, then Newton polish)."""
+        k = np.arange(m)
+        nodes = eigh_tridiagonal(self.a(k), np.abs(self.beta(k[1:])), eigvals_only=True)
+        for _ in range(2):  # Newton on p_m: x -= p_m / p_m'
+            nodes = nodes - self._newton_ratio(nodes, m)
+        return np.sort(nodes)
+
+    def _newton_ratio(self, x: np.ndarray, m: int) -> np.ndarray:
+        p_prev, p_cur = np.zeros_like(x), np.ones_like(x)
+        d_prev, d_cur = np.zeros_like(x), np.zeros_like(x)
+        for k in range(m):
+            b_next = float(self.beta(k + 1))
+            ak, bk = float(self.a(k)), float(self.beta(k))
+            p_next = ((x - ak) * p_cur - bk * p_prev) / b_next
+            d_next = (p_cur + (x - ak) * d_cur - bk * d_prev) / b_next
+            p_prev, p_cur, d_prev, d_cur = p_cur, p_next, d_cur, d_next
+            f = np.maximum(np.abs(p_cur), 1.0)
+            big = f > _RESCALE
+            if np.any(big):
+                f = np.where(big, f, 1.0)
+                p_prev, p_cur, d_prev, d_cur = p_prev / f, p_cur / f, d_prev / f, d_cur / f
+        return p_cur / d_cur
+
+
+def _panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
+                ) -> tuple[np.ndarray, np.ndarray]:
+    """Composite Gauss–Legendre rule on [lo, hi] with panel edges at ``breaks``."""
+    edges = sorted({lo, hi, *(b for b in breaks if lo < b < hi)})
+    t, w = roots_legendre(_PANEL_ORDER)
+    xs, ws = [], []
+    for a, b in zip(edges[:-1], edges[1:]):
+        n = max(1, math.ceil((b - a) / width))
+        e = np.linspace(a, b, n + 1)
+        half = 0.5 * np.diff(e)
+        mid = 0.5 * (e[:-1] + e[1:])
+        xs.append((mid[:, None] + half[:, None] * t[None, :]).ravel())
+        ws.append((half[:, None] * w[None, :]).ravel())
+    return np.concatenate(xs), np.concatenate(ws)
+
+
+class _Basis:
+    """Shared machinery: adaptive quadrature of a function's matrix."""
+
+    size: int
+    length: float
+
+    def quadrature(self, points: int, kind: str = "weight", breaks: Sequence[float] = ()
+                   ) -> tuple[np.ndarray, np.ndarray]:  # pragma: no cover - abstract
+        raise NotImplementedError
+
+    def matrix(self, f: Callable[[np.ndarray], np.ndarray], kind: str = "weight",
+               breaks: Sequence[float] = (), rtol: float = QUADRATURE_RTOL,
+               points: int | None = None) -> np.ndarray:
+        """Matrix ⟨m|f|n⟩ by Gauss quadrature, grown until it stops changing.
+
+        Parameters
+        ----------
+        f
+            Vectorised function of the physical coordinate (x, or r).
+        kind
+            ``"weight"``: Gauss rule of the basis' own weight (exponential convergence for
+            functions analytic in the basis variable: x in 1D, r² for radial bases);
+            ``"panels"``: composite Gauss–Legendre in x or r with panel edges at ``breaks``
+            (for terms that are not smooth in r², such as Woods–Saxon, or that have kinks).
+        rtol
+            The point count grows until max |ΔA| ≤ rtol · max |A|.
+        points
+            Use exactly this many points (no sufficiency check) when given.
+
+        Raises
+        ------
+        NumericalError
+            When the matrix still changes at the point cap; the message names the term.
+        """
+        if points is not None:
+            return self._quad_matrix(f, points, kind, breaks)
+        m = self.size + 24
+        prev = self._quad_matrix(f, m, kind, breaks)
+        while True:
+            m = int(1.35 * m) + 8
+            cur = self._quad_matrix(f, m, kind, breaks)
+            scale = float(np.max(np.abs(cur))) or 1.0
+            delta = float(np.max(np.abs(cur - prev)))
+            if not np.all(np.isfinite(cur)):
+                raise NumericalError("a term of the well is not finite at some quadrature "
+                                     "points; check its formula and the basis length")
+            if delta <= rtol * scale:
+                return cur
+            if m > _MAX_POINTS:
+                raise NumericalError(
+                    f"quadrature of a well term did not settle (change {delta:.2e} relative to "
+                    f"{scale:.2e} at {m} points); the term may be singular or the basis length "
+                    "badly chosen")
+            prev = cur
+
+    def _quad_matrix(self, f, m, kind, breaks):
+        coords, u = self.quadrature(m, kind, breaks)
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            fv = np.asarray(f(coords), dtype=float)
+            fu = fv[:, None] * u
+        fu[u == 0.0] = 0.0  # f huge where the functions vanish to the last bit: contributes 0
+        a = u.T @ fu
+        return 0.5 * (a + a.T)
+
+
+@dataclass(frozen=True)
+class HermiteBasis(_Basis):
+    """1D oscillator basis φ_n(x) = b^{−1/2} ψ_n((x − x₀)/b), n = 0 … N−1, no symmetry.
+
+    Parameters
+    ----------
+    size
+        Number of functions N ≥ 1.
+    length
+        Oscillator length b > 0.
+    center
+        Centre x₀.
+    """
+
+    size: int
+    length: float
+    center: float = 0.0
+
+    def __post_init__(self) -> None:
+        _check_size_length(self.size, self.length)
+
+    l = None  # noqa: E741 - the channel has no angular quantum number
+    dimension = 1
+    alpha = None
+
+    @cached_property
+    def family(self) -> OrthogonalFamily:
+        return OrthogonalFamily("hermite")
+
+    def oscillator_levels(self) -> np.ndarray:
+        """Oscillator energies in units of ħω: n + ½."""
+        return np.arange(self.size) + 0.5
+
+    def coordinate_power(self, k: int) -> np.ndarray:
+        """Exact matrix of ((x − x₀)/b)^k, half-bandwidth k.
+
+        The power of the (N+k)-dimensional coordinate matrix, cut to N × N, equals the exact
+        infinite-space matrix: a path of k ladder steps from m < N to n < N never leaves the
+        first N + k states.
+        """
+        k = _check_power(k)
+        x = self.family.jacobi(self.size + k)
+        return np.linalg.matrix_power(x, k)[: self.size, : self.size].copy()
+
+    def kinetic(self) -> np.ndarray:
+        """Exact kinetic matrix in units of ħω: T = −¼ (a† − a)²."""
+        n = np.arange(self.size, dtype=float)
+        t = np.diag((2.0 * n + 1.0) / 4.0)
+        off = -0.25 * np.sqrt((n[:-2] + 1.0) * (n[:-2] + 2.0))
+        return t + np.diag(off, 2) + np.diag(off, -2)
+
+    def quadrature(self, points, kind="weight", breaks=()):
+        """Nodes (physical x) and U[q, n] = √w_q φ_n(x_q) of an m-point rule."""
+        fam = self.family
+        if kind == "weight":
+            xi = fam.gauss_nodes(points)
+            vals, logs, lognorm = fam.values(xi, self.size, norm_terms=points)
+            u = vals * np.exp(logs - lognorm[None, :])
+        else:
+            top = math.sqrt(2.0 * self.size + 1.0) + 10.0
+            width = min(1.0, 6.0 / math.sqrt(self.size)) * 0.9 ** _refinements(points, self.size)
+            scaled = [(c - self.center) / self.length for c in breaks]
+            xi, w = _panel_rule(-top, top, scaled, width)
+            vals, logs, _ = fam.values(xi, self.size)
+            u = vals * np.exp(logs + 0.5 * np.log(w)[None, :] - 0.5 * xi[None, :] ** 2)
+        return self.center + self.length * xi, u.T
+
+    def functions(self, x: np.ndarray) -> np.ndarray:
+        """φ_n(x), shape (N, len(x)), normalised with dx."""
+        xi = (np.asarray(x, dtype=float).ravel() - self.center) / self.length
+        vals, logs, _ = self.family.values(xi, self.size)
+        return vals * np.exp(logs - 0.5 * xi[None, :] ** 2 - 0.5 * math.log(self.length))
+
+
+@dataclass(frozen=True)
+class RadialBasis(_Basis):
+    """Radial oscillator basis of a central well in d dimensions, one channel.
+
+    R_n(r) = √(2/b^d) p_n(r²/b²) (r/b)^λ e^{−r²/2b²}, orthonormal with r^{d−1} dr, where p_n are
+    the orthonormal Laguerre polynomials of weight t^α e^{−t}, α = λ + d/2 − 1. For d = 1,
+    l = 0 and 1 are the even and odd functions of x on the half line.
+
+    Parameters
+    ----------
+    size
+        Number of radial functions N ≥ 1.
+    length
+        Oscillator length b > 0.
+    l
+        Angular quantum number (d = 2: |m|; d = 1: parity 0 or 1).
+    dimension
+        1, 2 or 3.
+    lam
+        Effective (possibly non-integer) λ replacing l in the functions, when an inverse-square
+        term is absorbed into the centrifugal one; ``None`` means λ = l.
+    """
+
+    size: int
+    length: float
+    l: int = 0  # noqa: E741
+    dimension: int = 3
+    lam: float | None = None
+
+    def __post_init__(self) -> None:
+        _check_size_length(self.size, self.length)
+        if self.dimension not in (1, 2, 3):
+            raise ValueError(f"dimension: must be 1, 2 or 3; got {self.dimension!r}")
+        if isinstance(self.l, bool) or not isinstance(self.l, (int, np.integer)) or self.l < 0:
+            raise ValueError(f"l: must be a non-negative integer; got {self.l!r}")
+        if self.dimension == 1 and self.l > 1:
+            raise ValueError(f"l: in 1D must be 0 (even) or 1 (odd); got {self.l!r}")
+        if self.alpha <= -1.0:
+            raise ValueError(f"lam: effective angular momentum {self.lam!r} gives alpha <= -1")
+
+    @property
+    def lam_eff(self) -> float:
+        return float(self.l if self.lam is None else self.lam)
+
+    @property
+    def alpha(self) -> float:
+        return self.lam_eff + 0.5 * self.dimension - 1.0
+
+    @cached_property
+    def family(self) -> OrthogonalFamily:
+        return OrthogonalFamily("laguerre", self.alpha)
+
+    def oscillator_levels(self) -> np.ndarray:
+        """Oscillator energies in units of ħω: 2n + λ + d/2."""
+        return 2.0 * np.arange(self.size) + self.alpha + 1.0
+
+    def coordinate_power(self, k: int) -> np.ndarray:
+        """Exact matrix of (r/b)^k for even k, half-bandwidth k/2."""
+        k = _check_power(k)
+        if k % 2:
+            raise ValueError(f"k: exact radial powers must be even; got {k}")
+        t = self.family.jacobi(self.size + k // 2)
+        return np.linalg.matrix_power(t, k // 2)[: self.size, : self.size].copy()
+
+    def kinetic(self) -> np.ndarray:
+        """Exact radial kinetic matrix (centrifugal part with λ included) in units of ħω.
+
+        T = H_osc − ½ (r/b)²; H_osc is diagonal, 2n + α + 1, and (r/b)² = t is the Jacobi matrix.
+        """
+        n = np.arange(self.size, dtype=float)
+        a = self.alpha
+        off = np.sqrt((n[:-1] + 1.0) * (n[:-1] + a + 1.0))
+        return 0.5 * (np.diag(2.0 * n + a + 1.0) + np.diag(off, 1) + np.diag(off, -1))
+
+    def quadrature(self, points, kind="weight", breaks=()):
+        """Nodes (physical r) and U[q, n] = √w_q R_n(r_q) r_q^{(d−1)/2} of an m-point rule."""
+        fam = self.family
+        if kind == "weight":
+            t = fam.gauss_nodes(points)
+            vals, logs, lognorm = fam.values(t, self.size, norm_terms=points)
+            u = vals * np.exp(logs - lognorm[None, :])
+            return self.length * np.sqrt(t), u.T
+        top = math.sqrt(4.0 * self.size + 2.0 * self.alpha + 2.0) + 10.0
+        width = min(1.0, 6.0 / math.sqrt(self.size)) * 0.9 ** _refinements(points, self.size)
+        rho, w = _panel_rule(0.0, top, [c / self.length for c in breaks], width)
+        vals, logs, _ = fam.values(rho * rho, self.size)
+        logpre = 0.5 * np.log(2.0 * w) + (self.alpha + 0.5) * np.log(rho) - 0.5 * rho * rho
+        u = vals * np.exp(logs + logpre[None, :])
+        return self.length * rho, u.T
+
+    def functions(self, r: np.ndarray) -> np.ndarray:
+        """R_n(r), shape (N, len(r)), normalised with r^{d−1} dr (angular part excluded)."""
+        rho = np.abs(np.asarray(r, dtype=float).ravel()) / self.length
+        vals, logs, _ = self.family.values(rho * rho, self.size)
+        with np.errstate(divide="ignore"):
+            logpre = (0.5 * math.log(2.0) - 0.5 * self.dimension * math.log(self.length)
+                      + self.lam_eff * np.log(rho) - 0.5 * rho * rho)
+        if self.lam_eff == 0:
+            logpre = np.where(rho == 0, 0.5 * math.log(2.0) - 0.5 * self.dimension
+                              * math.log(self.length), logpre)
+        return vals * np.exp(logs + logpre[None, :])
+
+
+def _refinements(points: int, size: int) -> int:
+    """Map the adaptive point counter onto a panel-refinement level."""
+    m, level = size + 24, 0
+    while m < points:
+        m = int(1.35 * m) + 8
+        level += 3
+    return level
+
+
+def _check_size_length(size: int, length: float) -> None:
+    if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
+        raise ValueError(f"size: must be an integer >= 1; got {size!r}")
+    if isinstance(length, bool) or not isinstance(length, (int, float, np.floating)) \
+            or not math.isfinite(length) or length <= 0:
+        raise ValueError(f"length: must be a positive number; got {length!r}")
+
+
+def _check_power(k: int) -> int:
+    if isinstance(k, bool) or not isinstance(k, (int, np.integer)) or k < 0:
+        raise ValueError(f"k: must be a non-negative integer; got {k!r}")
+    return int(k)

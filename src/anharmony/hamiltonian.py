@@ -1,0 +1,230 @@
+"""Channel matrices: kinetic (with centrifugal), central well and spin–orbit.
+
+A channel is one block of the Hamiltonian: the 1D basis without symmetry, a 1D parity, or an
+(l) / (l, j) channel of a central well in d = 2, 3 (DESIGN §2). Polynomial terms enter exactly
+through the basis' coordinate powers; other terms by adaptive Gauss quadrature. An
+inverse-square term g/r² (a ``power`` term with exponent −2) is absorbed exactly into the
+centrifugal term by an effective angular momentum λ with
+λ(λ + d − 2) = l(l + d − 2) + g / (ħ²/2m).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from fractions import Fraction
+
+import numpy as np
+
+from .basis import HermiteBasis, RadialBasis
+from .potentials import Coulomb, Power, Term, Well
+
+__all__ = ["Channel", "ChannelMatrices", "channel_hamiltonian", "make_basis", "parse_j"]
+
+_LETTERS = "spdfghiklmnoqrtuvwxyz"  # spectroscopic letters; j is skipped (common practice)
+_WEIGHT_1D = {"harmonic", "power", "polynomial", "gaussian", "morse", "poschl_teller"}
+_WEIGHT_RADIAL = {"gaussian", "poschl_teller"}  # analytic functions of r² when centred at 0
+
+
+def parse_j(j: float | str | None) -> float | None:
+    """Read j as a number (2.5) or a string ("5/2"); ``None`` stays ``None``."""
+    if j is None:
+        return None
+    if isinstance(j, str):
+        try:
+            value = float(Fraction(j.strip()))
+        except (ValueError, ZeroDivisionError):
+            raise ValueError(f"j: expected a half-integer like 2.5 or '5/2'; got {j!r}") from None
+    elif isinstance(j, bool) or not isinstance(j, (int, float, np.integer, np.floating)):
+        raise TypeError(f"j: expected a half-integer like 2.5 or '5/2'; got {j!r}")
+    else:
+        value = float(j)
+    if not (value > 0 and (2 * value) % 2 == 1):
+        raise ValueError(f"j: must be a positive half-integer; got {j!r}")
+    return value
+
+
+@dataclass(frozen=True)
+class Channel:
+    """One channel of a well: dimension, angular quantum number and (optionally) j.
+
+    ``l`` is ``None`` for the 1D basis without symmetry; 0/1 are the even/odd 1D parities.
+    """
+
+    dimension: int
+    l: int | None = 0  # noqa: E741
+    j: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.dimension not in (1, 2, 3):
+            raise ValueError(f"dimension: must be 1, 2 or 3; got {self.dimension!r}")
+        if self.l is None:
+            if self.dimension != 1:
+                raise ValueError("l: required for a central well in 2 or 3 dimensions")
+        elif isinstance(self.l, bool) or not isinstance(self.l, (int, np.integer)) or self.l < 0:
+            raise ValueError(f"l: must be a non-negative integer; got {self.l!r}")
+        elif self.dimension == 1 and self.l > 1:
+            raise ValueError(f"l: in 1D must be 0 (even), 1 (odd) or None; got {self.l!r}")
+        if self.j is not None:
+            if self.dimension != 3 or self.l is None:
+                raise ValueError("j: only 3D channels carry spin 1/2")
+            if abs(self.j - self.l) != 0.5:
+                raise ValueError(f"j: must be l ± 1/2 = {self.l - 0.5 if self.l else 0.5}"
+                                 f"{'' if not self.l else f' or {self.l + 0.5}'}; got {self.j}")
+
+    @property
+    def ls(self) -> float:
+        """⟨l·s⟩ = [j(j+1) − l(l+1) − 3/4]/2 (0 without spin)."""
+        if self.j is None:
+            return 0.0
+        return 0.5 * (self.j * (self.j + 1) - self.l * (self.l + 1) - 0.75)
+
+    @property
+    def label(self) -> str:
+        """``x``, ``even``/``odd``, ``m=2`` (2D), ``d`` or ``d5/2`` (3D)."""
+        if self.l is None:
+            return "x"
+        if self.dimension == 1:
+            return ("even", "odd")[self.l]
+        if self.dimension == 2:
+            return f"m={self.l}"
+        letter = _LETTERS[self.l] if self.l < len(_LETTERS) else f"[l={self.l}]"
+        return letter if self.j is None else f"{letter}{int(2 * self.j)}/2"
+
+    def level_label(self, n: int) -> str:
+        """Spectroscopic label of level n (0-based radial index): ``1d5/2`` for n = 0."""
+        return f"{n + 1}{self.label}" if self.dimension == 3 else f"{n}{self.label}"
+
+
+@dataclass(frozen=True)
+class ChannelMatrices:
+    """The Hamiltonian of one channel, split by origin, in the well's energy unit."""
+
+    kinetic: np.ndarray
+    potential: np.ndarray
+    spin_orbit: np.ndarray
+    basis: HermiteBasis | RadialBasis
+    bandwidth: int | None
+    hbar_omega: float
+
+    @property
+    def total(self) -> np.ndarray:
+        return self.kinetic + self.potential + self.spin_orbit
+
+
+def effective_lambda(well: Well, channel: Channel) -> tuple[float | None, tuple[Term, ...]]:
+    """λ absorbing the inverse-square terms, and the terms left for the potential matrix."""
+    inv_sq = [t for t in well.central_terms if isinstance(t, Power) and t.exponent == -2]
+    rest = tuple(t for t in well.central_terms if t not in inv_sq)
+    if channel.l is None or not inv_sq:
+        return None, rest
+    g = sum(t.strength for t in inv_sq)
+    d, l = channel.dimension, channel.l
+    c = well.units.hbar2_over_2m(well.mass)
+    disc = 0.25 * (d - 2) ** 2 + l * (l + d - 2) + g / c
+    if disc < 0:
+        raise ValueError(f"power: an attractive inverse-square strength {g} is below the "
+                         "critical value (the particle falls to the centre)")
+    lam = -0.5 * (d - 2) + math.sqrt(disc)
+    return lam, rest
+
+
+def make_basis(well: Well, channel: Channel, size: int, length: float, center: float = 0.0
+               ) -> HermiteBasis | RadialBasis:
+    """The oscillator basis of a channel (with λ from inverse-square terms)."""
+    if channel.l is None:
+        return HermiteBasis(size, length, center)
+    lam, _ = effective_lambda(well, channel)
+    return RadialBasis(size, length, channel.l, channel.dimension, lam)
+
+
+def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
+                        center: float = 0.0, mass: float | None = None) -> ChannelMatrices:
+    """Matrices of one channel in the oscillator basis of length ``length``.
+
+    Parameters
+    ----------
+    well
+        The well, in its unit system.
+    channel
+        The channel.
+    size
+        Number of basis states.
+    length
+        Oscillator length b of the basis.
+    center
+        Basis centre x₀ (1D without symmetry only; central wells are centred at 0).
+    mass
+        Particle mass; defaults to the well's.
+    """
+    if mass is not None:
+        well = well.with_context(well.units, mass)
+    radial = channel.l is not None
+    if radial:
+        for t in well.central_terms:
+            if t.center != 0.0:
+                raise ValueError(f"{t.kind}.center: a central well (or a 1D parity channel) "
+                                 f"needs every term centred at 0; got {t.center}")
+        center = 0.0
+    basis = make_basis(well, channel, size, length, center)
+    _, terms = effective_lambda(well, channel)
+    c = well.units.hbar2_over_2m(well.mass)
+    hw = 2.0 * c / length**2
+    kinetic = hw * basis.kinetic()
+    n = basis.size
+
+    exact = np.zeros((n, n))
+    band = 2 if not radial else 1
+    weight_terms: list[Term] = []
+    panel_terms: list[Term] = []
+    for t in terms:
+        poly = t.polynomial()
+        if poly is not None and (not radial or all(p % 2 == 0 for p in poly)):
+            shift = t.center - center
+            for p, coef in poly.items():
+                # (x - c_t)^p = (ξ b − shift)^p expanded in ξ = (x − x0)/b
+                for k in range(p + 1):
+                    w = coef * math.comb(p, k) * (-shift) ** (p - k) * length**k
+                    if w == 0.0:
+                        continue
+                    exact += w * basis.coordinate_power(k) if k else w * np.eye(n)
+                    band = max(band, k if not radial else k // 2)
+        elif (t.kind in _WEIGHT_1D and not radial
+              and not (isinstance(t, Power) and t.exponent != int(t.exponent))) or \
+                (radial and t.kind in _WEIGHT_RADIAL):
+            weight_terms.append(t)
+        else:
+            panel_terms.append(t)
+    potential = exact
+    if weight_terms:
+        potential = potential + basis.matrix(_summed(weight_terms), kind="weight")
+    if panel_terms:
+        potential = potential + basis.matrix(_summed(panel_terms), kind="panels",
+                                             breaks=_breaks(panel_terms, radial))
+    so = np.zeros((n, n))
+    if well.has_spin_orbit and channel.ls != 0.0:
+        if not radial or channel.dimension != 3:
+            raise ValueError("spin_orbit: needs a 3D central channel with j")
+        so = channel.ls * basis.matrix(well.spin_orbit_value, kind="panels")
+    bandwidth = band if not (weight_terms or panel_terms or np.any(so)) else None
+    return ChannelMatrices(kinetic, potential, so, basis, bandwidth, hw)
+
+
+def _summed(terms):
+    def f(x):
+        out = np.zeros_like(np.asarray(x, dtype=float))
+        for t in terms:
+            out = out + t.value(x)
+        return out
+
+    return f
+
+
+def _breaks(terms, radial):
+    out = []
+    for t in terms:
+        if isinstance(t, Coulomb):
+            out += [t.radius] if radial else [-t.radius, t.radius]
+        elif isinstance(t, Power) and not radial:
+            out.append(t.center)
+    return out

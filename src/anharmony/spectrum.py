@@ -1,0 +1,321 @@
+"""Diagonalisation of one channel, bound-state classification and the reference oscillator.
+
+:func:`solve` is the friendly front end of DESIGN §8: it validates its arguments once, resolves
+the reference oscillator, builds the channel matrices and returns a :class:`Spectrum`.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from scipy.linalg import eig_banded, eigh
+from scipy.optimize import minimize_scalar
+
+from .basis import HermiteBasis, RadialBasis
+from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
+from .potentials import Well
+from .units import UnitSystem, get_units
+
+__all__ = ["Reference", "Spectrum", "diagonalize", "reference_oscillator", "solve"]
+
+FAIRNESS_RATIO = 1.0  # harmonic approx. is fair if |V − V_harm| at the ground-state turning
+#                       point is below this fraction of the ground level's excitation energy
+_VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
+_BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this · N
+
+
+@dataclass(frozen=True)
+class Reference:
+    """The reference oscillator of a well (DESIGN §2).
+
+    Attributes
+    ----------
+    frequency : float
+        ħω in the unit system's energy unit.
+    length : float
+        b = sqrt(ħ/(mω)) in the length unit.
+    center : float
+        Centre x₀ (0 for central wells).
+    v_min : float
+        Value of the well at the centre; H_ref = v_min + ħω (oscillator level).
+    method : str
+        ``"harmonic"`` (V″ at the minimum), ``"variational"`` (b minimising the lowest levels)
+        or ``"given"``.
+    reason : str
+        Why this choice was made, in words.
+    """
+
+    frequency: float
+    length: float
+    center: float
+    v_min: float
+    method: str
+    reason: str
+
+
+@dataclass(frozen=True)
+class Spectrum:
+    """Levels of one channel.
+
+    Attributes
+    ----------
+    energies : ndarray
+        Lowest eigenvalues, ascending, in the unit system's energy unit.
+    bound : ndarray of bool
+        True where the level lies below the threshold.
+    vectors : ndarray
+        Eigenvectors in the oscillator basis, shape (N, levels).
+    reference_energies : ndarray
+        Levels of the reference oscillator in this channel, v_min + ħω (2n + l + d/2).
+    """
+
+    energies: np.ndarray
+    bound: np.ndarray
+    vectors: np.ndarray
+    channel: Channel
+    basis: HermiteBasis | RadialBasis
+    reference: Reference
+    threshold: float
+    units: UnitSystem
+    mass: float | None
+    well: Well = field(repr=False)
+    reference_energies: np.ndarray = field(repr=False, default_factory=lambda: np.zeros(0))
+
+    @property
+    def shifts(self) -> np.ndarray:
+        """Anharmonic shifts: energy − reference oscillator level."""
+        return self.energies - self.reference_energies
+
+    def wavefunctions(self, coords: np.ndarray) -> np.ndarray:
+        """ψ of each level at ``coords``, shape (levels, len(coords)); radial: R(r)."""
+        return self.vectors.T @ self.basis.functions(coords)
+
+    def expectation(self, f: Callable[[np.ndarray], np.ndarray], kind: str = "panels"
+                    ) -> np.ndarray:
+        """⟨f⟩ for each level, f a vectorised function of the coordinate."""
+        m = self.basis.matrix(f, kind=kind)
+        return np.einsum("nk,nm,mk->k", self.vectors, m, self.vectors)
+
+    def coordinate_moment(self, k: int) -> np.ndarray:
+        """⟨(x − x₀)^k⟩ (1D) or ⟨r^k⟩ per level; exact for integer k (even k for radial)."""
+        b = self.basis.length
+        if isinstance(self.basis, HermiteBasis) or k % 2 == 0:
+            m = self.basis.coordinate_power(k) * b**k
+            return np.einsum("nk,nm,mk->k", self.vectors, m, self.vectors)
+        return self.expectation(lambda r: np.abs(r) ** k)
+
+
+def diagonalize(h: np.ndarray, levels: int, bandwidth: int | None = None
+                ) -> tuple[np.ndarray, np.ndarray]:
+    """Lowest ``levels`` eigenpairs of a symmetric matrix (banded solver where it pays)."""
+    n = h.shape[0]
+    levels = min(levels, n)
+    if bandwidth is not None and bandwidth <= _BANDED_MAX_RATIO * n:
+        u = bandwidth
+        ab = np.zeros((u + 1, n))
+        for d in range(u + 1):
+            ab[u - d, d:] = np.diagonal(h, d)
+        return eig_banded(ab, lower=False, select="i", select_range=(0, levels - 1))
+    return eigh(h, subset_by_index=(0, levels - 1), driver="evr")
+
+
+def _channel_from(dimension: int, l: int | None, j: Any) -> Channel:
+    if isinstance(dimension, bool) or dimension not in (1, 2, 3):
+        raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
+    return Channel(dimension, l, parse_j(j))
+
+
+def _check_levels(levels: Any, size: int) -> int:
+    if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)) or levels < 1:
+        raise ValueError(f"levels: must be an integer >= 1; got {levels!r}")
+    if levels > size:
+        raise ValueError(f"levels: {levels} levels need a basis of at least that size; "
+                         f"got size={size}")
+    return int(levels)
+
+
+def _lowest_oscillator_level(channel: Channel) -> float:
+    """Lowest oscillator energy of the channel in units of ħω."""
+    if channel.l is None:
+        return 0.5
+    return channel.l + 0.5 * channel.dimension
+
+
+def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,  # noqa: E741
+                         mass: float | None = None, levels: int = 5,
+                         spec: str | Mapping[str, float] = "auto", j: Any = None) -> Reference:
+    """Resolve the reference oscillator of DESIGN §2.
+
+    Parameters
+    ----------
+    spec
+        ``"auto"``, or a mapping with ``frequency`` (ħω) or ``length`` (b), and optionally
+        ``center`` (1D without symmetry).
+
+    Notes
+    -----
+    ``auto`` takes the harmonic approximation V″(x_min) = mω² at the local minimum nearest the
+    centre of the terms when it is fair: V″ > 0, the lowest oscillator level lies below the
+    threshold, and at the classical turning point of that level the well differs from its
+    harmonic approximation by less than the level's excitation energy. Otherwise b minimises
+    the sum of the lowest ``levels`` energies of the channel in a basis of 16 states.
+    """
+    if mass is not None:
+        well = well.with_context(well.units, mass)
+    channel = _channel_from(dimension, l, j)
+    c = well.units.hbar2_over_2m(well.mass)
+    radial = channel.l is not None
+    if isinstance(spec, Mapping):
+        unknown = set(spec) - {"frequency", "length", "center"}
+        if unknown:
+            raise ValueError(f"reference: unknown key {sorted(unknown)[0]!r}; expected "
+                             "frequency or length, and center")
+        if ("frequency" in spec) == ("length" in spec):
+            raise ValueError("reference: give exactly one of frequency or length")
+        if "frequency" in spec:
+            hw = _positive("reference.frequency", spec["frequency"])
+            b = math.sqrt(2.0 * c / hw)
+        else:
+            b = _positive("reference.length", spec["length"])
+            hw = 2.0 * c / b**2
+        x0 = 0.0 if radial else float(spec.get("center", well.minimum()[0]))
+        vmin = float(well.value(np.array([x0]))[0])
+        return Reference(hw, b, x0, vmin, "given", "reference oscillator given in the case")
+    if spec != "auto":
+        raise ValueError(f"reference: expected 'auto' or a mapping; got {spec!r}")
+
+    if radial:
+        x0, vmin, v2 = well.minimum(radial=True)
+        if x0 != 0.0:
+            v2 = 0.0  # a central well's oscillator sits at r = 0
+            vmin = float(well.value(np.array([0.0]))[0])
+            x0 = 0.0
+            why = "the minimum is not at r = 0"
+        else:
+            why = ""
+    else:
+        x0, vmin, v2 = well.minimum()
+        why = ""
+    threshold = well.threshold(dimension, symmetric=radial)
+    e_low = _lowest_oscillator_level(channel)
+    if v2 > 0 and not why:
+        hw = math.sqrt(2.0 * c * v2)
+        b = math.sqrt(2.0 * c / hw)
+        xt = b * math.sqrt(2.0 * e_low)
+        pts = np.array([x0 + xt]) if radial else np.array([x0 - xt, x0 + xt])
+        dev = float(np.max(np.abs(well.value(pts) - (vmin + 0.5 * v2 * (pts - x0) ** 2))))
+        excitation = hw * e_low
+        if vmin + excitation >= threshold:
+            why = "the lowest oscillator level lies above the threshold"
+        elif dev > FAIRNESS_RATIO * excitation:
+            why = (f"the well departs from its harmonic approximation by {dev:.3g} at the "
+                   f"ground-state turning point ({dev / excitation:.2g} of the level's energy): "
+                   "flat-bottomed or strongly anharmonic")
+        else:
+            return Reference(hw, b, x0, vmin, "harmonic",
+                             f"harmonic approximation at the minimum x = {x0:.6g}: "
+                             f"V'' = {v2:.6g}, departure {dev / excitation:.2g} of the "
+                             "ground level's energy at its turning point")
+    elif not why:
+        why = "V'' = 0 at the minimum" if v2 == 0 else "V'' <= 0 at the minimum (a cusp or a maximum)"
+    b = _variational_length(well, channel, x0, levels, guess=well.scale)
+    hw = 2.0 * c / b**2
+    return Reference(hw, b, x0, vmin, "variational",
+                     f"b chosen to minimise the sum of the lowest {levels} levels in a "
+                     f"{_VARIATIONAL_SIZE}-state basis, because {why}")
+
+
+def _variational_length(well: Well, channel: Channel, x0: float, levels: int, guess: float
+                        ) -> float:
+    size = max(_VARIATIONAL_SIZE, levels + 4)
+    k = min(levels, size)
+
+    def total(logb: float) -> float:
+        m = channel_hamiltonian(well, channel, size, math.exp(logb), x0)
+        e, _ = diagonalize(m.total, k, m.bandwidth)
+        return float(np.sum(e))
+
+    lo, hi = math.log(guess) - math.log(20.0), math.log(guess) + math.log(5.0)
+    grid = np.linspace(lo, hi, 13)
+    vals = [total(g) for g in grid]
+    i = int(np.argmin(vals))
+    a, b = grid[max(i - 1, 0)], grid[min(i + 1, len(grid) - 1)]
+    res = minimize_scalar(total, bounds=(a, b), method="bounded", options={"xatol": 1e-4})
+    return float(math.exp(res.x))
+
+
+def _positive(name: str, value: Any) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)) \
+            or not math.isfinite(value) or value <= 0:
+        raise ValueError(f"{name}: must be a positive number; got {value!r}")
+    return float(value)
+
+
+def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,  # noqa: E741
+          size: int = 60, length: float | str = "auto", units: str | UnitSystem = "oscillator",
+          mass: float | None = None, levels: int = 5,
+          reference: str | Mapping[str, float] = "auto") -> Spectrum:
+    """Lowest levels of one channel of a well in an oscillator basis.
+
+    Parameters
+    ----------
+    well
+        The well (:meth:`Well.from_terms`).
+    dimension
+        1, 2 or 3.
+    l
+        Angular quantum number; in 1D ``None`` is the basis without symmetry, 0/1 the even/odd
+        parity of a symmetric well.
+    j
+        Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.
+    size
+        Number of basis states N.
+    length
+        Oscillator length b of the basis, or ``"auto"`` for the reference oscillator's.
+    units
+        Unit system of DESIGN §5.
+    mass
+        Particle mass in the system's mass unit (default per system).
+    levels
+        Number of levels, counted from the lowest of the channel.
+    reference
+        Reference oscillator: ``"auto"`` or a mapping (see :func:`reference_oscillator`).
+
+    Returns
+    -------
+    Spectrum
+    """
+    if not isinstance(well, Well):
+        raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
+    system = get_units(units)
+    well = well.with_context(system, mass)
+    channel = _channel_from(dimension, l, j)
+    if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
+        raise ValueError(f"size: must be an integer >= 1; got {size!r}")
+    levels = _check_levels(levels, size)
+    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
+        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
+                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
+    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
+        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
+                         "for the basis without symmetry")
+    ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
+    if length == "auto":
+        b = ref.length
+    else:
+        b = _positive("length", length)
+    center = ref.center if channel.l is None else 0.0
+    mats: ChannelMatrices = channel_hamiltonian(well, channel, size, b, center)
+    energies, vectors = diagonalize(mats.total, levels, mats.bandwidth)
+    radial = channel.l is not None
+    threshold = well.threshold(dimension, symmetric=radial)
+    bound = energies < threshold
+    ref_levels = ref.v_min + ref.frequency * (2.0 * np.arange(levels) + _lowest_oscillator_level(channel)
+                                              if radial else np.arange(levels) + 0.5)
+    return Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
+                    basis=mats.basis, reference=ref, threshold=threshold, units=system,
+                    mass=mass, well=well, reference_energies=ref_levels)
