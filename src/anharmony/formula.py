@@ -1,0 +1,832 @@
+"""Safe formulas for the ``expression`` term of a well (DESIGN §3, PITFALLS §5).
+
+A formula is text such as ``"0.5*x**2 + g*x**4"`` in one coordinate (``x`` in 1D, ``r`` for a
+radial well) and named parameters. The text is parsed with :func:`ast.parse` in ``eval`` mode
+and the syntax tree is walked by an allow-list; the sympy expression is built node by node
+(``sp.Add``, ``sp.Mul``, ``sp.Pow``, ``sp.exp``, ...). User text never reaches ``eval``,
+``exec``, ``compile``, :func:`sympy.sympify` or :func:`sympy.parsing.sympy_parser.parse_expr`.
+Only the validated sympy tree is turned into numpy code by :func:`sympy.lambdify`, whose
+generated source contains nothing but printed sympy numbers, the coordinate's name and numpy
+/ scipy function names.
+
+Grammar (anything else is rejected with a :class:`FormulaError` that quotes the piece):
+
+- numbers: ``int`` and ``float`` literals (not ``True``, ``1j``, strings or ``None``);
+- names: the coordinate, the declared parameters, the constants ``pi`` and ``e``;
+- operators: binary ``+ - * / **`` and unary ``-`` and ``+`` (Python precedence, so
+  ``-x**2`` is ``-(x**2)``);
+- calls with exactly one positional argument to ``exp, log, sqrt, sin, cos, tanh, cosh, sinh,
+  erf, abs`` (``log`` is the natural logarithm).
+"""
+
+from __future__ import annotations
+
+import ast
+import difflib
+import keyword
+import math
+import re
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from fractions import Fraction
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+import scipy.special
+import sympy as sp
+
+__all__ = [
+    "CONSTANTS",
+    "FUNCTIONS",
+    "MAX_DEPTH",
+    "MAX_EXPONENT",
+    "MAX_LENGTH",
+    "MAX_NESTING",
+    "MAX_NODES",
+    "MAX_POLYNOMIAL_DEGREE",
+    "VARIABLES",
+    "Formula",
+    "FormulaError",
+    "compile_formula",
+]
+
+# ---------------------------------------------------------------- limits (denial-of-service)
+MAX_LENGTH = 1000  # characters of formula text
+MAX_NODES = 500  # syntax-tree nodes
+MAX_DEPTH = 100  # depth of the syntax tree (a sum of n terms is n deep)
+MAX_NESTING = 50  # nesting of brackets in the text
+MAX_EXPONENT = 100  # |p| for a numeric exponent p in a ** p (so 9**9**9 is rejected)
+MAX_NUMBER_BITS = 20000  # size of exact rationals built while folding constants
+MAX_POLYNOMIAL_DEGREE = 100  # above this, polynomial() answers None (use quadrature)
+
+VARIABLES = ("x", "r")
+
+FUNCTIONS: Mapping[str, Callable[[sp.Expr], sp.Expr]] = MappingProxyType(
+    {
+        "exp": sp.exp,
+        "log": sp.log,
+        "sqrt": sp.sqrt,
+        "sin": sp.sin,
+        "cos": sp.cos,
+        "tanh": sp.tanh,
+        "cosh": sp.cosh,
+        "sinh": sp.sinh,
+        "erf": sp.erf,
+        "abs": sp.Abs,
+    }
+)
+CONSTANTS: Mapping[str, sp.Expr] = MappingProxyType({"pi": sp.pi, "e": sp.E})
+
+_IDENTIFIER = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_BINARY = {ast.Add: "+", ast.Sub: "-", ast.Mult: "*", ast.Div: "/", ast.Pow: "**"}
+_BINARY_HINTS = {
+    ast.BitXor: "; write powers as a**b, not a^b",
+    ast.FloorDiv: "; write a/b",
+    ast.Mod: "",
+    ast.MatMult: "",
+}
+# Where lambdify should find erf: scipy.special; everything else from numpy.
+_MODULES = [{"erf": scipy.special.erf}, "numpy"]
+_NODE_NAMES = {
+    ast.Attribute: "attribute access",
+    ast.Subscript: "subscripts",
+    ast.Lambda: "lambda",
+    ast.ListComp: "comprehensions",
+    ast.SetComp: "comprehensions",
+    ast.DictComp: "comprehensions",
+    ast.GeneratorExp: "generator expressions",
+    ast.JoinedStr: "f-strings",
+    ast.FormattedValue: "f-strings",
+    ast.Compare: "comparisons",
+    ast.BoolOp: "'and'/'or'",
+    ast.IfExp: "conditional expressions",
+    ast.List: "lists",
+    ast.Tuple: "tuples",
+    ast.Set: "sets",
+    ast.Dict: "dicts",
+    ast.NamedExpr: "assignment expressions",
+    ast.Starred: "starred arguments",
+    ast.Await: "await",
+    ast.Yield: "yield",
+    ast.YieldFrom: "yield",
+    ast.Slice: "slices",
+}
+
+
+class FormulaError(ValueError):
+    """A formula that is not allowed or cannot be evaluated; the message quotes the piece.
+
+    Attributes
+    ----------
+    text
+        The whole formula text.
+    piece
+        The offending part of it (may be the whole text), or ``None``.
+    """
+
+    def __init__(self, message: str, *, text: str | None = None, piece: str | None = None):
+        super().__init__(message)
+        self.text = text
+        self.piece = piece
+
+
+# ------------------------------------------------------------------------------- the result
+@dataclass(frozen=True)
+class Formula:
+    """A validated formula: a sympy expression and numpy functions for it and its derivatives.
+
+    Build it with :func:`compile_formula`, never directly from user text.
+
+    Parameters
+    ----------
+    text
+        The formula as given.
+    variable
+        The coordinate, ``"x"`` (1D, real) or ``"r"`` (radial, positive).
+    parameters
+        Read-only mapping of parameter names to values.
+    expr
+        The sympy expression, with the parameters still as symbols.
+
+    Notes
+    -----
+    Numerical evaluation follows numpy with its floating-point warnings silenced: the square
+    root or logarithm of a negative number, and fractional powers of negative numbers, give
+    ``nan``; division by zero and ``log(0)`` give ``±inf``; overflow gives ``inf``. Nothing
+    raises and no warning is issued. ``r`` is declared positive, so sympy simplifies
+    ``sqrt(r**2)`` to ``r`` and ``abs(r)`` to ``r``; radial formulas are meant for ``r >= 0``.
+    At the kink of ``abs`` the second derivative is taken as 0 (the delta function of the
+    distributional derivative is dropped).
+    """
+
+    text: str
+    variable: str
+    parameters: Mapping[str, float]
+    expr: sp.Expr
+    _numeric: sp.Expr = field(init=False, repr=False, compare=False)
+    _functions: tuple[Callable[..., Any], ...] = field(init=False, repr=False, compare=False)
+    _cache: dict = field(init=False, repr=False, compare=False, default_factory=dict)
+
+    def __post_init__(self) -> None:
+        symbol = _symbol(self.variable)
+        values = {_parameter_symbol(k): _exact(v) for k, v in self.parameters.items()}
+        unknown = self.expr.free_symbols - {symbol, *values}
+        if unknown:
+            raise FormulaError(
+                f"formula {self.text!r}: expression has symbols {sorted(map(str, unknown))} "
+                "that are neither the variable nor a parameter",
+                text=self.text,
+            )
+        numeric = self.expr.xreplace(values) if values else self.expr
+        _check_parameter_values(numeric, self.text, self.parameters)
+        d1 = _drop_deltas(sp.diff(numeric, symbol))
+        d2 = _drop_deltas(sp.diff(d1, symbol))
+        functions = tuple(sp.lambdify(symbol, e, modules=_MODULES) for e in (numeric, d1, d2))
+        object.__setattr__(self, "_numeric", numeric)
+        object.__setattr__(self, "_functions", functions)
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        # Pickle by recompiling: lambdified functions and mapping proxies do not pickle.
+        return (compile_formula, (self.text, self.variable, dict(self.parameters)))
+
+    def __hash__(self) -> int:
+        return hash((self.text, self.variable, tuple(sorted(self.parameters.items()))))
+
+    # -- numbers ----------------------------------------------------------------------------
+    @property
+    def numeric_expr(self) -> sp.Expr:
+        """The expression with the parameter values substituted (exact rationals)."""
+        return self._numeric
+
+    def value(self, x: Any) -> np.ndarray:
+        """Values of the formula at ``x`` (array of float, the shape of ``x``)."""
+        return _evaluate(self._functions[0], x)
+
+    def d1(self, x: Any) -> np.ndarray:
+        """First derivative with respect to the variable, at ``x``."""
+        return _evaluate(self._functions[1], x)
+
+    def d2(self, x: Any) -> np.ndarray:
+        """Second derivative with respect to the variable, at ``x``."""
+        return _evaluate(self._functions[2], x)
+
+    def parameter_derivative(self, name: str, x: Any) -> np.ndarray:
+        """Derivative with respect to parameter ``name`` at ``x`` (for Hellmann–Feynman checks).
+
+        Raises
+        ------
+        FormulaError
+            If ``name`` is not a parameter of the formula.
+        """
+        if name not in self.parameters:
+            raise FormulaError(
+                f"parameter_derivative: name must be a parameter of the formula "
+                f"{sorted(self.parameters)}; got {name!r}",
+                text=self.text,
+            )
+        key = ("dparam", name)
+        if key not in self._cache:
+            values = {_parameter_symbol(k): _exact(v) for k, v in self.parameters.items()}
+            de = _drop_deltas(sp.diff(self.expr, _parameter_symbol(name)).xreplace(values))
+            self._cache[key] = sp.lambdify(_symbol(self.variable), de, modules=_MODULES)
+        return _evaluate(self._cache[key], x)
+
+    # -- structure --------------------------------------------------------------------------
+    def polynomial(self) -> dict[int, float] | None:
+        """Coefficients ``{power: value}`` when the formula is a polynomial in the variable.
+
+        Returns
+        -------
+        dict or None
+            ``{0: 0.0}`` for the zero polynomial; ``None`` when the formula is not a
+            polynomial, or when its degree exceeds :data:`MAX_POLYNOMIAL_DEGREE` (then a
+            caller should treat it as a general function).
+        """
+        if "polynomial" not in self._cache:
+            self._cache["polynomial"] = self._polynomial()
+        result = self._cache["polynomial"]
+        return None if result is None else dict(result)
+
+    def _polynomial(self) -> dict[int, float] | None:
+        symbol = _symbol(self.variable)
+        expr = self._numeric
+        if not expr.is_polynomial(symbol):
+            return None
+        degree = _degree_bound(expr, symbol)
+        if degree is None or degree > MAX_POLYNOMIAL_DEGREE:
+            return None
+        poly = sp.Poly(sp.expand(expr), symbol)
+        out = {}
+        for (k,), c in poly.as_dict().items():
+            value = float(c)
+            if value != 0.0:
+                out[int(k)] = value
+        return out or {0: 0.0}
+
+    def threshold(self, side: int = +1) -> float:
+        """Limit of the formula as the variable goes to ``side·∞``.
+
+        Parameters
+        ----------
+        side
+            ``+1`` for ``+∞``, ``-1`` for ``-∞``. A radial formula has one infinity: for
+            ``r`` both sides give the limit ``r → +∞``.
+
+        Returns
+        -------
+        float
+            The limit; ``±inf`` where the formula diverges. Where it oscillates without a
+            limit but sympy finds the range it keeps (``sin(x)`` → ``[-1, 1]``), the lower end
+            (the lim inf) is returned, the level below which states stay confined.
+
+        Raises
+        ------
+        FormulaError
+            If neither :func:`sympy.limit` nor the numeric fallback can decide.
+
+        Notes
+        -----
+        :func:`sympy.limit` (Gruntz algorithm) on the expression with the parameter values
+        substituted; if it fails or returns something that is not a real number, a numeric
+        fallback samples the formula at ``|x| = 10^2 … 10^300`` and accepts a limit when the
+        last tenth of the samples agree to 1e-9 relative, or ``±inf`` when they all exceed
+        1e100 in size with one sign.
+        """
+        if side not in (1, -1):
+            raise FormulaError(f"threshold: side must be +1 or -1; got {side!r}", text=self.text)
+        if self.variable == "r":
+            side = 1
+        key = ("threshold", side)
+        if key not in self._cache:
+            self._cache[key] = self._threshold(side)
+        return self._cache[key]
+
+    def threshold_both(self) -> tuple[float, float]:
+        """``(limit at -∞, limit at +∞)``; see :meth:`threshold`."""
+        return (self.threshold(-1), self.threshold(+1))
+
+    def _threshold(self, side: int) -> float:
+        symbol = _symbol(self.variable)
+        try:
+            lim = sp.limit(self._numeric, symbol, sp.oo if side > 0 else -sp.oo)
+        except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError):
+            lim = None
+        value = _limit_to_float(lim)
+        probe = self.value(side * np.array([1e3, 1e6, 1e9]))
+        if np.all(np.isnan(probe)):
+            where = "+inf" if side > 0 else "-inf"
+            raise FormulaError(
+                f"formula {self.text!r} has no real values as {self.variable} -> {where}",
+                text=self.text,
+            )
+        if value is not None:
+            return value
+        return self._numeric_limit(side)
+
+    def _numeric_limit(self, side: int) -> float:
+        xs = side * np.logspace(2.0, 300.0, 2385)
+        fs = self.value(xs)
+        tail = fs[-len(fs) // 10 :]
+        if np.all(np.isfinite(tail)):
+            spread = float(np.max(tail) - np.min(tail))
+            if spread <= 1e-9 * max(1.0, float(np.max(np.abs(tail)))) and abs(tail[-1]) < 1e100:
+                return float(tail[-1])
+        big = np.abs(np.nan_to_num(tail, nan=0.0, posinf=np.inf, neginf=-np.inf)) > 1e100
+        if np.all(big) and (np.all(tail > 0) or np.all(tail < 0)):
+            return math.inf if tail[-1] > 0 else -math.inf
+        where = "+inf" if side > 0 else "-inf"
+        raise FormulaError(
+            f"formula {self.text!r}: cannot determine its limit as {self.variable} -> {where} "
+            "(sympy.limit failed and the values do not settle)",
+            text=self.text,
+        )
+
+
+# ------------------------------------------------------------------------------ the parser
+def compile_formula(
+    text: str, variable: str = "x", parameters: Mapping[str, float] | None = None
+) -> Formula:
+    """Parse a formula safely and return a :class:`Formula`.
+
+    Parameters
+    ----------
+    text
+        The formula, at most :data:`MAX_LENGTH` characters.
+    variable
+        ``"x"`` (1D coordinate) or ``"r"`` (radial coordinate).
+    parameters
+        Names (plain identifiers: a letter, then letters, digits or ``_``; no keywords, no
+        function or constant names, not the variable) and finite real values.
+
+    Returns
+    -------
+    Formula
+
+    Raises
+    ------
+    FormulaError
+        If the text uses anything outside the grammar of the module docstring, is too long or
+        too deep, or uses an unknown name (with a near-miss suggestion); the message quotes
+        the offending piece and says what is allowed.
+    TypeError
+        If ``text`` is not a string or ``parameters`` not a mapping.
+
+    Examples
+    --------
+    >>> f = compile_formula("0.5*x**2 + g*x**4", parameters={"g": 0.1})
+    >>> f.polynomial()
+    {2: 0.5, 4: 0.1}
+    """
+    if not isinstance(text, str):
+        raise TypeError(f"formula must be a string; got {type(text).__name__} {text!r}")
+    if variable not in VARIABLES:
+        raise FormulaError(f"variable must be one of {list(VARIABLES)}; got {variable!r}")
+    params = _check_parameters(parameters, variable)
+    if len(text) > MAX_LENGTH:
+        raise FormulaError(
+            f"formula {_short(text)!r} is {len(text)} characters long; at most {MAX_LENGTH} "
+            "are allowed",
+            text=text,
+            piece=_short(text),
+        )
+    source = text.strip()
+    if not source:
+        raise FormulaError(
+            f"formula {text!r} is empty; {_allowed(variable, params)}", text=text, piece=text
+        )
+    _check_nesting(source, text)
+    try:
+        tree = ast.parse(source, mode="eval")
+    except SyntaxError as exc:
+        raise _syntax_error(exc, source, text, variable, params) from None
+    except (RecursionError, MemoryError, ValueError) as exc:
+        raise FormulaError(
+            f"formula {_short(text)!r} cannot be parsed ({type(exc).__name__}); "
+            f"{_allowed(variable, params)}",
+            text=text,
+        ) from None
+    _check_size(tree, source, text)
+    builder = _Builder(source, text, variable, params)
+    try:
+        expr = builder.build(tree.body)
+    except (RecursionError, MemoryError) as exc:
+        raise FormulaError(
+            f"formula {_short(text)!r} is too complex to build ({type(exc).__name__})",
+            text=text,
+        ) from None
+    return Formula(text=text, variable=variable, parameters=MappingProxyType(params), expr=expr)
+
+
+class _Builder:
+    """Turns an allow-listed syntax tree into a sympy expression, node by node."""
+
+    def __init__(self, source: str, text: str, variable: str, params: dict[str, float]):
+        self.source = source
+        self.text = text
+        self.lead = len(text) - len(text.lstrip())
+        self.variable = variable
+        self.params = params
+        self.names: dict[str, sp.Expr] = {variable: _symbol(variable), **CONSTANTS}
+        self.names.update({k: _parameter_symbol(k) for k in params})
+
+    # -- helpers ----------------------------------------------------------------------------
+    def piece(self, node: ast.AST) -> str:
+        seg = ast.get_source_segment(self.source, node)
+        if seg is None:
+            col = getattr(node, "col_offset", 0)
+            seg = self.source[col : col + 40]
+        return seg
+
+    def fail(self, node: ast.AST, what: str, hint: str = "") -> FormulaError:
+        piece = self.piece(node)
+        col = getattr(node, "col_offset", None)
+        where = f" at column {col + 1 + self.lead}" if col is not None else ""
+        msg = f"formula {self.text!r}: {what} {piece!r}{where} is not allowed{hint}"
+        msg += f"; {_allowed(self.variable, self.params)}"
+        return FormulaError(msg, text=self.text, piece=piece)
+
+    def checked(self, node: ast.AST, result: sp.Expr) -> sp.Expr:
+        """Reject complex, infinite and oversized numbers the moment they appear."""
+        piece = self.piece(node)
+        if result.has(sp.zoo, sp.nan, sp.oo, -sp.oo):
+            raise FormulaError(
+                f"formula {self.text!r}: {piece!r} is infinite or undefined "
+                "(division by zero or log(0))",
+                text=self.text,
+                piece=piece,
+            )
+        if result.has(sp.I) or (result.is_number and result.is_extended_real is False):
+            raise FormulaError(
+                f"formula {self.text!r}: {piece!r} takes complex values; a well must be real "
+                "(sqrt and log of negative numbers, and fractional powers of negative "
+                "numbers, are not allowed in constant or sympy-simplified parts)",
+                text=self.text,
+                piece=piece,
+            )
+        for atom in result.atoms(sp.Rational):
+            if _bits(atom) > MAX_NUMBER_BITS or not math.isfinite(_float(atom)):
+                raise FormulaError(
+                    f"formula {self.text!r}: the number {piece!r} is outside the "
+                    f"floating-point range (or needs more than {MAX_NUMBER_BITS} bits exactly)",
+                    text=self.text,
+                    piece=piece,
+                )
+        return result
+
+    # -- the walk ---------------------------------------------------------------------------
+    def build(self, node: ast.AST) -> sp.Expr:
+        if isinstance(node, ast.Constant):
+            return self.constant(node)
+        if isinstance(node, ast.Name):
+            return self.name(node)
+        if isinstance(node, ast.UnaryOp):
+            if isinstance(node.op, ast.USub):
+                return self.checked(node, -self.build(node.operand))
+            if isinstance(node.op, ast.UAdd):
+                return self.build(node.operand)
+            raise self.fail(node, "the unary operator in", "; only unary - and + are")
+        if isinstance(node, ast.BinOp):
+            return self.binop(node)
+        if isinstance(node, ast.Call):
+            return self.call(node)
+        what = _NODE_NAMES.get(type(node), f"the construct ({type(node).__name__})")
+        raise self.fail(node, what)
+
+    def constant(self, node: ast.Constant) -> sp.Expr:
+        value = node.value
+        if type(value) is int:
+            return self.checked(node, sp.Integer(value))
+        if type(value) is float:
+            if not math.isfinite(value):
+                raise FormulaError(
+                    f"formula {self.text!r}: the number {self.piece(node)!r} is outside the "
+                    "floating-point range",
+                    text=self.text,
+                    piece=self.piece(node),
+                )
+            return self.checked(node, _exact(value))
+        kind = {bool: "the boolean", complex: "the complex number", str: "the string"}.get(
+            type(value), "the constant"
+        )
+        raise self.fail(node, kind, "; only real int and float numbers are")
+
+    def name(self, node: ast.Name) -> sp.Expr:
+        if node.id in self.names:
+            return self.names[node.id]
+        if node.id in FUNCTIONS:
+            raise self.fail(node, "the bare function name", f"; call it as {node.id}(...)")
+        hint = _suggest(node.id, [*self.names, *FUNCTIONS])
+        other = [v for v in VARIABLES if v != self.variable]
+        if node.id in other:
+            hint = f"; the variable of this formula is {self.variable!r}"
+        raise self.fail(node, "the unknown name", hint)
+
+    def binop(self, node: ast.BinOp) -> sp.Expr:
+        op = type(node.op)
+        if op not in _BINARY:
+            hint = _BINARY_HINTS.get(op, "")
+            raise self.fail(node, f"the operator {_op_text(node.op)!r} in", hint)
+        a = self.build(node.left)
+        b = self.build(node.right)
+        if op is ast.Add:
+            return self.checked(node, sp.Add(a, b))
+        if op is ast.Sub:
+            return self.checked(node, sp.Add(a, sp.Mul(sp.Integer(-1), b)))
+        if op is ast.Mult:
+            return self.checked(node, sp.Mul(a, b))
+        if op is ast.Div:
+            if b == 0:
+                raise FormulaError(
+                    f"formula {self.text!r}: {self.piece(node)!r} divides by zero",
+                    text=self.text,
+                    piece=self.piece(node),
+                )
+            return self.checked(node, sp.Mul(a, sp.Pow(b, sp.Integer(-1))))
+        # power: bound numeric exponents before sympy folds anything
+        if b.is_number:
+            size = _number_size(b)
+            if size is None or size > MAX_EXPONENT:
+                raise FormulaError(
+                    f"formula {self.text!r}: the exponent in {self.piece(node)!r} is too "
+                    f"large; numeric exponents must lie within ±{MAX_EXPONENT}",
+                    text=self.text,
+                    piece=self.piece(node),
+                )
+            if a.is_Rational and b.is_Rational and _bits(a) * size > MAX_NUMBER_BITS:
+                raise FormulaError(
+                    f"formula {self.text!r}: the constant {self.piece(node)!r} needs more than "
+                    f"{MAX_NUMBER_BITS} bits to be folded exactly; simplify it",
+                    text=self.text,
+                    piece=self.piece(node),
+                )
+            if a == 0 and b.is_extended_negative:
+                raise FormulaError(
+                    f"formula {self.text!r}: {self.piece(node)!r} divides by zero",
+                    text=self.text,
+                    piece=self.piece(node),
+                )
+        return self.checked(node, sp.Pow(a, b))
+
+    def call(self, node: ast.Call) -> sp.Expr:
+        if not isinstance(node.func, ast.Name):
+            raise self.fail(node, "the call", f"; only calls to {', '.join(FUNCTIONS)} are")
+        name = node.func.id
+        if name in self.names:
+            raise self.fail(node, f"the call of {name!r} in", f"; {name!r} is not a function")
+        if name not in FUNCTIONS:
+            hint = _suggest(name, list(FUNCTIONS))
+            raise self.fail(node, f"the unknown function {name!r} in", hint)
+        if node.keywords:
+            raise self.fail(node, "keyword arguments in", f"; {name} takes one argument")
+        if any(isinstance(a, ast.Starred) for a in node.args):
+            raise self.fail(node, "starred arguments in", f"; {name} takes one argument")
+        if len(node.args) != 1:
+            raise self.fail(
+                node, f"{len(node.args)} arguments in", f"; {name} takes exactly one argument"
+            )
+        arg = self.build(node.args[0])
+        if name == "log" and arg == 0:
+            raise FormulaError(
+                f"formula {self.text!r}: {self.piece(node)!r} is infinite (log(0))",
+                text=self.text,
+                piece=self.piece(node),
+            )
+        return self.checked(node, FUNCTIONS[name](arg))
+
+
+# ---------------------------------------------------------------------------- checks
+def _check_parameters(parameters: Mapping[str, float] | None, variable: str) -> dict[str, float]:
+    if parameters is None:
+        return {}
+    if not isinstance(parameters, Mapping):
+        raise TypeError(
+            f"parameters must be a mapping of names to numbers; got "
+            f"{type(parameters).__name__} {parameters!r}"
+        )
+    out: dict[str, float] = {}
+    for name, value in parameters.items():
+        if not isinstance(name, str) or not _IDENTIFIER.match(name):
+            raise FormulaError(
+                f"parameter name {name!r} is not a plain identifier (a letter, then letters, "
+                "digits or '_')"
+            )
+        if keyword.iskeyword(name) or keyword.issoftkeyword(name):
+            raise FormulaError(f"parameter name {name!r} is a Python keyword")
+        if name in FUNCTIONS or name in CONSTANTS or name == variable:
+            what = (
+                "a function"
+                if name in FUNCTIONS
+                else "a constant"
+                if name in CONSTANTS
+                else "the variable"
+            )
+            raise FormulaError(f"parameter name {name!r} clashes with {what} of the formula")
+        if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+            raise FormulaError(
+                f"parameter {name!r} must be a real number; got {type(value).__name__} {value!r}"
+            )
+        value = float(value)
+        if not math.isfinite(value):
+            raise FormulaError(f"parameter {name!r} must be finite; got {value!r}")
+        out[name] = value
+    return out
+
+
+def _check_parameter_values(numeric: sp.Expr, text: str, parameters: Mapping[str, float]) -> None:
+    if not parameters:
+        return
+    shown = dict(parameters)
+    if numeric.has(sp.zoo, sp.nan, sp.oo, -sp.oo):
+        raise FormulaError(
+            f"formula {text!r} is infinite or undefined with the parameters {shown}",
+            text=text,
+        )
+    if numeric.has(sp.I):
+        raise FormulaError(
+            f"formula {text!r} takes complex values with the parameters {shown}", text=text
+        )
+    for atom in numeric.atoms(sp.Rational):
+        if _bits(atom) > MAX_NUMBER_BITS or not math.isfinite(_float(atom)):
+            raise FormulaError(
+                f"formula {text!r} has a number outside the floating-point range with the "
+                f"parameters {shown}",
+                text=text,
+            )
+
+
+def _check_nesting(source: str, text: str) -> None:
+    depth = 0
+    for i, ch in enumerate(source):
+        if ch in "([{":
+            depth += 1
+            if depth > MAX_NESTING:
+                piece = source[max(0, i - 10) : i + 10]
+                raise FormulaError(
+                    f"formula {_short(text)!r}: brackets nested more than {MAX_NESTING} deep "
+                    f"near {piece!r} (column {i + 1})",
+                    text=text,
+                    piece=piece,
+                )
+        elif ch in ")]}":
+            depth -= 1
+
+
+def _check_size(tree: ast.AST, source: str, text: str) -> None:
+    count = 0
+    stack: list[tuple[ast.AST, int]] = [(tree, 0)]
+    while stack:
+        node, depth = stack.pop()
+        count += 1
+        if count > MAX_NODES:
+            raise FormulaError(
+                f"formula {_short(text)!r} has more than {MAX_NODES} syntax nodes",
+                text=text,
+                piece=_short(text),
+            )
+        if depth > MAX_DEPTH:
+            piece = ast.get_source_segment(source, node) or source
+            raise FormulaError(
+                f"formula {_short(text)!r} is nested more than {MAX_DEPTH} operations deep "
+                f"at {_short(piece)!r}",
+                text=text,
+                piece=_short(piece),
+            )
+        stack.extend((child, depth + 1) for child in ast.iter_child_nodes(node))
+
+
+def _syntax_error(
+    exc: SyntaxError, source: str, text: str, variable: str, params: dict[str, float]
+) -> FormulaError:
+    offset = (exc.offset or 1) - 1
+    if exc.lineno and exc.lineno > 1:
+        lines = source.splitlines()
+        offset += sum(len(line) + 1 for line in lines[: exc.lineno - 1])
+    piece = source[max(0, offset - 10) : offset + 10] or source
+    return FormulaError(
+        f"formula {_short(text)!r} is not a valid expression ({exc.msg}) near {piece!r}; "
+        f"{_allowed(variable, params)}",
+        text=text,
+        piece=piece,
+    )
+
+
+# ------------------------------------------------------------------------------- small helpers
+def _allowed(variable: str, params: Mapping[str, float]) -> str:
+    names = [variable, *params, *CONSTANTS]
+    return (
+        f"allowed are numbers, the names {', '.join(names)}, the operators + - * / ** "
+        f"(and unary -), and one-argument calls to {', '.join(FUNCTIONS)}"
+    )
+
+
+def _suggest(name: str, candidates: list[str]) -> str:
+    """A near-miss hint for an unknown name (case-insensitive difflib match)."""
+    lowered = {c.lower(): c for c in candidates}
+    close = difflib.get_close_matches(name.lower(), list(lowered), n=1, cutoff=0.5)
+    return f"; did you mean {lowered[close[0]]!r}?" if close else ""
+
+
+def _symbol(variable: str) -> sp.Symbol:
+    # r is a radial coordinate (positive); x a real line coordinate.
+    return sp.Symbol("r", positive=True) if variable == "r" else sp.Symbol(variable, real=True)
+
+
+def _parameter_symbol(name: str) -> sp.Symbol:
+    return sp.Symbol(name, real=True)
+
+
+def _exact(value: float) -> sp.Rational:
+    """The rational of the shortest decimal that round-trips to ``value`` (0.1 -> 1/10)."""
+    frac = Fraction(repr(float(value)))
+    return sp.Rational(frac.numerator, frac.denominator)
+
+
+def _bits(q: sp.Rational) -> int:
+    return max(int(q.p).bit_length(), int(q.q).bit_length())
+
+
+def _float(q: sp.Rational) -> float:
+    try:
+        return int(q.p) / int(q.q)
+    except OverflowError:
+        return math.inf
+
+
+def _number_size(b: sp.Expr) -> float | None:
+    try:
+        size = abs(float(b))
+    except (TypeError, ValueError, OverflowError):
+        return None
+    return size if math.isfinite(size) else None
+
+
+def _degree_bound(expr: sp.Expr, symbol: sp.Symbol) -> int | None:
+    """Upper bound of the degree of a polynomial expression without expanding it."""
+    if not expr.has(symbol):
+        return 0
+    if expr == symbol:
+        return 1
+    if expr.is_Add:
+        parts = [_degree_bound(a, symbol) for a in expr.args]
+        return None if None in parts else max(parts)
+    if expr.is_Mul:
+        parts = [_degree_bound(a, symbol) for a in expr.args]
+        return None if None in parts else sum(parts)
+    if expr.is_Pow and expr.exp.is_Integer and expr.exp >= 0:
+        base = _degree_bound(expr.base, symbol)
+        return None if base is None else base * int(expr.exp)
+    return None
+
+
+def _drop_deltas(expr: sp.Expr) -> sp.Expr:
+    if expr.has(sp.DiracDelta):
+        expr = expr.replace(sp.DiracDelta, lambda *args: sp.S.Zero)
+    return expr
+
+
+def _limit_to_float(lim: Any) -> float | None:
+    if lim is None:
+        return None
+    if lim == sp.oo:
+        return math.inf
+    if lim == -sp.oo:
+        return -math.inf
+    if isinstance(lim, sp.AccumBounds):
+        lo = lim.min
+        if lo == -sp.oo:
+            return -math.inf
+        return float(lo) if lo.is_extended_real and lo.is_finite else None
+    if isinstance(lim, sp.Expr) and lim.is_number and lim.is_extended_real and lim.is_finite:
+        try:
+            return float(lim)
+        except (TypeError, ValueError):
+            return None
+    return None
+
+
+def _evaluate(function: Callable[..., Any], x: Any) -> np.ndarray:
+    xs = np.asarray(x, dtype=float)
+    with np.errstate(all="ignore"):
+        out = function(xs)
+    out = np.asarray(out)
+    if np.iscomplexobj(out):
+        out = np.where(np.imag(out) == 0, np.real(out), np.nan)
+    return np.array(np.broadcast_to(out.astype(float, copy=False), xs.shape), dtype=float)
+
+
+def _op_text(op: ast.AST) -> str:
+    return {
+        ast.BitXor: "^",
+        ast.FloorDiv: "//",
+        ast.Mod: "%",
+        ast.MatMult: "@",
+        ast.BitAnd: "&",
+        ast.BitOr: "|",
+        ast.LShift: "<<",
+        ast.RShift: ">>",
+    }.get(type(op), type(op).__name__)
+
+
+def _short(text: str, width: int = 60) -> str:
+    return text if len(text) <= width else text[: width - 3] + "..."
