@@ -829,6 +829,6 @@ class Well:
 def _far_limit(v_far: float, v_farther: float) -> float:
     if not np.isfinite(v_far):
         return float(v_far)
-    if abs(v_farther) > 10 * abs(v_far) + 1:  # still growing: treat as unbounded
+    if abs(v_farther) > 2.0 * abs(v_far) + 1e-300:  # still growing: treat as unbounded
         return math.copysign(math.inf, v_farther)
     return float(v_farther)
