@@ -369,6 +369,9 @@ class Convergence(_Strict):
     sizes: list[Annotated[int, Field(ge=1, le=MAX_SIZE)]] | None = None
     lengths: list[Positive] | None = None
     tolerance: Positive = 1e-6
+    # how error_estimate is found: the change of each level from a basis of N - N//4 states
+    # (or the largest smaller convergence size) to N states, or not at all
+    estimate: Literal["smaller_basis", "none"] = "smaller_basis"
 
 
 class CaseModel(_Strict):
@@ -835,6 +838,15 @@ def _validate(data: Any, name: str, marks: _Marks, prefix: Path_, folder: Path,
             reach = {c.j for c in _channels(space.model_copy(update={"j": None}))}
             for j in sorted(js - reach):
                 add(("space", "j"), f"j = {Fraction(j)} is not l ± 1/2 for any listed l")
+    if space.dimension == 1 and space.l is not None:
+        try:
+            symmetric = Well.from_terms(model.well, model.units,
+                                        model.particle.mass).is_symmetric(0.0)
+        except (ValueError, TypeError):
+            symmetric = True  # reported elsewhere
+        if not symmetric:
+            add(("space", "l"), "1D parity channels need a well symmetric about x = 0; "
+                "leave l out for the basis without symmetry")
     if model.levels.count > model.basis.size:
         add(("levels", "count"), f"asks for {model.levels.count} levels from a basis of "
             f"{model.basis.size} states; raise basis.size or lower levels.count")

@@ -1,0 +1,759 @@
+"""Executing cases: the per-task numbers, serial / process-pool / distributed execution.
+
+A case is split into *jobs*. When the scanned parameter enters the Hamiltonian linearly (a
+term's strength or depth, a polynomial coefficient, the coupling λ) and the basis is the same
+at every scan point, a job is one channel over all scan points: the matrices H = A + s·B are
+built once and each point costs one eigensolve (plus one for the error estimate). Otherwise a
+job is one scan point over all channels, with the reference oscillator resolved at that point.
+
+:func:`run_case` returns the dataset of one case without writing anything (DESIGN §8);
+:func:`run_batch` runs many cases, writes each result as soon as it is complete and reports
+progress through a callback (the command line turns it into a bar or plain lines).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+import os
+import signal
+import sys
+import traceback
+from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from .cases import Case, CaseError, ChannelSpec, Problem, load_case, load_cases
+from .hamiltonian import Channel, channel_hamiltonian
+from .potentials import Power, Well
+from .spectrum import Reference, diagonalize, reference_oscillator
+from .store import CaseResult, build_dataset, empty_like_series, write_dataset
+
+if TYPE_CHECKING:  # pragma: no cover
+    import xarray as xr
+
+__all__ = [
+    "BatchReport",
+    "Interrupted",
+    "compute_case",
+    "plan_case",
+    "run_batch",
+    "run_case",
+]
+
+SAME_BASIS_RTOL = 1e-12  # references this close at every scan point share one basis
+
+
+class Interrupted(BaseException):
+    """The batch was stopped by SIGINT or SIGTERM; ``.signal`` is the signal number."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(f"stopped by signal {signum}")
+        self.signal = signum
+
+
+# =========================================================================== jobs
+@dataclass(frozen=True)
+class Job:
+    """One unit sent to a worker.
+
+    ``kind`` is ``"linear"`` (one channel, all scan points, references given) or
+    ``"points"`` (the listed scan points, every channel).
+    """
+
+    case_key: int
+    kind: str
+    points: tuple[int, ...]
+    channels: tuple[int, ...]
+    references: tuple[Reference, ...] | None = None
+
+    @property
+    def weight(self) -> int:
+        """Number of tasks (scan point × channel) in the job."""
+        return len(self.points) * len(self.channels)
+
+
+def _core_channel(ch: ChannelSpec) -> Channel:
+    return Channel(ch.dimension, ch.l, ch.j)
+
+
+def _reference_at(case: Case, value: float | None) -> Reference:
+    if case.scan_target.kind == "coupling":
+        value = None
+    well = case.well_at(value)
+    chans = case.channels()
+    first = min(chans, key=lambda c: (c.l if c.l is not None else -1, c.j or 0.0))
+    return reference_oscillator(well, case.dimension, l=first.l, mass=case.mass_at(value),
+                                levels=case.model.levels.count,
+                                spec=case.reference_spec(value), j=first.j)
+
+
+def _basis_at(case: Case, value: float | None, ref: Reference) -> tuple[float, float]:
+    """(b, centre) of the basis at a scan point."""
+    length = case.basis_length_at(value)
+    b = ref.length if length == "auto" else float(length)
+    center = ref.center if case.dimension == 1 and case.channels()[0].l is None else 0.0
+    return b, center
+
+
+def _linear_ok(case: Case) -> bool:
+    t = case.scan_target
+    if not t.linear or case.model.scan is None:
+        return False
+    well = case.well_at(None)
+    # an inverse-square term changes the basis itself (effective l): not linear in a fixed basis
+    return not any(isinstance(term, Power) and term.exponent == -2 for term in well.terms)
+
+
+def plan_case(case: Case, case_key: int = 0) -> list[Job]:
+    """Split a case into jobs (see the module docstring)."""
+    values = case.scan_values()
+    chans = tuple(range(len(case.channels())))
+    if _linear_ok(case):
+        if case.scan_target.kind == "coupling":
+            refs = (_reference_at(case, None),) * len(values)
+        else:
+            refs = tuple(_reference_at(case, v) for v in values)
+        bases = [_basis_at(case, v, r) for v, r in zip(values, refs, strict=True)]
+        b0, c0 = bases[0]
+        same = all(math.isclose(b, b0, rel_tol=SAME_BASIS_RTOL)
+                   and math.isclose(c, c0, rel_tol=SAME_BASIS_RTOL, abs_tol=1e-14)
+                   for b, c in bases)
+        if same:
+            return [Job(case_key, "linear", tuple(range(len(values))), (c,), refs)
+                    for c in chans]
+    return [Job(case_key, "points", (k,), chans) for k in range(len(values))]
+
+
+# =========================================================================== numbers
+def _oscillator_levels(ch: ChannelSpec, count: int) -> np.ndarray:
+    n = np.arange(count, dtype=float)
+    if ch.l is None:
+        return n + 0.5
+    return 2.0 * n + ch.l + 0.5 * ch.dimension
+
+
+def _smaller_size(case: Case) -> int | None:
+    n = case.model.basis.size
+    if case.model.convergence.estimate == "none":
+        return None
+    sizes = [s for s in (case.model.convergence.sizes or []) if s < n]
+    m = max(sizes) if sizes else n - n // 4
+    return m if 1 <= m < n else None
+
+
+def _sizes(case: Case) -> list[int]:
+    return sorted(case.model.convergence.sizes or [])
+
+
+def _levels_of(h: np.ndarray, size: int, count: int, bandwidth: int | None) -> np.ndarray:
+    """Lowest ``count`` eigenvalues of the leading size×size block, NaN-padded."""
+    out = np.full(count, np.nan)
+    k = min(count, size)
+    e, _ = diagonalize(np.ascontiguousarray(h[:size, :size]), k, bandwidth)
+    out[:k] = e[:k]
+    return out
+
+
+def _series_engine() -> Callable[..., Any] | None:
+    try:
+        from . import series as series_module
+    except ImportError:  # pragma: no cover - the package ships it
+        return None
+    return getattr(series_module, "series", None)
+
+
+def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass: float | None,
+                  out: dict[str, np.ndarray], k: int, c: int) -> bool:
+    """Fill the series arrays of one (scan point, channel); False if no engine is available."""
+    pert = case.model.perturbation
+    engine = _series_engine()
+    if pert is None or engine is None:
+        return engine is not None
+    spec: dict[str, float] = {"frequency": ref.frequency}
+    if ch.l is None:
+        spec["center"] = ref.center
+    for n in range(case.model.levels.count):
+        ser = engine(well, dimension=ch.dimension, l=ch.l, level=n, orders=pert.orders,
+                     exact=pert.exact, units=case.units, reference=spec, j=ch.j, mass=mass)
+        coef = np.asarray(ser.coefficients, dtype=float)
+        out["series_coefficient"][k, c, n, :coef.size] = coef
+        out["series_partial_sum"][k, c, n, :coef.size] = np.cumsum(coef)
+        for m, method in enumerate(pert.resum):
+            fn = getattr(ser, method, None)
+            if fn is not None:
+                # stays NaN where this approximant does not exist
+                with contextlib.suppress(ValueError, ArithmeticError, np.linalg.LinAlgError):
+                    out["series_resummed"][k, c, n, m] = float(fn(1.0))
+        opt = getattr(ser, "optimal", None)
+        if callable(opt):
+            best = opt(1.0)
+            out["series_optimal"][k, c, n] = float(best.value)
+            out["series_optimal_error"][k, c, n] = float(best.error)
+            out["series_optimal_order"][k, c, n] = int(best.order)
+    return True
+
+
+def _empty(case: Case, s: int) -> dict[str, np.ndarray]:
+    c = len(case.channels())
+    n = case.model.levels.count
+    b = len(_sizes(case))
+    pert = case.model.perturbation
+    orders = pert.orders + 1 if pert else 0
+    methods = len(pert.resum) if pert else 0
+    out = {
+        "energy": np.full((s, c, n), np.nan),
+        "bound": np.zeros((s, c, n), dtype=bool),
+        "smaller": np.full((s, c, n), np.nan),
+        "reference_energy": np.full((s, c, n), np.nan),
+        "threshold": np.full((s, c), np.nan),
+        "convergence_energy": np.full((s, c, n, b), np.nan),
+        "frequency": np.full(s, np.nan), "length": np.full(s, np.nan),
+        "ref_frequency": np.full(s, np.nan), "ref_length": np.full(s, np.nan),
+        "center": np.full(s, np.nan), "v_min": np.full(s, np.nan),
+    }
+    out.update(empty_like_series(s, c, n, orders, methods))
+    return out
+
+
+def _threshold(case: Case, well: Well, ch: ChannelSpec) -> float:
+    return float(well.threshold(case.dimension, symmetric=ch.l is not None))
+
+
+def _fill_reference(case: Case, out: dict, k: int, ref: Reference, b: float) -> None:
+    out["frequency"][k] = case.units.frequency_from_length(b, case.mass_at(
+        case.scan_values()[k] if case.scan_target.kind != "coupling" else None))
+    out["length"][k] = b
+    out["ref_frequency"][k] = ref.frequency
+    out["ref_length"][k] = ref.length
+    out["center"][k] = ref.center
+    out["v_min"][k] = ref.v_min
+
+
+def _run_points(case: Case, job: Job) -> dict[str, Any]:
+    values = case.scan_values()
+    chans = case.channels()
+    s = len(values)
+    out = _empty(case, s)
+    n_main = case.model.basis.size
+    count = case.model.levels.count
+    smaller = _smaller_size(case)
+    sizes = _sizes(case)
+    n_build = max([n_main, *sizes])
+    refs: dict[int, Reference] = {}
+    series_ok = True
+    for k in job.points:
+        value = values[k]
+        ref = _reference_at(case, value)
+        refs[k] = ref
+        well = case.well_at(value)
+        mass = case.mass_at(value)
+        b, center = _basis_at(case, value, ref)
+        _fill_reference(case, out, k, ref, b)
+        for c in job.channels:
+            ch = chans[c]
+            mats = channel_hamiltonian(well, _core_channel(ch), n_build, b, center)
+            h = mats.total
+            e = _levels_of(h, n_main, count, mats.bandwidth)
+            thr = _threshold(case, well, ch)
+            out["energy"][k, c] = e
+            out["bound"][k, c] = e < thr
+            out["threshold"][k, c] = thr
+            out["reference_energy"][k, c] = ref.v_min + ref.frequency * _oscillator_levels(
+                ch, count)
+            if smaller is not None:
+                out["smaller"][k, c] = _levels_of(h, smaller, count, mats.bandwidth)
+            for i, size in enumerate(sizes):
+                out["convergence_energy"][k, c, :, i] = _levels_of(h, size, count,
+                                                                    mats.bandwidth)
+            series_ok &= _series_block(case, well, ch, ref, mass, out, k, c)
+    return {"out": out, "points": job.points, "channels": job.channels,
+            "methods": sorted({r.method for r in refs.values()}),
+            "reasons": {k: (r.method, r.reason) for k, r in refs.items()},
+            "series_ok": series_ok}
+
+
+def _reference_well(case: Case, ref: Reference, radial: bool) -> Well:
+    harmonic: dict[str, float] = {"frequency": ref.frequency}
+    if not radial and ref.center:
+        harmonic["center"] = ref.center
+    terms: list[dict] = [{"harmonic": harmonic}]
+    if ref.v_min:
+        terms.append({"polynomial": {"coefficients": {0: ref.v_min}}})
+    return Well.from_terms(terms, case.model.units, case.mass)
+
+
+def _split_linear(case: Case, ch: ChannelSpec, ref: Reference, size: int, b: float,
+                  center: float) -> tuple[np.ndarray, np.ndarray, int | None]:
+    """Matrices A, B with H(s) = A + s B at the scan value s, and the half-bandwidth."""
+    t = case.scan_target
+    core = _core_channel(ch)
+    radial = ch.l is not None
+    if t.kind == "coupling":
+        well = case.well_at(None)
+        full = channel_hamiltonian(well, core, size, b, center)
+        href = channel_hamiltonian(_reference_well(case, ref, radial), core, size, b, center)
+        a = full.kinetic + href.potential
+        bmat = full.potential + full.spin_orbit - href.potential
+        bw = None if full.bandwidth is None or href.bandwidth is None else max(
+            full.bandwidth, href.bandwidth)
+        return a, bmat, bw
+    data = case.to_dict()
+    terms = data["well"]
+    term, name, *sub = t.keys
+    scanned = terms[t.term]
+    if sub:  # one polynomial coefficient
+        coeffs = dict(scanned[term][name])
+        unit = {term: {**scanned[term], name: {sub[0]: 1.0}}}
+        del coeffs[sub[0]]
+        rest_terms = [*terms[:t.term], *terms[t.term + 1:]]
+        if coeffs:
+            rest_terms.append({term: {**scanned[term], name: coeffs}})
+    else:
+        unit = {term: {**scanned[term], name: 1.0}}
+        rest_terms = [*terms[:t.term], *terms[t.term + 1:]]
+    mass = case.mass
+    unit_well = Well.from_terms([unit], case.model.units, mass)
+    mb = channel_hamiltonian(unit_well, core, size, b, center)
+    if rest_terms:
+        rest = channel_hamiltonian(Well.from_terms(rest_terms, case.model.units, mass), core,
+                                   size, b, center)
+        a = rest.total
+        bw_a = rest.bandwidth
+    else:
+        a = mb.kinetic
+        bw_a = 1 if radial else 2
+    bmat = mb.potential + mb.spin_orbit
+    bw = None if bw_a is None or mb.bandwidth is None else max(bw_a, mb.bandwidth)
+    return a, bmat, bw
+
+
+def _coupling_threshold(case: Case, ch: ChannelSpec, lam: float) -> float:
+    thr = _threshold(case, case.well_at(None), ch)
+    if lam == 1.0:
+        return thr
+    if lam < 1.0:
+        return math.inf  # (1 − λ) V_ref confines
+    # λ > 1: −(λ − 1) V_ref wins at large r unless V itself grows without bound
+    return math.inf if thr == math.inf else -math.inf
+
+
+def _run_linear(case: Case, job: Job) -> dict[str, Any]:
+    values = case.scan_values()
+    chans = case.channels()
+    out = _empty(case, len(values))
+    n_main = case.model.basis.size
+    count = case.model.levels.count
+    smaller = _smaller_size(case)
+    sizes = _sizes(case)
+    n_build = max([n_main, *sizes])
+    (c,) = job.channels
+    ch = chans[c]
+    refs = job.references
+    b, center = _basis_at(case, values[0], refs[0])
+    a, bmat, bw = _split_linear(case, ch, refs[0], n_build, b, center)
+    levels = _oscillator_levels(ch, count)
+    coupling = case.scan_target.kind == "coupling"
+    series_ok = True
+    for k in job.points:
+        s = values[k]
+        ref = refs[k]
+        h = a + s * bmat
+        e = _levels_of(h, n_main, count, bw)
+        if coupling:
+            thr = _coupling_threshold(case, ch, s)
+        else:
+            thr = _threshold(case, case.well_at(s), ch)
+        out["energy"][k, c] = e
+        out["bound"][k, c] = e < thr
+        out["threshold"][k, c] = thr
+        out["reference_energy"][k, c] = ref.v_min + ref.frequency * levels
+        _fill_reference(case, out, k, ref, b)
+        if smaller is not None:
+            out["smaller"][k, c] = _levels_of(h, smaller, count, bw)
+        for i, size in enumerate(sizes):
+            out["convergence_energy"][k, c, :, i] = _levels_of(h, size, count, bw)
+        if case.model.perturbation is not None:
+            well = case.well_at(None if coupling else s)
+            series_ok &= _series_block(case, well, ch, ref, case.mass_at(
+                None if coupling else s), out, k, c)
+    return {"out": out, "points": job.points, "channels": job.channels,
+            "reasons": {k: (refs[k].method, refs[k].reason) for k in job.points},
+            "series_ok": series_ok}
+
+
+def run_job(case: Case, job: Job) -> dict[str, Any]:
+    """Compute one job (runs in a worker); returns its partial arrays."""
+    return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
+
+
+_MERGE = ("energy", "bound", "smaller", "reference_energy", "threshold", "convergence_energy",
+          "series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
+          "series_optimal_error", "series_optimal_order")
+_PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min")
+
+
+def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
+    """Merge the partial arrays of a case's jobs into one :class:`CaseResult`."""
+    values = case.scan_values()
+    out = _empty(case, len(values))
+    reasons: dict[int, tuple[str, str]] = {}
+    series_ok = True
+    for part in parts:
+        src = part["out"]
+        idx = np.ix_(list(part["points"]), list(part["channels"]))
+        for name in _MERGE:
+            out[name][idx] = src[name][idx]
+        for name in _PER_POINT:
+            out[name][list(part["points"])] = src[name][list(part["points"])]
+        reasons.update(part["reasons"])
+        series_ok &= part["series_ok"]
+    chans = case.channels()
+    tol = case.model.convergence.tolerance
+    err = np.abs(out["energy"] - out["smaller"])
+    notes = []
+    if _smaller_size(case) is None:
+        notes.append("error_estimate: not estimated (convergence.estimate is none)")
+    else:
+        notes.append(f"error_estimate: |E(N) - E(M)| with N = {case.model.basis.size} and "
+                     f"M = {_smaller_size(case)} basis states, the same basis length")
+    if case.model.perturbation is not None and not series_ok:
+        notes.append("series: not computed (no series engine in this version)")
+    converged = np.isfinite(err) & (err < tol)
+    has_spin = any(c.j is not None for c in chans)
+    return CaseResult(
+        scan_value=np.asarray(values, dtype=float),
+        l=np.array([-1 if c.l is None else c.l for c in chans], dtype=np.int64),
+        j=np.array([c.j for c in chans], dtype=float) if has_spin else None,
+        label=[c.label for c in chans],
+        energy=out["energy"], bound=out["bound"], converged=converged,
+        reference_energy=out["reference_energy"], error_estimate=err,
+        frequency=out["frequency"], length=out["length"], center=out["center"],
+        v_min=out["v_min"],
+        reference_method=[reasons[k][0] for k in range(len(values))],
+        reference_reason=[reasons[k][1] for k in range(len(values))],
+        threshold=out["threshold"], basis_size=case.model.basis.size,
+        series_coefficient=out["series_coefficient"],
+        series_partial_sum=out["series_partial_sum"],
+        series_resummed=out["series_resummed"],
+        resum_methods=list(case.model.perturbation.resum) if case.model.perturbation else [],
+        series_optimal=out["series_optimal"], series_optimal_error=out["series_optimal_error"],
+        series_optimal_order=out["series_optimal_order"],
+        convergence_sizes=np.asarray(_sizes(case), dtype=np.int64),
+        convergence_energy=out["convergence_energy"] if _sizes(case) else None,
+        reference_frequency=out["ref_frequency"], reference_length=out["ref_length"],
+        notes=notes,
+    )
+
+
+def compute_case(case: Case) -> CaseResult:
+    """All numbers of one case, computed serially in this process."""
+    return assemble(case, [run_job(case, job) for job in plan_case(case)])
+
+
+def run_case(case: str | Path | Case, *, history: str | None = None) -> xr.Dataset:
+    """Run one case and return its dataset (DESIGN §6); nothing is written.
+
+    Parameters
+    ----------
+    case
+        A case file holding one case, or a :class:`~anharmony.cases.Case`.
+
+    Raises
+    ------
+    CaseError
+        If the case file is invalid.
+    """
+    if not isinstance(case, Case):
+        case = load_case(case)
+    return build_dataset(case, compute_case(case), history=history)
+
+
+# =========================================================================== batches
+@dataclass
+class BatchReport:
+    """What a batch did: written, skipped (up to date), failed and not run cases."""
+
+    written: list[tuple[Case, Path]] = field(default_factory=list)
+    skipped: list[tuple[Case, Path]] = field(default_factory=list)
+    failed: list[tuple[Case, str]] = field(default_factory=list)
+    not_run: list[Case] = field(default_factory=list)
+    interrupted: int | None = None  # the signal number
+
+    @property
+    def exit_code(self) -> int:
+        if self.interrupted is not None:
+            return 128 + self.interrupted
+        return 1 if self.failed else 0
+
+
+def output_path(case: Case, out_dir: str | Path | None) -> Path:
+    """Where a case's result goes (``out_dir`` replaces the case's folder)."""
+    return case.output if out_dir is None else Path(out_dir) / case.output.name
+
+
+def _case_text_of(path: Path) -> str | None:
+    """The ``case`` attribute of an existing result, or None if it cannot be read."""
+    try:
+        import netCDF4
+
+        with netCDF4.Dataset(path) as f:
+            return str(f.getncattr("case")) if "case" in f.ncattrs() else None
+    except (OSError, RuntimeError, ValueError, ImportError):
+        return None
+
+
+def _folder_problem(folder: Path) -> str | None:
+    import tempfile
+
+    if not folder.exists():
+        return f"folder {folder} does not exist"
+    if not folder.is_dir():
+        return f"{folder} is not a folder"
+    try:
+        fd, probe = tempfile.mkstemp(dir=folder, prefix=".anharmony-probe-")
+        os.close(fd)
+        os.unlink(probe)
+    except OSError as exc:
+        return f"cannot write in folder {folder} ({exc.strerror or exc})"
+    return None
+
+
+def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: bool,
+                  overwrite: bool) -> tuple[list[Case], list[tuple[Case, Path]]]:
+    """Decide what to run before any work: (cases to run, cases skipped as up to date).
+
+    Raises
+    ------
+    CaseError
+        For an output folder that cannot be written, or an existing result that would be
+        overwritten without ``overwrite``.
+    """
+    problems: list[Problem] = []
+    todo: list[Case] = []
+    skipped: list[tuple[Case, Path]] = []
+    seen: dict[Path, Case] = {}
+    folder_checked: dict[Path, str | None] = {}
+    if out_dir is not None:
+        d = Path(out_dir)
+        if not d.exists():
+            try:
+                d.mkdir(parents=True)
+            except OSError as exc:
+                raise CaseError([Problem(str(d), None, None, "-o",
+                                         f"cannot create the output folder "
+                                         f"({exc.strerror or exc})")]) from None
+    for case in cases:
+        path = output_path(case, out_dir)
+        where = "output" if case.index is None else f"cases[{case.index}].output"
+        key = path.resolve()
+        if key in seen:
+            problems.append(Problem(case.file, None, None, where,
+                                    f"{case.name} and {seen[key].name} would both write "
+                                    f"{path}"))
+            continue
+        seen[key] = case
+        folder = path.parent
+        if folder not in folder_checked:
+            folder_checked[folder] = _folder_problem(folder)
+        if folder_checked[folder]:
+            problems.append(Problem(case.file, None, None, where, folder_checked[folder]))
+            continue
+        if path.exists() and not overwrite:
+            if resume:
+                if _case_text_of(path) == case.text:
+                    skipped.append((case, path))
+                    continue
+                problems.append(Problem(case.file, None, None, where,
+                                        f"{path} exists and was made from another case text; "
+                                        "use --overwrite to replace it"))
+            else:
+                problems.append(Problem(case.file, None, None, where,
+                                        f"{path} exists; use --resume to keep it or "
+                                        "--overwrite to replace it"))
+            continue
+        todo.append(case)
+    if problems:
+        raise CaseError(problems)
+    return todo, skipped
+
+
+def _init_worker() -> None:
+    # the parent decides when to stop; workers must not die half-way on a Ctrl-C of the group
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ.setdefault(var, "1")
+
+
+def _guarded(args: tuple[Case, Job]) -> tuple[int, Job, dict | None, str | None]:
+    case, job = args
+    try:
+        return job.case_key, job, run_job(case, job), None
+    except Exception as exc:  # reported per case; the batch goes on
+        return job.case_key, job, None, _failure(exc)
+
+
+def _failure(exc: BaseException) -> str:
+    text = f"{type(exc).__name__}: {exc}"
+    if os.environ.get("ANHARMONY_DEBUG"):
+        text += "\n" + "".join(traceback.format_exception(exc))
+    return text
+
+
+def _serial(items: Sequence[tuple[Case, Job]]) -> Iterator[tuple]:
+    for item in items:
+        yield _guarded(item)
+
+
+def _pool(items: Sequence[tuple[Case, Job]], jobs: int) -> Iterator[tuple]:
+    import multiprocessing as mp
+
+    method = "fork" if sys.platform.startswith("linux") else "spawn"
+    ctx = mp.get_context(method)
+    pool = ctx.Pool(processes=jobs, initializer=_init_worker)
+    try:
+        # largest jobs first so that the pool does not end on one long job
+        yield from pool.imap_unordered(_guarded, items, chunksize=1)
+        pool.close()
+    except BaseException:
+        pool.terminate()
+        raise
+    finally:
+        pool.join()
+
+
+def _distributed(items: Sequence[tuple[Case, Job]], address: str) -> Iterator[tuple]:
+    try:
+        from distributed import Client, as_completed
+    except ImportError as exc:
+        raise ImportError("--scheduler needs dask.distributed: install with "
+                          "pip install 'anharmony[cluster]'") from exc
+    client = address if not isinstance(address, str) else Client(address)
+    own = isinstance(address, str)
+    try:
+        futures = [client.submit(_guarded, item, key=f"anharmony-{item[1].case_key}-{i}",
+                                 pure=False) for i, item in enumerate(items)]
+        try:
+            for fut in as_completed(futures):
+                yield fut.result()
+        except BaseException:
+            client.cancel(futures)
+            raise
+    finally:
+        if own:
+            client.close()
+
+
+Event = Callable[..., None]
+
+
+def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
+              out_dir: str | Path | None = None, jobs: int = 1, scheduler: Any = None,
+              resume: bool = False, overwrite: bool = False, on_event: Event | None = None,
+              history: str | None = None, handle_signals: bool = False) -> BatchReport:
+    """Run many cases and write one result file per case.
+
+    Parameters
+    ----------
+    cases
+        Validated cases or case files (validated first; every problem is raised at once).
+    out_dir
+        Folder for every result (default: each case's ``output``).
+    jobs
+        Worker processes (1: in this process).
+    scheduler
+        Address of a dask.distributed scheduler (or a ``distributed.Client``); overrides
+        ``jobs``.
+    resume
+        Skip cases whose result exists and was made from the same case text.
+    overwrite
+        Replace existing results.
+    on_event
+        ``on_event(kind, **info)`` for progress: ``start`` (tasks, cases), ``tasks`` (n),
+        ``written`` (case, path), ``skipped`` (case, path), ``failed`` (case, message).
+    handle_signals
+        Turn SIGTERM into :class:`Interrupted` while the batch runs (SIGINT is caught as
+        ``KeyboardInterrupt``); a stopped batch keeps every finished file whole.
+
+    Returns
+    -------
+    BatchReport
+    """
+    emit = on_event or (lambda kind, **info: None)
+    if cases and not isinstance(cases[0], Case):
+        cases = load_cases(list(cases))
+    if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
+        raise ValueError(f"jobs: must be an integer >= 1; got {jobs!r}")
+    todo, skipped = check_outputs(cases, out_dir, resume=resume, overwrite=overwrite)
+    report = BatchReport(skipped=skipped)
+    for case, path in skipped:
+        emit("skipped", case=case, path=path)
+
+    old_term = None
+    if handle_signals:
+        def _on_term(signum: int, frame: Any) -> None:
+            raise Interrupted(signum)
+        old_term = signal.signal(signal.SIGTERM, _on_term)
+
+    pending = dict(enumerate(todo))
+    try:
+        items: list[tuple[Case, Job]] = []
+        counts: dict[int, int] = {}
+        for key, case in enumerate(todo):
+            try:
+                plan = plan_case(case, key)
+            except Exception as exc:  # e.g. no reference oscillator
+                report.failed.append((case, _failure(exc)))
+                emit("failed", case=case, message=_failure(exc))
+                del pending[key]
+                continue
+            counts[key] = len(plan)
+            items += [(case, job) for job in plan]
+        items.sort(key=lambda it: -it[1].weight)
+        emit("start", tasks=sum(job.weight for _, job in items), cases=len(pending))
+        parts: dict[int, list[dict]] = {key: [] for key in pending}
+        failed: dict[int, str] = {}
+        if scheduler is not None:
+            stream = _distributed(items, scheduler)
+        elif jobs > 1 and len(items) > 1:
+            stream = _pool(items, min(jobs, len(items)))
+        else:
+            stream = _serial(items)
+        done = dict.fromkeys(pending, 0)
+        for key, job, part, error in stream:
+            emit("tasks", n=job.weight)
+            done[key] += 1
+            if error is not None:
+                failed.setdefault(key, error)
+            else:
+                parts[key].append(part)
+            if done[key] < counts[key] or key not in pending:
+                continue
+            case = pending.pop(key)
+            if key in failed:
+                report.failed.append((case, failed[key]))
+                emit("failed", case=case, message=failed[key])
+                continue
+            try:
+                ds = build_dataset(case, assemble(case, parts.pop(key)), history=history)
+                path = write_dataset(ds, output_path(case, out_dir), overwrite=overwrite)
+            except (OSError, ValueError, TypeError) as exc:
+                report.failed.append((case, _failure(exc)))
+                emit("failed", case=case, message=_failure(exc))
+                continue
+            report.written.append((case, path))
+            emit("written", case=case, path=path)
+    except KeyboardInterrupt:
+        report.interrupted = signal.SIGINT
+    except Interrupted as exc:
+        report.interrupted = exc.signal
+    finally:
+        if handle_signals:
+            signal.signal(signal.SIGTERM, old_term or signal.SIG_DFL)
+    report.not_run = list(pending.values())
+    return report
+
