@@ -1,1 +1,50 @@
-"""Rayleigh–Schrödinger perturbation series (placeholder while the kernels are written)."""
+"""Rayleigh–Schrödinger perturbation series: exact and numeric engines, resummation, verdict.
+
+- :mod:`.rs_numeric`: floating-point recursion with per-order binary exponents (any order);
+- :mod:`.rs_exact`: rational recursion in unnormalised oscillator bases (polynomial W);
+- :mod:`.resum`: partial sums, Padé, Borel–Padé, optimal truncation, large-order fits;
+- :mod:`.verdict`: the series against exact energies on a coupling grid;
+- :mod:`.front`: :func:`series`, the front end of DESIGN §8, and its :class:`Series` result.
+"""
+
+from __future__ import annotations
+
+from .front import Series, series
+from .resum import (
+    BorelPade,
+    LargeOrder,
+    OptimalTruncation,
+    PadeApproximant,
+    borel_pade,
+    large_order,
+    optimal_truncation,
+    pade,
+    pade_approximant,
+    partial_sums,
+)
+from .rs_exact import rs_exact_1d, rs_exact_banded, rs_exact_radial
+from .rs_numeric import ScaledCoefficients, rs_numeric
+from .verdict import Verdict, lowest_order, verdict
+
+__all__ = [
+    "BorelPade",
+    "LargeOrder",
+    "OptimalTruncation",
+    "PadeApproximant",
+    "ScaledCoefficients",
+    "Series",
+    "Verdict",
+    "borel_pade",
+    "large_order",
+    "lowest_order",
+    "optimal_truncation",
+    "pade",
+    "pade_approximant",
+    "partial_sums",
+    "rs_exact_1d",
+    "rs_exact_banded",
+    "rs_exact_radial",
+    "rs_numeric",
+    "series",
+    "verdict",
+]

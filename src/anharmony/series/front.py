@@ -1,0 +1,349 @@
+"""The ``series`` front end (DESIGN §2 Perturbation, §8) and its :class:`Series` result.
+
+H(λ) = H_ref + λ W, with H_ref the reference oscillator (plus v_min) and W = V − V_ref, λ = 1
+the physical well. H_ref is diagonal in the reference oscillator's own basis (length b_ref,
+centre x_min), which is the basis used here.
+"""
+
+from __future__ import annotations
+
+import math
+import warnings
+from collections.abc import Mapping
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Any
+
+import mpmath
+import numpy as np
+
+from anharmony.errors import ConvergenceWarning
+from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda, parse_j
+from anharmony.potentials import Well
+from anharmony.spectrum import Reference, reference_oscillator
+from anharmony.units import UnitSystem, get_units
+
+from .resum import (
+    BorelPade,
+    LargeOrder,
+    OptimalTruncation,
+    PadeApproximant,
+    borel_pade,
+    large_order,
+    optimal_truncation,
+    pade_approximant,
+    partial_sums,
+    to_mpf,
+)
+from .rs_exact import rs_exact_1d, rs_exact_radial
+from .rs_numeric import ScaledCoefficients, rs_numeric
+
+__all__ = ["Series", "series"]
+
+EXACT_MAX_DENOMINATOR = 10**6  # a coefficient of W counts as rational p/q only with q <= this
+RATIONAL_RTOL = 1e-14  # ... and only if p/q is this close (relative to the largest coefficient)
+DENSE_RTOL = 1e-10  # non-polynomial W: grow N until no E_k moves by more than this (relative)
+DENSE_START = 40  # first basis size tried for a non-polynomial W
+DENSE_GROWTH = 1.5  # factor between successive sizes
+DEFAULT_MAX_SIZE = 400  # largest basis for a non-polynomial W
+_REFERENCE_LEVELS = 5  # levels the "auto" reference is fitted to (as solve's default)
+
+
+@dataclass(frozen=True, eq=False)
+class Series:
+    """Rayleigh–Schrödinger series E(λ) = Σ_k E_k λ^k of one level of one channel.
+
+    Attributes
+    ----------
+    coefficients : ndarray, shape (K+1,)
+        E_0..E_K in the unit system's energy unit (E_0 = v_min + ħω·(oscillator level));
+        ±inf where |E_k| exceeds the double range (use :attr:`precise` there).
+    exact : list of Fraction or None
+        When W is a polynomial with rational coefficients in oscillator units: the same series
+        in units of the reference ħω with E_0 counted from v_min, i.e.
+        ``coefficients[0] = v_min + ħω·exact[0]`` (the oscillator level, n + 1/2 or
+        2n + l + d/2) and ``coefficients[k] = ħω·exact[k]`` for k ≥ 1. Otherwise None.
+    precise : tuple
+        E_0..E_K at full precision in the energy unit: Fractions (exact engine; ħω and v_min
+        taken as the binary values of their floats) or :class:`mpmath.mpf` (numeric engine).
+    reference : Reference
+        The reference oscillator (ħω, b, centre, v_min, how and why it was chosen).
+    channel : Channel
+    level : int
+        Level counted from the lowest of the channel (0-based radial index).
+    method : str
+        ``"exact"`` (rational engine), ``"banded"`` (numeric, polynomial W: exact in N) or
+        ``"dense"`` (numeric, basis grown until the coefficients settle).
+    basis_size : int
+        N used (for ``"exact"``/``"banded"``: n + K·h + 1, h the half-bandwidth of W).
+    precision : float
+        ``"dense"``: the largest relative change of any E_k at the last growth of N
+        (see :data:`DENSE_RTOL`); 0.0 for the other methods (exact in N).
+    units : UnitSystem
+    """
+
+    coefficients: np.ndarray
+    exact: list[Fraction] | None
+    precise: tuple
+    reference: Reference
+    channel: Channel
+    level: int
+    method: str
+    basis_size: int
+    precision: float
+    units: UnitSystem
+
+    @property
+    def orders(self) -> int:
+        """Highest order K."""
+        return len(self.coefficients) - 1
+
+    def analysis_values(self) -> list:
+        """E_0..E_K at full precision (what the analysis methods work on)."""
+        return list(self.precise)
+
+    def partial_sums(self, lam: Any = 1.0) -> np.ndarray:
+        """Σ_{i≤k} E_i λ^i for k = 0..K; shape (K+1,) + shape(lam)."""
+        return partial_sums(self.precise, lam)
+
+    def pade_approximant(self, L: int, M: int, *, method: str = "auto") -> PadeApproximant:
+        """Padé [L/M] approximant in λ (numerator degree L, denominator M)."""
+        return pade_approximant(self.precise, L, M, method=method)
+
+    def pade(self, L: int, M: int, lam: Any = 1.0, *, method: str = "auto") -> Any:
+        """Value of the Padé [L/M] approximant at λ."""
+        return self.pade_approximant(L, M, method=method)(lam)
+
+    def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None
+                   ) -> BorelPade:
+        """Borel–Padé sum at λ (see :func:`anharmony.series.resum.borel_pade`)."""
+        return borel_pade(self.precise, lam, L, M)
+
+    def optimal_truncation(self, lam: float = 1.0) -> OptimalTruncation:
+        """Sum up to the smallest term at λ, with that term as the error estimate."""
+        return optimal_truncation(self.precise, lam)
+
+    def large_order(self, **options: Any) -> LargeOrder:
+        """Ratio-test analysis of the growth of E_k (see :func:`.resum.large_order`)."""
+        return large_order(self.precise, **options)
+
+
+def _rational(x: float, scale: float) -> Fraction | None:
+    r = Fraction(x).limit_denominator(EXACT_MAX_DENOMINATOR)
+    return r if abs(float(r) - x) <= RATIONAL_RTOL * scale else None
+
+
+def _w_in_oscillator_units(
+    well: Well, channel: Channel, ref: Reference, center: float
+) -> tuple[dict[int, float] | None, str]:
+    """W = V − V_ref as Σ w_q ξ^q in units of ħω (ξ = (x − x₀)/b or r/b), or why not."""
+    if well.has_spin_orbit and channel.ls != 0.0:
+        return None, "the spin-orbit term is not a polynomial"
+    lam, _ = effective_lambda(well, channel)
+    if lam is not None:
+        return None, "an inverse-square term is absorbed into the basis"
+    poly = well.polynomial(center=center)
+    if poly is None:
+        return None, "the well is not a polynomial"
+    hw, b = ref.frequency, ref.length
+    w = {q: c * b**q / hw for q, c in poly.items()}
+    w[0] = w.get(0, 0.0) - ref.v_min / hw
+    w[2] = w.get(2, 0.0) - 0.5
+    return w, ""
+
+
+def _exact_series(w: dict[int, float], channel: Channel, level: int, orders: int
+                  ) -> tuple[list[Fraction] | None, int, str]:
+    scale = max((abs(v) for v in w.values()), default=0.0) or 1.0
+    rational = {}
+    for q, v in w.items():
+        r = _rational(v, scale)
+        if r is None:
+            return None, 0, (f"the coefficient of ξ^{q} in W is {v!r} ħω, not a rational with "
+                             f"denominator <= {EXACT_MAX_DENOMINATOR}")
+        if r:
+            rational[q] = r
+    top = max(rational, default=0)
+    if channel.l is None:
+        size = level + orders * max(top, 1) + 1
+        return rs_exact_1d(rational, level, orders), size, ""
+    odd = [q for q in rational if q % 2]
+    if odd:
+        return None, 0, f"W has odd powers {odd} of r, whose radial matrix elements are irrational"
+    size = level + orders * max(top // 2, 1) + 1
+    return rs_exact_radial(rational, level, orders, l=channel.l,
+                           dimension=channel.dimension), size, ""
+
+
+def _numeric_at(well: Well, channel: Channel, ref: Reference, center: float, level: int,
+                orders: int, size: int, bandwidth: int | None) -> ScaledCoefficients:
+    mats = channel_hamiltonian(well, channel, size, ref.length, center)
+    h_ref = ref.v_min + ref.frequency * mats.basis.oscillator_levels()
+    w = mats.total - np.diag(h_ref)
+    return rs_numeric(h_ref, w, level, orders, bandwidth=bandwidth)
+
+
+def _relative_change(old: list, new: list) -> float:
+    """Largest |Δ E_k| / scale_k over k ≥ 1; scale_k = max(|E_k|, √|E_{k−1} E_{k+1}|)."""
+    worst = 0.0
+    mags = [abs(x) for x in new]
+    for k in range(1, len(new)):
+        neighbours = [mags[i] for i in (k - 1, k + 1) if 1 <= i < len(new) and mags[i] != 0]
+        scale = max([mags[k], mpmath.sqrt(mpmath.fprod(neighbours))
+                     if len(neighbours) == 2 else (neighbours[0] if neighbours else 0)])
+        diff = abs(new[k] - old[k])
+        if diff == 0:
+            continue
+        worst = max(worst, math.inf if scale == 0 else float(diff / scale))
+    return worst
+
+
+def _validate(well: Any, dimension: Any, l: Any, level: Any, orders: Any, exact: Any,
+              max_size: Any) -> None:
+    if not isinstance(well, Well):
+        raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
+    if isinstance(dimension, bool) or dimension not in (1, 2, 3):
+        raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
+    for name, v, low in (("level", level, 0), ("orders", orders, 1), ("max_size", max_size, 2)):
+        if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < low:
+            raise ValueError(f"{name}: must be an integer >= {low}; got {v!r}")
+    if exact not in ("auto", True, False):
+        raise ValueError(f"exact: must be 'auto', True or False; got {exact!r}")
+
+
+def series(
+    well: Well,
+    dimension: int = 1,
+    l: int | None = 0,  # noqa: E741
+    level: int = 0,
+    orders: int = 20,
+    exact: str | bool = "auto",
+    units: str | UnitSystem = "oscillator",
+    reference: str | Mapping[str, float] = "auto",
+    j: Any = None,
+    mass: float | None = None,
+    *,
+    max_size: int = DEFAULT_MAX_SIZE,
+) -> Series:
+    """Rayleigh–Schrödinger series of one level of one channel of a well.
+
+    Parameters
+    ----------
+    well
+        The well (:meth:`anharmony.Well.from_terms`).
+    dimension
+        1, 2 or 3.
+    l
+        Angular quantum number; in 1D ``None`` is the basis without symmetry, 0/1 the even/odd
+        parity of a symmetric well.
+    level
+        Level counted from the lowest of the channel.
+    orders
+        Highest order K ≥ 1.
+    exact
+        ``"auto"``: rational coefficients when W is a polynomial with rational coefficients
+        in oscillator units (any powers of ξ in 1D without symmetry, even powers in parity and
+        radial channels); ``True``: require them (ValueError otherwise); ``False``: numeric
+        engine only.
+    units
+        Unit system of DESIGN §5.
+    reference
+        ``"auto"`` or a mapping with ``frequency`` or ``length`` (and ``center`` in 1D), as for
+        :func:`anharmony.solve`.
+    j
+        Total angular momentum with spin–orbit terms (3D): 2.5 or ``"5/2"``.
+    mass
+        Particle mass in the system's mass unit.
+    max_size
+        Largest basis tried for a non-polynomial W.
+
+    Returns
+    -------
+    Series
+
+    Warns
+    -----
+    ConvergenceWarning
+        When, for a non-polynomial W, the coefficients still change by more than 1e-10
+        (relative) at ``max_size``; :attr:`Series.precision` says by how much.
+
+    Notes
+    -----
+    The basis is the reference oscillator's own (length b_ref, centre x_min), where
+    H_ref = v_min + ħω (oscillator levels) is diagonal; W = T + V + V_so − H_ref from the
+    channel matrices. A polynomial W of half-bandwidth h gives exact coefficients to order K
+    with N = n + K·h + 1 states, which is the size used; otherwise N grows from 40 by factors
+    of 1.5 until no coefficient moves by more than 1e-10.
+    """
+    _validate(well, dimension, l, level, orders, exact, max_size)
+    system = get_units(units)
+    well = well.with_context(system, mass)
+    channel = Channel(dimension, l, parse_j(j))
+    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
+        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
+                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
+    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
+        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
+                         "for the basis without symmetry")
+    ref = reference_oscillator(well, dimension, l, None, max(_REFERENCE_LEVELS, level + 1),
+                               reference, channel.j)
+    center = ref.center if channel.l is None else 0.0
+    hw = ref.frequency
+
+    exact_values = None
+    if exact is not False:
+        w, why = _w_in_oscillator_units(well, channel, ref, center)
+        if w is not None:
+            exact_values, size, why = _exact_series(w, channel, level, orders)
+        if exact_values is None and exact is True:
+            raise ValueError(f"exact: no rational series for this well ({why}); "
+                             "use exact='auto' or False")
+    if exact_values is not None:
+        scale, offset = Fraction(hw), Fraction(ref.v_min)
+        precise = tuple([offset + scale * exact_values[0]]
+                        + [scale * e for e in exact_values[1:]])
+        return _make(precise, exact_values, ref, channel, level, "exact", size, 0.0, system)
+
+    probe = channel_hamiltonian(well, channel, 4, ref.length, center)
+    if probe.bandwidth is not None:
+        h = probe.bandwidth
+        size = level + orders * h + 1
+        res = _numeric_at(well, channel, ref, center, level, orders, size, h)
+        return _make(tuple(res.mp()), None, ref, channel, level, "banded", size, 0.0, system)
+
+    size = min(max_size, max(DENSE_START, 2 * (level + orders) + 10))
+    previous, change = None, math.inf
+    while True:
+        current = _numeric_at(well, channel, ref, center, level, orders, size, None).mp()
+        if previous is not None:
+            change = _relative_change(previous, current)
+            if change <= DENSE_RTOL:
+                break
+        if size >= max_size:
+            warnings.warn(
+                f"series: the coefficients of level {level} ({channel.label}) still change by "
+                f"{change:.2g} (relative) at the largest basis, max_size={max_size}; raise "
+                "max_size or use fewer orders",
+                ConvergenceWarning, stacklevel=2,
+            )
+            break
+        previous = current
+        size = min(max_size, int(math.ceil(size * DENSE_GROWTH)))
+    return _make(tuple(current), None, ref, channel, level, "dense", size,
+                 0.0 if previous is None else change, system)
+
+
+def _make(precise: tuple, exact_values: list[Fraction] | None, ref: Reference,
+          channel: Channel, level: int, method: str, size: int, precision: float,
+          system: UnitSystem) -> Series:
+    coeffs = np.empty(len(precise))
+    for k, v in enumerate(precise):
+        try:
+            coeffs[k] = float(v)
+        except OverflowError:
+            coeffs[k] = math.copysign(math.inf, float(mpmath.sign(to_mpf(v))))
+    return Series(
+        coefficients=coeffs, exact=None if exact_values is None else list(exact_values),
+        precise=precise, reference=ref, channel=channel, level=int(level), method=method,
+        basis_size=int(size), precision=float(precision), units=system,
+    )
