@@ -19,6 +19,7 @@ import os
 import signal
 import sys
 import traceback
+import warnings
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -27,6 +28,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .cases import Case, CaseError, ChannelSpec, Problem, load_case, load_cases
+from .errors import NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import Power, Well
 from .spectrum import Reference, diagonalize, reference_oscillator
@@ -168,7 +170,11 @@ def _series_engine() -> Callable[..., Any] | None:
 
 def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass: float | None,
                   out: dict[str, np.ndarray], k: int, c: int) -> bool:
-    """Fill the series arrays of one (scan point, channel); False if no engine is available."""
+    """Fill the series arrays of one (scan point, channel); False if no engine is available.
+
+    Warnings of the series engine (a dense series that has not settled) are collected into
+    ``out["notes"]`` instead of being raised.
+    """
     pert = case.model.perturbation
     engine = _series_engine()
     if pert is None or engine is None:
@@ -176,24 +182,32 @@ def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass:
     spec: dict[str, float] = {"frequency": ref.frequency}
     if ch.l is None:
         spec["center"] = ref.center
+    order = pert.orders
+    lo, hi = order - order // 2, order // 2  # near-diagonal Padé [L/M], L + M = K
     for n in range(case.model.levels.count):
-        ser = engine(well, dimension=ch.dimension, l=ch.l, level=n, orders=pert.orders,
-                     exact=pert.exact, units=case.units, reference=spec, j=ch.j, mass=mass)
-        coef = np.asarray(ser.coefficients, dtype=float)
-        out["series_coefficient"][k, c, n, :coef.size] = coef
-        out["series_partial_sum"][k, c, n, :coef.size] = np.cumsum(coef)
-        for m, method in enumerate(pert.resum):
-            fn = getattr(ser, method, None)
-            if fn is not None:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            ser = engine(well, dimension=ch.dimension, l=ch.l, level=n, orders=max(order, 1),
+                         exact=pert.exact, units=case.units, reference=spec, j=ch.j, mass=mass)
+            coef = np.asarray(ser.coefficients, dtype=float)[:order + 1]
+            out["series_coefficient"][k, c, n, :coef.size] = coef
+            out["series_partial_sum"][k, c, n, :coef.size] = np.asarray(
+                ser.partial_sums(1.0), dtype=float)[:order + 1]
+            for m, method in enumerate(pert.resum):
                 # stays NaN where this approximant does not exist
-                with contextlib.suppress(ValueError, ArithmeticError, np.linalg.LinAlgError):
-                    out["series_resummed"][k, c, n, m] = float(fn(1.0))
-        opt = getattr(ser, "optimal", None)
-        if callable(opt):
-            best = opt(1.0)
-            out["series_optimal"][k, c, n] = float(best.value)
-            out["series_optimal_error"][k, c, n] = float(best.error)
-            out["series_optimal_order"][k, c, n] = int(best.order)
+                with contextlib.suppress(ValueError, ArithmeticError, np.linalg.LinAlgError,
+                                         NumericalError):
+                    value = (ser.pade(lo, hi, 1.0) if method == "pade"
+                             else ser.borel_pade(1.0).value)
+                    out["series_resummed"][k, c, n, m] = float(np.asarray(value, dtype=float))
+            if order >= 1:
+                best = ser.optimal_truncation(1.0)
+                out["series_optimal"][k, c, n] = float(best.value)
+                out["series_optimal_error"][k, c, n] = float(best.error)
+                out["series_optimal_order"][k, c, n] = int(best.order)
+        out["series_method"].add(str(ser.method))
+        for w in caught:
+            out["notes"].add(f"series {ch.label} level {n}: {w.message}")
     return True
 
 
@@ -216,6 +230,8 @@ def _empty(case: Case, s: int) -> dict[str, np.ndarray]:
         "center": np.full(s, np.nan), "v_min": np.full(s, np.nan),
     }
     out.update(empty_like_series(s, c, n, orders, methods))
+    out["notes"] = set()
+    out["series_method"] = set()
     return out
 
 
@@ -411,6 +427,8 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
             out[name][list(part["points"])] = src[name][list(part["points"])]
         reasons.update(part["reasons"])
         series_ok &= part["series_ok"]
+        out["notes"] |= src["notes"]
+        out["series_method"] |= src["series_method"]
     chans = case.channels()
     tol = case.model.convergence.tolerance
     err = np.abs(out["energy"] - out["smaller"])
@@ -422,6 +440,9 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
                      f"M = {_smaller_size(case)} basis states, the same basis length")
     if case.model.perturbation is not None and not series_ok:
         notes.append("series: not computed (no series engine in this version)")
+    if out["series_method"]:
+        notes.append("series engine: " + ", ".join(sorted(out["series_method"])))
+    notes += sorted(out["notes"])[:20]
     converged = np.isfinite(err) & (err < tol)
     has_spin = any(c.j is not None for c in chans)
     return CaseResult(
@@ -700,6 +721,7 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         old_term = signal.signal(signal.SIGTERM, _on_term)
 
     pending = dict(enumerate(todo))
+    stream: Any = None
     try:
         items: list[tuple[Case, Job]] = []
         counts: dict[int, int] = {}
@@ -733,8 +755,9 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
                 parts[key].append(part)
             if done[key] < counts[key] or key not in pending:
                 continue
-            case = pending.pop(key)
+            case = pending[key]
             if key in failed:
+                del pending[key]
                 report.failed.append((case, failed[key]))
                 emit("failed", case=case, message=failed[key])
                 continue
@@ -742,16 +765,20 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
                 ds = build_dataset(case, assemble(case, parts.pop(key)), history=history)
                 path = write_dataset(ds, output_path(case, out_dir), overwrite=overwrite)
             except (OSError, ValueError, TypeError) as exc:
+                del pending[key]
                 report.failed.append((case, _failure(exc)))
                 emit("failed", case=case, message=_failure(exc))
                 continue
+            del pending[key]
             report.written.append((case, path))
             emit("written", case=case, path=path)
     except KeyboardInterrupt:
-        report.interrupted = signal.SIGINT
+        report.interrupted = int(signal.SIGINT)
     except Interrupted as exc:
         report.interrupted = exc.signal
     finally:
+        if stream is not None:
+            stream.close()  # stops the workers of an interrupted batch
         if handle_signals:
             signal.signal(signal.SIGTERM, old_term or signal.SIG_DFL)
     report.not_run = list(pending.values())

@@ -1,0 +1,392 @@
+"""The command line (DESIGN §7): ``anharmony run | check | show | plot``.
+
+Exit codes: 0 success, 1 a computation failed, 2 bad input (one line per problem, no
+traceback), 130 stopped by Ctrl-C (143 by SIGTERM). This is the only module that prints.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import os
+import sys
+from collections.abc import Sequence
+from typing import Any, NoReturn, TextIO
+
+import numpy as np
+
+from . import __version__
+
+__all__ = ["main"]
+
+EXIT_OK, EXIT_FAILED, EXIT_BAD_INPUT, EXIT_INTERRUPTED = 0, 1, 2, 130
+_LINES_PER_RUN = 20  # off a terminal, at most about this many "k/N tasks" lines per batch
+_SHOW_ALL_UP_TO = 5  # `show` prints every scan point up to this many, else first/middle/last
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports a usage error in one line and exits 2."""
+
+    def error(self, message: str) -> NoReturn:
+        self.exit(EXIT_BAD_INPUT, f"{self.prog}: error: {message} (see {self.prog} --help)\n")
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="anharmony",
+                description="Bound states, anharmonic shifts and perturbation series of "
+                            "almost-harmonic wells, run from YAML case files.")
+    p.add_argument("--version", action="version", version=f"anharmony {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    run = sub.add_parser("run", help="run case files and write one netCDF result per case",
+                         description="Run every case of the given files and write one netCDF "
+                                     "result per case (to the case's `output`).")
+    run.add_argument("cases", nargs="+", metavar="CASE.yaml", help="case files")
+    run.add_argument("-o", "--output-dir", metavar="DIR",
+                     help="write every result into DIR (created if missing) instead of beside "
+                          "its case file")
+    run.add_argument("-j", "--jobs", type=int, default=1, metavar="N",
+                     help="worker processes (default 1: run in this process)")
+    run.add_argument("--resume", action="store_true",
+                     help="skip cases whose result exists and was made from the same case "
+                          "text")
+    run.add_argument("--overwrite", action="store_true",
+                     help="replace existing results (otherwise they are never overwritten)")
+    run.add_argument("--scheduler", metavar="ADDRESS",
+                     help="run on a dask.distributed scheduler at ADDRESS (needs the "
+                          "[cluster] extra); overrides --jobs")
+    run.add_argument("--progress", choices=("auto", "bar", "lines", "off"), default="auto",
+                     help="progress display: a bar on a terminal and plain lines otherwise "
+                          "(auto), always a bar, always lines, or none")
+
+    check = sub.add_parser("check", help="validate case files and print the resolved cases",
+                           description="Validate case files and print each resolved case: "
+                                       "units, reference oscillator, channels and task count.")
+    check.add_argument("cases", nargs="+", metavar="CASE.yaml", help="case files")
+    check.add_argument("--no-reference", action="store_true",
+                       help="skip resolving the reference oscillator (validation only)")
+
+    show = sub.add_parser("show", help="print the levels, shifts and perturbation verdict of "
+                                       "a result file",
+                          description="Print levels, shifts and the perturbation verdict of a "
+                                      "result file as a table.")
+    show.add_argument("result", metavar="RESULT.nc", help="a result file of anharmony run")
+    show.add_argument("--scan", default="auto", metavar="K|all",
+                      help="scan point(s) to print: an index, `all`, or `auto` (all up to "
+                           f"{_SHOW_ALL_UP_TO}, else first, middle and last)")
+    show.add_argument("--channel", metavar="LABEL", action="append",
+                      help="only this channel (repeatable), e.g. s1/2")
+
+    plot = sub.add_parser("plot", help="draw a figure from a result file",
+                          description="Draw a figure from a result file (needs anharmony.plots).")
+    plot.add_argument("result", metavar="RESULT.nc", help="a result file of anharmony run")
+    plot.add_argument("--kind", required=True,
+                      choices=("flow", "shift", "series", "convergence", "well", "scheme"),
+                      help="which figure")
+    plot.add_argument("-o", "--output", required=True, metavar="FIG.png",
+                      help="the figure file to write")
+    return p
+
+
+# --------------------------------------------------------------------------- helpers
+def _err(line: str) -> None:
+    print(line, file=sys.stderr, flush=True)
+
+
+def _problems(exc: Exception) -> int:
+    from .cases import CaseError
+
+    if isinstance(exc, CaseError):
+        for p in exc.problems:
+            _err(str(p))
+    else:
+        _err(str(exc))
+    return EXIT_BAD_INPUT
+
+
+def _interactive(stream: TextIO) -> bool:
+    return bool(getattr(stream, "isatty", lambda: False)()) and not os.environ.get("CI")
+
+
+class _Progress:
+    """Progress of a batch: a tqdm bar on a terminal, or plain ``k/N tasks`` lines."""
+
+    def __init__(self, mode: str, stream: TextIO) -> None:
+        if mode == "auto":
+            mode = "bar" if _interactive(stream) else "lines"
+        self.mode = mode
+        self.stream = stream
+        self.bar: Any = None
+        self.total = 0
+        self.done = 0
+        self.next_line = 0
+
+    def say(self, line: str) -> None:
+        if self.bar is not None:
+            self.bar.write(line, file=self.stream)
+        else:
+            print(line, file=self.stream, flush=True)
+
+    def __call__(self, kind: str, **info: Any) -> None:
+        if kind == "start":
+            self.total = info["tasks"]
+            if self.mode == "bar" and self.total:
+                from tqdm import tqdm
+
+                self.bar = tqdm(total=self.total, unit="task", file=self.stream,
+                                dynamic_ncols=True, leave=False)
+            elif self.mode == "lines":
+                self.say(f"running {info['cases']} case(s), {self.total} task(s)")
+            self.step = max(1, math.ceil(self.total / _LINES_PER_RUN))
+            self.next_line = self.step
+        elif kind == "tasks":
+            self.done += info["n"]
+            if self.bar is not None:
+                self.bar.update(info["n"])
+            elif self.mode == "lines" and (self.done >= self.next_line or
+                                           self.done == self.total):
+                self.say(f"{self.done}/{self.total} tasks")
+                while self.next_line <= self.done:
+                    self.next_line += self.step
+        elif kind == "written":
+            self.say(f"wrote {info['path']} ({info['case'].name})")
+        elif kind == "skipped":
+            self.say(f"up to date: {info['path']} ({info['case'].name})")
+        elif kind == "failed":
+            self.say(f"{info['case'].name}: failed: {info['message']}")
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.close()
+            self.bar = None
+
+
+# --------------------------------------------------------------------------- run
+def _cmd_run(args: argparse.Namespace) -> int:
+    from .cases import CaseError, load_cases
+    from .runner import run_batch
+
+    if args.jobs < 1:
+        _err(f"--jobs: must be at least 1; got {args.jobs}")
+        return EXIT_BAD_INPUT
+    try:
+        cases = load_cases(args.cases)
+    except CaseError as exc:
+        return _problems(exc)
+    progress = _Progress(args.progress if args.progress != "off" else "off", sys.stderr)
+    history = "anharmony " + " ".join(sys.argv[1:]) if sys.argv[1:] else None
+    try:
+        report = run_batch(cases, out_dir=args.output_dir, jobs=args.jobs,
+                           scheduler=args.scheduler, resume=args.resume,
+                           overwrite=args.overwrite, on_event=progress, history=history,
+                           handle_signals=True)
+    except CaseError as exc:
+        progress.close()
+        return _problems(exc)
+    except ImportError as exc:
+        progress.close()
+        _err(f"--scheduler: {exc}")
+        return EXIT_BAD_INPUT
+    except OSError as exc:
+        progress.close()
+        _err(f"--scheduler: cannot reach {args.scheduler} ({exc})")
+        return EXIT_FAILED
+    progress.close()
+    written = len(report.written)
+    if report.interrupted is not None:
+        name = "Ctrl-C" if report.interrupted == 2 else f"signal {report.interrupted}"
+        done = ", ".join(str(p) for _, p in report.written) or "none"
+        left = ", ".join(c.name for c in report.not_run) or "none"
+        _err(f"stopped by {name}: finished {done}; not finished: {left}")
+        return report.exit_code
+    _err(f"{written} written, {len(report.skipped)} up to date, {len(report.failed)} failed")
+    return report.exit_code
+
+
+# --------------------------------------------------------------------------- check
+def _fmt(x: float) -> str:
+    return f"{x:.6g}"
+
+
+def _term_text(spec: dict) -> str:
+    (name, params), = spec.items()
+    inner = ", ".join(f"{k}: {v}" for k, v in (params or {}).items())
+    return f"{name}{{{inner}}}"
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    from .cases import CaseError, load_cases
+    from .runner import _linear_ok, _reference_at, output_path
+
+    try:
+        cases = load_cases(args.cases)
+    except CaseError as exc:
+        return _problems(exc)
+    status = EXIT_OK
+    for case in cases:
+        m = case.model
+        u = case.units
+        chans = case.channels()
+        values = case.scan_values()
+        mass = case.mass if case.mass is not None else u.default_mass
+        print(f"{case.name}: {m.title or '(no title)'}")
+        print(f"  units      {u.name} (energy {u.energy}, length {u.length}); mass {mass:g} "
+              f"{u.mass}" + ("" if case.mass is not None else f" ({u.default_mass_note})"))
+        print(f"  well       {' + '.join(_term_text(t) for t in m.well)}")
+        if not args.no_reference:
+            try:
+                ref = _reference_at(case, values[0])
+            except (ValueError, ArithmeticError) as exc:
+                print(f"  reference  cannot be resolved: {exc}")
+                _err(f"{case.name}: reference: {exc}")
+                status = EXIT_BAD_INPUT
+            else:
+                where = "" if len(values) == 1 else f" at {case.scan_parameter} = {values[0]:g}"
+                print(f"  reference  hbar*omega = {_fmt(ref.frequency)} {u.energy}, b = "
+                      f"{_fmt(ref.length)} {u.length}, centre {_fmt(ref.center)}, "
+                      f"V_min = {_fmt(ref.v_min)}{where}")
+                print(f"             {ref.method}: {ref.reason}")
+        print(f"  basis      {m.basis.size} states per channel, length {m.basis.length}")
+        print(f"  channels   {', '.join(c.label for c in chans)} ({len(chans)}); "
+              f"{m.levels.count} levels each")
+        if m.scan is not None:
+            how = "linear: matrices built once" if _linear_ok(case) else "rebuilt per point"
+            print(f"  scan       {case.scan_parameter}: {len(values)} values "
+                  f"{values[0]:g} … {values[-1]:g} ({how})")
+        if m.perturbation is not None:
+            p = m.perturbation
+            print(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
+                  f"{', '.join(p.resum) or 'none'}")
+        print(f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
+              f"{len(chans)} channel(s))")
+        print(f"  output     {output_path(case, None)}")
+    return status
+
+
+# --------------------------------------------------------------------------- show
+def _level_label(label: str, dimension: int, n: int) -> str:
+    return f"{n + 1}{label}" if dimension == 3 else f"{n}{label}" if label != "x" else f"n={n}"
+
+
+def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
+    if ds.sizes.get("order", 0) == 0:
+        return "-"
+    e = float(ds.energy.values[k, c, n])
+    sums = ds.series_partial_sum.values[k, c, n]
+    if not (math.isfinite(e) and np.any(np.isfinite(sums))):
+        return "n/a"
+    d = np.abs(sums - e)
+    d = np.where(np.isfinite(d), d, np.inf)
+    err = float(ds.error_estimate.values[k, c, n])
+    allowed = max(tol, err if math.isfinite(err) else 0.0)
+    ok = np.flatnonzero(d <= allowed)
+    if ok.size:
+        return f"order {int(ok[0])} within {allowed:.1g}"
+    best = int(np.argmin(d))
+    kind = "asymptotic" if 0 < best < d.size - 1 else "poor"
+    return f"{kind}: best order {best}, off by {d[best]:.2g}"
+
+
+def _cmd_show(args: argparse.Namespace) -> int:
+    from .store import ResultFileError, read_dataset
+
+    try:
+        ds = read_dataset(args.result)
+    except ResultFileError as exc:
+        _err(str(exc))
+        return EXIT_BAD_INPUT
+    s = ds.sizes["scan"]
+    if args.scan == "all":
+        points = list(range(s))
+    elif args.scan == "auto":
+        points = list(range(s)) if s <= _SHOW_ALL_UP_TO else sorted({0, s // 2, s - 1})
+    else:
+        try:
+            k = int(args.scan)
+        except ValueError:
+            _err(f"--scan: expected an index, all or auto; got {args.scan!r}")
+            return EXIT_BAD_INPUT
+        if not -s <= k < s:
+            _err(f"--scan: index {k} out of range; the file has {s} scan point(s)")
+            return EXIT_BAD_INPUT
+        points = [k % s]
+    labels = [str(x) for x in ds.label.values]
+    chans = list(range(len(labels)))
+    if args.channel:
+        missing = [c for c in args.channel if c not in labels]
+        if missing:
+            _err(f"--channel: no channel {missing[0]!r}; the file has {', '.join(labels)}")
+            return EXIT_BAD_INPUT
+        chans = [labels.index(c) for c in args.channel]
+    a = ds.attrs
+    e_units = a.get("energy_units", "")
+    dim = int(a.get("dimension", 3))
+    tol = float(a.get("tolerance", 0.0))
+    print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {e_units}]")
+    print(f"  from {a.get('case_file', '?')}; {a.get('source', '')}; {a.get('history', '')}")
+    param = ds.scan_value.attrs.get("parameter", "coupling")
+    head = (f"  {'level':>8} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
+            f"{'error':>9}  perturbation")
+    for k in points:
+        sv = float(ds.scan_value.values[k])
+        print(f"\n{param} = {sv:g}: hbar*omega = {float(ds.frequency.values[k]):.6g}, "
+              f"b = {float(ds.length.values[k]):.6g} ({ds.reference_method.values[k]})")
+        print(head)
+        for c in chans:
+            for n in range(ds.sizes["level"]):
+                e = float(ds.energy.values[k, c, n])
+                if not math.isfinite(e):
+                    continue
+                ref = float(ds.reference_energy.values[k, c, n])
+                bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
+                err = float(ds.error_estimate.values[k, c, n])
+                errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
+                print(f"  {_level_label(labels[c], dim, n):>8} {e:14.8g} {ref:14.8g} "
+                      f"{e - ref:12.5g} {bound:>6} {errs}  {_verdict(ds, k, c, n, tol)}")
+    return EXIT_OK
+
+
+# --------------------------------------------------------------------------- plot
+def _cmd_plot(args: argparse.Namespace) -> int:
+    try:
+        from . import plots  # type: ignore[attr-defined]
+    except ImportError as exc:
+        _err(f"plot: figures are not available in this installation ({exc})")
+        return EXIT_FAILED
+    draw = getattr(plots, "plot_file", None)
+    if draw is None:
+        _err("plot: anharmony.plots has no plot_file(result, kind, output)")
+        return EXIT_FAILED
+    from .store import ResultFileError
+
+    try:
+        draw(args.result, kind=args.kind, output=args.output)
+    except (ResultFileError, FileNotFoundError, ValueError) as exc:
+        _err(f"plot: {exc}")
+        return EXIT_BAD_INPUT
+    print(f"wrote {args.output}")
+    return EXIT_OK
+
+
+_COMMANDS = {"run": _cmd_run, "check": _cmd_check, "show": _cmd_show, "plot": _cmd_plot}
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``anharmony`` command; returns the exit code."""
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help(sys.stderr)
+        return EXIT_BAD_INPUT
+    try:
+        return _COMMANDS[args.command](args)
+    except KeyboardInterrupt:
+        _err("stopped by Ctrl-C")
+        return EXIT_INTERRUPTED
+    except BrokenPipeError:  # e.g. `anharmony show x.nc | head`
+        sys.stderr.close()
+        return EXIT_OK
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
