@@ -467,6 +467,8 @@ def _message(err: Mapping[str, Any]) -> str:
     if kind == "literal_error":
         expected = re.findall(r"'([^']*)'|(\b[0-9.]+\b)", ctx.get("expected", ""))
         names = [a or b for a, b in expected]
+        if len(names) == 1:
+            return f"must be {names[0]!r}; {_got(value)}"
         return (f"must be one of {', '.join(names)}; {_got(value)}"
                 + (_suggest(value, names) if isinstance(value, str) else ""))
     if kind in ("greater_than", "greater_than_equal", "less_than", "less_than_equal"):
@@ -487,6 +489,57 @@ def _message(err: Mapping[str, Any]) -> str:
     if kind in _PHRASES:
         return f"{_PHRASES[kind]}; {_got(value)}"
     return f"{err['msg']}; {_got(value)}"
+
+
+def _clean_loc(err: Mapping[str, Any], data: Any) -> Path_:
+    """The part of a pydantic ``loc`` that is a path in the data (union tags dropped)."""
+    loc = err["loc"]
+    out: list[Any] = []
+    node = data
+    for i, item in enumerate(loc):
+        in_map = isinstance(node, Mapping) and item in node
+        in_list = isinstance(node, list) and isinstance(item, int) and 0 <= item < len(node)
+        if in_map or in_list:
+            out.append(item)
+            node = node[item]
+        elif i == len(loc) - 1 and err["type"] in ("missing", "extra_forbidden"):
+            out.append(item)
+    return tuple(out)
+
+
+def _expectation(message: str) -> str:
+    text = message.split("; got ")[0]
+    return text[len("must be "):] if text.startswith("must be ") else text
+
+
+def _schema_problems(exc: ValidationError, data: Any) -> list[tuple[Path_, str, bool]]:
+    """One ``(path, message, at_key)`` per field from pydantic's errors.
+
+    A union reports one error per member; those at one path are merged into one message, and
+    a member's error is dropped where another member got further into the value.
+    """
+    errors = list(exc.errors(include_url=False))
+    cleaned = [(_clean_loc(e, data), e) for e in errors]
+    cleaned = [(loc, e) for loc, e in cleaned
+               if not (loc[:1] == ("well",) and len(loc) > 2)]  # terms: checked separately
+    locs = {loc for loc, _ in cleaned}
+    keep = [(loc, e) for loc, e in cleaned
+            if not any(len(o) > len(loc) and o[:len(loc)] == loc for o in locs)]
+    grouped: dict[Path_, list[Mapping[str, Any]]] = {}
+    for loc, e in keep:
+        grouped.setdefault(loc, []).append(e)
+    out = []
+    for loc, errs in grouped.items():
+        if len(errs) == 1:
+            out.append((loc, _message(errs[0]), errs[0]["type"] == "extra_forbidden"))
+            continue
+        parts = []
+        for e in errs:
+            phrase = _expectation(_message(e))
+            if phrase not in parts:
+                parts.append(phrase)
+        out.append((loc, f"must be {' or '.join(parts)}; {_got(errs[0].get('input'))}", False))
+    return out
 
 
 def _display(path: Sequence[Any]) -> str:
@@ -802,11 +855,8 @@ def _validate(data: Any, name: str, marks: _Marks, prefix: Path_, folder: Path,
     try:
         model = CaseModel.model_validate(data)
     except ValidationError as exc:
-        for err in exc.errors(include_url=False):
-            loc = tuple(x for x in err["loc"] if not (isinstance(x, str) and x in _TAGS))
-            if loc[:1] == ("well",) and len(loc) > 2:
-                continue  # terms are checked below, with their own messages
-            add(loc, _message(err), key=err["type"] == "extra_forbidden")
+        for loc, message, at_key in _schema_problems(exc, data):
+            add(loc, message, key=at_key)
     units = data.get("units", "oscillator")
     mass = (data.get("particle") or {}).get("mass") if isinstance(data.get("particle"),
                                                                   Mapping) else None
