@@ -286,6 +286,22 @@ def pade_approximant(
     )
 
 
+def _reducing_pade(coefficients: Sequence[Any], L: int, M: int) -> PadeApproximant:
+    """[L/M], or the nearest lower [L−i/M−i] when the system is singular.
+
+    A singular Padé system means the approximant sits in a block of the Padé table (the
+    series is that of a rational function of lower degrees, or a square block of equal
+    entries), whose top-left entry is the approximant wanted (Baker & Graves-Morris, ch. 2).
+    """
+    while True:
+        try:
+            return pade_approximant(coefficients, L, M, method="mpmath")
+        except NumericalError:
+            if M == 0:
+                raise
+            L, M = max(L - 1, 0), M - 1
+
+
 def pade(
     coefficients: Sequence[Any], L: int, M: int, lam: Any, *, method: str = "auto"
 ) -> np.ndarray | float:
@@ -349,7 +365,8 @@ def borel_pade(
         Coupling(s) λ.
     L, M
         Degrees of the Padé approximant of the Borel transform; default the (near-)diagonal
-        L = K − ⌊K/2⌋, M = ⌊K/2⌋.
+        L = K − ⌊K/2⌋, M = ⌊K/2⌋. When that Padé system is singular the nearest lower
+        [L−i/M−i] is used (``result.L``, ``result.M`` say which).
 
     Returns
     -------
@@ -375,7 +392,7 @@ def borel_pade(
         raise ValueError(f"give both L and M or neither; got L={L!r}, M={M!r}")
     with mpmath.workdps(40 + 3 * (L + M)):
         borel = [to_mpf(c) / mpmath.factorial(k) for k, c in enumerate(coefficients)]
-        approx = pade_approximant(borel, L, M, method="mpmath")
+        approx = _reducing_pade(borel, L, M)
         g = approx.scale
         p_low = list(approx.numerator)
         while len(p_low) > 1 and p_low[-1] == 0:
