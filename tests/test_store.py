@@ -1,0 +1,189 @@
+"""Result files: the dataset of DESIGN §6, attributes, atomic writes and the schema check."""
+
+from __future__ import annotations
+
+import datetime as dt
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import netCDF4
+import numpy as np
+import pytest
+import xarray as xr
+
+import anharmony
+from anharmony.cases import load_case
+from anharmony.runner import run_case
+from anharmony.store import (
+    CORE_NAMES,
+    RESULT_SCHEMA,
+    TEMP_SUFFIX,
+    ResultFileError,
+    read_dataset,
+    sanitize_attrs,
+    write_dataset,
+)
+
+CASE = """\
+schema: 1
+title: Store test
+units: nuclear
+space: {dimension: 3, l: [0, 1], spin: 1/2}
+well:
+  - woods_saxon: {depth: 50.0, radius: 3.5, diffuseness: 0.6}
+  - spin_orbit: {strength: 20.0, radius: 3.5, diffuseness: 0.6}
+reference: {frequency: 14.0}
+basis: {size: 10}
+levels: {count: 2}
+scan:
+  parameter: well[0].depth
+  values: [45.0, 50.0]
+perturbation: {orders: 3, exact: false, resum: [pade]}
+convergence: {sizes: [6, 8], tolerance: 1.0e-3}
+output: store.nc
+"""
+
+
+@pytest.fixture(scope="module")
+def made(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("store")
+    path = folder / "store.yaml"
+    path.write_text(CASE)
+    case = load_case(path)
+    return case, run_case(case)
+
+
+def test_every_core_name_is_present(made):
+    _, ds = made
+    names = set(ds.variables)
+    assert set(CORE_NAMES) <= names
+    assert "j" in names  # spin-orbit case
+    assert ds.scan_value.attrs["parameter"] == "well[0].depth"
+    assert ds.scan_value.attrs["units"] == "MeV"
+
+
+def test_every_variable_has_units_and_long_name(made):
+    _, ds = made
+    for name, var in ds.variables.items():
+        assert isinstance(var.attrs.get("units"), str), name
+        assert isinstance(var.attrs.get("long_name"), str) and var.attrs["long_name"], name
+
+
+def test_global_attributes_follow_cf(made):
+    case, ds = made
+    a = ds.attrs
+    assert a["Conventions"].startswith("CF-")
+    assert a["title"] == "Store test"
+    assert a["source"] == f"anharmony {anharmony.__version__}"
+    stamp = a["history"].split(" ")[0]
+    # ISO 8601 (CF §2.6.2 asks history lines to start with a timestamp)
+    assert dt.datetime.fromisoformat(stamp).tzinfo is not None
+    assert a["unit_system"] == "nuclear"
+    assert a["case"] == CASE
+    assert a["anharmony_schema"] == RESULT_SCHEMA
+    for key, value in a.items():
+        assert isinstance(key, str) and not isinstance(value, (bool, dict, type(None)))
+
+
+def test_no_object_dtype_and_int8_flags(made):
+    _, ds = made
+    assert all(v.dtype != object for v in ds.variables.values())
+    assert ds.bound.dtype == np.int8 and ds.converged.dtype == np.int8
+
+
+def test_round_trip_is_identical(made, tmp_path):
+    _, ds = made
+    path = write_dataset(ds, tmp_path / "r.nc")
+    back = read_dataset(path)
+    xr.testing.assert_identical(ds, back)
+
+
+def test_file_has_no_fill_value_on_coordinates(made, tmp_path):
+    _, ds = made
+    path = write_dataset(ds, tmp_path / "r.nc")
+    with netCDF4.Dataset(path) as f:
+        for name in ds.coords:
+            assert "_FillValue" not in f.variables[name].ncattrs(), name
+        assert f.variables["bound"].dtype == np.int8
+        assert f.getncattr("Conventions").startswith("CF-")
+
+
+def test_existing_file_is_never_overwritten_without_asking(made, tmp_path):
+    _, ds = made
+    path = write_dataset(ds, tmp_path / "r.nc")
+    before = path.read_bytes()
+    with pytest.raises(FileExistsError):
+        write_dataset(ds, path)
+    assert path.read_bytes() == before
+    write_dataset(ds.assign_attrs(title="new"), path, overwrite=True)
+    assert read_dataset(path).attrs["title"] == "new"
+
+
+def test_failed_write_keeps_old_file_and_leaves_no_temp(made, tmp_path, monkeypatch):
+    _, ds = made
+    path = write_dataset(ds, tmp_path / "r.nc")
+    before = path.read_bytes()
+
+    def broken(self, target, *args, **kwargs):
+        Path(target).write_bytes(b"half a file")
+        raise KeyboardInterrupt  # as if Ctrl-C arrived in the middle of the write
+
+    monkeypatch.setattr(xr.Dataset, "to_netcdf", broken)
+    with pytest.raises(KeyboardInterrupt):
+        write_dataset(ds, path, overwrite=True)
+    assert path.read_bytes() == before
+    assert list(tmp_path.glob("*" + TEMP_SUFFIX)) == []
+
+
+def test_write_into_missing_folder_fails_cleanly(made, tmp_path):
+    _, ds = made
+    with pytest.raises(OSError):
+        write_dataset(ds, tmp_path / "nowhere" / "r.nc")
+    assert list(tmp_path.rglob("*" + TEMP_SUFFIX)) == []
+
+
+def test_read_checks_the_schema_version(made, tmp_path):
+    _, ds = made
+    newer = write_dataset(ds.assign_attrs(anharmony_schema=RESULT_SCHEMA + 1), tmp_path / "n.nc")
+    with pytest.raises(ResultFileError, match="result schema"):
+        read_dataset(newer)
+    foreign = tmp_path / "f.nc"
+    xr.Dataset({"x": ("a", np.arange(3.0))}).to_netcdf(foreign)
+    with pytest.raises(ResultFileError, match="not an anharmony result"):
+        read_dataset(foreign)
+    text = tmp_path / "t.nc"
+    text.write_text("not netCDF")
+    with pytest.raises(ResultFileError, match="not a readable netCDF"):
+        read_dataset(text)
+    with pytest.raises(ResultFileError, match="no such result file"):
+        read_dataset(tmp_path / "absent.nc")
+
+
+def test_sanitize_attrs_makes_netcdf_storable(tmp_path):
+    raw = {"flag": True, "np_flag": np.bool_(False), "none": None, "map": {"b": 1, "a": [1, 2]},
+           "names": ["pade", "borel_pade"], "nums": (1, 2.5), "n": np.int64(3), 4: "key"}
+    clean = sanitize_attrs(raw)
+    assert clean["flag"] == 1 and clean["np_flag"] == 0 and "none" not in clean
+    assert json.loads(clean["map"]) == {"a": [1, 2], "b": 1}
+    assert clean["names"] == "pade, borel_pade" and clean["4"] == "key"
+    # netCDF4 accepts every value (it rejects bool, None and dict: PITFALLS §1)
+    xr.Dataset(attrs=clean).to_netcdf(tmp_path / "a.nc")
+    back = xr.load_dataset(tmp_path / "a.nc")
+    np.testing.assert_array_equal(back.attrs["nums"], [1.0, 2.5])
+
+
+def test_import_anharmony_leaves_io_libraries_out():
+    code = ("import sys, anharmony, anharmony.cases as _c, anharmony.runner as _r, "
+            "anharmony.store as _s, anharmony.cli as _cli; "
+            "bad = [m for m in ('xarray', 'matplotlib', 'netCDF4', 'distributed', 'dask') "
+            "if m in sys.modules]; print(bad)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout.strip()
+    assert out == "[]"
+    out = subprocess.run([sys.executable, "-c", "import sys, anharmony; print("
+                          "[m for m in ('xarray', 'yaml', 'matplotlib', 'pydantic') "
+                          "if m in sys.modules])"], capture_output=True, text=True,
+                         check=True).stdout.strip()
+    assert out == "[]"
