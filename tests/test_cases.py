@@ -265,5 +265,5 @@ def test_expand_gives_points_times_channels_with_reference(tmp_path):
 def test_case_is_frozen(tmp_path):
     case = load_case(_write(tmp_path, BASE))
     assert isinstance(case, Case)
-    with pytest.raises(Exception):  # noqa: B017,PT011 - pydantic raises ValidationError
+    with pytest.raises(Exception):  # noqa: B017 - pydantic raises ValidationError
         case.model.basis.size = 4  # type: ignore[misc]

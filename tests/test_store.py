@@ -72,7 +72,7 @@ def test_every_variable_has_units_and_long_name(made):
 
 
 def test_global_attributes_follow_cf(made):
-    case, ds = made
+    _, ds = made
     a = ds.attrs
     assert a["Conventions"].startswith("CF-")
     assert a["title"] == "Store test"
