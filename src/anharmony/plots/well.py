@@ -1,0 +1,275 @@
+"""The well at one scan point in one channel, with its levels and probability densities.
+
+Result files do not store potentials or wavefunctions, so the well is rebuilt from the case text
+kept in the file (global attribute ``case``) at the chosen scan value, in the basis the run used
+(size ``basis_size``, length ``length``, centre ``reference_center``); the densities come from
+diagonalising that channel again. For a ``coupling`` scan the well drawn is
+V_λ = V_ref + λ (V − V_ref), diagonalised as H_ref + λ (H − H_ref).
+
+Level lines are the stored energies, drawn between the classical turning points; each density
+(|ψ|² in 1D, the radial density r^{d−1} R² for central wells) sits on its level, all on one
+common scale.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from . import _style
+from ._common import (
+    FigureRequest,
+    ResultView,
+    axis_label,
+    direct_labels,
+    finite_range,
+    new_figure,
+    proxy,
+    style_legend,
+)
+
+__all__ = ["OPTIONS", "SIZE", "WellPicture", "draw", "rebuild"]
+
+OPTIONS = frozenset({"channel", "scan_index", "levels", "size", "title"})
+SIZE = (6.4, 4.8)
+GRID_POINTS = 1200  # samples of the coordinate: smooth curves, small files
+DENSITY_CUT = 2e-3  # the view ends where every density is below this fraction of its peak
+DENSITY_HEIGHT = 0.75  # tallest density peak, as a fraction of the typical level spacing
+
+
+@dataclass(frozen=True)
+class WellPicture:
+    """What the ``well`` figure draws, in the case's units.
+
+    Attributes
+    ----------
+    coords : ndarray
+        x (1D) or r ≥ 0 (central wells).
+    potential : ndarray
+        The well V at the coordinates (spin–orbit and centrifugal terms excluded).
+    effective : ndarray or None
+        V + centrifugal (+ ⟨l·s⟩ spin–orbit) term where it differs from V.
+    densities : ndarray
+        (levels, coords): |ψ|² (1D) or r^{d−1} R² (radial), each normalised to 1.
+    energies : ndarray
+        The recomputed energies of those levels (the figure draws the stored ones).
+    """
+
+    coords: np.ndarray
+    potential: np.ndarray
+    effective: np.ndarray | None
+    densities: np.ndarray
+    energies: np.ndarray
+
+
+def _case(view: ResultView) -> Any:
+    text = view.attrs.get("case")
+    if not text:
+        raise ValueError("well figure: the result has no 'case' attribute (the case text), "
+                         "from which the well is rebuilt")
+    from ..cases import CaseError, case_from_dict, parse_yaml
+
+    data, _, problems = parse_yaml(str(text), "<case attribute>")
+    if problems or not isinstance(data, dict):
+        first = problems[0] if problems else "not a mapping"
+        raise ValueError(f"well figure: the case text stored in the result is not readable "
+                         f"({first})")
+    try:
+        return case_from_dict(data, name="<case attribute>")
+    except CaseError as exc:
+        first = str(exc).splitlines()[0] if str(exc) else "invalid"
+        raise ValueError(f"well figure: the case text stored in the result is not a valid "
+                         f"case ({first})") from None
+
+
+def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | None = None
+            ) -> WellPicture:
+    """Rebuild the well of channel c at scan point p and its lowest ``count`` densities.
+
+    ``coords`` defaults to the extent of the basis (the turning point of its highest state).
+    """
+    from scipy.linalg import eigh
+
+    from ..hamiltonian import Channel, channel_hamiltonian
+    from ..potentials import Well
+
+    case = _case(view)
+    d = view.dimension
+    l_val = view.l_of(c)
+    l = None if l_val < 0 else l_val
+    j = view.j_of(c)
+    channel = Channel(d, l, j)
+    size = int(view.attrs.get("basis_size") or case.model.basis.size)
+    b = float(view.values("length")[p])
+    x0 = float(view.values("reference_center")[p]) if (
+        l is None and view.has("reference_center")) else 0.0
+    value = float(view.values("scan_value")[p]) if view.has("scan_value") else None
+    coupling = case.scan_target.kind == "coupling"
+    well = case.well_at(None if coupling else value)
+    mass = case.mass_at(None if coupling else value)
+    if mass is not None:
+        well = well.with_context(well.units, mass)
+    kin = well.units.hbar2_over_2m(well.mass)
+    mats = channel_hamiltonian(well, channel, size, b, x0)
+    h = mats.total
+    lam = 1.0
+    ref_well = None
+    if coupling and value is not None:
+        lam = value
+        hw = float(view.values("reference_frequency" if view.has("reference_frequency")
+                                       else "frequency")[p])
+        vmin = float(view.values("reference_v_min")[p]) if view.has("reference_v_min") else \
+            float(well.value(np.array([x0]))[0])
+        # V_ref = v_min + ½ m ω² (x − x₀)², with ½ m ω² = (ħω)² / (4 ħ²/2m)
+        ref_well = Well.from_terms([{"polynomial": {"coefficients": {0: vmin,
+                                                                     2: hw * hw / (4 * kin)},
+                                                    "center": x0}}], well.units, well.mass)
+        h_ref = channel_hamiltonian(ref_well, channel, size, b, x0).total
+        h = (1.0 - lam) * h_ref + lam * h
+    count = max(1, min(count, size))
+    energies, vectors = eigh(h, subset_by_index=(0, count - 1))
+    radial = l is not None and d > 1
+    if coords is None:
+        top = (2 * (size - 1) + (l or 0) + 0.5 * d) if l is not None else (size - 0.5)
+        reach = 1.05 * b * math.sqrt(2.0 * top)
+        coords = np.linspace(0.0, reach, GRID_POINTS) if radial else \
+            np.linspace(x0 - reach, x0 + reach, GRID_POINTS)
+    with np.errstate(divide="ignore", invalid="ignore"):  # r = 0 is patched in functions()
+        psi = vectors.T @ mats.basis.functions(np.abs(coords) if l is not None else coords)
+    if radial:
+        dens = psi**2 * np.abs(coords) ** (d - 1)
+    elif l is not None:
+        dens = 0.5 * psi**2  # parity channel: ψ(x) = sgn(x)^l R(|x|)/√2, R normalised on x > 0
+    else:
+        dens = psi**2
+    with np.errstate(all="ignore"):
+        v = well.value(coords)
+        if ref_well is not None:
+            v = (1.0 - lam) * ref_well.value(coords) + lam * v
+        eff = None
+        if radial:
+            cent = (l + 0.5 * (d - 3)) * (l + 0.5 * (d - 1))  # u = r^{(d−1)/2} R
+            extra = np.zeros_like(coords)
+            if cent != 0:
+                extra = extra + kin * cent / coords**2
+            if well.has_spin_orbit and channel.ls != 0.0:
+                extra = extra + lam * channel.ls * well.spin_orbit_value(coords)
+            if np.any(extra != 0):
+                eff = v + extra
+    return WellPicture(coords, np.asarray(v, dtype=float), eff, dens, energies)
+
+
+def _turning_points(x: np.ndarray, v: np.ndarray, e: float) -> tuple[float, float]:
+    """Outermost points where V crosses E (linear interpolation); the ends if none."""
+    inside = np.flatnonzero(np.isfinite(v) & (v <= e))
+    if inside.size == 0:
+        return float(x[0]), float(x[-1])
+    i, k = int(inside[0]), int(inside[-1])
+
+    def cross(a: int, b: int) -> float:
+        va, vb = v[a], v[b]
+        if not (np.isfinite(va) and np.isfinite(vb)) or va == vb:
+            return float(x[b])
+        t = (e - va) / (vb - va)
+        return float(x[a] + t * (x[b] - x[a]))
+
+    left = cross(i - 1, i) if i > 0 else float(x[0])
+    right = cross(k, k + 1) if k + 1 < len(x) else float(x[-1])
+    return left, right
+
+
+def draw(view: ResultView, req: FigureRequest) -> Any:
+    """The ``well`` figure."""
+    p = view.scan_position(req.scan_index)
+    chans = view.channels(req.channel, default_all=False)
+    if len(chans) > 1:
+        raise ValueError("channel: the well figure shows one channel; got "
+                         f"{len(chans)} ({', '.join(view.labels[i] for i in chans)})")
+    c = chans[0]
+    energy = view.values("energy").astype(float)[p, c]
+    bound = view.values("bound").astype(bool)[p, c] if view.has("bound") else \
+        np.isfinite(energy)
+    default = [n for n in range(energy.size) if bound[n] and math.isfinite(energy[n])]
+    levels = view.level_indices(req.levels, default=default)
+    levels = [n for n in levels if math.isfinite(energy[n])]
+    count = (max(levels) + 1) if levels else 1
+    radial = view.l_of(c) >= 0 and view.dimension > 1
+    pic = rebuild(view, p, c, count)
+    x = pic.coords
+    if levels:
+        dens = pic.densities[levels]
+        peak = dens.max(axis=1, keepdims=True)
+        alive = np.any(dens > DENSITY_CUT * peak, axis=0)
+        idx = np.flatnonzero(alive)
+        lo, hi = x[idx[0]], x[idx[-1]]
+        pad = 0.12 * (hi - lo)
+        hi = min(x[-1], hi + pad)
+        if radial:
+            lo = 0.0
+        elif view.l_of(c) >= 0:  # parity channel: symmetric about x = 0
+            hi = max(abs(lo), abs(hi))
+            lo = -hi
+        else:
+            lo = max(x[0], lo - pad)
+        pic = rebuild(view, p, c, count, np.linspace(lo, hi, GRID_POINTS))
+        x = pic.coords
+    veff = pic.effective if pic.effective is not None else pic.potential
+
+    fig, axes = new_figure(req.size or SIZE)
+    ax = axes[0, 0]
+    e_units = view.energy_units
+    es = np.array([energy[n] for n in levels])
+    spacing = float(np.median(np.diff(np.sort(es)))) if es.size > 1 else math.nan
+    if not (math.isfinite(spacing) and spacing > 0):
+        vmin = float(np.nanmin(veff)) if np.isfinite(veff).any() else 0.0
+        spacing = (float(es[0]) - vmin) if es.size and es[0] > vmin else (
+            float(view.values("frequency")[p]) if view.has("frequency") else 1.0)
+    scale = DENSITY_HEIGHT * spacing / float(pic.densities[levels].max()) if levels else 0.0
+
+    ax.plot(x, pic.potential, color=_style.INK, lw=1.6, gid="potential", zorder=3)
+    handles = [proxy(lw=1.6, label="well V")]
+    if pic.effective is not None:
+        ax.plot(x, pic.effective, color=_style.INK, lw=1.0, ls=(0, (5, 2)),
+                gid="effective_potential", zorder=3)
+        handles.append(proxy(lw=1.0, ls=(0, (5, 2)), label="V + centrifugal"
+                             + (" + spin–orbit" if view.has("j") else "")))
+    ends = []
+    for i, n in enumerate(levels):
+        col = _style.colour(i)
+        e = float(energy[n])
+        a, b = _turning_points(x, veff, e)
+        ax.plot([a, b], [e, e], color=col, lw=1.8, gid=f"level:{c}:{n}", zorder=4)
+        y = e + scale * pic.densities[n]
+        ax.fill_between(x, e, y, color=col, alpha=0.22, lw=0, zorder=2)
+        ax.plot(x, y, color=col, lw=0.9, gid=f"density:{c}:{n}", zorder=4)
+        ends.append((float(x[-1]), e, f"{view.level_label(c, n)}  {e:.5g}", col))
+    density = {3: "r²R(r)²", 2: "r R(r)²"}.get(view.dimension, "|ψ(x)|²") if radial \
+        else "|ψ(x)|²"
+    handles += [proxy(lw=1.8, color=_style.colour(0), label="level (stored energy)"),
+                proxy(lw=0.9, color=_style.colour(0), label=f"probability density {density} "
+                      "(common scale)")]
+
+    ylo_hi = finite_range(es, veff[np.isfinite(veff)].min() if np.isfinite(veff).any() else [])
+    if ylo_hi is not None:
+        lo, hi = ylo_hi
+        top = (float(es.max()) if es.size else hi) + 1.1 * spacing
+        ax.set_ylim(lo - 0.08 * (top - lo), top)
+    thr = float(view.values("threshold")[p, c]) if view.has("threshold") else math.nan
+    if math.isfinite(thr) and thr <= ax.get_ylim()[1]:
+        ax.axhline(thr, color=_style.SOFT, lw=0.8, ls=(0, (4, 3)), gid="threshold", zorder=1)
+        handles.append(proxy(color=_style.SOFT, lw=0.8, ls=(0, (4, 3)), label="threshold"))
+    span = x[-1] - x[0]
+    ax.set_xlim(x[0], x[-1] + 0.2 * span)
+    direct_labels(ax, ends, gap_frac=0.04)
+    length_units = view.units("length", "length") if view.has("length") else None
+    ax.set_xlabel(axis_label("r" if radial else "x", length_units))
+    ax.set_ylabel(axis_label("energy E", e_units))
+    where = view.scan_text(p)
+    ax.set_title(f"well and levels · {view.labels[c]}" + (f" at {where}" if where else ""),
+                 loc="left")
+    style_legend(fig, handles, ncols=3)
+    view.decorate(fig, req.title)
+    return fig
