@@ -36,7 +36,7 @@ def exact_power(q: int, size: int) -> np.ndarray:
 
 def relative_errors(numeric, exact):
     out = []
-    for num, ex in zip(numeric.mp(), exact):
+    for num, ex in zip(numeric.mp(), exact, strict=True):
         ex_mp = mpmath.mpf(ex.numerator) / ex.denominator
         out.append(0.0 if ex == 0 else float(abs(num / ex_mp - 1)))
     return np.array(out)
@@ -128,7 +128,7 @@ def test_wavefunction_corrections_solve_the_order_equations():
     d = np.arange(size) + 0.5
     w = exact_power(4, size)
     res = rs_numeric(d, w, 0, order, bandwidth=4, vectors=True)
-    psi = [np.ldexp(v, int(e)) for v, e in zip(res.vectors, res.vector_exponents)]
+    psi = [np.ldexp(v, int(e)) for v, e in zip(res.vectors, res.vector_exponents, strict=True)]
     e = res.floats()
     for k in range(1, order + 1):
         lhs = (d - d[0]) * psi[k]

@@ -66,7 +66,7 @@ def test_scipy_and_mpmath_conventions_agree_for_unequal_degrees():
     a = pade_approximant(c, 3, 2, method="scipy")
     b = pade_approximant(c, 3, 2, method="mpmath")
     assert len(a.numerator) == 4 and len(a.denominator) == 3
-    for x, y in zip(a.numerator + a.denominator, b.numerator + b.denominator):
+    for x, y in zip(a.numerator + a.denominator, b.numerator + b.denominator, strict=True):
         assert float(x) == pytest.approx(float(y), rel=1e-10, abs=1e-14)  # double vs mp solve
 
 

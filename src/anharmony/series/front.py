@@ -214,7 +214,7 @@ def _validate(well: Any, dimension: Any, l: Any, level: Any, orders: Any, exact:
 def series(
     well: Well,
     dimension: int = 1,
-    l: int | None = 0,  # noqa: E741
+    l: int | None = 0,
     level: int = 0,
     orders: int = 20,
     exact: str | bool = "auto",
@@ -312,6 +312,8 @@ def series(
         return _make(tuple(res.mp()), None, ref, channel, level, "banded", size, 0.0, system)
 
     size = min(max_size, max(DENSE_START, 2 * (level + orders) + 10))
+    if size == max_size:  # leave room for one comparison below the cap
+        size = max(level + 2, int(max_size / DENSE_GROWTH))
     previous, change = None, math.inf
     while True:
         current = _numeric_at(well, channel, ref, center, level, orders, size, None).mp()
@@ -328,9 +330,8 @@ def series(
             )
             break
         previous = current
-        size = min(max_size, int(math.ceil(size * DENSE_GROWTH)))
-    return _make(tuple(current), None, ref, channel, level, "dense", size,
-                 0.0 if previous is None else change, system)
+        size = min(max_size, math.ceil(size * DENSE_GROWTH))
+    return _make(tuple(current), None, ref, channel, level, "dense", size, change, system)
 
 
 def _make(precise: tuple, exact_values: list[Fraction] | None, ref: Reference,

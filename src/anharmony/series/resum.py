@@ -107,7 +107,7 @@ def partial_sums(coefficients: Sequence[Any], lam: Any) -> np.ndarray:
         for k, ck in enumerate(mp_c):
             total += ck * xm**k
             out[k, j] = _mpf_to_float(total)
-    return out.reshape((len(mp_c),) + lam_arr.shape)
+    return out.reshape((len(mp_c), *lam_arr.shape))
 
 
 def _mpf_to_float(x: mpmath.mpf) -> float:
@@ -225,7 +225,7 @@ def pade_approximant(
     for name, v in (("L", L), ("M", M)):
         if not isinstance(v, (int, np.integer)) or v < 0:
             raise ValueError(f"{name} must be an integer >= 0; got {v!r}")
-    if L + M > len(coefficients) - 1:
+    if len(coefficients) - 1 < L + M:
         raise ValueError(
             f"Padé [{L}/{M}] needs coefficients up to order L + M = {L + M}; "
             f"got orders 0..{len(coefficients) - 1}"
@@ -551,8 +551,9 @@ def large_order(
     rounded to an integer. p = 0: |r_k| = a + Σ_i γ_i/k^i fitted, radius 1/a, b = γ_1/a. p ≥ 1:
     |r_k|^{1/p} = αk + β + Σ_i γ_i/k^i fitted, which for c_k ~ a^k Γ(pk + b) (1 + O(1/k))
     gives a = (α/p)^p and b = β/a^{1/p} + (p+1)/2; C is |c_k|/(a^k Γ(pk+b)) extrapolated in
-    1/k the same way (i = 1..``corrections``). (Ratio method: e.g. Guttmann, in *Phase Transitions and Critical Phenomena* 13 (1989);
-    Bender & Wu, Phys. Rev. D 7, 1620 (1973) for the anharmonic oscillators.)
+    1/k the same way (i = 1..``corrections``). (Ratio method: e.g. Guttmann, in *Phase
+    Transitions and Critical Phenomena* 13 (1989); Bender & Wu, Phys. Rev. D 7, 1620 (1973)
+    for the anharmonic oscillators.)
     """
     _check_coefficients(coefficients)
     with mpmath.workdps(30):
@@ -570,7 +571,7 @@ def large_order(
             [float(seq[k] / seq[k - 1]) if seq[k - 1] != 0 else math.nan
              for k in range(1, n + 1)]
         )
-        start = max(1, int(round(n * (1.0 - tail))))
+        start = max(1, round(n * (1.0 - tail)))
         ks = np.arange(start, n + 1, dtype=float)
         r = np.abs(ratios[start - 1 :])
         good = np.isfinite(r) & (r > 0)
@@ -578,7 +579,7 @@ def large_order(
         if ks.size < 3:
             raise ValueError("large-order analysis: too few nonzero ratios in the tail")
         slope = np.polyfit(np.log(ks), np.log(r), 1)[0]
-        p = max(0, int(round(slope)))
+        p = max(0, round(slope))
         signs = [mpmath.sign(x) for x in seq[n // 2 :] if x != 0]
         prods = [signs[i] * signs[i + 1] for i in range(len(signs) - 1)]
         sign = ("alternating" if prods and all(s < 0 for s in prods)

@@ -60,13 +60,13 @@ class ScaledCoefficients:
         """E_k as float64; ±inf where |E_k| exceeds the double range."""
         with np.errstate(over="ignore"):
             return np.array(
-                [_ldexp_inf(m, int(e)) for m, e in zip(self.mantissas, self.exponents)]
+                [_ldexp_inf(m, int(e)) for m, e in zip(self.mantissas, self.exponents, strict=True)]
             )
 
     def mp(self) -> list:
         """E_k as :class:`mpmath.mpf` (exact images of the computed values, any size)."""
         return [mpmath.ldexp(mpmath.mpf(float(m)), int(e)) for m, e in
-                zip(self.mantissas, self.exponents)]
+                zip(self.mantissas, self.exponents, strict=True)]
 
     def log2_abs(self) -> np.ndarray:
         """log2 |E_k| (−inf for zeros), valid beyond the double range."""
