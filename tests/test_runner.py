@@ -269,7 +269,7 @@ def test_interrupted_batch_leaves_whole_files_and_resume_finishes(tmp_path, sign
         assert read_dataset(p).sizes["scan"] == 20
     assert list(tmp_path.glob("*" + TEMP_SUFFIX)) == [] and list(tmp_path.glob(".*")) == []
     proc = _start(paths, tmp_path, "--resume")
-    out, err = proc.communicate(timeout=120)
+    _, err = proc.communicate(timeout=120)
     assert proc.returncode == 0, err
     assert err.count("up to date:") == len(done)
     assert len(list(tmp_path.glob("*.nc"))) == 5

@@ -204,21 +204,28 @@ def parse_yaml(text: str, name: str = "<string>") -> tuple[Any, _Marks, list[Pro
     """
     loader = StrictLoader(text)
     loader.name = name
+    marks = _Marks({}, {}, {})
     try:
         node = loader.get_single_node()
         if node is None:
-            return None, _Marks({}, {}, {}), []
+            return None, marks, []
         marks = _collect_marks(loader, node)
         data = loader.construct_document(node)
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         msg = " ".join(str(s) for s in (exc.context, exc.problem) if s)
+        if isinstance(exc, yaml.constructor.ConstructorError):
+            msg = f"YAML: {exc.problem}; only plain data is read (safe loading)"
+        else:
+            msg = f"YAML syntax: {msg}"
         if "flow" in msg:
             msg += " (inside {…} or […], quote text that holds [ ] { } or commas, e.g. " \
                    "'well[1].strength')"
         line = mark.line + 1 if mark else None
         col = mark.column + 1 if mark else None
-        return None, _Marks({}, {}, {}), [Problem(name, line, col, "", f"YAML syntax: {msg}")]
+        path = next((p for p, m in marks.values.items()
+                     if mark and (m.line, m.column) == (mark.line, mark.column) and p), ())
+        return None, marks, [Problem(name, line, col, _display(path), msg)]
     except yaml.YAMLError as exc:
         return None, _Marks({}, {}, {}), [Problem(name, None, None, "", f"YAML: {exc}")]
     finally:
@@ -521,7 +528,7 @@ def _schema_problems(exc: ValidationError, data: Any) -> list[tuple[Path_, str, 
     errors = list(exc.errors(include_url=False))
     cleaned = [(_clean_loc(e, data), e) for e in errors]
     cleaned = [(loc, e) for loc, e in cleaned
-               if not (loc[:1] == ("well",) and len(loc) > 2)]  # terms: checked separately
+               if not (loc[:1] == ("well",) and len(loc) > 1)]  # terms: checked separately
     locs = {loc for loc, _ in cleaned}
     keep = [(loc, e) for loc, e in cleaned
             if not any(len(o) > len(loc) and o[:len(loc)] == loc for o in locs)]

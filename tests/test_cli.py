@@ -1,0 +1,258 @@
+"""The command line: malformed cases, exit codes, help, check, show and the plot hook."""
+
+from __future__ import annotations
+
+import argparse
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from anharmony import __version__
+from anharmony.cli import _parser, main
+
+DATA = Path(__file__).resolve().parent / "data"
+
+BASE = """\
+schema: 1
+title: Base case for the malformed-case table
+units: oscillator
+particle: {mass: 1.0}
+space: {dimension: 3, l: [0, 1]}
+well:
+  - harmonic: {frequency: 1.0}
+  - power: {exponent: 4, strength: 0.1}
+reference: {frequency: auto}
+basis: {size: 12}
+levels: {count: 3}
+scan:
+  parameter: well[1].strength
+  values: {from: 0.0, to: 0.2, steps: 3}
+perturbation: {orders: 4, exact: auto, resum: [pade]}
+convergence: {sizes: [8, 12], tolerance: 1.0e-6}
+output: base.nc
+"""
+
+# (id, text to replace, replacement, field named in the one-line message)
+MALFORMED = [
+    ("key-typo", "basis: {size: 12}", "basis: {sise: 12}", "basis.sise"),
+    ("top-level-typo", "output: base.nc", "outptu: base.nc", "outptu"),
+    ("unit-typo", "units: oscillator", "units: oscilator", "units"),
+    ("letter-o-for-zero", "strength: 0.1", "strength: O.1", "well[1].strength"),
+    ("number-as-text", "strength: 0.1", "strength: '0.1'", "well[1].strength"),
+    ("negative-size", "size: 12", "size: -5", "basis.size"),
+    ("fractional-size", "size: 12", "size: 12.5", "basis.size"),
+    ("yes-for-a-number", "count: 3", "count: yes", "levels.count"),
+    ("unknown-term", "- power:", "- pwer:", "well[1].pwer"),
+    ("term-parameter-typo", "exponent: 4", "exponnt: 4", "well[1].exponnt"),
+    ("unsafe-formula", "- power: {exponent: 4, strength: 0.1}",
+     "- expression: {formula: \"__import__('os').system('true')\"}", "well[1].formula"),
+    ("duplicate-key", "levels: {count: 3}", "levels: {count: 3}\nlevels: {count: 4}", "levels"),
+    ("scan-missing-term", "parameter: well[1].strength", "parameter: well[5].strength",
+     "scan.parameter"),
+    ("scan-missing-parameter", "parameter: well[1].strength", "parameter: well[1].depth",
+     "scan.parameter"),
+    ("scan-unknown-setting", "parameter: well[1].strength", "parameter: particle.mas",
+     "scan.parameter"),
+    ("missing-output-folder", "output: base.nc", "output: no-such-folder/base.nc", "output"),
+    ("output-under-a-file", "output: base.nc", "output: case.yaml/base.nc", "output"),
+    ("schema-version", "schema: 1", "schema: 2", "schema"),
+    ("dimension", "dimension: 3", "dimension: 4", "space.dimension"),
+    ("negative-l", "l: [0, 1]", "l: [0, -1]", "space.l[1]"),
+    ("spin-in-2d", "space: {dimension: 3, l: [0, 1]}",
+     "space: {dimension: 2, l: [0, 1], spin: 1/2}", "space.spin"),
+    ("reference-word", "frequency: auto", "frequency: fast", "reference.frequency"),
+    ("zero-steps", "steps: 3", "steps: 0", "scan.values.steps"),
+    ("text-in-values", "values: {from: 0.0, to: 0.2, steps: 3}", "values: [0.1, a]",
+     "scan.values[1]"),
+    ("negative-orders", "orders: 4", "orders: -1", "perturbation.orders"),
+    ("resum-typo", "resum: [pade]", "resum: [padé]", "perturbation.resum[0]"),
+    ("negative-tolerance", "tolerance: 1.0e-6", "tolerance: -1e-6", "convergence.tolerance"),
+    ("zero-size-in-sizes", "sizes: [8, 12]", "sizes: [8, 0]", "convergence.sizes[1]"),
+    ("levels-above-size", "count: 3", "count: 30", "levels.count"),
+    ("title-not-text", "title: Base case for the malformed-case table", "title: 5", "title"),
+    ("empty-well", "well:\n  - harmonic: {frequency: 1.0}\n  - power: {exponent: 4, "
+     "strength: 0.1}", "well: []", "well"),
+    ("zero-mass", "mass: 1.0", "mass: 0", "particle.mass"),
+    ("negative-depth", "  - power: {exponent: 4, strength: 0.1}",
+     "  - power: {exponent: 4, strength: 0.1}\n  - gaussian: {depth: -3, range: 1}",
+     "well[2].depth"),
+    ("exact-word", "exact: auto", "exact: maybe", "perturbation.exact"),
+    ("scan-point-out-of-range", "parameter: well[1].strength\n  values: {from: 0.0, to: 0.2, "
+     "steps: 3}", "parameter: well[0].frequency\n  values: [1.0, -1.0]", "scan.values"),
+    ("term-not-a-mapping", "  - harmonic: {frequency: 1.0}", "  - harmonic", "well[0]"),
+    ("no-unit-systems-of-own", "units: oscillator", "units: meV", "units"),
+]
+
+
+def _run(capsys, *argv) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_base_case_of_the_table_is_valid(tmp_path, capsys):
+    (tmp_path / "case.yaml").write_text(BASE)
+    code, _, err = _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))
+    assert code == 0, err
+    assert (tmp_path / "base.nc").exists()
+
+
+@pytest.mark.parametrize(("old", "new", "field"), [m[1:] for m in MALFORMED],
+                         ids=[m[0] for m in MALFORMED])
+def test_malformed_case_gives_exit_2_and_one_line(tmp_path, capsys, old, new, field):
+    assert old in BASE
+    path = tmp_path / "case.yaml"
+    path.write_text(BASE.replace(old, new, 1))
+    code, out, err = _run(capsys, "run", "--progress", "off", str(path))
+    lines = err.strip().splitlines()
+    assert code == 2
+    assert len(lines) == 1, err
+    assert lines[0].startswith(f"{path}:"), lines[0]
+    assert f": {field}: " in lines[0], lines[0]
+    assert "Traceback" not in err + out
+    assert list(tmp_path.glob("*.nc")) == [] and list(tmp_path.glob(".*")) == []
+
+
+@pytest.mark.parametrize("name", ["duplicate-keys.yaml", "unsafe-formula.yaml",
+                                  "python-tag.yaml", "not-a-mapping.yaml", "empty.yaml",
+                                  "unclosed-flow.yaml", "missing.yaml"])
+def test_bad_fixture_files_give_exit_2(tmp_path, capsys, name):
+    code, out, err = _run(capsys, "run", "-o", str(tmp_path), str(DATA / name))
+    lines = err.strip().splitlines()
+    assert code == 2 and len(lines) == 1 and lines[0].startswith(str(DATA / name))
+    assert "Traceback" not in err + out
+    assert list(tmp_path.iterdir()) == []
+    assert not (Path.cwd() / "hacked").exists()
+
+
+def test_a_real_process_exits_2_without_traceback(tmp_path):
+    path = tmp_path / "case.yaml"
+    path.write_text(BASE.replace("strength: 0.1", "strength: O.1"))
+    proc = subprocess.run([sys.executable, "-m", "anharmony.cli", "run", str(path)],
+                          capture_output=True, text=True)
+    assert proc.returncode == 2
+    assert proc.stderr.strip() == (f"{path}:8:36: well[1].strength: must be a number; "
+                                   "got 'O.1'")
+
+
+def test_unwritable_output_dir_is_bad_input(tmp_path, capsys):
+    (tmp_path / "case.yaml").write_text(BASE)
+    blocker = tmp_path / "file"
+    blocker.write_text("x")
+    code, _, err = _run(capsys, "run", "-o", str(blocker / "sub"), str(tmp_path / "case.yaml"))
+    assert code == 2 and len(err.strip().splitlines()) == 1 and "-o" in err
+
+
+def test_existing_result_needs_resume_or_overwrite(tmp_path, capsys):
+    case = tmp_path / "case.yaml"
+    case.write_text(BASE)
+    assert _run(capsys, "run", "--progress", "off", str(case))[0] == 0
+    code, _, err = _run(capsys, "run", "--progress", "off", str(case))
+    assert code == 2 and "--resume" in err and "output" in err
+    code, _, err = _run(capsys, "run", "--progress", "off", "--resume", str(case))
+    assert code == 0 and "up to date" in err
+    code, _, err = _run(capsys, "run", "--progress", "lines", "--overwrite", str(case))
+    assert code == 0 and "wrote" in err and "6/6 tasks" in err
+
+
+def test_computation_failure_exits_1(tmp_path, capsys):
+    case = tmp_path / "bad.yaml"
+    case.write_text("schema: 1\nspace: {dimension: 1}\nwell:\n  - power: {exponent: 3, "
+                    "strength: 1.0}\nbasis: {size: 8}\nlevels: {count: 2}\n")
+    code, out, err = _run(capsys, "run", "--progress", "off", str(case))
+    assert code == 1 and "failed" in err and "Traceback" not in err + out
+
+
+def test_bad_jobs_and_usage_errors_are_one_line(capsys, tmp_path):
+    (tmp_path / "case.yaml").write_text(BASE)
+    code, _, err = _run(capsys, "run", "--jobs", "0", str(tmp_path / "case.yaml"))
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    with pytest.raises(SystemExit) as info:
+        main(["run", "--jobs", "two", "x.yaml"])
+    assert info.value.code == 2
+    assert len(capsys.readouterr().err.strip().splitlines()) == 1
+
+
+def test_version(capsys):
+    with pytest.raises(SystemExit) as info:
+        main(["--version"])
+    assert info.value.code == 0
+    assert capsys.readouterr().out.strip() == f"anharmony {__version__}"
+
+
+def _subparsers(parser: argparse.ArgumentParser) -> dict[str, argparse.ArgumentParser]:
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            return dict(action.choices)
+    return {}
+
+
+@pytest.mark.parametrize("command", ["run", "check", "show", "plot"])
+def test_help_documents_every_option(command, capsys):
+    sub = _subparsers(_parser())[command]
+    with pytest.raises(SystemExit):
+        main([command, "--help"])
+    text = capsys.readouterr().out
+    for action in sub._actions:
+        for opt in action.option_strings:
+            assert opt in text, opt
+        if action.option_strings and action.help is not argparse.SUPPRESS:
+            assert action.help, action.option_strings
+
+
+def test_check_prints_the_resolved_case(tmp_path, capsys):
+    (tmp_path / "case.yaml").write_text(BASE)
+    code, out, _ = _run(capsys, "check", str(tmp_path / "case.yaml"))
+    assert code == 0
+    assert "units      oscillator" in out
+    assert "hbar*omega = 1" in out and "harmonic" in out
+    assert "channels   s, p (2)" in out
+    assert "tasks      6 (3 scan point(s) × 2 channel(s))" in out
+    assert "linear: matrices built once" in out
+    assert list(tmp_path.glob("*.nc")) == []
+
+
+def test_check_reports_problems_like_run(tmp_path, capsys):
+    (tmp_path / "case.yaml").write_text(BASE.replace("size: 12", "size: -1"))
+    code, _, err = _run(capsys, "check", str(tmp_path / "case.yaml"))
+    assert code == 2 and "basis.size" in err
+
+
+def test_show_prints_levels_and_verdict(tmp_path, capsys):
+    (tmp_path / "case.yaml").write_text(BASE)
+    assert _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))[0] == 0
+    code, out, _ = _run(capsys, "show", str(tmp_path / "base.nc"))
+    assert code == 0
+    assert "well[1].strength = 0.2" in out and "1s" in out and "2p" in out
+    assert "order 0 within" in out  # at strength 0 the series is exact at order 0
+    code, out, _ = _run(capsys, "show", "--scan", "1", "--channel", "p", str(tmp_path / "base.nc"))
+    assert code == 0 and "1p" in out and "1s" not in out
+    code, _, err = _run(capsys, "show", "--channel", "q", str(tmp_path / "base.nc"))
+    assert code == 2 and "no channel 'q'" in err
+
+
+def test_show_rejects_files_that_are_not_results(tmp_path, capsys):
+    bad = tmp_path / "x.nc"
+    bad.write_text("no")
+    code, _, err = _run(capsys, "show", str(bad))
+    assert code == 2 and str(bad) in err and len(err.strip().splitlines()) == 1
+
+
+def test_plot_hook_fails_cleanly_or_draws(tmp_path, capsys):
+    (tmp_path / "case.yaml").write_text(BASE)
+    assert _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))[0] == 0
+    code, _, err = _run(capsys, "plot", str(tmp_path / "base.nc"), "--kind", "shift", "-o",
+                        str(tmp_path / "f.png"))
+    try:
+        import anharmony.plots as plots  # noqa: F401
+    except ImportError:
+        assert code == 1 and err.startswith("plot:") and "Traceback" not in err
+    else:
+        assert code in (0, 1) and "Traceback" not in err
+
+
+def test_no_command_prints_help_and_exits_2(capsys):
+    assert main([]) == 2
+    assert "run" in capsys.readouterr().err
