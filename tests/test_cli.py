@@ -246,11 +246,15 @@ def test_plot_hook_fails_cleanly_or_draws(tmp_path, capsys):
     code, _, err = _run(capsys, "plot", str(tmp_path / "base.nc"), "--kind", "shift", "-o",
                         str(tmp_path / "f.png"))
     try:
-        import anharmony.plots as plots  # noqa: F401
+        import anharmony.plots  # noqa: F401
     except ImportError:
         assert code == 1 and err.startswith("plot:") and "Traceback" not in err
     else:
-        assert code in (0, 1) and "Traceback" not in err
+        assert code == 0, err
+        assert (tmp_path / "f.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG magic
+        code, _, err = _run(capsys, "plot", str(tmp_path / "base.nc"), "--kind", "shift",
+                            "-o", str(tmp_path / "f.bmp"))
+        assert code == 2 and err.startswith("plot:") and len(err.strip().splitlines()) == 1
 
 
 def test_no_command_prints_help_and_exits_2(capsys):

@@ -84,7 +84,14 @@ def _parser() -> argparse.ArgumentParser:
                       choices=("flow", "shift", "series", "convergence", "well", "scheme"),
                       help="which figure")
     plot.add_argument("-o", "--output", required=True, metavar="FIG.png",
-                      help="the figure file to write")
+                      help="the figure file to write (.png, .pdf or .svg)")
+    plot.add_argument("--channel", metavar="LABEL", action="append",
+                      help="only this channel (repeatable), e.g. d5/2")
+    plot.add_argument("--scan", type=int, metavar="K",
+                      help="scan point of the series, convergence, well and scheme figures "
+                           "(default the last; negative counts from the end)")
+    plot.add_argument("--dpi", type=float, metavar="DPI",
+                      help="resolution of a PNG (default the plots module's)")
     return p
 
 
@@ -349,22 +356,32 @@ def _cmd_show(args: argparse.Namespace) -> int:
 # --------------------------------------------------------------------------- plot
 def _cmd_plot(args: argparse.Namespace) -> int:
     try:
-        from . import plots  # type: ignore[attr-defined]
+        from . import plots  # the figures live in their own optional module
     except ImportError as exc:
         _err(f"plot: figures are not available in this installation ({exc})")
         return EXIT_FAILED
-    draw = getattr(plots, "plot_file", None)
-    if draw is None:
-        _err("plot: anharmony.plots has no plot_file(result, kind, output)")
+    make, save = getattr(plots, "make_figure", None), getattr(plots, "save_figure", None)
+    if make is None or save is None:
+        _err("plot: anharmony.plots has no make_figure/save_figure")
         return EXIT_FAILED
-    from .store import ResultFileError
+    from .store import ResultFileError, read_dataset
 
     try:
-        draw(args.result, kind=args.kind, output=args.output)
-    except (ResultFileError, FileNotFoundError, ValueError) as exc:
+        ds = read_dataset(args.result)
+    except ResultFileError as exc:
+        _err(str(exc))
+        return EXIT_BAD_INPUT
+    try:
+        channel = args.channel[0] if args.channel and len(args.channel) == 1 else args.channel
+        fig = make(ds, args.kind, channel=channel, scan_index=args.scan)
+        path = save(fig, args.output, dpi=args.dpi)
+    except (ValueError, KeyError, IndexError) as exc:
         _err(f"plot: {exc}")
         return EXIT_BAD_INPUT
-    print(f"wrote {args.output}")
+    except OSError as exc:
+        _err(f"plot: cannot write {args.output} ({exc.strerror or exc})")
+        return EXIT_BAD_INPUT
+    print(f"wrote {path}")
     return EXIT_OK
 
 
