@@ -86,6 +86,10 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         conv = conv[..., None]
         lengths = np.array([_at(view, "length", p).item()]) if view.has("length") else \
             np.array([math.nan])
+    if req.basis_size is not None and not has_length:
+        raise ValueError("basis_size: this result holds no basis-length scan (dimension "
+                         "basis_length), so there is no energy-against-length panel to choose "
+                         "N for")
     if req.basis_size is None:
         ni = int(np.argmax(sizes))
     else:
@@ -108,6 +112,9 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
             left.plot(sizes, d, color=col, lw=1.0, ls=_style.dash(b - 1) if b else "-",
                       marker=_MARKERS[b % len(_MARKERS)], ms=3.2, mfc="white" if b else col,
                       gid=f"difference:{c}:{n}:{b}", zorder=3)
+        if i > 0:  # the right panel shows the first level only: spacings would hide the rest
+            handles.append(proxy(color=col, lw=1.2, label=view.level_label(c, n)))
+            continue
         if has_length:
             xr_, yr = lengths, conv[c, n, ni, :]
             gid = f"energy_vs_length:{c}:{n}"
@@ -145,12 +152,13 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     left.set_ylabel(axis_label("|E(N) − E∞|", e_units))
     if has_length:
         right.set_xlabel(axis_label("oscillator length b", length_units))
-        right.set_title(f"energy against b at N = {int(sizes[ni])}", loc="left")
+        right.set_title(f"{view.level_label(c, levels[0])} against b at N = {int(sizes[ni])}",
+                        loc="left")
     else:
         right.set_xlabel("basis size N")
-        b_text = (f" (b = {lengths[0]:.4g}" + (f" {length_units})" if length_units else ")")
-                  if math.isfinite(lengths[0]) else "")
-        right.set_title(f"energy against N{b_text}", loc="left")
+        unit = f" {length_units}" if length_units and length_units != "b" else ""
+        b_text = f", b = {lengths[0]:.4g}{unit}" if math.isfinite(lengths[0]) else ""
+        right.set_title(f"{view.level_label(c, levels[0])} against N{b_text}", loc="left")
     right.set_ylabel(axis_label("energy E", e_units))
     where = view.scan_text(p)
     left.set_title(f"basis convergence · {view.labels[c]}" + (f" at {where}" if where else ""),

@@ -214,7 +214,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
             lo = -hi
         else:
             lo = max(x[0], lo - pad)
-        pic = rebuild(view, p, c, count, np.linspace(lo, hi, GRID_POINTS))
+        points = GRID_POINTS + 1 if lo == -hi else GRID_POINTS  # odd: x = 0 is a sample
+        pic = rebuild(view, p, c, count, np.linspace(lo, hi, points))
         x = pic.coords
     veff = pic.effective if pic.effective is not None else pic.potential
 
