@@ -16,13 +16,14 @@ the basis vectors are still eigenvectors of H_ref. Rayleigh–Schrödinger theor
 that: with intermediate normalisation the coefficient of |n) in ψ_k vanishes for k ≥ 1, and
 projecting the order-k equation on the dual vector of |n) gives E_k = (W ψ_{k−1})_n.
 
-Arithmetic is exact, with :class:`gmpy2.mpq` when gmpy2 is importable (it is an optional
-dependency) and :class:`fractions.Fraction` otherwise; results are always returned as
-:class:`fractions.Fraction`.
+Arithmetic is exact, in integers with one common denominator per vector (``gmpy2.mpz`` when
+gmpy2 is importable — an optional dependency — and Python integers otherwise); results are
+always returned as :class:`fractions.Fraction`.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping, Sequence
 from fractions import Fraction
 from numbers import Rational
@@ -47,35 +48,23 @@ except ImportError:  # pragma: no cover - depends on the environment
     _gmpy2 = None
 
 
-def exact_field(name: str = "auto") -> Callable[[Any], Any]:
-    """Constructor of the exact number type: ``"gmpy2"``, ``"fraction"`` or ``"auto"``.
+def exact_field(
+    name: str = "auto",
+) -> tuple[Callable[[int], Any], Callable[..., Any], Callable[[Any, Any], Any]]:
+    """Integer type, its many-argument gcd and its lcm: ``"gmpy2"``, ``"fraction"``, ``"auto"``.
 
-    ``"auto"`` picks gmpy2's ``mpq`` when gmpy2 is importable, else ``Fraction``.
+    ``"fraction"`` means Python's own integers (and :class:`fractions.Fraction` at the end);
+    ``"gmpy2"`` uses ``gmpy2.mpz``; ``"auto"`` picks gmpy2 when it is importable.
     """
     if name == "auto":
         name = "fraction" if _gmpy2 is None else "gmpy2"
     if name == "fraction":
-        return Fraction
+        return int, math.gcd, math.lcm
     if name == "gmpy2":
         if _gmpy2 is None:
             raise ImportError("field='gmpy2' needs the optional package gmpy2 (pip install gmpy2)")
-        mpq = _gmpy2.mpq
-
-        def to_mpq(x: Any) -> Any:
-            if isinstance(x, Fraction):
-                return mpq(x.numerator, x.denominator)
-            return mpq(x)
-
-        return to_mpq
+        return _gmpy2.mpz, _gmpy2.gcd, _gmpy2.lcm
     raise ValueError(f"field must be 'auto', 'gmpy2' or 'fraction'; got {name!r}")
-
-
-def _to_fraction(x: Any) -> Fraction:
-    if isinstance(x, Fraction):
-        return x
-    if isinstance(x, int):
-        return Fraction(x)
-    return Fraction(int(x.numerator), int(x.denominator))
 
 
 def _as_rational(value: Any, name: str) -> Fraction:
@@ -189,6 +178,13 @@ def radial_bands(
     return _operator_bands(step, coeffs, size)
 
 
+def _lcm_of_denominators(values: Sequence[Fraction]) -> int:
+    out = 1
+    for v in values:
+        out = math.lcm(out, v.denominator)
+    return out
+
+
 def rs_exact_banded(
     diagonal: Sequence[Any],
     bands: Mapping[int, Sequence[Any]],
@@ -210,7 +206,7 @@ def rs_exact_banded(
     order
         Highest order K.
     field
-        Exact number type for the arithmetic (see :func:`exact_field`).
+        Integer type for the arithmetic (see :func:`exact_field`).
 
     Returns
     -------
@@ -230,52 +226,97 @@ def rs_exact_banded(
     n + (K−1)·h + 1 states for E_K to be exact; callers use n + K·h + 1, which makes
     ψ_1..ψ_K exact as well. (Rayleigh 1894; Schrödinger 1926; e.g. Sakurai, *Modern Quantum
     Mechanics*, §5.1.)
+
+    The arithmetic is in integers: W and the level gaps are scaled to integer matrices
+    (W' = s W, so E_k = E'_k / s^k), and each ψ_k is an integer vector over one common
+    denominator, reduced by the gcd of the whole vector after every order. This avoids a gcd
+    per component and operation, which is what makes rational arithmetic slow.
     """
-    num = exact_field(field)
+    integer, gcd, lcm = exact_field(field)
     size = len(diagonal)
-    d = [num(x) for x in diagonal]
+    d = [_as_rational(x, f"diagonal[{i}]") for i, x in enumerate(diagonal)]
     e0 = d[level]
     clash = tuple(i for i in range(size) if i != level and d[i] == e0)
     if clash:
         raise DegenerateLevelError(
-            f"reference level {level} (E_0 = {_to_fraction(e0)}) is degenerate with basis "
-            f"state(s) {list(clash)}; non-degenerate perturbation theory does not apply",
+            f"reference level {level} (E_0 = {e0}) is degenerate with basis state(s) "
+            f"{list(clash)}; non-degenerate perturbation theory does not apply",
             levels=(level, *clash),
         )
-    inv = np.empty(size, dtype=object)
-    for i in range(size):
-        inv[i] = num(0) if i == level else 1 / (e0 - d[i])
+    gaps = [e0 - x for x in d]
+    c = _lcm_of_denominators(gaps)  # R_i = 1/gap_i = c / g_i with integer g_i
+    g = [int(x * c) for x in gaps]
+    entries = {int(off): [_as_rational(v, f"bands[{off}]") for v in vals]
+               for off, vals in bands.items()}
+    entries = {off: vals for off, vals in entries.items() if any(vals)}
+    s = _lcm_of_denominators([v for vals in entries.values() for v in vals])
     band_arrays = {}
-    for off, values in bands.items():
+    for off, vals in entries.items():
         arr = np.empty(size, dtype=object)
-        arr[:] = [num(v) for v in values]
-        if any(arr):
-            band_arrays[int(off)] = arr
+        arr[:] = [integer(int(v * s)) for v in vals]
+        band_arrays[off] = arr
     h = max((abs(off) for off in band_arrays), default=0)
 
-    psi = np.empty((max(order, 1), size), dtype=object)
-    psi.fill(num(0))
-    psi[0, level] = num(1)
-    energies = [e0]
+    zero, one = integer(0), integer(1)
+    vecs: list[np.ndarray] = []  # ψ_k = vecs[k] / dens[k]
+    dens: list[Any] = []
+    v0 = np.empty(size, dtype=object)
+    v0.fill(zero)
+    v0[level] = one
+    vecs.append(v0)
+    dens.append(one)
+    e_num: list[Any] = [zero]  # E'_k = e_num[k] / e_den[k], reduced
+    e_den: list[Any] = [one]
+    mult = np.empty(size, dtype=object)  # c·G/g_i over the support, G = lcm of |g_i| there
+    big_g = 1
     lo, hi = level, level + 1  # support of ψ_{k-1}
     for k in range(1, order + 1):
         r0, r1 = max(0, lo - h), min(size, hi + h)
         u = np.empty(r1 - r0, dtype=object)
-        u.fill(num(0))
+        u.fill(zero)
+        prev = vecs[k - 1]
         for off, b in band_arrays.items():  # rows i with lo <= i + off < hi
             a0, a1 = max(r0, lo - off), min(r1, hi - off)
             if a1 > a0:
-                u[a0 - r0 : a1 - r0] += b[a0:a1] * psi[k - 1, a0 + off : a1 + off]
-        energies.append(u[level - r0])  # E_k = (W ψ_{k-1})_n
+                u[a0 - r0 : a1 - r0] += b[a0:a1] * prev[a0 + off : a1 + off]
+        num, den = u[level - r0], dens[k - 1]  # E'_k = (W' ψ_{k-1})_n
+        common = gcd(num, den)
+        e_num.append(num // common)
+        e_den.append(den // common)
         if k == order:
             break
-        if k > 1:  # Σ_{j=1}^{k-1} E_j ψ_{k-j}; rows k-1..1 of psi pair with E_1..E_{k-1}
-            coef = np.empty(k - 1, dtype=object)
-            coef[:] = energies[1:k]
-            u -= coef @ psi[k - 1 : 0 : -1, r0:r1]
-        psi[k, r0:r1] = u * inv[r0:r1]
+        # W'ψ_{k-1} − Σ_j E'_j ψ_{k-j} over the common denominator L
+        big_l = dens[k - 1]
+        for j in range(1, k):
+            if e_num[j]:
+                big_l = lcm(big_l, e_den[j] * dens[k - j])
+        acc = u * (big_l // dens[k - 1])
+        for j in range(1, k):
+            if e_num[j]:
+                factor = e_num[j] * (big_l // (e_den[j] * dens[k - j]))
+                acc -= factor * vecs[k - j][r0:r1]
+        for i in range(r0, r1):  # the support only grows: extend G, then refresh mult
+            if i != level:
+                big_g = math.lcm(big_g, abs(g[i]))
+        for i in range(r0, r1):
+            mult[i] = zero if i == level else integer(c * (big_g // g[i]))
+        out = np.empty(size, dtype=object)
+        out.fill(zero)
+        out[r0:r1] = acc * mult[r0:r1]
+        den = big_l * integer(big_g)
+        common = gcd(den, *out[r0:r1])
+        if common != 1:
+            out[r0:r1] = out[r0:r1] // common
+            den = den // common
+        vecs.append(out)
+        dens.append(den)
         lo, hi = r0, r1
-    return [_to_fraction(e) for e in energies]
+    scale = Fraction(1)
+    result = [e0]
+    for k in range(1, order + 1):
+        scale /= s
+        result.append(Fraction(int(e_num[k]), int(e_den[k])) * scale)
+    return result
 
 
 def _restrict_parity(
@@ -307,7 +348,7 @@ def rs_exact_1d(
     order
         Highest order K.
     field
-        Exact number type (see :func:`exact_field`).
+        Integer type for the arithmetic (see :func:`exact_field`).
 
     Notes
     -----
@@ -350,7 +391,7 @@ def rs_exact_radial(
     l, dimension
         Channel: d = 1 (l = 0 even, l = 1 odd parity), d = 2 (l = |m|), d = 3.
     field
-        Exact number type (see :func:`exact_field`).
+        Integer type for the arithmetic (see :func:`exact_field`).
     """
     _check_level_order(level, order)
     if dimension not in (1, 2, 3):
