@@ -160,6 +160,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         b_text = f", b = {lengths[0]:.4g}{unit}" if math.isfinite(lengths[0]) else ""
         right.set_title(f"{view.level_label(c, levels[0])} against N{b_text}", loc="left")
     right.set_ylabel(axis_label("energy E", e_units))
+    right.ticklabel_format(axis="y", useOffset=False)  # absolute energies, no "1e-6 + 3.45"
     where = view.scan_text(p)
     left.set_title(f"basis convergence · {view.labels[c]}" + (f" at {where}" if where else ""),
                    loc="left")

@@ -125,7 +125,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     fig, axes = new_figure(req.size or SIZE, 1, 2)
     left, right = axes[0]
     units = view.energy_units
-    handles = []
+    level_handles = []
     right_vals = []
     for i, n in enumerate(levels):
         col = _style.colour(i)
@@ -134,13 +134,12 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         left.plot(k, shown, color=col, lw=0.9, marker="o", ms=3.0, gid=f"coefficient:{c}:{n}",
                   zorder=3)
         est = large_order_curve(k, e)
+        name = view.level_label(c, n)
         if est is not None:
             kf, yf, formula = est
             left.plot(kf, yf, color=col, lw=1.0, ls=_style.dash(0), alpha=0.85,
                       gid=f"large_order:{c}:{n}", zorder=2)
-            left.text(0.98, 0.04 + 0.07 * i, f"{view.level_label(c, n)}: {formula}",
-                      transform=left.transAxes, ha="right", va="bottom", fontsize=6.5,
-                      color=col)
+            name += f"   large orders: {formula}"
         ps = psum[p, c, n]
         right.plot(k, ps, color=col, lw=0.9, marker="s", ms=2.8, gid=f"partial_sum:{c}:{n}",
                    zorder=3)
@@ -166,7 +165,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
             right_vals.append([opt_e[p, c, n]])
         right_vals.append(ps[:upto])
         right_vals.append([ex])
-        handles.append(proxy(color=col, lw=1.6, label=view.level_label(c, n)))
+        level_handles.append(proxy(color=col, lw=1.6, label=name))
 
     rng = finite_range(*right_vals)
     if rng is not None:
@@ -179,7 +178,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     where = f"{view.labels[c]} at {view.scan_text(p)}" if view.scan_text(p) else view.labels[c]
     left.set_title(f"RS coefficients · {where}", loc="left")
     right.set_title("partial sums beside the exact level", loc="left")
-    handles += [proxy(lw=0.9, marker="o", ms=3.0, label="|E_k|"),
+    handles = [proxy(lw=0.9, marker="o", ms=3.0, label="|E_k|"),
                 proxy(lw=1.0, ls=_style.dash(0), label="large-order estimate"),
                 proxy(lw=0.9, marker="s", ms=2.8, label="partial sum"),
                 proxy(lw=1.6, label="diagonaliser ± error estimate")]
@@ -190,5 +189,6 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         handles.append(proxy(ls="none", marker="*", ms=8, mec=_style.INK, mew=0.5,
                              label="optimal truncation"))
     style_legend(fig, handles, ncols=4)
+    left.legend(handles=level_handles, loc="best", fontsize=6.5, handlelength=1.6)
     view.decorate(fig, req.title)
     return fig

@@ -1,9 +1,11 @@
 """Anharmonic shifts against the scanned parameter, with the low-order perturbative shifts.
 
 The shift is ``energy − reference_energy`` (solid, with the scan points marked); the RS shift
-to order k is ``series_partial_sum[k] − series_coefficient[0]`` = Σ_{1≤i≤k} E_i (dashed).
+to order k is ``series_partial_sum[k] − series_coefficient[0]`` = Σ_{1≤i≤k} E_i (dashed; for
+a coupling scan Σ_{1≤i≤k} E_i λ^i).
 With ``log=True`` the axes are log–log, |shift| against the parameter, and each curve gets a
-guide of the local log–log slope of the lowest-order RS shift at its small-parameter end.
+guide (a broad faint segment) of the local log–log slope of the lowest-order RS shift at its
+small-parameter end.
 """
 
 from __future__ import annotations
@@ -124,8 +126,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         ok = np.flatnonzero(np.isfinite(xv) & np.isfinite(yv))
         x1, y1 = xv[ok[0]], yv[ok[0]] / 2.0
         x2 = x1 * 10 ** GUIDE_DECADES
-        ax.plot([x1, x2], [y1, y1 * (x2 / x1) ** p], color=col, lw=0.8, alpha=0.8,
-                ls=(0, (1, 1)), gid=f"slope:{c}:{n}", zorder=1)
+        ax.plot([x1, x2], [y1, y1 * (x2 / x1) ** p], color=col, lw=2.4, alpha=0.35,
+                solid_capstyle="butt", gid=f"slope:{c}:{n}", zorder=1)
     direct_labels(ax, ends)
     units = view.energy_units
     if log:
@@ -140,7 +142,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     handles += [proxy(lw=1.0, ls=_style.dash(o), label=f"RS shift to order {order_values[k]}")
                 for o, k in enumerate(ords)]
     if guides:
-        handles.append(proxy(lw=0.8, ls=(0, (1, 1)), label="low-order log–log slope"))
+        handles.append(proxy(lw=2.4, alpha=0.35, solid_capstyle="butt",
+                             label="slope of the lowest-order RS shift"))
     style_legend(fig, handles)
     view.decorate(fig, req.title)
     return fig
