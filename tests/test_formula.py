@@ -244,6 +244,15 @@ THRESHOLD_CASES = [
     ("x**2", "x", None, np.inf, np.inf),
     ("-x**3", "x", None, np.inf, -np.inf),
     ("sin(x)", "x", None, -1.0, -1.0),  # no limit: lim inf = -1 (documented)
+    # numpy overflows (inf/inf) far out; the limit must still come from sympy
+    ("exp(x/0.001)/(1 + exp(x/0.001))", "x", None, 0.0, 1.0),
+    (
+        "-V0/(1 + exp((r - R)/a)) + W/r*exp((r - R)/a)/(a*(1 + exp((r - R)/a))**2)",
+        "r",
+        {"V0": 50.0, "R": 4.1, "a": 0.65, "W": 20.0},
+        0.0,
+        0.0,
+    ),
     ("0.5*r**2 + g/r**2", "r", {"g": 0.3}, np.inf, np.inf),
 ]
 
@@ -285,6 +294,14 @@ def test_threshold_raises_when_no_limit_can_be_found(monkeypatch):
         compile_formula("sin(x)").threshold()
     with pytest.raises(FormulaError, match="no real values"):
         compile_formula("sqrt(x)").threshold(side=-1)
+
+
+def test_threshold_rejects_limits_sympy_takes_in_the_complex_plane():
+    # log(x) -> oo as x -> -oo for sympy (|log|); on the real line there are no values there.
+    f = compile_formula("log(x)")
+    assert f.threshold(+1) == np.inf
+    with pytest.raises(FormulaError, match="no real values"):
+        f.threshold(-1)
     with pytest.raises(FormulaError, match="side"):
         compile_formula("x").threshold(side=2)
 

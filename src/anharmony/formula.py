@@ -313,8 +313,7 @@ class Formula:
         except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError):
             lim = None
         value = _limit_to_float(lim)
-        probe = self.value(side * np.array([1e3, 1e6, 1e9]))
-        if np.all(np.isnan(probe)):
+        if not self._real_somewhere_far(side):
             where = "+inf" if side > 0 else "-inf"
             raise FormulaError(
                 f"formula {self.text!r} has no real values as {self.variable} -> {where}",
@@ -323,6 +322,20 @@ class Formula:
         if value is not None:
             return value
         return self._numeric_limit(side)
+
+    def _real_somewhere_far(self, side: int) -> bool:
+        """Whether the formula is real at one of |x| = 1e2, 1e6, 1e12 (mpmath evalf: no
+        overflow). Guards against sympy's complex limits, e.g. log(x) -> oo as x -> -oo."""
+        symbol = _symbol(self.variable)
+        for far in (10**2, 10**6, 10**12):
+            try:
+                value = self._numeric.xreplace({symbol: sp.Integer(side * far)}).evalf(30)
+                re, im = value.as_real_imag()
+                if im == 0 or bool(abs(im) <= 1e-20 * abs(re)):
+                    return True
+            except (TypeError, ValueError, ArithmeticError, RecursionError):
+                return True  # cannot tell: do not block the limit
+        return False
 
     def _numeric_limit(self, side: int) -> float:
         xs = side * np.logspace(2.0, 300.0, 2385)
