@@ -9,7 +9,7 @@ import pytest
 from scipy.special import exp1
 
 from anharmony.errors import NumericalError
-from anharmony.series.resum import (
+from anharmony.series import (
     borel_pade,
     large_order,
     optimal_truncation,

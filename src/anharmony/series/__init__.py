@@ -2,7 +2,9 @@
 
 - :mod:`.rs_numeric`: floating-point recursion with per-order binary exponents (any order);
 - :mod:`.rs_exact`: rational recursion in unnormalised oscillator bases (polynomial W);
-- :mod:`.resum`: partial sums, Padé, Borel–Padé, optimal truncation, large-order fits;
+- :mod:`.truncation`: partial sums and optimal truncation;
+- :mod:`.resum`: Padé and Borel–Padé approximants;
+- :mod:`.growth`: large-order (ratio-test) analysis;
 - :mod:`.verdict`: the series against exact energies on a coupling grid;
 - :mod:`.front`: :func:`series`, the front end of DESIGN §8, and its :class:`Series` result.
 """
@@ -10,20 +12,11 @@
 from __future__ import annotations
 
 from .front import Series, series
-from .resum import (
-    BorelPade,
-    LargeOrder,
-    OptimalTruncation,
-    PadeApproximant,
-    borel_pade,
-    large_order,
-    optimal_truncation,
-    pade,
-    pade_approximant,
-    partial_sums,
-)
+from .growth import LargeOrder, large_order
+from .resum import BorelPade, PadeApproximant, borel_pade, pade, pade_approximant
 from .rs_exact import rs_exact_1d, rs_exact_banded, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
+from .truncation import OptimalTruncation, optimal_truncation, partial_sums
 from .verdict import Verdict, lowest_order, verdict
 
 __all__ = [

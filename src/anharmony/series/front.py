@@ -23,20 +23,12 @@ from anharmony.potentials import Well
 from anharmony.spectrum import Reference, reference_oscillator
 from anharmony.units import UnitSystem, get_units
 
-from .resum import (
-    BorelPade,
-    LargeOrder,
-    OptimalTruncation,
-    PadeApproximant,
-    borel_pade,
-    large_order,
-    optimal_truncation,
-    pade_approximant,
-    partial_sums,
-    to_mpf,
-)
+from ._values import to_mpf
+from .growth import LargeOrder, large_order
+from .resum import BorelPade, PadeApproximant, borel_pade, pade_approximant
 from .rs_exact import rs_exact_1d, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
+from .truncation import OptimalTruncation, optimal_truncation, partial_sums
 
 __all__ = ["Series", "series"]
 
@@ -124,7 +116,7 @@ class Series:
         return optimal_truncation(self.precise, lam)
 
     def large_order(self, **options: Any) -> LargeOrder:
-        """Ratio-test analysis of the growth of E_k (see :func:`.resum.large_order`)."""
+        """Ratio-test analysis of the growth of E_k (:func:`anharmony.series.large_order`)."""
         return large_order(self.precise, **options)
 
 

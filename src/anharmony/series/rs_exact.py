@@ -132,8 +132,8 @@ def hermite_bands(coefficients: Mapping[int, Any], size: int) -> dict[int, list[
     From x H_n = H_{n+1}/2 + n H_{n−1} (Abramowitz & Stegun 22.7.13) with the scale
     s_n = 2^n ⌊n/2⌋!:  ξ|2m} = |2m+1} + |2m−1},  ξ|2m+1} = (m+1)|2m+2} + (m + ½)|2m}.
     The scale makes |n} ∝ L_m^{∓1/2}(ξ²) (A&S 22.5.40/41), whose norms stay O(n^{±1/2});
-    the plain H_n (norm 2^n n! √π) give rationals with far longer numerators and
-    denominators and run about three times slower.
+    with the plain H_n (norm 2^n n! √π) the numbers are longer (measured: 1.4× slower at
+    order 200 for the quartic).
     """
     coeffs = {int(q): _as_rational(c, f"coefficients[{q}]") for q, c in coefficients.items()}
     one = Fraction(1)

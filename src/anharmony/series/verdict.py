@@ -15,7 +15,8 @@ import numpy as np
 
 from anharmony.errors import NumericalError
 
-from .resum import borel_pade, pade, partial_sums
+from .resum import borel_pade, pade
+from .truncation import partial_sums
 
 __all__ = ["Verdict", "lowest_order", "verdict"]
 

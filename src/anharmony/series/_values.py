@@ -1,0 +1,49 @@
+"""Conversions shared by the series analysis: any exact or float coefficient to mpmath/float."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from fractions import Fraction
+from typing import Any
+
+import mpmath
+import numpy as np
+
+__all__ = ["as_float_array", "check_coefficients", "mpf_to_float", "to_mpf"]
+
+
+def to_mpf(value: Any) -> mpmath.mpf:
+    """Convert a float, int, Fraction, gmpy2.mpq or mpf to :class:`mpmath.mpf`."""
+    if isinstance(value, mpmath.mpf):
+        return value
+    if isinstance(value, (int, np.integer)):
+        return mpmath.mpf(int(value))
+    if isinstance(value, Fraction) or (
+        hasattr(value, "numerator") and hasattr(value, "denominator")
+        and not isinstance(value, (float, np.floating))
+    ):
+        return mpmath.mpf(int(value.numerator)) / int(value.denominator)
+    return mpmath.mpf(float(value))
+
+
+def as_float_array(coefficients: Sequence[Any]) -> np.ndarray:
+    out = np.empty(len(coefficients))
+    for k, c in enumerate(coefficients):
+        try:
+            out[k] = float(c)
+        except OverflowError:
+            out[k] = math.copysign(math.inf, float(mpmath.sign(to_mpf(c))))
+    return out
+
+
+def check_coefficients(coefficients: Sequence[Any]) -> None:
+    if len(coefficients) == 0:
+        raise ValueError("coefficients must hold at least c_0; got an empty sequence")
+
+
+def mpf_to_float(x: mpmath.mpf) -> float:
+    try:
+        return float(x)
+    except OverflowError:  # pragma: no cover - mpmath returns inf itself in current versions
+        return math.copysign(math.inf, float(mpmath.sign(x)))

@@ -1,0 +1,146 @@
+"""Large-order behaviour of a power series from the ratio test."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import mpmath
+import numpy as np
+
+from ._values import check_coefficients, to_mpf
+
+__all__ = ["LargeOrder", "large_order"]
+
+
+@dataclass(frozen=True, eq=False)
+class LargeOrder:
+    """Large-order behaviour of c_k from the ratio test.
+
+    The model is |c_k| ≈ C · a^k · Γ(p·k + b) for factorial growth (p ≥ 1), or
+    |c_k| ≈ C · a^k · k^b (p = 0, geometric: radius of convergence 1/a). With ``step = 2`` (odd
+    orders vanish) k counts the nonzero orders: c_{2k} is modelled and the series is one in λ².
+
+    Attributes
+    ----------
+    kind : str
+        ``"geometric"`` (convergent, radius ``radius``) or ``"factorial"`` (divergent).
+    step : int
+        1, or 2 when every odd coefficient vanishes.
+    ratios : ndarray
+        c_k / c_{k−step} for k = step..K (NaN where the previous coefficient is zero).
+    power : int
+        p (0 for geometric).
+    rate : float
+        a.
+    shift : float
+        b: the Γ-function shift (factorial) or the power of k (geometric).
+    constant : float
+        C, extrapolated in 1/k.
+    radius : float
+        Radius of convergence in λ (0 for factorial growth).
+    sign : str
+        ``"alternating"``, ``"fixed"`` or ``"mixed"`` over the last half of the orders.
+    """
+
+    kind: str
+    step: int
+    ratios: np.ndarray
+    power: int
+    rate: float
+    shift: float
+    constant: float
+    radius: float
+    sign: str
+
+
+def large_order(
+    coefficients: Sequence[Any], *, tail: float = 0.5, corrections: int = 2
+) -> LargeOrder:
+    """Ratio-test analysis of the growth of c_k.
+
+    Parameters
+    ----------
+    coefficients
+        c_0..c_K, K ≥ 6 recommended (at least 4 nonzero ratios in the tail).
+    tail
+        Fraction of the orders (the highest ones) used in the fits.
+    corrections
+        Number of inverse powers 1/k, 1/k², … allowed for in each fit (a Richardson-like
+        extrapolation; more need more, and more accurate, coefficients).
+
+    Notes
+    -----
+    r_k = c_k/c_{k−1}. The exponent p of |r_k| ~ k^p is fitted in log–log over the tail and
+    rounded to an integer. p = 0: |r_k| = a + Σ_i γ_i/k^i fitted, radius 1/a, b = γ_1/a. p ≥ 1:
+    |r_k|^{1/p} = αk + β + Σ_i γ_i/k^i fitted, which for c_k ~ a^k Γ(pk + b) (1 + O(1/k))
+    gives a = (α/p)^p and b = β/a^{1/p} + (p+1)/2; C is |c_k|/(a^k Γ(pk+b)) extrapolated in
+    1/k the same way (i = 1..``corrections``). (Ratio method: e.g. Guttmann, in *Phase
+    Transitions and Critical Phenomena* 13 (1989); Bender & Wu, Phys. Rev. D 7, 1620 (1973)
+    for the anharmonic oscillators.)
+    """
+    check_coefficients(coefficients)
+    with mpmath.workdps(30):
+        c = [to_mpf(x) for x in coefficients]
+        odd_zero = len(c) > 2 and all(c[k] == 0 for k in range(1, len(c), 2))
+        step = 2 if odd_zero else 1
+        seq = c[::step]
+        n = len(seq) - 1
+        if n < 4:
+            raise ValueError(
+                f"large-order analysis needs at least 4 ratios; got {n} nonzero-order "
+                f"coefficients beyond c_0 (step {step})"
+            )
+        ratios = np.array(
+            [float(seq[k] / seq[k - 1]) if seq[k - 1] != 0 else math.nan
+             for k in range(1, n + 1)]
+        )
+        start = max(1, round(n * (1.0 - tail)))
+        ks = np.arange(start, n + 1, dtype=float)
+        r = np.abs(ratios[start - 1 :])
+        good = np.isfinite(r) & (r > 0)
+        ks, r = ks[good], r[good]
+        if ks.size < 3:
+            raise ValueError("large-order analysis: too few nonzero ratios in the tail")
+        slope = np.polyfit(np.log(ks), np.log(r), 1)[0]
+        p = max(0, round(slope))
+        signs = [mpmath.sign(x) for x in seq[n // 2 :] if x != 0]
+        prods = [signs[i] * signs[i + 1] for i in range(len(signs) - 1)]
+        sign = ("alternating" if prods and all(s < 0 for s in prods)
+                else "fixed" if prods and all(s > 0 for s in prods) else "mixed")
+        inverse = [ks ** (-i) for i in range(1, corrections + 1)]
+        if ks.size < corrections + 2:
+            raise ValueError(
+                f"large-order analysis: {ks.size} ratios in the tail cannot fit "
+                f"{corrections} corrections; give more orders or fewer corrections"
+            )
+
+        def extrapolate(values: np.ndarray) -> float:
+            design = np.vstack([np.ones_like(ks), *inverse]).T
+            return float(np.linalg.lstsq(design, values, rcond=None)[0][0])
+
+        if p == 0:
+            design = np.vstack([np.ones_like(ks), *inverse]).T
+            a, gamma1 = np.linalg.lstsq(design, r, rcond=None)[0][:2]
+            a = float(a)
+            b = float(gamma1 / a)  # r_k = a (1 + b/k + ...)  <=>  |c_k| ~ C a^k k^b
+            radius = (1.0 / a) ** (1.0 / step) if a > 0 else math.inf
+            consts = np.array([
+                float(abs(seq[int(k)]) / (mpmath.mpf(a) ** int(k) * mpmath.mpf(k) ** b))
+                for k in ks
+            ])
+            return LargeOrder("geometric", step, ratios, 0, a, b, extrapolate(consts),
+                              radius, sign)
+        y = r ** (1.0 / p)
+        design = np.vstack([ks, np.ones_like(ks), *inverse]).T
+        alpha, beta = np.linalg.lstsq(design, y, rcond=None)[0][:2]
+        a = float((alpha / p) ** p)
+        b = float(beta / a ** (1.0 / p) + (p + 1) / 2.0)
+        consts = np.array([
+            float(abs(seq[int(k)]) / (mpmath.mpf(a) ** int(k) * mpmath.gamma(p * k + b)))
+            for k in ks
+        ])
+        const = extrapolate(consts)
+        return LargeOrder("factorial", step, ratios, p, a, b, const, 0.0, sign)

@@ -1,0 +1,103 @@
+"""Partial sums and optimal truncation of a power series Σ_k c_k λ^k.
+
+Coefficients may be floats, integers, Fractions or mpmath numbers; exact ones keep their
+precision (sums of terms beyond the double range are formed in extended precision).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import mpmath
+import numpy as np
+
+from ._values import as_float_array, check_coefficients, mpf_to_float, to_mpf
+
+__all__ = ["OptimalTruncation", "optimal_truncation", "partial_sums"]
+
+
+def partial_sums(coefficients: Sequence[Any], lam: Any) -> np.ndarray:
+    """Partial sums S_k(λ) = Σ_{i≤k} c_i λ^i for k = 0..K.
+
+    Parameters
+    ----------
+    coefficients
+        c_0..c_K.
+    lam
+        Coupling λ, scalar or array.
+
+    Returns
+    -------
+    ndarray, shape (K+1,) + shape(lam)
+        Floats; ±inf where a sum leaves the double range.
+    """
+    check_coefficients(coefficients)
+    lam_arr = np.asarray(lam, dtype=float)
+    c = as_float_array(coefficients)
+    if np.all(np.isfinite(c)):
+        with np.errstate(over="ignore", invalid="ignore"):
+            powers = lam_arr[None, ...] ** np.arange(len(c)).reshape((-1,) + (1,) * lam_arr.ndim)
+            terms = c.reshape((-1,) + (1,) * lam_arr.ndim) * powers
+            terms = np.where(c.reshape((-1,) + (1,) * lam_arr.ndim) == 0.0, 0.0, terms)
+            return np.cumsum(terms, axis=0)
+    mp_c = [to_mpf(x) for x in coefficients]
+    flat = lam_arr.reshape(-1)
+    out = np.empty((len(mp_c), flat.size))
+    for j, x in enumerate(flat):
+        total = mpmath.mpf(0)
+        xm = mpmath.mpf(float(x))
+        for k, ck in enumerate(mp_c):
+            total += ck * xm**k
+            out[k, j] = mpf_to_float(total)
+    return out.reshape((len(mp_c), *lam_arr.shape))
+
+
+@dataclass(frozen=True)
+class OptimalTruncation:
+    """Series summed up to (not including) its smallest term.
+
+    Attributes
+    ----------
+    value : float
+        Σ_{k < order} c_k λ^k.
+    error : float
+        |c_order λ^order|, the usual estimate of the error of ``value``.
+    order : int
+        Order of the smallest nonzero term (k ≥ 1).
+    reached_end : bool
+        The smallest term is the last one available: the terms were still decreasing, so
+        more orders would do better (and the series may well converge there).
+    """
+
+    value: float
+    error: float
+    order: int
+    reached_end: bool
+
+
+def optimal_truncation(coefficients: Sequence[Any], lam: float) -> OptimalTruncation:
+    """Optimal truncation at λ: stop before the smallest term; error ≈ that term.
+
+    Zero terms (orders that vanish by symmetry) are skipped when looking for the smallest.
+    The smallest term is the global minimum of |c_k λ^k| over the nonzero terms with k ≥ 1
+    (for an asymptotic series it is the point where the terms turn round). Common practice,
+    e.g. Bender & Orszag, *Advanced Mathematical Methods for Scientists and Engineers* (1978),
+    §3.8.
+    """
+    check_coefficients(coefficients)
+    x = float(lam)
+    if len(coefficients) < 2:
+        raise ValueError("optimal truncation needs coefficients up to order >= 1")
+    with mpmath.workdps(30):
+        terms = [to_mpf(c) * mpmath.mpf(x) ** k for k, c in enumerate(coefficients)]
+        nonzero = [k for k in range(1, len(terms)) if terms[k] != 0]
+        if not nonzero:
+            return OptimalTruncation(mpf_to_float(terms[0]), 0.0, len(terms) - 1, True)
+        k_star = min(nonzero, key=lambda k: abs(terms[k]))
+        value = mpmath.fsum(terms[:k_star])
+        return OptimalTruncation(
+            value=mpf_to_float(value), error=mpf_to_float(abs(terms[k_star])),
+            order=int(k_star), reached_end=k_star == nonzero[-1],
+        )
