@@ -162,3 +162,14 @@ def test_large_order_detects_a_series_in_lambda_squared():
     # Odd orders of the cubic oscillator vanish by x → −x symmetry (common practice).
     lo = large_order(rs_exact_1d({3: 1}, 0, 40))
     assert lo.step == 2 and lo.kind == "factorial" and lo.sign == "fixed"
+
+
+def test_rounding_noise_in_vanishing_orders_is_treated_as_zero():
+    # Odd orders of the cubic vanish by symmetry (common practice); noise of 1e-15 relative
+    # (what the float engine leaves) must not change the analysis of the exact series.
+    exact = rs_exact_1d({3: 1}, 0, 30)
+    noisy = [float(c) if k % 2 == 0 else 1e-15 * float(exact[k - 1]) for k, c in
+             enumerate(exact)]
+    a, b = large_order(exact), large_order(noisy)
+    assert b.step == 2 and b.rate == pytest.approx(a.rate, rel=1e-12)
+    assert optimal_truncation(noisy, 0.05).order == optimal_truncation(exact, 0.05).order

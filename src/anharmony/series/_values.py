@@ -10,7 +10,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
-__all__ = ["as_float_array", "check_coefficients", "mpf_to_float", "to_mpf"]
+__all__ = ["as_float_array", "check_coefficients", "even_series", "mpf_to_float", "to_mpf"]
 
 
 def to_mpf(value: Any) -> mpmath.mpf:
@@ -47,3 +47,24 @@ def mpf_to_float(x: mpmath.mpf) -> float:
         return float(x)
     except OverflowError:  # pragma: no cover - mpmath returns inf itself in current versions
         return math.copysign(math.inf, float(mpmath.sign(x)))
+
+
+NEGLIGIBLE_RTOL = 1e-10  # an odd coefficient this much below both neighbours is rounding noise
+
+
+def even_series(coefficients: Sequence[Any]) -> list | None:
+    """The coefficients with odd orders set to 0 when every odd one is negligible, else None.
+
+    The numeric engine leaves rounding noise (~1e-15 relative to the neighbours) where an
+    order vanishes by symmetry (odd orders of a cubic well); ratio tests, smallest terms and
+    Padé systems must see those as the zeros they are. An odd c_k counts as negligible when
+    |c_k| ≤ 1e-10 · max(|c_{k−1}|, |c_{k+1}|).
+    """
+    if len(coefficients) < 3:
+        return None
+    mags = [abs(to_mpf(c)) for c in coefficients]
+    for k in range(1, len(mags), 2):
+        neighbour = max(mags[k - 1], mags[k + 1] if k + 1 < len(mags) else 0)
+        if mags[k] > NEGLIGIBLE_RTOL * neighbour:
+            return None
+    return [0 if k % 2 else c for k, c in enumerate(coefficients)]

@@ -10,7 +10,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from ._values import check_coefficients, to_mpf
+from ._values import check_coefficients, even_series, to_mpf
 
 __all__ = ["LargeOrder", "large_order"]
 
@@ -83,9 +83,9 @@ def large_order(
     """
     check_coefficients(coefficients)
     with mpmath.workdps(30):
-        c = [to_mpf(x) for x in coefficients]
-        odd_zero = len(c) > 2 and all(c[k] == 0 for k in range(1, len(c), 2))
-        step = 2 if odd_zero else 1
+        even = even_series(coefficients)
+        c = [to_mpf(x) for x in (coefficients if even is None else even)]
+        step = 1 if even is None else 2
         seq = c[::step]
         n = len(seq) - 1
         if n < 4:

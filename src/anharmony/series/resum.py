@@ -24,7 +24,7 @@ import numpy as np
 
 from anharmony.errors import NumericalError
 
-from ._values import as_float_array, check_coefficients, mpf_to_float, to_mpf
+from ._values import as_float_array, check_coefficients, even_series, mpf_to_float, to_mpf
 
 __all__ = ["BorelPade", "PadeApproximant", "borel_pade", "pade", "pade_approximant"]
 
@@ -155,7 +155,8 @@ def pade_approximant(
         method = "scipy" if (L + M <= SCIPY_MAX_ORDER and np.all(np.isfinite(floats))) else "mpmath"
     dps = 40 + 3 * (L + M)
     with mpmath.workdps(dps):
-        c = [to_mpf(x) for x in coefficients[:n]]
+        even = even_series(coefficients[:n])  # rounding noise in vanishing orders -> 0
+        c = [to_mpf(x) for x in (coefficients[:n] if even is None else even)]
         g = _growth_scale(c)
         scaled = [ck * g**k for k, ck in enumerate(c)]
         if method == "scipy":
@@ -333,7 +334,9 @@ def borel_pade(
     elif L is None or M is None:
         raise ValueError(f"give both L and M or neither; got L={L!r}, M={M!r}")
     with mpmath.workdps(40 + 3 * (L + M)):
-        borel = [to_mpf(c) / mpmath.factorial(k) for k, c in enumerate(coefficients)]
+        even = even_series(coefficients)
+        used = coefficients if even is None else even
+        borel = [to_mpf(c) / mpmath.factorial(k) for k, c in enumerate(used)]
         approx = _reducing_pade(borel, L, M)
         g = approx.scale
         p_low = list(approx.numerator)

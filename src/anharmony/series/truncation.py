@@ -13,7 +13,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from ._values import as_float_array, check_coefficients, mpf_to_float, to_mpf
+from ._values import as_float_array, check_coefficients, even_series, mpf_to_float, to_mpf
 
 __all__ = ["OptimalTruncation", "optimal_truncation", "partial_sums"]
 
@@ -80,7 +80,9 @@ class OptimalTruncation:
 def optimal_truncation(coefficients: Sequence[Any], lam: float) -> OptimalTruncation:
     """Optimal truncation at λ: stop before the smallest term; error ≈ that term.
 
-    Zero terms (orders that vanish by symmetry) are skipped when looking for the smallest.
+    Zero terms (orders that vanish by symmetry, also when the numeric engine leaves rounding
+    noise there: see :func:`~anharmony.series._values.even_series`) are skipped when looking
+    for the smallest.
     The smallest term is the global minimum of |c_k λ^k| over the nonzero terms with k ≥ 1
     (for an asymptotic series it is the point where the terms turn round). Common practice,
     e.g. Bender & Orszag, *Advanced Mathematical Methods for Scientists and Engineers* (1978),
@@ -91,7 +93,9 @@ def optimal_truncation(coefficients: Sequence[Any], lam: float) -> OptimalTrunca
     if len(coefficients) < 2:
         raise ValueError("optimal truncation needs coefficients up to order >= 1")
     with mpmath.workdps(30):
-        terms = [to_mpf(c) * mpmath.mpf(x) ** k for k, c in enumerate(coefficients)]
+        even = even_series(coefficients)
+        used = coefficients if even is None else even
+        terms = [to_mpf(c) * mpmath.mpf(x) ** k for k, c in enumerate(used)]
         nonzero = [k for k in range(1, len(terms)) if terms[k] != 0]
         if not nonzero:
             return OptimalTruncation(mpf_to_float(terms[0]), 0.0, len(terms) - 1, True)
