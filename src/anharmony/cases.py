@@ -50,6 +50,7 @@ __all__ = [
     "load_case",
     "load_cases",
     "parse_yaml",
+    "resolve_reference",
 ]
 
 CASE_SCHEMA = 1  # version of the case-file schema this module reads
@@ -1103,18 +1104,18 @@ class Task:
 def resolve_reference(case: Case, value: float | None) -> Any:
     """The reference oscillator of the case at one scan value (one per point, all channels).
 
-    For ``coupling`` scans it is the reference of the physical well (λ = 1) at every point.
+    It is resolved for the channel of lowest l (and lowest j) and shared by every channel, so
+    that each scan point has one ħω and b (DESIGN §6). For ``coupling`` scans it is the
+    reference of the physical well (λ = 1) at every point.
     """
     from .spectrum import reference_oscillator
 
     if case.scan_target.kind == "coupling":
         value = None
-    well = case.well_at(value)
-    channels = case.channels()
-    l0 = min((c.l for c in channels if c.l is not None), default=0)
-    return reference_oscillator(well, case.dimension, l=l0, mass=case.mass_at(value),
-                                levels=case.model.levels.count,
-                                spec=case.reference_spec(value))
+    first = min(case.channels(), key=lambda c: (-1 if c.l is None else c.l, c.j or 0.0))
+    return reference_oscillator(case.well_at(value), case.dimension, l=first.l,
+                                mass=case.mass_at(value), levels=case.model.levels.count,
+                                spec=case.reference_spec(value), j=first.j)
 
 
 def expand(case: Case, *, resolve: bool = True) -> list[Task]:

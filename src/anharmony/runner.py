@@ -26,12 +26,21 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
+from scipy.linalg import eig_banded
 
-from .cases import Case, CaseError, ChannelSpec, Problem, load_case, load_cases
+from .cases import (
+    Case,
+    CaseError,
+    ChannelSpec,
+    Problem,
+    load_case,
+    load_cases,
+    resolve_reference,
+)
 from .errors import NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import Power, Well
-from .spectrum import Reference, diagonalize, reference_oscillator
+from .spectrum import Reference, diagonalize
 from .store import CaseResult, build_dataset, empty_like_series, write_dataset
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -47,6 +56,7 @@ __all__ = [
 ]
 
 SAME_BASIS_RTOL = 1e-12  # references this close at every scan point share one basis
+BANDED_MAX_RATIO = 0.125  # banded eigensolver when half-bandwidth <= this * N (as the core)
 
 
 class Interrupted(BaseException):
@@ -83,14 +93,7 @@ def _core_channel(ch: ChannelSpec) -> Channel:
 
 
 def _reference_at(case: Case, value: float | None) -> Reference:
-    if case.scan_target.kind == "coupling":
-        value = None
-    well = case.well_at(value)
-    chans = case.channels()
-    first = min(chans, key=lambda c: (c.l if c.l is not None else -1, c.j or 0.0))
-    return reference_oscillator(well, case.dimension, l=first.l, mass=case.mass_at(value),
-                                levels=case.model.levels.count,
-                                spec=case.reference_spec(value), j=first.j)
+    return resolve_reference(case, value)
 
 
 def _basis_at(case: Case, value: float | None, ref: Reference) -> tuple[float, float]:
@@ -239,9 +242,8 @@ def _threshold(case: Case, well: Well, ch: ChannelSpec) -> float:
     return float(well.threshold(case.dimension, symmetric=ch.l is not None))
 
 
-def _fill_reference(case: Case, out: dict, k: int, ref: Reference, b: float) -> None:
-    out["frequency"][k] = case.units.frequency_from_length(b, case.mass_at(
-        case.scan_values()[k] if case.scan_target.kind != "coupling" else None))
+def _fill_reference(out: dict, k: int, ref: Reference, b: float, hw_basis: float) -> None:
+    out["frequency"][k] = hw_basis
     out["length"][k] = b
     out["ref_frequency"][k] = ref.frequency
     out["ref_length"][k] = ref.length
@@ -268,7 +270,7 @@ def _run_points(case: Case, job: Job) -> dict[str, Any]:
         well = case.well_at(value)
         mass = case.mass_at(value)
         b, center = _basis_at(case, value, ref)
-        _fill_reference(case, out, k, ref, b)
+        _fill_reference(out, k, ref, b, case.units.frequency_from_length(b, mass))
         for c in job.channels:
             ch = chans[c]
             mats = channel_hamiltonian(well, _core_channel(ch), n_build, b, center)
@@ -303,8 +305,11 @@ def _reference_well(case: Case, ref: Reference, radial: bool) -> Well:
 
 
 def _split_linear(case: Case, ch: ChannelSpec, ref: Reference, size: int, b: float,
-                  center: float) -> tuple[np.ndarray, np.ndarray, int | None]:
-    """Matrices A, B with H(s) = A + s B at the scan value s, and the half-bandwidth."""
+                  center: float) -> tuple[np.ndarray, np.ndarray, int | None, float, float]:
+    """A, B with H(s) = A + s B, the half-bandwidth, and the thresholds of the two parts.
+
+    For ``coupling`` the thresholds are those of the physical well and (unused) NaN.
+    """
     t = case.scan_target
     core = _core_channel(ch)
     radial = ch.l is not None
@@ -316,7 +321,7 @@ def _split_linear(case: Case, ch: ChannelSpec, ref: Reference, size: int, b: flo
         bmat = full.potential + full.spin_orbit - href.potential
         bw = None if full.bandwidth is None or href.bandwidth is None else max(
             full.bandwidth, href.bandwidth)
-        return a, bmat, bw
+        return a, bmat, bw, _threshold(case, well, ch), math.nan
     data = case.to_dict()
     terms = data["well"]
     term, name, *sub = t.keys
@@ -335,26 +340,69 @@ def _split_linear(case: Case, ch: ChannelSpec, ref: Reference, size: int, b: flo
     unit_well = Well.from_terms([unit], case.model.units, mass)
     mb = channel_hamiltonian(unit_well, core, size, b, center)
     if rest_terms:
-        rest = channel_hamiltonian(Well.from_terms(rest_terms, case.model.units, mass), core,
-                                   size, b, center)
+        rest_well = Well.from_terms(rest_terms, case.model.units, mass)
+        rest = channel_hamiltonian(rest_well, core, size, b, center)
         a = rest.total
         bw_a = rest.bandwidth
+        thr_rest = _threshold(case, rest_well, ch)
     else:
         a = mb.kinetic
         bw_a = 1 if radial else 2
+        thr_rest = 0.0
     bmat = mb.potential + mb.spin_orbit
     bw = None if bw_a is None or mb.bandwidth is None else max(bw_a, mb.bandwidth)
-    return a, bmat, bw
+    return a, bmat, bw, thr_rest, _threshold(case, unit_well, ch)
 
 
-def _coupling_threshold(case: Case, ch: ChannelSpec, lam: float) -> float:
-    thr = _threshold(case, case.well_at(None), ch)
+def _coupling_threshold(thr: float, lam: float) -> float:
+    """Threshold of λ V + (1 − λ) V_ref from that of V (V_ref confines)."""
     if lam == 1.0:
         return thr
     if lam < 1.0:
         return math.inf  # (1 − λ) V_ref confines
     # λ > 1: −(λ − 1) V_ref wins at large r unless V itself grows without bound
     return math.inf if thr == math.inf else -math.inf
+
+
+class _Pencil:
+    """H(s) = A + s B for one channel, kept banded where the solver of the core would be."""
+
+    def __init__(self, a: np.ndarray, b: np.ndarray, bandwidth: int | None) -> None:
+        n = a.shape[0]
+        self.bandwidth = bandwidth
+        self.banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * n
+        if self.banded:
+            u = bandwidth
+            self.a = np.zeros((u + 1, n))
+            self.b = np.zeros((u + 1, n))
+            for d in range(u + 1):  # upper form: ab[u + i - j, j] = h[i, j]
+                self.a[u - d, d:] = np.diagonal(a, d)
+                self.b[u - d, d:] = np.diagonal(b, d)
+        else:
+            self.a, self.b = a, b
+
+    def at(self, s: float) -> np.ndarray:
+        return self.a + s * self.b
+
+    def levels(self, h: np.ndarray, size: int, count: int) -> np.ndarray:
+        """Lowest ``count`` eigenvalues of the leading size×size block, NaN-padded."""
+        out = np.full(count, np.nan)
+        k = min(count, size)
+        if self.banded:
+            # the leading block of an upper-banded matrix is its first `size` columns
+            out[:k] = eig_banded(h[:, :size], lower=False, eigvals_only=True, select="i",
+                                 select_range=(0, k - 1))[:k]
+        else:
+            out[:k] = _levels_of(h, size, count, None)[:k]
+        return out
+
+
+def _linear_threshold(thr_rest: float, thr_unit: float, s: float) -> float:
+    """lim V of A + s B at infinity from the limits of its two parts (NaN if undecided)."""
+    if s == 0.0 or thr_unit == 0.0:
+        return thr_rest
+    with np.errstate(invalid="ignore"):
+        return float(np.float64(thr_rest) + np.float64(s) * np.float64(thr_unit))
 
 
 def _run_linear(case: Case, job: Job) -> dict[str, Any]:
@@ -370,28 +418,33 @@ def _run_linear(case: Case, job: Job) -> dict[str, Any]:
     ch = chans[c]
     refs = job.references
     b, center = _basis_at(case, values[0], refs[0])
-    a, bmat, bw = _split_linear(case, ch, refs[0], n_build, b, center)
+    a, bmat, bw, thr_rest, thr_unit = _split_linear(case, ch, refs[0], n_build, b, center)
+    pencil = _Pencil(a, bmat, bw)
     levels = _oscillator_levels(ch, count)
     coupling = case.scan_target.kind == "coupling"
+    mass = case.mass
+    hw_basis = case.units.frequency_from_length(b, mass)
     series_ok = True
     for k in job.points:
         s = values[k]
         ref = refs[k]
-        h = a + s * bmat
-        e = _levels_of(h, n_main, count, bw)
+        h = pencil.at(s)
+        e = pencil.levels(h, n_main, count)
         if coupling:
-            thr = _coupling_threshold(case, ch, s)
+            thr = _coupling_threshold(thr_rest, s)
         else:
-            thr = _threshold(case, case.well_at(s), ch)
+            thr = _linear_threshold(thr_rest, thr_unit, s)
+            if math.isnan(thr):
+                thr = _threshold(case, case.well_at(s), ch)
         out["energy"][k, c] = e
         out["bound"][k, c] = e < thr
         out["threshold"][k, c] = thr
         out["reference_energy"][k, c] = ref.v_min + ref.frequency * levels
-        _fill_reference(case, out, k, ref, b)
+        _fill_reference(out, k, ref, b, hw_basis)
         if smaller is not None:
-            out["smaller"][k, c] = _levels_of(h, smaller, count, bw)
+            out["smaller"][k, c] = pencil.levels(h, smaller, count)
         for i, size in enumerate(sizes):
-            out["convergence_energy"][k, c, :, i] = _levels_of(h, size, count, bw)
+            out["convergence_energy"][k, c, :, i] = pencil.levels(h, size, count)
         if case.model.perturbation is not None:
             well = case.well_at(None if coupling else s)
             series_ok &= _series_block(case, well, ch, ref, case.mass_at(
