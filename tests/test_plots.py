@@ -655,3 +655,63 @@ def test_palette_neighbours_differ_in_greyscale():
     ls = [_lstar(c) for c in _style.PALETTE]
     steps = [abs(a - b) for a, b in zip(ls, ls[1:] + ls[:1], strict=True)]
     assert min(steps) >= MIN_LSTAR_STEP
+
+
+# =========================================================================== command line
+@pytest.fixture(scope="module")
+def quartic_file(quartic, tmp_path_factory):
+    from anharmony.store import write_dataset
+
+    return write_dataset(quartic, tmp_path_factory.mktemp("result") / "quartic-3d.nc")
+
+
+def test_a_result_file_plots_the_same_numbers_as_its_dataset(quartic, quartic_file):
+    from_file = lines_by_gid(plots.make_figure(quartic_file, "flow"))
+    from_memory = lines_by_gid(plots.make_figure(quartic, "flow"))
+    assert from_file.keys() == from_memory.keys()
+    for gid, xy in from_memory.items():
+        assert_same(from_file[gid], xy)
+
+
+def test_plot_command_writes_the_figure(quartic_file, tmp_path, capsys):
+    from anharmony.cli import main
+
+    out = tmp_path / "scheme.svg"
+    assert main(["plot", str(quartic_file), "--kind", "scheme", "-o", str(out)]) == 0
+    assert image_size(out) == pytest.approx((72 * plots.KINDS["scheme"].size[0],
+                                             72 * plots.KINDS["scheme"].size[1]), abs=1)
+
+
+@pytest.mark.parametrize(("args", "words"), [
+    (["--kind", "flow", "--channel", "h11/2"], ["no channel 'h11/2'", "s, p, d"]),
+    (["--kind", "well", "--scan", "7"], ["scan_index", "0…4"]),
+])
+def test_plot_command_bad_request_exits_2_with_one_line(quartic_file, tmp_path, capsys, args,
+                                                        words):
+    from anharmony.cli import main
+
+    code = main(["plot", str(quartic_file), "-o", str(tmp_path / "f.png"), *args])
+    err = capsys.readouterr().err.strip()
+    assert code == 2
+    assert len(err.splitlines()) == 1
+    for w in words:
+        assert w in err
+    assert not (tmp_path / "f.png").exists()
+
+
+def test_plot_command_missing_file_exits_2_with_one_line(tmp_path, capsys):
+    from anharmony.cli import main
+
+    code = main(["plot", str(tmp_path / "gone.nc"), "--kind", "flow", "-o",
+                 str(tmp_path / "f.png")])
+    err = capsys.readouterr().err.strip()
+    assert code == 2 and len(err.splitlines()) == 1 and "no such result file" in err
+
+
+def test_well_says_when_the_rebuilt_levels_are_not_the_files(synthetic):
+    ds = synthetic.copy(deep=True)
+    ds["energy"].values[1, 0, :] += 0.3  # energies that the stored case cannot give
+    fig = plots.make_figure(ds, "well", scan_index=1)
+    assert any(t.startswith("note: the rebuilt well's levels differ") for t in texts(fig))
+    fig = plots.make_figure(synthetic, "well", scan_index=1)
+    assert not any(t.startswith("note:") for t in texts(fig))

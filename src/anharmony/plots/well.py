@@ -38,6 +38,7 @@ SIZE = (6.4, 4.8)
 GRID_POINTS = 1200  # samples of the coordinate: smooth curves, small files
 DENSITY_CUT = 2e-3  # the view ends where every density is below this fraction of its peak
 DENSITY_HEIGHT = 0.75  # tallest density peak, as a fraction of the typical level spacing
+REBUILD_MISMATCH = 1e-3  # of the level spacing: beyond this the rebuilt levels are not the file's
 
 
 @dataclass(frozen=True)
@@ -153,7 +154,7 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
         if radial:
             cent = (l + 0.5 * (d - 3)) * (l + 0.5 * (d - 1))  # u = r^{(d−1)/2} R
             extra = np.zeros_like(coords)
-            if cent != 0:
+            if cent != 0 and l > 0:  # l = 0 in 2D: −¼/r² is an artefact of u = √r R
                 extra = extra + kin * cent / coords**2
             if well.has_spin_orbit and channel.ls != 0.0:
                 extra = extra + lam * channel.ls * well.spin_orbit_value(coords)
@@ -237,6 +238,13 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
                 gid="effective_potential", zorder=3)
         handles.append(proxy(lw=1.0, ls=(0, (5, 2)), label="V + centrifugal"
                              + (" + spin–orbit" if view.has("j") else "")))
+    if levels:
+        # the densities come from a new diagonalisation; say so if it does not reproduce the file
+        moved = max(abs(pic.energies[n] - energy[n]) for n in levels)
+        if moved > REBUILD_MISMATCH * spacing:
+            ax.text(0.99, 0.01, f"note: the rebuilt well's levels differ from the file's by up "
+                    f"to {moved:.3g}", transform=ax.transAxes, ha="right", va="bottom",
+                    fontsize=6.5, color=_style.INK, gid="rebuild_note")
     ends = []
     for i, n in enumerate(levels):
         col = _style.colour(i)
