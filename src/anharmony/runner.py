@@ -19,6 +19,7 @@ import os
 import signal
 import sys
 import traceback
+import uuid
 import warnings
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
@@ -659,8 +660,15 @@ def _init_worker() -> None:
     # the parent decides when to stop; workers must not die half-way on a Ctrl-C of the group
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    # one BLAS thread per worker: the pool already fills the cores (PITFALLS §6); the
+    # environment only reaches libraries loaded later, threadpoolctl (if present) the loaded
     for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ.setdefault(var, "1")
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        return
+    threadpool_limits(1)
 
 
 def _guarded(args: tuple[Case, Job]) -> tuple[int, Job, dict | None, str | None]:
@@ -709,8 +717,9 @@ def _distributed(items: Sequence[tuple[Case, Job]], address: str) -> Iterator[tu
     client = address if not isinstance(address, str) else Client(address)
     own = isinstance(address, str)
     try:
-        futures = [client.submit(_guarded, item, key=f"anharmony-{item[1].case_key}-{i}",
-                                 pure=False) for i, item in enumerate(items)]
+        token = uuid.uuid4().hex[:12]  # keys unique per batch: tasks are never merged
+        futures = [client.submit(_guarded, item, key=f"anharmony-{token}-{i}", pure=False)
+                   for i, item in enumerate(items)]
         try:
             for fut in as_completed(futures):
                 yield fut.result()
