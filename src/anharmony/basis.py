@@ -36,6 +36,7 @@ QUADRATURE_RTOL = 1e-13  # default: matrix elements stable to ~50 ulp of the lar
 _RESCALE = 1e100  # rescale when a value exceeds this (squares stay below the double range)
 _MAX_POINTS = 20000  # hard cap of the adaptive quadrature
 _PANEL_ORDER = 24  # Gauss–Legendre points per panel
+_NOISE_ULPS = 1e4  # rounding floor of a quadrature matrix element, in ulp of max |f|
 _PANEL_MARGIN = 7.0  # panels reach this far (in b) beyond the outermost turning point
 
 
@@ -194,14 +195,18 @@ class _Basis:
             When the matrix still changes at the point cap; the message names the term.
         """
         if points is not None:
-            return self._quad_matrix(f, points, kind, breaks)
+            return self._quad_matrix(f, points, kind, breaks)[0]
         m = self.size + 24
-        prev = self._quad_matrix(f, m, kind, breaks)
+        prev, _ = self._quad_matrix(f, m, kind, breaks)
         while True:
             m = _next_points(m)
-            cur = self._quad_matrix(f, m, kind, breaks)
+            cur, fmax = self._quad_matrix(f, m, kind, breaks)
             scale = float(np.max(np.abs(cur))) or 1.0
             delta = float(np.max(np.abs(cur - prev)))
+            # rounding floor: each element sums f u_q u_q' with Σ u_q² = 1, so its rounding
+            # error is a few thousand ulp of max |f| at most
+            floor = _NOISE_ULPS * np.finfo(float).eps * fmax
+            delta = max(0.0, delta - floor)
             if not np.all(np.isfinite(cur)):
                 raise NumericalError("a term of the well is not finite at some quadrature "
                                      "points; check its formula and the basis length")
@@ -220,8 +225,10 @@ class _Basis:
             fv = np.asarray(f(coords), dtype=float)
             fu = fv[:, None] * u
         fu[u == 0.0] = 0.0  # f huge where the functions vanish to the last bit: contributes 0
+        significant = np.any(u != 0.0, axis=1)
+        fmax = float(np.max(np.abs(fv[significant]), initial=0.0))
         a = u.T @ fu
-        return 0.5 * (a + a.T)
+        return 0.5 * (a + a.T), fmax
 
 
 @dataclass(frozen=True)

@@ -162,7 +162,8 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,  # n
     centre of the terms when it is fair: V″ > 0, the lowest oscillator level lies below the
     threshold, and at the classical turning point of that level the well differs from its
     harmonic approximation by less than the level's excitation energy. Otherwise b minimises
-    the sum of the lowest ``levels`` energies of the channel in a basis of 16 states.
+    the sum of the lowest ``levels`` energies of the channel in a basis of 16 states (each
+    clamped at the threshold, so that continuum states do not pull b outwards).
     """
     if mass is not None:
         well = well.with_context(well.units, mass)
@@ -233,11 +234,13 @@ def _variational_length(well: Well, channel: Channel, x0: float, levels: int, gu
                         ) -> float:
     size = max(_VARIATIONAL_SIZE, levels + 4)
     k = min(levels, size)
+    threshold = well.threshold(channel.dimension, symmetric=channel.l is not None)
 
     def total(logb: float) -> float:
         m = channel_hamiltonian(well, channel, size, math.exp(logb), x0)
         e, _ = diagonalize(m.total, k, m.bandwidth)
-        return float(np.sum(e))
+        # levels above the threshold are continuum states: clamped, they cannot drag b outwards
+        return float(np.sum(np.minimum(e, threshold)))
 
     lo, hi = math.log(guess) - math.log(20.0), math.log(guess) + math.log(5.0)
     grid = np.linspace(lo, hi, 13)
