@@ -715,3 +715,9 @@ def test_well_says_when_the_rebuilt_levels_are_not_the_files(synthetic):
     assert any(t.startswith("note: the rebuilt well's levels differ") for t in texts(fig))
     fig = plots.make_figure(synthetic, "well", scan_index=1)
     assert not any(t.startswith("note:") for t in texts(fig))
+
+
+def test_title_and_size_options(synthetic):
+    fig = plots.make_figure(synthetic, "scheme", title="Invented nucleus", size=(5.0, 4.0))
+    assert fig.get_suptitle() == "Invented nucleus"
+    assert tuple(fig.get_size_inches()) == (5.0, 4.0)
