@@ -1,0 +1,173 @@
+"""One channel of a well, resolved once for every convergence tool.
+
+The convergence tools all need the same things: the well in its unit system, the channel, the
+reference oscillator (for the starting length and, in 1D, the centre), the threshold, ħ²/2m, and
+the part of the potential that is not folded into the kinetic matrix (everything but the
+inverse-square terms, plus the spin–orbit form times ⟨l·s⟩). :func:`make_problem` validates the
+arguments the way :func:`anharmony.solve` does and returns a frozen :class:`Problem`.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..basis import HermiteBasis, RadialBasis
+from ..hamiltonian import (
+    Channel,
+    ChannelMatrices,
+    channel_hamiltonian,
+    effective_lambda,
+    make_basis,
+    parse_j,
+)
+from ..potentials import Term, Well
+from ..spectrum import Reference, reference_oscillator
+from ..units import UnitSystem, get_units
+
+__all__ = ["Problem", "make_problem"]
+
+# Terms that are analytic functions of the basis variable (x in 1D, r² for radial bases), so
+# that the oscillator basis converges faster than any power of N (common practice, no source).
+_SMOOTH_1D = {"harmonic", "power", "polynomial", "gaussian", "morse", "poschl_teller"}
+_SMOOTH_RADIAL = {"harmonic", "gaussian", "poschl_teller"}
+
+
+@dataclass(frozen=True)
+class Problem:
+    """A resolved channel of a well (internal to :mod:`anharmony.convergence`)."""
+
+    well: Well
+    channel: Channel
+    reference: Reference
+    center: float
+    threshold: float
+    hbar2_2m: float
+    units: UnitSystem
+    mass: float | None
+    lam: float | None  # effective λ when inverse-square terms are absorbed
+    rest: tuple[Term, ...]  # central terms left for the potential matrix
+
+    @property
+    def radial(self) -> bool:
+        return self.channel.l is not None
+
+    @property
+    def nu(self) -> float:
+        """ν = λ + d/2 − 1 of the radial channel (−1/2 and 1/2 for the 1D parities)."""
+        lam = float(self.channel.l if self.lam is None else self.lam)
+        return lam + 0.5 * self.channel.dimension - 1.0
+
+    @property
+    def lowest_shell(self) -> float:
+        """Angular part of the highest-shell formula N = 2(size − 1) + λ (0 in 1D)."""
+        if not self.radial:
+            return 0.0
+        return float(self.channel.l if self.lam is None else self.lam)
+
+    def basis(self, size: int, length: float) -> HermiteBasis | RadialBasis:
+        return make_basis(self.well, self.channel, size, length, self.center)
+
+    def hamiltonian(self, size: int, length: float) -> ChannelMatrices:
+        return channel_hamiltonian(self.well, self.channel, size, length, self.center)
+
+    def frequency(self, length: float) -> float:
+        return 2.0 * self.hbar2_2m / length**2
+
+    def potential(self, coords: np.ndarray) -> np.ndarray:
+        """Potential not contained in the kinetic matrix, at physical coordinates."""
+        coords = np.asarray(coords, dtype=float)
+        out = np.zeros_like(coords)
+        with np.errstate(all="ignore"):
+            for t in self.rest:
+                out = out + t.value(coords)
+            if self.well.has_spin_orbit and self.channel.ls != 0.0:
+                out = out + self.channel.ls * self.well.spin_orbit_value(coords)
+        return out
+
+    @property
+    def polynomial(self) -> bool:
+        """True when every matrix of the channel is exact and banded (a polynomial well)."""
+        if self.well.has_spin_orbit and self.channel.ls != 0.0:
+            return False
+        for t in self.rest:
+            poly = t.polynomial()
+            if poly is None or (self.radial and any(p % 2 for p in poly)):
+                return False
+        return True
+
+    @property
+    def smooth(self) -> bool:
+        """True when the well is analytic in the basis variable (fast, super-algebraic UV)."""
+        if self.polynomial:
+            return True
+        if self.well.has_spin_orbit and self.channel.ls != 0.0:
+            return False
+        allowed = _SMOOTH_RADIAL if self.radial else _SMOOTH_1D
+        for t in self.rest:
+            if t.kind not in allowed:
+                if t.polynomial() is not None and not self.radial:
+                    continue
+                return False
+            if t.kind == "power" and (self.radial or t.exponent != int(t.exponent)):
+                return False
+        return True
+
+    @property
+    def breaks(self) -> tuple[float, ...]:
+        """Coordinates where a term has a kink (Coulomb sphere radius, power-law centre)."""
+        out: list[float] = []
+        for t in self.rest:
+            if t.kind == "coulomb":
+                out += [t.radius] if self.radial else [-t.radius, t.radius]
+            elif t.kind == "power" and not self.radial:
+                out.append(t.center)
+        return tuple(out)
+
+
+def make_problem(well: Well, dimension: int, l: int | None, j: Any,
+                 units: str | UnitSystem, mass: float | None, levels: int,
+                 reference: str | Mapping[str, float]) -> Problem:
+    """Validate the channel arguments as :func:`anharmony.solve` does and resolve them."""
+    if not isinstance(well, Well):
+        raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
+    if isinstance(dimension, bool) or dimension not in (1, 2, 3):
+        raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
+    system = get_units(units)
+    if mass is not None and (isinstance(mass, bool) or not isinstance(mass, (int, float))
+                             or not math.isfinite(mass) or mass <= 0):
+        raise ValueError(f"mass: must be a positive number; got {mass!r}")
+    well = well.with_context(system, mass)
+    channel = Channel(dimension, l, parse_j(j))
+    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
+        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
+                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
+    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
+        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
+                         "for the basis without symmetry")
+    ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
+    radial = channel.l is not None
+    lam, rest = effective_lambda(well, channel)
+    return Problem(
+        well=well, channel=channel, reference=ref, center=0.0 if radial else ref.center,
+        threshold=float(well.threshold(dimension, symmetric=radial)),
+        hbar2_2m=system.hbar2_over_2m(mass), units=system, mass=mass, lam=lam, rest=rest)
+
+
+def check_count(name: str, value: Any, minimum: int = 1) -> int:
+    """An integer ≥ ``minimum``, or a ValueError naming the parameter."""
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < minimum:
+        raise ValueError(f"{name}: must be an integer >= {minimum}; got {value!r}")
+    return int(value)
+
+
+def check_positive(name: str, value: Any) -> float:
+    """A finite positive number, or a ValueError naming the parameter."""
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)) \
+            or not math.isfinite(value) or value <= 0:
+        raise ValueError(f"{name}: must be a positive number; got {value!r}")
+    return float(value)

@@ -1,0 +1,599 @@
+"""Convergence of the levels of one channel: scans, extrapolation, bounds and tolerance runs.
+
+:func:`converge` is the front end. It scans basis sizes × oscillator lengths, extrapolates each
+level to the infinite basis by every model that applies (:mod:`.extrapolate`), computes the
+residual bounds of the best basis (:mod:`.bounds`), optionally cross-checks with a solver of
+another family (:mod:`.mesh`), and — given a tolerance — grows the basis (re-centring the
+length grid on the new optimum each time) until every bound level's error estimate is below
+it or the size limit is reached.
+
+How ``error_estimate`` is chosen, per level (the reason is stored in the report):
+
+1. Each model is fitted at every length of the grid; per model the valid fit with the smallest
+   uncertainty is kept. A fit whose E∞ lies above the level's lowest Ritz value by more than its
+   uncertainty contradicts the variational principle and is dropped.
+2. The *used* extrapolation is the kept fit with the smallest uncertainty; its estimate of the
+   Ritz error is (E_Ritz − E∞) + uncertainty.
+3. Where the Kato–Temple bound applies (gap assumption met), the Ritz error is at most
+   E_Ritz − E_KT. If that is smaller, it is used instead ("kato_temple").
+4. Without any of these, the change of the level over the last size step is used
+   ("difference", a rough estimate), or inf with a single size.
+
+``converged`` is error_estimate < tolerance for bound levels; levels above the threshold are
+discretised-continuum states and are never converged.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import warnings
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..errors import ConvergenceWarning
+from ..hamiltonian import Channel
+from ..potentials import Well
+from ..spectrum import Reference
+from ..units import UnitSystem
+from ._problem import Problem, check_count, check_positive, make_problem
+from .bounds import ResidualBounds, combine_bounds, compute_bounds
+from .extrapolate import (
+    Extrapolation,
+    extrapolate_exponential,
+    extrapolate_infrared,
+    extrapolate_power,
+)
+from .mesh import CrossCheck, run_cross_check
+from .scans import BasisScan, auto_scan, check_sizes, resolve_lengths, run_scan
+
+__all__ = [
+    "DEFAULT_MAX_SIZE",
+    "DEFAULT_RTOL",
+    "METHODS",
+    "ConvergenceReport",
+    "ConvergenceSettings",
+    "converge",
+    "size_ladder",
+]
+
+METHODS = ("exponential", "power", "infrared")
+DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explicit limit
+DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
+DEFAULT_RTOL = 1e-8  # without a tolerance, "converged" means error < DEFAULT_RTOL · ħω_ref
+LADDER_RATIO = math.sqrt(2.0)  # successive sizes of the default ladder
+_IR_LENGTHS = ("eigenvalue", "closed_form")
+
+
+def size_ladder(start: int, stop: int, ratio: float = LADDER_RATIO) -> tuple[int, ...]:
+    """Sizes start, start·ratio, … (rounded, distinct) up to and including ``stop``."""
+    out = []
+    x = float(start)
+    while round(x) < stop:
+        if not out or round(x) > out[-1]:
+            out.append(round(x))
+        x *= ratio
+    out.append(int(stop))
+    return tuple(out)
+
+
+# --------------------------------------------------------------------------- settings
+_KEYS = ("sizes", "lengths", "frequencies", "tolerance", "max_size", "cross_check", "bounds",
+         "ir_length")
+
+
+@dataclass(frozen=True)
+class ConvergenceSettings:
+    """The ``convergence:`` block of a case, validated.
+
+    Attributes
+    ----------
+    sizes : tuple of int or None
+        Basis sizes; None: the default ladder 10, 14, 20, 28, 40, … (ratio √2).
+    lengths : tuple of float or None
+        Oscillator lengths; None means ``auto`` (a grid re-centred on the optimum).
+    frequencies : tuple of float or None
+        ħω values instead of lengths.
+    tolerance : float or None
+        Target of the error estimate; with it the basis grows until every bound level meets it.
+    max_size : int or None
+        Size limit of a tolerance-driven run (default: the largest of ``sizes``, or 320).
+    cross_check : bool
+        Also run the cross-check solver of another family.
+    bounds : bool
+        Compute the residual bounds (variance, Weinstein, Kato–Temple).
+    ir_length : str
+        ``"eigenvalue"`` (Wendt et al. 2015) or ``"closed_form"`` (L₂ of More et al. 2013).
+    """
+
+    sizes: tuple[int, ...] | None = None
+    lengths: tuple[float, ...] | None = None
+    frequencies: tuple[float, ...] | None = None
+    tolerance: float | None = None
+    max_size: int | None = None
+    cross_check: bool = False
+    bounds: bool = True
+    ir_length: str = "eigenvalue"
+
+    @classmethod
+    def from_mapping(cls, block: Mapping[str, Any] | None, path: str = "convergence"
+                     ) -> ConvergenceSettings:
+        """Validate a case-file mapping; errors name ``path.key`` and what was expected."""
+        if block is None:
+            return cls()
+        if not isinstance(block, Mapping):
+            raise ValueError(f"{path}: must be a mapping; got {block!r}")
+        for key in block:
+            if key not in _KEYS:
+                near = difflib.get_close_matches(str(key), _KEYS, n=1)
+                hint = f" (did you mean {near[0]!r}?)" if near else ""
+                raise ValueError(f"{path}.{key}: unknown key{hint}; valid keys: "
+                                 f"{', '.join(_KEYS)}")
+        kw: dict[str, Any] = {}
+        if block.get("sizes") is not None:
+            kw["sizes"] = check_sizes(block["sizes"], f"{path}.sizes")
+        lengths = block.get("lengths")
+        if lengths is not None and lengths != "auto":
+            kw["lengths"] = _positive_list(lengths, f"{path}.lengths")
+        if block.get("frequencies") is not None:
+            if "lengths" in kw:
+                raise ValueError(f"{path}.frequencies: give lengths or frequencies, not both")
+            kw["frequencies"] = _positive_list(block["frequencies"], f"{path}.frequencies")
+        if block.get("tolerance") is not None:
+            kw["tolerance"] = check_positive(f"{path}.tolerance", block["tolerance"])
+        if block.get("max_size") is not None:
+            kw["max_size"] = check_count(f"{path}.max_size", block["max_size"], 2)
+        for key in ("cross_check", "bounds"):
+            if key in block:
+                if not isinstance(block[key], bool):
+                    raise ValueError(f"{path}.{key}: must be true or false; got {block[key]!r}")
+                kw[key] = block[key]
+        if "ir_length" in block:
+            if block["ir_length"] not in _IR_LENGTHS:
+                raise ValueError(f"{path}.ir_length: must be one of {', '.join(_IR_LENGTHS)}; "
+                                 f"got {block['ir_length']!r}")
+            kw["ir_length"] = block["ir_length"]
+        return cls(**kw)
+
+    def keywords(self) -> dict[str, Any]:
+        """Keyword arguments of :func:`converge`."""
+        return {"sizes": self.sizes, "lengths": self.lengths or "auto",
+                "frequencies": self.frequencies, "tolerance": self.tolerance,
+                "max_size": self.max_size, "cross_check": self.cross_check,
+                "bounds": self.bounds, "ir_length": self.ir_length}
+
+
+def _positive_list(values: Any, name: str) -> tuple[float, ...]:
+    if isinstance(values, (str, bytes)) or not isinstance(values, Sequence) or not values:
+        raise ValueError(f"{name}: must be 'auto' or a non-empty list of positive numbers; "
+                         f"got {values!r}")
+    out = tuple(check_positive(f"{name}[{i}]", v) for i, v in enumerate(values))
+    if len(set(out)) != len(out):
+        raise ValueError(f"{name}: values must be distinct; got {list(values)!r}")
+    return out
+
+
+# --------------------------------------------------------------------------- report
+@dataclass(frozen=True)
+class ConvergenceReport:
+    """Convergence of the lowest levels of one channel.
+
+    Attributes
+    ----------
+    channel : Channel
+    levels : int
+    energies : ndarray, shape (levels,)
+        Lowest Ritz value of each level at the final size (over the length grid); each an
+        upper bound on its exact level.
+    best_lengths : ndarray, shape (levels,)
+        Grid length giving each level's Ritz value.
+    optimal_lengths : ndarray, shape (levels,)
+        Each level's optimal length at the final size (parabola-refined).
+    joint_length : float
+        Length minimising the sum of the bound levels at the final size.
+    size : int
+        Final (largest) basis size.
+    bound : ndarray of bool
+        Below the threshold.
+    extrapolated, uncertainty : ndarray
+        E∞ of the used extrapolation and its uncertainty (NaN/inf when none applied).
+    error_estimate : ndarray
+        Estimated |E − E_exact| of :attr:`energies`.
+    converged : ndarray of bool
+        error_estimate < tolerance, bound levels only.
+    method : tuple of str
+        What error_estimate uses per level: ``exponential``, ``power``, ``infrared``,
+        ``kato_temple``, ``difference`` or ``none``.
+    reason : tuple of str
+        Why, per level.
+    extrapolations : tuple of dict
+        Per level, the kept fit of every model (valid or not), by method name.
+    spread : ndarray
+        Largest difference between the E∞ of the valid models (NaN with fewer than two).
+    scan : BasisScan
+        The final scan: energy(level, size, length) (:attr:`scan_energies`).
+    bounds : ResidualBounds or None
+        Variance-based bounds of each level at its best basis.
+    cross_check : CrossCheck or None
+    tolerance : float
+        The tolerance used for ``converged`` (the default DEFAULT_RTOL · ħω_ref without one).
+    tolerance_driven : bool
+    size_limit : int
+    stopped : str
+        Why the basis stopped growing.
+    history : tuple
+        (size, error_estimate per level) after each size step.
+    messages : tuple of str
+        The texts of the warnings about non-converged levels.
+    notes : tuple of str
+        Statements that go with the numbers (upper bounds, Kato–Temple assumption).
+    """
+
+    channel: Channel
+    levels: int
+    energies: np.ndarray
+    best_lengths: np.ndarray
+    optimal_lengths: np.ndarray
+    joint_length: float
+    size: int
+    bound: np.ndarray
+    extrapolated: np.ndarray
+    uncertainty: np.ndarray
+    error_estimate: np.ndarray
+    converged: np.ndarray
+    method: tuple[str, ...]
+    reason: tuple[str, ...]
+    extrapolations: tuple[dict[str, Extrapolation], ...]
+    spread: np.ndarray
+    scan: BasisScan
+    bounds: ResidualBounds | None
+    cross_check: CrossCheck | None
+    tolerance: float
+    tolerance_driven: bool
+    size_limit: int
+    stopped: str
+    threshold: float
+    units: UnitSystem
+    reference: Reference
+    history: tuple[tuple[int, tuple[float, ...]], ...] = ()
+    messages: tuple[str, ...] = ()
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def sizes(self) -> np.ndarray:
+        return self.scan.sizes
+
+    @property
+    def lengths(self) -> np.ndarray:
+        return self.scan.lengths
+
+    @property
+    def scan_energies(self) -> np.ndarray:
+        """energy(level, size, length) of the final scan, shape (levels, S, B)."""
+        return self.scan.energies[: self.levels]
+
+    @property
+    def cross_check_difference(self) -> np.ndarray:
+        """:attr:`energies` − cross-check levels (NaN without a cross-check)."""
+        if self.cross_check is None:
+            return np.full(self.levels, np.nan)
+        return self.cross_check.difference(self.energies)
+
+    def error_of(self, energies: Sequence[float]) -> np.ndarray:
+        """Error estimate of other values of the same levels: |E − energies_k| + error_k.
+
+        Use it for the energies of another basis of the same channel (e.g. the case's
+        ``basis:`` block), by the triangle inequality.
+        """
+        e = np.asarray(energies, dtype=float)
+        k = min(e.size, self.levels)
+        out = np.full(e.size, np.nan)
+        out[:k] = np.abs(e[:k] - self.energies[:k]) + self.error_estimate[:k]
+        return out
+
+    def summary(self) -> str:
+        """A plain-text table of the levels (for logs; the library itself prints nothing)."""
+        u = self.units.energy
+        lines = [f"channel {self.channel.label}: size {self.size}, {self.stopped}"]
+        for k in range(self.levels):
+            lab = self.channel.level_label(k)
+            lines.append(
+                f"  {lab:>8} E = {self.energies[k]:.12g} {u}  error <= {self.error_estimate[k]:.2e}"
+                f" ({self.method[k]})  {'converged' if self.converged[k] else 'NOT converged'}"
+                f"{'' if self.bound[k] else '  [above threshold]'}")
+        lines += [f"  note: {n}" for n in self.notes]
+        return "\n".join(lines)
+
+
+# --------------------------------------------------------------------------- analysis
+@dataclass(frozen=True)
+class _LevelEstimate:
+    extrapolated: float
+    uncertainty: float
+    error: float
+    method: str
+    reason: str
+    fits: dict[str, Extrapolation]
+    spread: float
+
+
+def _fits(scan: BasisScan, level: int, ir_length: str) -> dict[str, Extrapolation]:
+    """Per model, the valid fit with the smallest uncertainty over the grid lengths."""
+    best_ritz = float(scan.best_energies()[level])
+    out: dict[str, Extrapolation] = {}
+    xs = scan.ir_lengths if ir_length == "eigenvalue" else scan.closed_form_lengths
+    for method in METHODS:
+        cands = []
+        for jb, b in enumerate(scan.lengths):
+            e = scan.energies[level, :, jb]
+            ok = np.isfinite(e)
+            if ok.sum() < 3:
+                continue
+            sizes, vals = scan.sizes[ok], e[ok]
+            noise = float(scan.noise[ok, jb][-1])
+            if method == "exponential":
+                fit = extrapolate_exponential(sizes, vals, noise, float(b))
+            elif method == "power":
+                fit = extrapolate_power(sizes, vals, noise, float(b))
+            else:
+                fit = extrapolate_infrared(xs[ok, jb], vals, scan.threshold, scan.hbar2_2m,
+                                           noise, float(b), sizes)
+            if fit.valid and fit.value > best_ritz + fit.uncertainty:
+                fit = Extrapolation(fit.method, math.nan, math.inf, False, fit.rate,
+                                    fit.quality, fit.length, fit.sizes,
+                                    f"E-infinity {fit.value:.10g} lies above the variational "
+                                    f"bound {best_ritz:.10g}", fit.consistency)
+            cands.append(fit)
+        if not cands:
+            out[method] = Extrapolation(method, math.nan, math.inf, False,
+                                        note="fewer than three sizes at every length")
+            continue
+        valid = [c for c in cands if c.valid]
+        if valid:
+            out[method] = min(valid, key=lambda c: c.uncertainty)
+        else:  # keep the fit at the best length, to say why it failed
+            jb = scan.best_length_index(level)
+            out[method] = next((c for c in cands if c.length == float(scan.lengths[jb])),
+                               cands[-1])
+    return out
+
+
+def _estimate(problem: Problem, scan: BasisScan, level: int, ir_length: str,
+              bounds: ResidualBounds | None) -> _LevelEstimate:
+    fits = _fits(scan, level, ir_length)
+    ritz = float(scan.best_energies()[level])
+    valid = {m: f for m, f in fits.items() if f.valid}
+    values = [f.value for f in valid.values()]
+    spread = float(max(values) - min(values)) if len(values) > 1 else math.nan
+    cand: list[tuple[float, str, str, float, float]] = []
+    if valid:
+        m, f = min(valid.items(), key=lambda mf: mf[1].uncertainty)
+        others = ", ".join(x for x in valid if x != m) or "none"
+        why = (f"{m} extrapolation at b = {f.length:.4g} over sizes "
+               f"{list(f.sizes[-3:])}: smallest uncertainty of the valid models "
+               f"(others valid: {others})")
+        if m == "infrared":
+            why += f"; fitted decay {f.consistency:.3f} x 2 kappa_inf"
+        elif m == "exponential" and not problem.smooth:
+            why += "; note: the well is not analytic in the basis variable"
+        unc = f.uncertainty
+        if math.isfinite(spread) and spread > unc:
+            unc = spread
+            why += "; uncertainty raised to the spread of the valid models"
+        cand.append((max(ritz - f.value, 0.0) + unc, m, why, f.value, unc))
+    if bounds is not None:
+        width = float(bounds.kato_temple_width[level])
+        if math.isfinite(width) and width >= 0:
+            cand.append((width, "kato_temple",
+                         f"Kato-Temple bound sigma^2/(beta - E) with sigma = "
+                         f"{bounds.sigma[level]:.3g}, gap estimate beta = {bounds.gap[level]:.6g}"
+                         f" (assumes the next exact level lies above beta)", math.nan, math.nan))
+    noise = float(scan.noise[-1, scan.best_length_index(level)])
+    if cand:
+        err, m, why, e_inf, unc = min(cand, key=lambda c: c[0])
+        if m == "kato_temple" and len(cand) > 1:
+            e_inf, unc = cand[0][3], cand[0][4]
+            why += "; tighter than the extrapolations"
+        if err < noise:
+            err = noise
+            why += f"; raised to the rounding scale eps*||H|| = {noise:.2e}"
+        return _LevelEstimate(e_inf, unc, err, m, why, fits, spread)
+    # fallback: change over the last size step at the best lengths
+    if scan.sizes.size >= 2:
+        prev = float(scan.best_energies(int(scan.sizes[-2]))[level])
+        if math.isfinite(prev):
+            err = max(abs(prev - ritz), noise)
+            return _LevelEstimate(math.nan, math.inf, err, "difference",
+                                  "no model applied: change of the level over the last size "
+                                  f"step ({scan.sizes[-2]} -> {scan.sizes[-1]}), a rough "
+                                  "estimate", fits, spread)
+    return _LevelEstimate(math.nan, math.inf, math.inf, "none",
+                          "a single size and no bound: nothing to estimate from", fits, spread)
+
+
+def _level_bounds(problem: Problem, scan: BasisScan, nlev: int, levels: int) -> ResidualBounds:
+    """Bounds of each level at its best grid length (one computation per distinct length)."""
+    n = int(scan.sizes[-1])
+    by_length: dict[int, ResidualBounds] = {}
+    parts: dict[int, ResidualBounds] = {}
+    for k in range(levels):
+        jb = scan.best_length_index(k)
+        if jb not in by_length:
+            by_length[jb] = compute_bounds(problem, n, float(scan.lengths[jb]), min(nlev, n))
+        parts[k] = by_length[jb]
+    return combine_bounds(parts, levels)
+
+
+def _ladder(sizes: tuple[int, ...] | None, max_size: int | None, tolerance: float | None,
+            levels: int) -> tuple[tuple[int, ...], int]:
+    start = max(10, levels + 4)
+    if sizes is None:
+        top = max_size if max_size is not None else (
+            DEFAULT_MAX_SIZE if tolerance is not None else DEFAULT_FIXED_TOP)
+        if top < start:
+            start = max(top // 4, levels + 1, 1)
+        ladder = size_ladder(start, top)
+        return ladder, top
+    if max_size is None or max_size <= sizes[-1]:
+        if max_size is not None:
+            sizes = tuple(s for s in sizes if s <= max_size) or (max_size,)
+        return sizes, sizes[-1]
+    more = size_ladder(sizes[-1], max_size)[1:]
+    return sizes + more, max_size
+
+
+def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
+             *, levels: int = 5, units: str | UnitSystem = "oscillator",
+             mass: float | None = None, reference: str | Mapping[str, float] = "auto",
+             sizes: Sequence[int] | None = None, lengths: Any = "auto",
+             frequencies: Sequence[float] | None = None, tolerance: float | None = None,
+             max_size: int | None = None, cross_check: bool = False, bounds: bool = True,
+             ir_length: str = "eigenvalue", warn: bool = True) -> ConvergenceReport:
+    """Convergence study of the lowest levels of one channel.
+
+    Parameters
+    ----------
+    well, dimension, l, j, units, mass, reference
+        As for :func:`anharmony.solve`.
+    levels
+        Number of levels, from the lowest of the channel.
+    sizes
+        Basis sizes. Default: 10, 14, 20, 28, … (ratio √2) up to 80, or up to ``max_size``
+        with a tolerance.
+    lengths
+        ``"auto"`` (default): at each size step a grid b_opt · 2^{k/4}, k = −3 … 3, centred on
+        the previous optimum for the bound levels together (the reference length at first) and
+        extended until each level's optimum is inside; or a list of lengths (a fixed grid).
+    frequencies
+        ħω values instead of ``lengths``.
+    tolerance
+        With a tolerance the sizes are tried in order and the run stops at the first size where
+        every bound level's error estimate is below it; ``converged`` compares with it.
+        Without one every size is used and ``converged`` means error < DEFAULT_RTOL · ħω_ref.
+    max_size
+        Size limit of the run: sizes beyond the given ones continue the √2 ladder up to it.
+    cross_check
+        Also run the cross-check solver of another family (:func:`cross_check`).
+    bounds
+        Compute the residual bounds (needed for the Kato–Temple estimate).
+    ir_length
+        ``"eigenvalue"`` or ``"closed_form"``: which infrared length the fits use.
+    warn
+        Issue a :class:`~anharmony.ConvergenceWarning` per level that is not converged (the
+        texts are also in :attr:`ConvergenceReport.messages`).
+
+    Returns
+    -------
+    ConvergenceReport
+    """
+    levels = check_count("levels", levels)
+    if tolerance is not None:
+        tolerance = check_positive("tolerance", tolerance)
+    if max_size is not None:
+        max_size = check_count("max_size", max_size, 2)
+    sizes_t = check_sizes(sizes) if sizes is not None else None
+    if ir_length not in _IR_LENGTHS:
+        raise ValueError(f"ir_length: must be one of {', '.join(_IR_LENGTHS)}; got {ir_length!r}")
+    for name, flag in (("cross_check", cross_check), ("bounds", bounds), ("warn", warn)):
+        if not isinstance(flag, bool):
+            raise ValueError(f"{name}: must be True or False; got {flag!r}")
+    problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
+    explicit = resolve_lengths(problem, lengths, frequencies)
+    ladder, limit = _ladder(sizes_t, max_size, tolerance, levels)
+    if ladder[-1] < levels:
+        raise ValueError(f"sizes: {levels} levels need a basis of at least that size; "
+                         f"the largest size is {ladder[-1]}")
+    tol = tolerance if tolerance is not None else DEFAULT_RTOL * problem.reference.frequency
+    nlev = levels + 1  # one more level: the gap estimate of the highest requested one
+    center = problem.reference.length
+    history: list[tuple[int, tuple[float, ...]]] = []
+    stopped = ""
+    scan = bnd = None
+    est: list[_LevelEstimate] = []
+    steps = ladder if tolerance is not None else (ladder[-1],)
+    first = 0 if tolerance is not None else len(ladder) - 1
+    for k in range(first, len(ladder)):
+        now = ladder[: k + 1]
+        if now[-1] < levels:
+            continue
+        if explicit is None:
+            scan = auto_scan(problem, now, nlev, center)
+        else:
+            scan = run_scan(problem, now, explicit, nlev)
+        ritz = scan.best_energies()[:levels]
+        bound = ritz < problem.threshold
+        count = int(np.count_nonzero(bound)) or levels
+        center = scan.optimal_length(None, count=count)
+        bnd = _level_bounds(problem, scan, nlev, levels) if bounds else None
+        est = [_estimate(problem, scan, i, ir_length, bnd) for i in range(levels)]
+        errs = np.array([e.error for e in est])
+        history.append((int(now[-1]), tuple(float(x) for x in errs)))
+        if tolerance is not None and np.all(errs[bound] < tol) and bound.any():
+            stopped = f"converged at size {now[-1]} (tolerance {tol:.3g})"
+            break
+    else:
+        stopped = (f"size limit {ladder[-1]} reached" if tolerance is not None
+                   else f"fixed sizes up to {ladder[-1]}")
+    del steps
+    assert scan is not None  # the ladder always has a size >= levels
+    ritz = scan.best_energies()[:levels]
+    bound = ritz < problem.threshold
+    errs = np.array([e.error for e in est])
+    converged = bound & (errs < tol)
+    best_idx = [scan.best_length_index(i) for i in range(levels)]
+    opt = np.array([scan.optimal_length(i) for i in range(levels)])
+    count = int(np.count_nonzero(bound)) or levels
+    xcheck = None
+    if cross_check:
+        xcheck = run_cross_check(problem, levels, ritz)
+    messages = _messages(problem, scan, ritz, bound, errs, converged, tol, tolerance, stopped,
+                         limit)
+    if warn:
+        for msg in messages:
+            warnings.warn(msg, ConvergenceWarning, stacklevel=2)
+    from .bounds import KT_ASSUMPTION, UPPER_BOUND_NOTE
+
+    notes = (UPPER_BOUND_NOTE,) + ((KT_ASSUMPTION,) if bounds else ())
+    return ConvergenceReport(
+        channel=problem.channel, levels=levels, energies=ritz,
+        best_lengths=scan.lengths[best_idx], optimal_lengths=opt,
+        joint_length=scan.optimal_length(None, count=count), size=int(scan.sizes[-1]),
+        bound=bound, extrapolated=np.array([e.extrapolated for e in est]),
+        uncertainty=np.array([e.uncertainty for e in est]), error_estimate=errs,
+        converged=converged, method=tuple(e.method for e in est),
+        reason=tuple(e.reason for e in est), extrapolations=tuple(e.fits for e in est),
+        spread=np.array([e.spread for e in est]), scan=scan, bounds=bnd, cross_check=xcheck,
+        tolerance=float(tol), tolerance_driven=tolerance is not None, size_limit=int(limit),
+        stopped=stopped, threshold=problem.threshold, units=problem.units,
+        reference=problem.reference, history=tuple(history), messages=tuple(messages),
+        notes=notes)
+
+
+def _messages(problem: Problem, scan: BasisScan, ritz: np.ndarray, bound: np.ndarray,
+              errs: np.ndarray, converged: np.ndarray, tol: float, tolerance: float | None,
+              stopped: str, limit: int) -> list[str]:
+    out = []
+    u = problem.units.energy
+    ch = problem.channel
+    n = int(scan.sizes[-1])
+    for k in range(ritz.size):
+        if converged[k]:
+            continue
+        lab = f"level {ch.level_label(k)} (index {k}) of channel {ch.label}"
+        if not bound[k]:
+            out.append(f"{lab} lies at {ritz[k]:.6g} {u}, above the threshold "
+                       f"{problem.threshold:.6g} {u}, at size {n}: a discretised-continuum "
+                       "state, not a bound level; request fewer levels (levels.count), or a "
+                       "larger convergence.max_size if it should be bound")
+        elif tolerance is None:
+            out.append(f"{lab}: error estimate {errs[k]:.2e} {u} exceeds the default "
+                       f"{tol:.2e} {u} at size {n}; give convergence.tolerance, or more or "
+                       "larger convergence.sizes")
+        else:
+            out.append(f"{lab}: error estimate {errs[k]:.2e} {u} exceeds the tolerance "
+                       f"{tol:.2e} {u} ({stopped}); raise convergence.max_size (now {limit}) "
+                       "or relax convergence.tolerance")
+    return out
