@@ -146,6 +146,19 @@ def test_linear_scan_equals_a_solve_at_every_point(demo_results):
             np.testing.assert_array_equal(ds.bound.values[k, c], spec.bound.astype(np.int8))
 
 
+def test_banded_linear_scan_equals_a_solve_at_every_point(tmp_path):
+    text = SMALL.format(tag=0, g=0.4) + "reference: {frequency: 1.0}\n"
+    case = case_from_dict(yaml.safe_load(text), folder=tmp_path)
+    jobs = plan_case(case)
+    assert [j.kind for j in jobs] == ["linear", "linear"]
+    ds = run_case(case)
+    for k, g in enumerate(ds.scan_value.values):
+        for c, l in enumerate(ds.l.values):
+            spec = ah.solve(case.well_at(float(g)), 3, int(l), size=16, levels=3,
+                            reference={"frequency": 1.0})
+            np.testing.assert_allclose(ds.energy.values[k, c], spec.energies, rtol=RTOL_SAME)
+
+
 def test_error_estimate_is_the_change_from_a_smaller_basis(tmp_path):
     p = tmp_path / "c0.yaml"
     p.write_text(SMALL.format(tag=0, g=0.3))
