@@ -260,3 +260,41 @@ def test_plot_hook_fails_cleanly_or_draws(tmp_path, capsys):
 def test_no_command_prints_help_and_exits_2(capsys):
     assert main([]) == 2
     assert "run" in capsys.readouterr().err
+
+
+class _Terminal:
+    """A stderr stand-in that says it is a terminal."""
+
+    def __init__(self) -> None:
+        self.parts: list[str] = []
+
+    def write(self, text: str) -> int:
+        self.parts.append(text)
+        return len(text)
+
+    def flush(self) -> None:
+        pass
+
+    def isatty(self) -> bool:
+        return True
+
+
+def test_progress_is_a_bar_on_a_terminal_and_lines_elsewhere(monkeypatch):
+    from anharmony.cli import _Progress
+
+    monkeypatch.delenv("CI", raising=False)
+    term = _Terminal()
+    bar = _Progress("auto", term)
+    bar("start", tasks=4, cases=1)
+    bar("tasks", n=2)
+    bar.close()
+    assert bar.mode == "bar" and "/4 [" in "".join(term.parts)  # tqdm draws "k/4 [time"
+    monkeypatch.setenv("CI", "true")  # CI logs get plain lines even on a pseudo-terminal
+    term = _Terminal()
+    lines = _Progress("auto", term)
+    lines("start", tasks=40, cases=2)
+    for _ in range(40):
+        lines("tasks", n=1)
+    text = "".join(term.parts)
+    assert lines.mode == "lines" and "\r" not in text
+    assert text.count(" tasks\n") == 20 and "40/40 tasks" in text
