@@ -408,7 +408,7 @@ class RadialBasis(_Basis):
         """R_n(r), shape (N, len(r)), normalised with r^{d−1} dr (angular part excluded)."""
         rho = np.abs(np.asarray(r, dtype=float).ravel()) / self.length
         vals, logs, _ = self.family.values(rho * rho, self.size)
-        with np.errstate(divide="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):
             logpre = (0.5 * math.log(2.0) - 0.5 * self.dimension * math.log(self.length)
                       + self.lam_eff * np.log(rho) - 0.5 * rho * rho)
         if self.lam_eff == 0:

@@ -476,19 +476,19 @@ class Coulomb(Term):
     def value(self, r):
         r = np.abs(_arr(r))
         k, rc = self.charge * self.e2, self.radius
-        with np.errstate(divide="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):
             return np.where(r < rc, k * (3.0 - (r / rc) ** 2) / (2.0 * rc), k / r)
 
     def d1(self, r):
         r = np.abs(_arr(r))
         k, rc = self.charge * self.e2, self.radius
-        with np.errstate(divide="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):
             return np.where(r < rc, -k * r / rc**3, -k / r**2)
 
     def d2(self, r):
         r = np.abs(_arr(r))
         k, rc = self.charge * self.e2, self.radius
-        with np.errstate(divide="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):
             return np.where(r < rc, -k / rc**3, 2.0 * k / r**3)
 
     @property

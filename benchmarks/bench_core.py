@@ -1,0 +1,175 @@
+"""Core benchmarks: build + diagonalise cost, accuracy versus basis size, and the oscillator
+basis against a hand-written finite-difference grid at equal run time.
+
+Run by hand: ``OPENBLAS_NUM_THREADS=1 python benchmarks/bench_core.py`` (single-threaded BLAS,
+so that small matrices are not slowed by thread hand-offs); figures are printed as Markdown
+for benchmarks/RESULTS.md.
+"""
+
+from __future__ import annotations
+
+import math
+import platform
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import scipy.linalg as sl
+import scipy.sparse as sp
+import scipy.sparse.linalg as spl
+
+import anharmony as ah
+import anharmony.basis as basis_mod
+from anharmony.hamiltonian import Channel, channel_hamiltonian
+from anharmony.spectrum import diagonalize
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+from refsolvers import shooting_level  # noqa: E402
+
+WS = [{"woods_saxon": {"depth": 51.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}},
+      {"spin_orbit": {"strength": 22.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}}]
+
+
+def best(fn, repeat=15):
+    ts = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        fn()
+        ts.append(time.perf_counter() - t)
+    return min(ts)
+
+
+def machine() -> str:
+    cpu = "unknown CPU"
+    try:
+        for line in Path("/proc/cpuinfo").read_text().splitlines():
+            if line.startswith("model name"):
+                cpu = line.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    import os
+
+    return (f"{platform.node()} — {cpu}, {os.cpu_count()} cores, Python "
+            f"{platform.python_version()}, numpy {np.__version__}, scipy {sl.__name__ and __import__('scipy').__version__}")
+
+
+def bench_build():
+    well = ah.Well.from_terms(WS, units="nuclear")
+    ch = Channel(3, 1, 1.5)
+    counter = iter(range(10**6))
+
+    def cold():
+        basis_mod._RULES.clear()
+        m = channel_hamiltonian(well, ch, 100, 2.0 + 1e-6 * next(counter))
+        diagonalize(m.total, 10, m.bandwidth)
+
+    def warm():
+        m = channel_hamiltonian(well, ch, 100, 2.0)
+        diagonalize(m.total, 10, m.bandwidth)
+
+    h = channel_hamiltonian(well, ch, 100, 2.0).total
+    t_eigh = best(lambda: sl.eigh(h))
+    t_cold, t_warm = best(cold), best(warm)
+    print("\n### Build + diagonalise one 3D Woods–Saxon channel (p3/2, N = 100, 10 levels)\n")
+    print("| what | time (ms) | ÷ eigh |")
+    print("|---|---|---|")
+    print(f"| `scipy.linalg.eigh` alone, all pairs, 100 × 100 | {1e3 * t_eigh:.2f} | 1 |")
+    print(f"| build (quadrature verified from scratch) + diagonalise | {1e3 * t_cold:.2f} | "
+          f"{t_cold / t_eigh:.1f} |")
+    print(f"| build with cached quadrature rules (a scan) + diagonalise | {1e3 * t_warm:.2f} | "
+          f"{t_warm / t_eigh:.1f} |")
+
+
+def quartic_accuracy():
+    print("\n### Quartic wells: relative error of the lowest levels against basis size\n")
+    # 1D: p² + x² + x⁴, Hioe & Montroll (1975) E0 = 1.392351641530291855657
+    w1 = ah.Well.from_terms([{"power": {"exponent": 2, "strength": 0.5}},
+                             {"power": {"exponent": 4, "strength": 0.5}}])
+    ref = 2 * ah.solve(w1, dimension=1, l=None, size=400, levels=5, length=0.7).energies
+    print("1D p² + x² + x⁴ (reference: N = 400; E0 agrees with Hioe & Montroll to "
+          f"{abs(ref[0] - 1.392351641530291855657) / ref[0]:.1e})\n")
+    print("| N | max rel. error of E0…E4 | b |")
+    print("|---|---|---|")
+    for n in (20, 30, 40, 60, 80):
+        s = ah.solve(w1, dimension=1, l=None, size=n, levels=5, length=0.7)
+        print(f"| {n} | {np.max(np.abs(2 * s.energies - ref) / ref):.1e} | 0.7 |")
+    w3 = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                             {"power": {"exponent": 4, "strength": 0.5}}])
+    ref3 = ah.solve(w3, dimension=3, l=0, size=200, levels=5, length=0.7).energies
+    print("\n3D ½r² + ½r⁴, l = 0 (reference: N = 200)\n")
+    print("| N | max rel. error of the lowest 5 |")
+    print("|---|---|")
+    for n in (10, 15, 20, 30, 40):
+        s = ah.solve(w3, dimension=3, l=0, size=n, levels=5, length=0.7)
+        print(f"| {n} | {np.max(np.abs(s.energies - ref3) / np.abs(ref3)):.1e} |")
+
+
+def woods_saxon_accuracy():
+    print("\n### Woods–Saxon (A = 40, with spin–orbit): error against a shooting solver (MeV)\n")
+    well = ah.Well.from_terms(WS, units="nuclear")
+    c = ah.get_units("nuclear").hbar2_over_2m()
+    print("| level | N = 40 | N = 60 | N = 100 | N = 150 |")
+    print("|---|---|---|---|---|")
+    for l, j, n, label in [(0, 0.5, 0, "1s1/2"), (0, 0.5, 1, "2s1/2"), (1, 1.5, 0, "1p3/2"),
+                           (2, 2.5, 0, "1d5/2"), (3, 3.5, 0, "1f7/2")]:
+        ls = 0.5 * (j * (j + 1) - l * (l + 1) - 0.75)
+
+        def v(r, ls=ls):
+            return well.value(r) + (ls * well.spin_orbit_value(r) if ls else 0.0)
+
+        row = []
+        ref = None
+        for size in (40, 60, 100, 150):
+            e = ah.solve(well, dimension=3, l=l, j=j, size=size, units="nuclear",
+                         levels=n + 1).energies[n]
+            if ref is None:
+                ref = shooting_level(v, l, c, (e - 0.3, e + 0.05), r_max=30.0)
+            row.append(f"{abs(e - ref):.1e}")
+        print(f"| {label} ({ref:.6f}) | " + " | ".join(row) + " |")
+
+
+def fd_3d(v, l, r_max, n, levels):
+    h = r_max / (n + 1)
+    r = h * np.arange(1, n + 1)
+    main = 2 * 0.5 / h**2 + 0.5 * l * (l + 1) / r**2 + v(r)
+    off = np.full(n - 1, -0.5 / h**2)
+    mat = sp.diags([off, main, off], [-1, 0, 1], format="csc")
+    vals = spl.eigsh(mat, k=levels, sigma=float(np.min(main)) - 10.0, which="LM",
+                     return_eigenvectors=False)
+    return np.sort(vals)
+
+
+def basis_vs_grid():
+    print("\n### Oscillator basis vs finite-difference grid + `scipy.sparse.linalg.eigsh` at "
+          "equal run time (lowest five levels, l = 0)\n")
+    print("| well | method | setting | time (ms) | max error |")
+    print("|---|---|---|---|---|")
+    quartic = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                                  {"power": {"exponent": 4, "strength": 0.5}}])
+    gauss = ah.Well.from_terms([{"gaussian": {"depth": 40.0, "range": 2.0}}])
+    for name, well, b in (("3D ½r² + ½r⁴", quartic, 0.7), ("3D Gaussian V₀ = 40, a = 2", gauss,
+                                                              None)):
+        kw = {"length": b} if b else {}
+        ref = ah.solve(well, dimension=3, l=0, size=200, levels=5, **kw).energies
+        for n in (15, 25, 40):
+            t = best(lambda n=n: ah.solve(well, dimension=3, l=0, size=n, levels=5, **kw), 5)
+            e = ah.solve(well, dimension=3, l=0, size=n, levels=5, **kw).energies
+            print(f"| {name} | oscillator basis | N = {n} | {1e3 * t:.1f} | "
+                  f"{np.max(np.abs(e - ref)):.1e} |")
+        for n in (500, 2000, 8000):
+            t = best(lambda n=n: fd_3d(well.value, 0, 12.0, n, 5), 3)
+            e = fd_3d(well.value, 0, 12.0, n, 5)
+            print(f"| {name} | FD grid, r_max = 12 | n = {n} | {1e3 * t:.1f} | "
+                  f"{np.max(np.abs(e - ref)):.1e} |")
+
+
+if __name__ == "__main__":
+    print(f"## Core (`benchmarks/bench_core.py`), {time.strftime('%Y-%m-%d')}\n")
+    print(f"Machine: {machine()}")
+    bench_build()
+    quartic_accuracy()
+    woods_saxon_accuracy()
+    basis_vs_grid()
+    _ = math
