@@ -446,10 +446,17 @@ def _run_linear(case: Case, job: Job) -> dict[str, Any]:
             out["smaller"][k, c] = pencil.levels(h, smaller, count)
         for i, size in enumerate(sizes):
             out["convergence_energy"][k, c, :, i] = pencil.levels(h, size, count)
-        if case.model.perturbation is not None:
-            well = case.well_at(None if coupling else s)
-            series_ok &= _series_block(case, well, ch, ref, case.mass_at(
-                None if coupling else s), out, k, c)
+        if case.model.perturbation is None:
+            continue
+        if coupling and k != job.points[0]:
+            # the series of H_ref + λW is one series whatever the λ of the scan point
+            first = job.points[0]
+            for name in _SERIES:
+                out[name][k, c] = out[name][first, c]
+            continue
+        well = case.well_at(None if coupling else s)
+        series_ok &= _series_block(case, well, ch, ref, case.mass_at(None if coupling else s),
+                                   out, k, c)
     return {"out": out, "points": job.points, "channels": job.channels,
             "reasons": {k: (refs[k].method, refs[k].reason) for k in job.points},
             "series_ok": series_ok}
@@ -460,6 +467,8 @@ def run_job(case: Case, job: Job) -> dict[str, Any]:
     return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
 
 
+_SERIES = ("series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
+           "series_optimal_error", "series_optimal_order")
 _MERGE = ("energy", "bound", "smaller", "reference_energy", "threshold", "convergence_energy",
           "series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
           "series_optimal_error", "series_optimal_order")
