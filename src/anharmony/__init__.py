@@ -7,6 +7,7 @@ __version__ = "0.1.0"
 from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import TERMS, TermError, Well
+from .series import Series, series
 from .spectrum import Reference, Spectrum, reference_oscillator, solve
 from .units import SYSTEMS, UnitSystem, get_units
 
@@ -19,6 +20,7 @@ __all__ = [
     "DegenerateLevelError",
     "NumericalError",
     "Reference",
+    "Series",
     "Spectrum",
     "TermError",
     "UnitSystem",
@@ -27,5 +29,17 @@ __all__ = [
     "channel_hamiltonian",
     "get_units",
     "reference_oscillator",
+    "run_case",
+    "series",
     "solve",
 ]
+
+
+def __getattr__(name: str):
+    # run_case lives on top of the store (xarray): imported on first use, so that
+    # ``import anharmony`` keeps xarray, yaml and matplotlib out of sys.modules.
+    if name == "run_case":
+        from .runner import run_case
+
+        return run_case
+    raise AttributeError(f"module 'anharmony' has no attribute {name!r}")
