@@ -93,6 +93,8 @@ def main() -> None:
     args = parser.parse_args()
     lines = ["# Perturbation-series benchmarks (`benchmarks/bench_series.py`)", ""]
     lines += [*machine(), ""]
+    lines += ["Times are CPU times (`time.process_time`, best of several runs): the machine is "
+              "shared and wall times of the same call varied by up to 2×.", ""]
 
     # 1. exact, order 100: engine vs baseline, same run
     t_base, base = best_of(lambda: baseline_coefficients({4: 1}, 0, 100), 3)
