@@ -25,7 +25,7 @@ from anharmony.hamiltonian import Channel, channel_hamiltonian
 from anharmony.spectrum import diagonalize
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
-from refsolvers import shooting_level  # noqa: E402
+from refsolvers import shooting_level
 
 WS = [{"woods_saxon": {"depth": 51.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}},
       {"spin_orbit": {"strength": 22.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}}]
@@ -51,8 +51,10 @@ def machine() -> str:
         pass
     import os
 
+    import scipy
+
     return (f"{platform.node()} — {cpu}, {os.cpu_count()} cores, Python "
-            f"{platform.python_version()}, numpy {np.__version__}, scipy {sl.__name__ and __import__('scipy').__version__}")
+            f"{platform.python_version()}, numpy {np.__version__}, scipy {scipy.__version__}")
 
 
 def bench_build():
@@ -154,12 +156,13 @@ def basis_vs_grid():
         kw = {"length": b} if b else {}
         ref = ah.solve(well, dimension=3, l=0, size=200, levels=5, **kw).energies
         for n in (15, 25, 40):
-            t = best(lambda n=n: ah.solve(well, dimension=3, l=0, size=n, levels=5, **kw), 5)
+            t = best(lambda n=n, well=well, kw=kw: ah.solve(well, dimension=3, l=0, size=n,
+                                                            levels=5, **kw), 5)
             e = ah.solve(well, dimension=3, l=0, size=n, levels=5, **kw).energies
             print(f"| {name} | oscillator basis | N = {n} | {1e3 * t:.1f} | "
                   f"{np.max(np.abs(e - ref)):.1e} |")
         for n in (500, 2000, 8000):
-            t = best(lambda n=n: fd_3d(well.value, 0, 12.0, n, 5), 3)
+            t = best(lambda n=n, well=well: fd_3d(well.value, 0, 12.0, n, 5), 3)
             e = fd_3d(well.value, 0, 12.0, n, 5)
             print(f"| {name} | FD grid, r_max = 12 | n = {n} | {1e3 * t:.1f} | "
                   f"{np.max(np.abs(e - ref)):.1e} |")

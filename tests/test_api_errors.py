@@ -65,12 +65,12 @@ def test_solve_rejects_non_well():
 
 def test_parity_channel_of_an_asymmetric_well_is_refused():
     w = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 3, "strength": 0.1}}])
-    with pytest.raises(ValueError, match="^l: 1D parity"):
+    with pytest.raises(ValueError, match=r"^l: 1D parity"):
         ah.solve(w, dimension=1, l=0)
 
 
 def test_spin_orbit_needs_j():
     w = W([{"woods_saxon": {"depth": 50, "radius": 4.0, "diffuseness": 0.6}},
            {"spin_orbit": {"strength": 20, "radius": 4.0, "diffuseness": 0.6}}], units="nuclear")
-    with pytest.raises(ValueError, match="^j: required"):
+    with pytest.raises(ValueError, match=r"^j: required"):
         ah.solve(w, dimension=3, l=1, units="nuclear")

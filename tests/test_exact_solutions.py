@@ -35,20 +35,20 @@ def test_oscillator_1d_without_symmetry_is_n_plus_half_for_any_center():
 def test_3d_shell_degeneracy_is_half_n_plus_1_n_plus_2():
     # Textbook: shell N of the 3D oscillator holds (N+1)(N+2)/2 states (2l+1 each, l ≡ N mod 2).
     levels = []
-    for l in range(0, 7):
+    for l in range(7):
         e = ah.solve(oscillator(), dimension=3, l=l, size=6, levels=4).energies
         levels += [round(x - 1.5, 9) for x in e for _ in range(2 * l + 1)]
-    for shell in range(0, 7):
+    for shell in range(7):
         assert levels.count(float(shell)) == (shell + 1) * (shell + 2) // 2
 
 
 def test_2d_shell_degeneracy_is_n_plus_1():
     # Textbook: 2D oscillator, E = ħω(N + 1) with N + 1 states (m = −N, −N+2, …, N).
     levels = []
-    for m in range(0, 6):
+    for m in range(6):
         e = ah.solve(oscillator(), dimension=2, l=m, size=6, levels=4).energies
         levels += [round(x - 1.0, 9) for x in e for _ in range(1 if m == 0 else 2)]
-    for shell in range(0, 6):
+    for shell in range(6):
         assert levels.count(float(shell)) == shell + 1
 
 

@@ -1,4 +1,4 @@
-"""Invariants of the basis, the matrices and the spectra (common practice, no source unless named)."""
+"""Invariants of the basis, matrices and spectra (common practice, no source unless named)."""
 
 import numpy as np
 import pytest
@@ -18,7 +18,7 @@ BASES = [HermiteBasis(320, 1.3, 0.4), RadialBasis(320, 0.9, 0, 3), RadialBasis(3
 @pytest.mark.parametrize("kind", ["weight", "panels"])
 def test_basis_is_orthonormal_on_its_quadrature_grid(basis, kind):
     # Large sizes and l = 25 check the scaled recurrences against overflow and underflow.
-    coords, u = basis.quadrature(basis.size + 40, kind)
+    _, u = basis.quadrature(basis.size + 40, kind)
     assert np.all(np.isfinite(u))
     np.testing.assert_allclose(u.T @ u, np.eye(basis.size), atol=ATOL_ORTHO * 10)
 
@@ -104,7 +104,7 @@ def test_hellmann_feynman_derivative_equals_r4_expectation():
         return W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 4, "strength": g}}])
 
     g, h = 0.3, 1e-4
-    kw = dict(dimension=3, l=1, size=40, levels=2, length=0.8)
+    kw = {"dimension": 3, "l": 1, "size": 40, "levels": 2, "length": 0.8}
     de = (ah.solve(well(g + h), **kw).energies - ah.solve(well(g - h), **kw).energies) / (2 * h)
     r4 = ah.solve(well(g), **kw).coordinate_moment(4)
     np.testing.assert_allclose(de, r4, rtol=1e-7)

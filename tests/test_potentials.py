@@ -41,7 +41,8 @@ def test_gaussian_waist_form_is_exp_minus_2r2_over_w2():
     # DESIGN §3: the waist form of an optical trap is −V₀ e^{−2r²/w²} (common practice).
     t = W([{"gaussian": {"depth": 3.0, "waist": 2.0}}]).terms[0]
     r = np.linspace(0, 4, 9)
-    np.testing.assert_allclose(t.value(r), -3.0 * np.exp(-2 * r**2 / 4.0), rtol=1e-14)  # a = w/√2 rounds
+    # rtol 1e-14: a = w/√2 is rounded once
+    np.testing.assert_allclose(t.value(r), -3.0 * np.exp(-2 * r**2 / 4.0), rtol=1e-14)
 
 
 def test_woods_saxon_radius_is_r0_a_one_third():
@@ -91,7 +92,7 @@ def test_minimum_of_an_unbounded_cubic_is_the_local_one_at_the_center():
 
 def test_minimum_of_a_shifted_morse_well():
     w = W([{"morse": {"depth": 4.0, "width": 1.3, "center": 1.7}}])
-    x0, v0, v2 = w.minimum()
+    x0, _, v2 = w.minimum()
     assert x0 == pytest.approx(1.7, abs=1e-10)
     assert v2 == pytest.approx(2 * 4.0 * 1.3**2, rel=1e-9)
 

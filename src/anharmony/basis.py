@@ -19,6 +19,7 @@ integrated by Gauss quadrature whose point count grows until the matrix stops ch
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -30,7 +31,7 @@ from scipy.special import gammaln, roots_legendre
 
 from .errors import NumericalError
 
-__all__ = ["HermiteBasis", "RadialBasis", "OrthogonalFamily", "QUADRATURE_RTOL"]
+__all__ = ["QUADRATURE_RTOL", "HermiteBasis", "OrthogonalFamily", "RadialBasis"]
 
 QUADRATURE_RTOL = 1e-13  # default: matrix elements stable to ~50 ulp of the largest element
 _RESCALE = 1e100  # rescale when a value exceeds this (squares stay below the double range)
@@ -150,7 +151,7 @@ def _panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
     edges = sorted({lo, hi, *(b for b in breaks if lo < b < hi)})
     t, w = roots_legendre(_PANEL_ORDER)
     xs, ws = [], []
-    for a, b in zip(edges[:-1], edges[1:]):
+    for a, b in itertools.pairwise(edges):
         n = max(1, math.ceil((b - a) / width))
         e = np.linspace(a, b, n + 1)
         half = 0.5 * np.diff(e)
@@ -252,7 +253,7 @@ class HermiteBasis(_Basis):
     def __post_init__(self) -> None:
         _check_size_length(self.size, self.length)
 
-    l = None  # noqa: E741 - the channel has no angular quantum number
+    l = None
     dimension = 1
     alpha = None
 
@@ -334,7 +335,7 @@ class RadialBasis(_Basis):
 
     size: int
     length: float
-    l: int = 0  # noqa: E741
+    l: int = 0
     dimension: int = 3
     lam: float | None = None
 

@@ -6,7 +6,7 @@ exit code (DESIGN §7).
 
 from __future__ import annotations
 
-__all__ = ["AnharmonyWarning", "ConvergenceWarning", "NumericalError", "DegenerateLevelError"]
+__all__ = ["AnharmonyWarning", "ConvergenceWarning", "DegenerateLevelError", "NumericalError"]
 
 
 class AnharmonyWarning(UserWarning):

@@ -52,7 +52,7 @@ class Channel:
     """
 
     dimension: int
-    l: int | None = 0  # noqa: E741
+    l: int | None = 0
     j: float | None = None
 
     def __post_init__(self) -> None:

@@ -27,8 +27,8 @@ __all__ = [
     "Gaussian",
     "Harmonic",
     "Morse",
-    "PoschlTeller",
     "Polynomial",
+    "PoschlTeller",
     "Power",
     "SpinOrbit",
     "Term",
@@ -591,7 +591,8 @@ class Expression(Term):
             raise TermError(cls.kind, "formula", f"must be text; got {text!r}")
         params = p.get("parameters", {}) or {}
         if not isinstance(params, Mapping):
-            raise TermError(cls.kind, "parameters", f"must be a mapping name: value; got {params!r}")
+            raise TermError(cls.kind, "parameters",
+                            f"must be a mapping name: value; got {params!r}")
         values = {str(k): _number(cls.kind, f"parameters.{k}", v) for k, v in params.items()}
         variable = "r" if _uses_name(text, "r") else "x"
         try:
@@ -612,7 +613,7 @@ class Expression(Term):
     def limits(self):
         try:
             lo, hi = self.formula.threshold(side=-1), self.formula.threshold(side=+1)
-        except Exception:  # noqa: BLE001 - a formula whose limit sympy cannot take
+        except Exception:
             lo = hi = math.nan
         return (float(lo), float(hi))
 
@@ -784,7 +785,8 @@ class Well:
             return False
         return bool(np.allclose(a[fin], b[fin], rtol=rtol, atol=rtol * np.max(np.abs(a[fin]) + 1)))
 
-    def minimum(self, radial: bool = False, near: float | None = None) -> tuple[float, float, float]:
+    def minimum(self, radial: bool = False, near: float | None = None
+                ) -> tuple[float, float, float]:
         """Local minimum nearest the centre of the terms: (position, V_min, V″ there).
 
         For radial wells the search is over r ≥ 0, and a minimum at r = 0 with V′(0) ≠ 0 (a

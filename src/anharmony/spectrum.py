@@ -145,7 +145,7 @@ def _lowest_oscillator_level(channel: Channel) -> float:
     return channel.l + 0.5 * channel.dimension
 
 
-def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,  # noqa: E741
+def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
                          mass: float | None = None, levels: int = 5,
                          spec: str | Mapping[str, float] = "auto", j: Any = None) -> Reference:
     """Resolve the reference oscillator of DESIGN §2.
@@ -222,7 +222,8 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,  # n
                              f"V'' = {v2:.6g}, departure {dev / excitation:.2g} of the "
                              "ground level's energy at its turning point")
     elif not why:
-        why = "V'' = 0 at the minimum" if v2 == 0 else "V'' <= 0 at the minimum (a cusp or a maximum)"
+        why = ("V'' = 0 at the minimum" if v2 == 0
+               else "V'' <= 0 at the minimum (a cusp or a maximum)")
     b = _variational_length(well, channel, x0, levels, guess=well.scale)
     hw = 2.0 * c / b**2
     return Reference(hw, b, x0, vmin, "variational",
@@ -258,7 +259,7 @@ def _positive(name: str, value: Any) -> float:
     return float(value)
 
 
-def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,  # noqa: E741
+def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
           size: int = 60, length: float | str = "auto", units: str | UnitSystem = "oscillator",
           mass: float | None = None, levels: int = 5,
           reference: str | Mapping[str, float] = "auto") -> Spectrum:
@@ -307,18 +308,16 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,  # n
         raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
                          "for the basis without symmetry")
     ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
-    if length == "auto":
-        b = ref.length
-    else:
-        b = _positive("length", length)
+    b = ref.length if length == "auto" else _positive("length", length)
     center = ref.center if channel.l is None else 0.0
     mats: ChannelMatrices = channel_hamiltonian(well, channel, size, b, center)
     energies, vectors = diagonalize(mats.total, levels, mats.bandwidth)
     radial = channel.l is not None
     threshold = well.threshold(dimension, symmetric=radial)
     bound = energies < threshold
-    ref_levels = ref.v_min + ref.frequency * (2.0 * np.arange(levels) + _lowest_oscillator_level(channel)
-                                              if radial else np.arange(levels) + 0.5)
+    osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
+           else np.arange(levels) + 0.5)
+    ref_levels = ref.v_min + ref.frequency * osc
     return Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
                     mass=mass, well=well, reference_energies=ref_levels)
