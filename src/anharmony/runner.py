@@ -14,6 +14,7 @@ progress through a callback (the command line turns it into a bar or plain lines
 from __future__ import annotations
 
 import contextlib
+import importlib
 import math
 import os
 import signal
@@ -165,11 +166,13 @@ def _levels_of(h: np.ndarray, size: int, count: int, bandwidth: int | None) -> n
 
 
 def _series_engine() -> Callable[..., Any] | None:
+    # by module path: the package exports the function under the subpackage's name
     try:
-        from . import series as series_module
+        module = importlib.import_module("anharmony.series")
     except ImportError:  # pragma: no cover - the package ships it
         return None
-    return getattr(series_module, "series", None)
+    engine = getattr(module, "series", None)
+    return engine if callable(engine) else None
 
 
 def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass: float | None,
