@@ -138,7 +138,8 @@ def fd_3d(v, l, r_max, n, levels):
     main = 2 * 0.5 / h**2 + 0.5 * l * (l + 1) / r**2 + v(r)
     off = np.full(n - 1, -0.5 / h**2)
     mat = sp.diags([off, main, off], [-1, 0, 1], format="csc")
-    vals = spl.eigsh(mat, k=levels, sigma=float(np.min(main)) - 10.0, which="LM",
+    sigma = float(np.min(v(r))) - 1.0  # shift-invert just below the bottom of the well
+    vals = spl.eigsh(mat, k=levels, sigma=sigma, which="LM",
                      return_eigenvectors=False)
     return np.sort(vals)
 

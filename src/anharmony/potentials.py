@@ -655,6 +655,7 @@ class Well:
     specs: tuple[tuple[str, Any], ...] = field(default=(), repr=False)
     units: UnitSystem = field(default_factory=lambda: get_units("oscillator"))
     mass: float | None = None
+    _memo: dict = field(default_factory=dict, repr=False, compare=False, hash=False)
 
     @classmethod
     def from_terms(cls, terms: Sequence[Mapping[str, Any]] | Sequence[Term],
@@ -792,6 +793,12 @@ class Well:
         For radial wells the search is over r ≥ 0, and a minimum at r = 0 with V′(0) ≠ 0 (a
         cusp, as for Woods–Saxon) is reported with V″ = 0.
         """
+        key = ("minimum", radial, near)
+        if key not in self._memo:  # a well is immutable: its minimum is found once
+            self._memo[key] = self._minimum(radial, near)
+        return self._memo[key]
+
+    def _minimum(self, radial: bool, near: float | None) -> tuple[float, float, float]:
         from scipy.optimize import minimize_scalar
 
         c = self.center if near is None else near

@@ -188,6 +188,15 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
         return Reference(hw, b, x0, vmin, "given", "reference oscillator given in the case")
     if spec != "auto":
         raise ValueError(f"reference: expected 'auto' or a mapping; got {spec!r}")
+    key = ("reference", channel, levels)
+    if key not in well._memo:  # the well is immutable: resolve its reference once per channel
+        well._memo[key] = _auto_reference(well, channel, levels, c, radial)
+    return well._memo[key]
+
+
+def _auto_reference(well: Well, channel: Channel, levels: int, c: float, radial: bool
+                    ) -> Reference:
+    dimension = channel.dimension
 
     if radial:
         x0, vmin, v2 = well.minimum(radial=True)
@@ -210,17 +219,19 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
         pts = np.array([x0 + xt]) if radial else np.array([x0 - xt, x0 + xt])
         dev = float(np.max(np.abs(well.value(pts) - (vmin + 0.5 * v2 * (pts - x0) ** 2))))
         excitation = hw * e_low
-        if vmin + excitation >= threshold:
+        if vmin + excitation >= threshold and threshold != -math.inf:
             why = "the lowest oscillator level lies above the threshold"
         elif dev > FAIRNESS_RATIO * excitation:
             why = (f"the well departs from its harmonic approximation by {dev:.3g} at the "
                    f"ground-state turning point ({dev / excitation:.2g} of the level's energy): "
                    "flat-bottomed or strongly anharmonic")
         else:
+            note = ("; the well is unbounded below, so this is a formal expansion about the "
+                    "local minimum" if threshold == -math.inf else "")
             return Reference(hw, b, x0, vmin, "harmonic",
                              f"harmonic approximation at the minimum x = {x0:.6g}: "
                              f"V'' = {v2:.6g}, departure {dev / excitation:.2g} of the "
-                             "ground level's energy at its turning point")
+                             f"ground level's energy at its turning point{note}")
     elif not why:
         why = ("V'' = 0 at the minimum" if v2 == 0
                else "V'' <= 0 at the minimum (a cusp or a maximum)")
