@@ -212,6 +212,10 @@ def _auto_reference(well: Well, channel: Channel, levels: int, c: float, radial:
         why = ""
     threshold = well.threshold(dimension, symmetric=radial)
     e_low = _lowest_oscillator_level(channel)
+    s = well.scale
+    rise = abs(float(well.value(np.array([x0 + s]))[0]) - vmin) / s**2
+    if 0 < v2 <= 1e-10 * rise:  # curvature at rounding level: a pure quartic, say
+        v2 = 0.0
     if v2 > 0 and not why:
         hw = math.sqrt(2.0 * c * v2)
         b = math.sqrt(2.0 * c / hw)
