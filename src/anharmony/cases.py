@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import copy
 import difflib
+import functools
 import re
 import textwrap
 from collections.abc import Iterable, Mapping, Sequence
@@ -720,25 +721,32 @@ class Case:
         """The channels of the case, in file order of l, j = l − ½ before l + ½."""
         return _channels(self.model.space)
 
+    @functools.cached_property
+    def _data(self) -> dict[str, Any]:
+        return self.model.to_dict()
+
     def settings_at(self, value: float | None) -> dict[str, Any]:
-        """The case data with the scanned parameter set to ``value`` (``coupling``: as is)."""
-        data = self.model.to_dict()
+        """The case data with the scanned parameter set to ``value`` (``coupling``: as is).
+
+        The result shares unchanged parts with the case: read it, do not modify it.
+        """
+        data = dict(self._data)
         t = self.scan_target
         if value is None or t.kind == "coupling":
             return data
         if t.kind == "term":
             term, *keys = t.keys
-            spec = data["well"][t.term]
-            params = spec.setdefault(term, {}) or {}
-            spec[term] = params
+            well = list(data["well"])
+            params = dict(well[t.term][term] or {})
             if len(keys) == 2:
-                params[keys[0]] = dict(params[keys[0]])
-                params[keys[0]][keys[1]] = value
+                params[keys[0]] = {**params[keys[0]], keys[1]: value}
             else:
                 params[keys[0]] = value
+            well[t.term] = {term: params}
+            data["well"] = well
         else:
             section, key = t.keys
-            data.setdefault(section, {})[key] = value
+            data[section] = {**data.get(section, {}), key: value}
         return data
 
     def well_at(self, value: float | None = None) -> Well:
