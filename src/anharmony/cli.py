@@ -142,7 +142,7 @@ class _Progress:
 
                 self.bar = tqdm(total=self.total, unit="task", file=self.stream,
                                 dynamic_ncols=True, leave=False)
-            elif self.mode == "lines":
+            elif self.mode == "lines" and self.total:
                 self.say(f"running {info['cases']} case(s), {self.total} task(s)")
             self.step = max(1, math.ceil(self.total / _LINES_PER_RUN))
             self.next_line = self.step
@@ -329,7 +329,8 @@ def _cmd_show(args: argparse.Namespace) -> int:
     e_units = a.get("energy_units", "")
     dim = int(a.get("dimension", 3))
     tol = float(a.get("tolerance", 0.0))
-    print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {e_units}]")
+    shown_units = "units of hbar*omega" if e_units == "1" else e_units
+    print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {shown_units}]")
     print(f"  from {a.get('case_file', '?')}; {a.get('source', '')}; {a.get('history', '')}")
     param = ds.scan_value.attrs.get("parameter", "coupling")
     head = (f"  {'level':>8} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
