@@ -185,9 +185,9 @@ def test_report_holds_the_scan_and_the_optimal_lengths(ws_report):
     assert r.scan_energies.shape == (3, r.sizes.size, r.lengths.size)
     assert r.optimal_lengths.shape == (3,) and np.all(r.optimal_lengths > 0)
     assert r.lengths[0] <= r.joint_length <= r.lengths[-1]
-    assert set(r.extrapolations[2]) == {"exponential", "power", "infrared"}
-    assert all(m in {"exponential", "power", "infrared", "kato_temple", "difference"}
-               for m in r.method)
+    models = {"exponential", "power", "infrared", "infrared_binding"}
+    assert set(r.extrapolations[2]) == models
+    assert all(m in models | {"kato_temple", "difference"} for m in r.method)
     assert any("upper bound" in n for n in r.notes)
     e = r.error_of(r.energies + 1e-3)
     np.testing.assert_allclose(e, r.error_estimate + 1e-3, rtol=0, atol=1e-14)

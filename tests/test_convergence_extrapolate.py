@@ -17,6 +17,7 @@ from anharmony.convergence import (
     closed_form_length,
     extrapolate_exponential,
     extrapolate_infrared,
+    extrapolate_infrared_binding,
     extrapolate_power,
     infrared_length,
     size_ladder,
@@ -68,6 +69,20 @@ def test_infrared_fit_accepts_the_predicted_decay_and_rejects_another():
     assert "infrared regime" in bad.note
     none = extrapolate_infrared(big_l, good, threshold=math.inf, hbar2_2m=0.5)
     assert not none.valid and "threshold" in none.note
+
+
+def test_infrared_binding_fit_recovers_the_limit_with_the_theoretical_decay():
+    # Same tail as above, but with k = 2κ∞ tied to E∞ (More et al., PRC 87, 044326 (2013)):
+    # two points give E∞, the third checks the ratio of the changes.
+    big_l = np.array([8.0, 10.0, 12.0, 14.0])
+    good = -0.125 + 3.0 * np.exp(-1.0 * big_l)
+    fit = extrapolate_infrared_binding(big_l, good, threshold=0.0, hbar2_2m=0.5)
+    assert fit.valid
+    assert abs(fit.value + 0.125) < ATOL_MODEL
+    assert fit.rate == pytest.approx(1.0, rel=1e-9)
+    assert fit.consistency == pytest.approx(1.0, rel=1e-6)
+    wrong = -0.125 + 3.0 * np.exp(-0.4 * big_l)
+    assert not extrapolate_infrared_binding(big_l, wrong, threshold=0.0, hbar2_2m=0.5).valid
 
 
 def test_rising_sequence_is_not_extrapolated():

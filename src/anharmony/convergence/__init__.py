@@ -19,6 +19,7 @@ from .extrapolate import (
     Extrapolation,
     extrapolate_exponential,
     extrapolate_infrared,
+    extrapolate_infrared_binding,
     extrapolate_power,
 )
 from .mesh import CrossCheck, cross_check
@@ -36,6 +37,7 @@ __all__ = [
     "cross_check",
     "extrapolate_exponential",
     "extrapolate_infrared",
+    "extrapolate_infrared_binding",
     "extrapolate_power",
     "infrared_length",
     "residual_bounds",

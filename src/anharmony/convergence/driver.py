@@ -45,7 +45,9 @@ from .extrapolate import (
     Extrapolation,
     extrapolate_exponential,
     extrapolate_infrared,
+    extrapolate_infrared_binding,
     extrapolate_power,
+    infrared_tail,
 )
 from .mesh import CrossCheck, run_cross_check
 from .scans import BasisScan, auto_scan, check_sizes, resolve_lengths, run_scan
@@ -60,7 +62,7 @@ __all__ = [
     "size_ladder",
 ]
 
-METHODS = ("exponential", "power", "infrared")
+METHODS = ("exponential", "power", "infrared", "infrared_binding")
 DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explicit limit
 DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
 DEFAULT_RTOL = 1e-8  # without a tolerance, "converged" means error < DEFAULT_RTOL · ħω_ref
@@ -338,9 +340,12 @@ def _fits(scan: BasisScan, level: int, ir_length: str) -> dict[str, Extrapolatio
                 fit = extrapolate_exponential(sizes, vals, noise, float(b))
             elif method == "power":
                 fit = extrapolate_power(sizes, vals, noise, float(b))
-            else:
+            elif method == "infrared":
                 fit = extrapolate_infrared(xs[ok, jb], vals, scan.threshold, scan.hbar2_2m,
                                            noise, float(b), sizes)
+            else:
+                fit = extrapolate_infrared_binding(xs[ok, jb], vals, scan.threshold,
+                                                   scan.hbar2_2m, noise, float(b), sizes)
             if fit.valid and fit.value > best_ritz + fit.uncertainty:
                 fit = Extrapolation(fit.method, math.nan, math.inf, False, fit.rate,
                                     fit.quality, fit.length, fit.sizes,
@@ -392,11 +397,18 @@ def _estimate(problem: Problem, scan: BasisScan, level: int, ir_length: str,
                          f"{bounds.sigma[level]:.3g}, gap estimate beta = {bounds.gap[level]:.6g}"
                          f" (assumes the next exact level lies above beta)", math.nan, math.nan))
     noise = float(scan.noise[-1, scan.best_length_index(level)])
+    tail = _ir_tail(scan, level, ir_length)
     if cand:
         err, m, why, e_inf, unc = min(cand, key=lambda c: c[0])
         if m == "kato_temple" and len(cand) > 1:
             e_inf, unc = cand[0][3], cand[0][4]
             why += "; tighter than the extrapolations"
+        if err < tail and m != "kato_temple":
+            err = tail
+            if math.isfinite(e_inf):  # let E∞ ± u cover the value the tail implies, too
+                unc = max(unc, abs(e_inf - (ritz - tail)))
+            why += (f"; raised to the infrared tail {tail:.2e} (two-point estimate with "
+                    "k = 2 kappa_inf at the best length)")
         if err < noise:
             err = noise
             why += f"; raised to the rounding scale eps*||H|| = {noise:.2e}"
@@ -412,6 +424,27 @@ def _estimate(problem: Problem, scan: BasisScan, level: int, ir_length: str,
                                   "estimate", fits, spread)
     return _LevelEstimate(math.nan, math.inf, math.inf, "none",
                           "a single size and no bound: nothing to estimate from", fits, spread)
+
+
+def _ir_tail(scan: BasisScan, level: int, ir_length: str) -> float:
+    """Infrared tail E_Ritz − E∞ at the level's best length, k fixed by its binding energy.
+
+    A floor of the error estimate: where the infrared error dominates it is the error; where
+    ultraviolet errors dominate it underestimates them and changes nothing.
+    """
+    if not math.isfinite(scan.threshold):
+        return 0.0
+    jb = scan.best_length_index(level)
+    e = scan.energies[level, :, jb]
+    ok = np.isfinite(e)
+    if ok.sum() < 2:
+        return 0.0
+    xs = (scan.ir_lengths if ir_length == "eigenvalue" else scan.closed_form_lengths)[ok, jb]
+    e = e[ok]
+    if not e[-1] < scan.threshold or not e[-2] > e[-1]:
+        return 0.0
+    e_inf, _ = infrared_tail(xs[-2], xs[-1], e[-2], e[-1], scan.threshold, scan.hbar2_2m)
+    return float(e[-1] - e_inf) if math.isfinite(e_inf) else 0.0
 
 
 def _level_bounds(problem: Problem, scan: BasisScan, nlev: int, levels: int) -> ResidualBounds:

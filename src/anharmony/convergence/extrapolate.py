@@ -16,6 +16,13 @@ infrared   the infrared length L of (N, b)   levels near threshold, where the er
                                              S. N. More et al., Phys. Rev. C 87, 044326 (2013))
 ========== ================================= ==================================================
 
+A fourth variant, ``infrared_binding``, fixes the decay constant by the theory instead of
+fitting it: k = 2κ∞ with κ∞ = sqrt(2m(V_thr − E∞))/ħ, solved self-consistently with E∞ from
+the last two sizes, E∞ = E₂ − (E₁ − E₂)/(e^{k(L₂−L₁)} − 1). It is valid when the last two
+changes fall in the ratio the infrared formula predicts (within a factor ``IR_RATIO``); its
+uncertainty is its change from the previous pair of sizes. It needs one point fewer than the
+free fit and is the robust estimate of the infrared tail.
+
 Each fit uses the last points of a sequence at one length b. The value is the exact
 three-point solution through the last three points (for equal spacing in x it is Aitken's Δ²);
 the uncertainty is the larger of (a) its change from the three-point solution one point earlier
@@ -42,6 +49,7 @@ __all__ = [
     "Extrapolation",
     "extrapolate_exponential",
     "extrapolate_infrared",
+    "extrapolate_infrared_binding",
     "extrapolate_power",
     "fit_decay",
 ]
@@ -49,6 +57,8 @@ __all__ = [
 WINDOW = 5  # points of the least-squares window (the asymptotic tail, not the early sizes)
 IR_CONSISTENCY = 0.10  # |k_fit / 2κ∞ − 1| allowed for the infrared regime (measured: ≤ 0.03
 #                        on the IR side of the optimum, 0.3–0.9 where UV errors mix in)
+IR_RATIO = 2.0  # infrared_binding: observed/predicted ratio of the last two changes within
+#                 a factor IR_RATIO (1/IR_RATIO … IR_RATIO) for the infrared regime
 
 
 @dataclass(frozen=True)
@@ -286,3 +296,67 @@ def extrapolate_infrared(ir_lengths: Sequence[float], energies: Sequence[float],
                             "infrared regime at this length")
     return _result("infrared", fit, length, sizes, consistency=q,
                    note=f"{fit.note}; fitted decay {q:.4f} × 2κ∞ confirms the infrared regime")
+
+
+def infrared_tail(l1: float, l2: float, e1: float, e2: float, threshold: float,
+                  hbar2_2m: float) -> tuple[float, float]:
+    """E∞ and k = 2κ∞ from two bases, with k fixed self-consistently by E∞ (see the notes)."""
+    delta = e1 - e2
+    e_inf = e2
+    k = math.nan
+    for _ in range(60):
+        if not e_inf < threshold:
+            return math.nan, math.nan
+        k = 2.0 * math.sqrt((threshold - e_inf) / hbar2_2m)
+        new = e2 - delta / math.expm1(k * (l2 - l1))
+        if abs(new - e_inf) <= 1e-15 * max(1.0, abs(new)):
+            e_inf = new
+            break
+        e_inf = new
+    return e_inf, k
+
+
+def extrapolate_infrared_binding(ir_lengths: Sequence[float], energies: Sequence[float],
+                                 threshold: float, hbar2_2m: float, noise: float = 0.0,
+                                 length: float = math.nan, sizes: Sequence[int] = ()
+                                 ) -> Extrapolation:
+    """E(L) = E∞ + a e^{−2κ∞L} with κ∞ = sqrt((V_thr − E∞)/(ħ²/2m)) fixed by E∞ itself.
+
+    Uses the last two bases for the value, the last three for the regime test, and the
+    previous pair for the uncertainty (see the module notes).
+    """
+    x, y = _check(ir_lengths, energies)
+    method = "infrared_binding"
+    sz = tuple(int(s) for s in sizes)
+
+    def fail(note: str, q: float = math.nan) -> Extrapolation:
+        return Extrapolation(method, math.nan, math.inf, False, length=float(length), sizes=sz,
+                             note=note, consistency=q)
+
+    if not math.isfinite(threshold):
+        return fail("no finite threshold: no infrared tail")
+    if x.size < 3:
+        return fail("fewer than three sizes")
+    d1, d2 = y[-3] - y[-2], y[-2] - y[-1]
+    if d2 <= noise and d1 <= noise:
+        return Extrapolation(method, float(y[-1]), noise + max(float(d2), 0.0), True,
+                             length=float(length), sizes=sz,
+                             note="converged to rounding: the last two changes are below the "
+                                  "noise")
+    if not (d1 > 0 and d2 > 0):
+        return fail("the level does not decrease steadily with the basis size")
+    value, k = infrared_tail(x[-2], x[-1], y[-2], y[-1], threshold, hbar2_2m)
+    if not math.isfinite(value):
+        return fail("the extrapolated level lies above the threshold")
+    s1, s2 = x[-2] - x[-3], x[-1] - x[-2]
+    predicted = math.exp(-k * s1) * (-math.expm1(-k * s2)) / (-math.expm1(-k * s1))
+    q = (d2 / d1) / predicted
+    if not (1.0 / IR_RATIO <= q <= IR_RATIO):
+        return fail(f"the last two changes are in the ratio {q:.3g} × the infrared "
+                    "prediction: not the infrared regime at this length", q)
+    prev, _ = infrared_tail(x[-3], x[-2], y[-3], y[-2], threshold, hbar2_2m)
+    unc = abs(value - prev) if math.isfinite(prev) else abs(y[-1] - value)
+    return Extrapolation(method, float(value), float(max(unc, noise)), True, rate=float(k),
+                         length=float(length), sizes=sz, consistency=float(q),
+                         note=f"two-point infrared tail with k = 2 kappa_inf = {k:.4g}; the "
+                              f"last changes are {q:.3f} × the predicted ratio")
