@@ -1,0 +1,158 @@
+"""Benchmark of anharmony.convergence: error against N with the best b, and the cost of runs.
+
+Run by hand:  python benchmarks/bench_convergence.py  (writes nothing; paste into
+benchmarks/RESULTS_convergence.md). Single-threaded BLAS so that timings are comparable.
+
+1. Woods–Saxon 2s1/2 of A = 40 (V0 = 51 MeV, r0 = 1.27 fm, a = 0.67 fm, neutron, no
+   spin–orbit in an s1/2 channel): error of the Ritz value at the best b for each N.
+2. The same well deepened to 57.7 MeV: the 3s level bound by 0.30 MeV (near threshold), raw
+   error at the best b and the error of the extrapolated value.
+3. Cost of tolerance-driven runs (converge with a tolerance) and of the cross-check.
+
+References: the Lagrange–Laguerre cross-check at rtol 1e-13, and where tests/refsolvers.py can
+be imported, its shooting solver.
+"""
+
+from __future__ import annotations
+
+import os
+
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+os.environ.setdefault("OMP_NUM_THREADS", "1")
+
+import math
+import platform
+import sys
+import time
+import warnings
+from pathlib import Path
+
+import numpy as np
+from scipy.optimize import minimize_scalar
+
+import anharmony as ah
+from anharmony.convergence import converge, cross_check
+from anharmony.hamiltonian import Channel, channel_hamiltonian
+from anharmony.spectrum import diagonalize
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+try:
+    from refsolvers import shooting_level
+except ImportError:  # pragma: no cover - benchmarks run without the tests folder too
+    shooting_level = None
+
+SIZES = (10, 14, 20, 28, 40, 57, 80, 113, 160, 226, 320)
+
+
+def ws(depth: float) -> ah.Well:
+    return ah.Well.from_terms([{"woods_saxon": {"depth": depth, "r0": 1.27, "mass_number": 40,
+                                                "diffuseness": 0.67}}], units="nuclear")
+
+
+def best_b(well: ah.Well, n: int, level: int, guess: float) -> tuple[float, float]:
+    ch = Channel(3, 0)
+
+    def e(logb: float) -> float:
+        m = channel_hamiltonian(well, ch, n, math.exp(logb))
+        return float(diagonalize(m.total, level + 1, m.bandwidth)[0][level])
+
+    grid = np.log(guess) + np.linspace(-0.8, 0.8, 9)
+    vals = [e(g) for g in grid]
+    i = int(np.argmin(vals))
+    lo, hi = grid[max(i - 1, 0)], grid[min(i + 1, len(grid) - 1)]
+    res = minimize_scalar(e, bounds=(lo, hi), method="bounded", options={"xatol": 1e-5})
+    return math.exp(res.x), float(res.fun)
+
+
+def reference(well: ah.Well, level: int, bracket: tuple[float, float]) -> tuple[float, str]:
+    x = cross_check(well, 3, 0, levels=level + 1, units="nuclear", rtol=1e-13)
+    text = f"Lagrange-Laguerre {x.energies[level]:.13f} (+- {x.uncertainty[level]:.1e})"
+    if shooting_level is not None:
+        c = well.units.hbar2_over_2m()
+        s = shooting_level(well.value, 0, c, bracket, r_max=400.0)
+        text += f", shooting {s:.13f}"
+        return s, text
+    return float(x.energies[level]), text
+
+
+def table_best_b(well: ah.Well, level: int, ref: float, guess: float) -> None:
+    print("| N | best b (fm) | E(N, b) − E_ref (MeV) | time (s) |")
+    print("|---:|---:|---:|---:|")
+    b = guess
+    for n in SIZES:
+        t = time.perf_counter()
+        b, e = best_b(well, n, level, b)
+        dt = time.perf_counter() - t
+        print(f"| {n} | {b:.4f} | {e - ref:.2e} | {dt:.2f} |")
+
+
+def table_extrapolated(well: ah.Well, level: int, ref: float) -> None:
+    print("| sizes up to | Ritz error | error_estimate | E∞ − E_ref | uncertainty | method | "
+          "time (s) |")
+    print("|---:|---:|---:|---:|---:|---|---:|")
+    for top in (28, 40, 57, 80, 113, 160):
+        sizes = [s for s in SIZES if s <= top]
+        t = time.perf_counter()
+        r = converge(well, 3, 0, levels=level + 1, units="nuclear", sizes=sizes, warn=False)
+        dt = time.perf_counter() - t
+        print(f"| {top} | {r.energies[level] - ref:.2e} | {r.error_estimate[level]:.2e} | "
+              f"{r.extrapolated[level] - ref:.2e} | {r.uncertainty[level]:.1e} | "
+              f"{r.method[level]} | {dt:.2f} |")
+
+
+def table_tolerance() -> None:
+    print("| case | tolerance | stopped | final size | max error_estimate | time (s) |")
+    print("|---|---:|---|---:|---:|---:|")
+    quartic = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                                  {"power": {"exponent": 4, "strength": 0.5}}])
+    nuc = ah.Well.from_terms([
+        {"woods_saxon": {"depth": 51.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}},
+        {"spin_orbit": {"strength": 22.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}},
+        {"coulomb": {"charge": 19, "r0": 1.27, "mass_number": 40}}], units="nuclear")
+    runs = [
+        ("quartic 1D, 3 levels", (quartic, 1, None, None), {"levels": 3}, "oscillator",
+         (1e-8, 1e-12)),
+        ("WS 2s1/2 (V0 51), 2 levels", (ws(51.0), 3, 0, None), {"levels": 2}, "nuclear",
+         (1e-6, 1e-9)),
+        ("WS 3s (V0 57.7), 3 levels", (ws(57.7), 3, 0, None), {"levels": 3}, "nuclear",
+         (1e-6, 1e-8)),
+        ("proton WS+SO+Coulomb p3/2, 1 level", (nuc, 3, 1, 1.5), {"levels": 1}, "nuclear",
+         (1e-6, 1e-9)),
+    ]
+    for name, args, kw, units, tols in runs:
+        for tol in tols:
+            t = time.perf_counter()
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                r = converge(*args, units=units, tolerance=tol, **kw, warn=False)
+            dt = time.perf_counter() - t
+            print(f"| {name} | {tol:g} | {r.stopped} | {r.size} | "
+                  f"{np.max(r.error_estimate):.2e} | {dt:.2f} |")
+
+
+def main() -> None:
+    print(f"machine: {platform.processor() or platform.machine()}, "
+          f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}")
+    print(f"date: {time.strftime('%Y-%m-%d')}")
+    w = ws(51.0)
+    ref, text = reference(w, 1, (-16.0, -15.0))
+    print(f"\n## WS 2s1/2, A = 40, V0 = 51 MeV: reference {text}\n")
+    table_best_b(w, 1, ref, 1.7)
+    w = ws(57.7)
+    ref, text = reference(w, 2, (-0.4, -0.2))
+    print(f"\n## WS 3s, V0 = 57.7 MeV (near threshold): reference {text}\n")
+    table_best_b(w, 2, ref, 3.5)
+    print()
+    table_extrapolated(w, 2, ref)
+    print("\n## Tolerance-driven runs\n")
+    table_tolerance()
+    print("\n## Cross-check cost\n")
+    for depth, lev in ((51.0, 2), (57.7, 3)):
+        t = time.perf_counter()
+        x = cross_check(ws(depth), 3, 0, levels=lev, units="nuclear")
+        print(f"- WS V0 = {depth}: {lev} levels, {x.points} points, "
+              f"{time.perf_counter() - t:.2f} s, uncertainty max {np.max(x.uncertainty):.1e}")
+
+
+if __name__ == "__main__":
+    main()
