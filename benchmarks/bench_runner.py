@@ -211,6 +211,15 @@ def main() -> None:
         "prebuilt band (the strictest baseline); the core's `diagonalize` on a dense matrix and",
         "scipy's full `eigh` are shown for scale.",
         "",
+        "## Notes",
+        "",
+        "- The eight demo cases take about a second in all, so the pool's fixed costs (fork,",
+        "  per-worker quadrature caches, pickling of results) weigh on ratio 1; larger batches",
+        "  gain more. Each pool worker is limited to one BLAS thread when threadpoolctl is",
+        "  installed (otherwise only through OPENBLAS_NUM_THREADS=1 set before the start).",
+        "- The machine is shared with other work; figures taken under a load average above the",
+        "  core count were up to 2x worse and are not reported.",
+        "",
     ]
     text = "\n".join(lines)
     (ROOT / "benchmarks" / "RESULTS_runner.md").write_text(text)
