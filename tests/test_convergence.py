@@ -146,7 +146,8 @@ def test_tolerance_run_stops_growing_once_converged_and_records_the_size():
     sizes = [h[0] for h in r.history]
     assert sizes[-1] == r.size
     assert max(r.history[-1][1]) < tol  # the estimate met the tolerance at the final size…
-    assert all(max(h[1]) >= tol for h in r.history[:-1])  # …and at no earlier size
+    # …and at no earlier size after the first (a run never stops on a single size)
+    assert all(max(h[1]) >= tol for h in r.history[1:-1])
     assert abs(r.energies[0] - QUARTIC_E0) < tol  # and the level really is that close
 
 
@@ -245,3 +246,31 @@ def test_arguments_are_validated_with_the_parameter_named():
         converge(well, 1, None, ir_length="box")
     with pytest.raises(TypeError, match=r"well: expected an anharmony\.Well"):
         converge("x", 1, None)
+
+
+def test_report_variables_pad_onto_shared_axes(ws_report):
+    # The store stacks cells of different channels: sizes on a shared axis, lengths by index.
+    r = ws_report
+    sizes = [10, *r.sizes.tolist()]
+    v = r.variables(basis_sizes=sizes, length_slots=r.lengths.size + 2)
+    dims, grid, attrs = v["convergence_energy"]
+    assert dims == ("level", "basis_size", "basis_length")
+    assert grid.shape == (3, len(sizes), r.lengths.size + 2)
+    assert np.isnan(grid[:, 0]).all() and np.isnan(grid[:, :, -2:]).all()
+    np.testing.assert_array_equal(grid[:, 1:, : r.lengths.size], r.scan_energies)
+    assert attrs["units"] == "MeV"
+    assert v["converged"][1].dtype == np.int8
+    assert v["model_energy"][1].shape == (3, 4)
+    assert v["error_method"][1].tolist() == list(r.method)
+    np.testing.assert_array_equal(v["cross_check_difference"][1], r.cross_check_difference)
+    with pytest.raises(ValueError, match="length_slots"):
+        r.variables(length_slots=1)
+
+
+def test_case_block_drives_a_run():
+    from anharmony.convergence import ConvergenceSettings
+
+    s = ConvergenceSettings.from_mapping({"sizes": [10, 20, 40, 80], "tolerance": 1e-9})
+    r = converge(W(QUARTIC), 1, 0, levels=2, warn=False, **s.keywords())
+    assert r.converged.all() and r.size in (20, 40, 80)
+    assert abs(r.energies[0] - QUARTIC_E0) < 1e-9

@@ -16,11 +16,14 @@ Bounds (each assumes only that H is self-adjoint and bounded below):
 
 - Weinstein: the interval [E − σ, E + σ] contains an exact eigenvalue (D. H. Weinstein,
   Proc. Natl. Acad. Sci. USA 20, 529 (1934)).
-- Kato–Temple: if no exact eigenvalue other than λ lies in (E − σ… , β) with β ≤ λ_next,
-  then E − σ²/(β − E) ≤ λ ≤ E (T. Kato, J. Phys. Soc. Japan 4, 334 (1949); G. Temple,
-  Proc. R. Soc. A 119, 276 (1928)). The gap estimate β is the neighbouring Ritz level minus
-  its own σ, capped at the threshold (where the continuum begins); that the next exact level
-  lies no lower than β is the assumption, stated in :attr:`ResidualBounds.assumption`.
+- Kato–Temple: if λ is the only eigenvalue in an interval (α, β) around E, then
+  E − σ²/(β − E) ≤ λ ≤ E + σ²/(E − α) (T. Kato, J. Phys. Soc. Japan 4, 334 (1949);
+  G. Temple, Proc. R. Soc. A 119, 276 (1928)). For level k, α is the Ritz value of level
+  k − 1 (an upper bound on λ_{k−1}), and the interval holds an eigenvalue — λ_k — whenever
+  (β − E)(E − α) > σ²; the bound is reported only then. The gap estimate β is the next Ritz
+  level minus its own σ, capped at the threshold (where the continuum begins); that the next
+  exact level lies no lower than β is the assumption, stated in
+  :attr:`ResidualBounds.assumption`.
 - Each Ritz value is an upper bound on its exact level: E_k(N) ≥ λ_k (Hylleraas–Undheim–
   MacDonald theorem; J. K. L. MacDonald, Phys. Rev. 43, 830 (1933)).
 """
@@ -46,7 +49,8 @@ _MAX_REFINE = 14  # quadrature refinements before giving up (points grow ×1.35 
 UPPER_BOUND_NOTE = ("each Ritz value is an upper bound on its exact level "
                     "(Hylleraas-Undheim-MacDonald theorem)")
 KT_ASSUMPTION = ("Kato-Temple: assumes the next exact level lies at or above the gap estimate "
-                 "beta = (next Ritz value - its sigma), capped at the threshold")
+                 "beta = (next Ritz value - its sigma), capped at the threshold; reported only "
+                 "where (beta - E)(E - previous Ritz value) > sigma^2")
 
 
 @dataclass(frozen=True)
@@ -115,8 +119,12 @@ def compute_bounds(problem: Problem, size: int, length: float, levels: int) -> R
     for k in range(nev):
         nxt = e[k + 1] - sigma[k + 1] if k + 1 < nev else math.inf
         beta[k] = min(nxt, problem.threshold)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        kt = np.where(beta > e, e - sigma2 / (beta - e), np.nan)
+    # the interval (α, β), α = the previous Ritz value (≥ λ_{k−1}), must hold an eigenvalue,
+    # which is then λ_k: guaranteed when (β − E)(E − α) > σ² (Kato 1949)
+    alpha = np.concatenate([[-math.inf], e[:-1]])
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        holds = (beta > e) & ((beta - e) * (e - alpha) > sigma2)
+        kt = np.where(holds, e - sigma2 / (beta - e), np.nan)
     k = min(levels, nev)
     return ResidualBounds(energies=e[:k], sigma=sigma[:k], weinstein_lower=(e - sigma)[:k],
                           weinstein_upper=(e + sigma)[:k], kato_temple_lower=kt[:k],

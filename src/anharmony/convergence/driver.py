@@ -56,6 +56,7 @@ __all__ = [
     "DEFAULT_MAX_SIZE",
     "DEFAULT_RTOL",
     "METHODS",
+    "MODELS",
     "ConvergenceReport",
     "ConvergenceSettings",
     "converge",
@@ -63,6 +64,7 @@ __all__ = [
 ]
 
 METHODS = ("exponential", "power", "infrared", "infrared_binding")
+MODELS = METHODS  # the ``model`` axis of :meth:`ConvergenceReport.variables`
 DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explicit limit
 DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
 DEFAULT_RTOL = 1e-8  # without a tolerance, "converged" means error < DEFAULT_RTOL · ħω_ref
@@ -296,6 +298,118 @@ class ConvergenceReport:
         out[:k] = np.abs(e[:k] - self.energies[:k]) + self.error_estimate[:k]
         return out
 
+    def variables(self, basis_sizes: Sequence[int] | None = None,
+                  length_slots: int | None = None) -> dict[str, tuple[tuple[str, ...],
+                                                                   np.ndarray, dict[str, str]]]:
+        """The report as result-file variables of one (scan point, channel) cell.
+
+        Parameters
+        ----------
+        basis_sizes
+            The ``basis_size`` axis shared by all cells (e.g. the union of every channel's
+            sizes); entries this report lacks are NaN. Default: this report's sizes.
+        length_slots
+            Length of the ``basis_length`` axis (an index: each channel has its own grid,
+            given by ``convergence_length``); default: this report's grid size.
+
+        Returns
+        -------
+        dict
+            ``name → (dims, values, attrs)`` with dims drawn from ``level``, ``basis_size``,
+            ``basis_length`` and ``model``; ``attrs`` hold ``units`` and ``long_name``.
+            Stack the cells along (scan, channel) in front of these dims.
+        """
+        sizes = np.asarray(self.sizes if basis_sizes is None else basis_sizes, dtype=int)
+        nb = self.lengths.size if length_slots is None else int(length_slots)
+        if nb < self.lengths.size:
+            raise ValueError(f"length_slots: {nb} is fewer than the {self.lengths.size} "
+                             "lengths of this report")
+        e_unit, l_unit = self.units.energy, self.units.length
+        lev = self.levels
+        grid = np.full((lev, sizes.size, nb), np.nan)
+        irl = np.full((sizes.size, nb), np.nan)
+        for i, n in enumerate(sizes):
+            hit = np.flatnonzero(self.sizes == n)
+            if hit.size:
+                grid[:, i, : self.lengths.size] = self.scan_energies[:, hit[0], :]
+                irl[i, : self.lengths.size] = self.scan.ir_lengths[hit[0], :]
+        pad = np.full(nb, np.nan)
+        b = pad.copy()
+        b[: self.lengths.size] = self.lengths
+        hw = pad.copy()
+        hw[: self.lengths.size] = self.scan.frequencies
+        fits = [[self.extrapolations[k].get(m) for m in METHODS] for k in range(lev)]
+        model_e = np.array([[f.value if f is not None else np.nan for f in row] for row in fits])
+        model_u = np.array([[f.uncertainty if f is not None else np.inf for f in row]
+                            for row in fits])
+        model_ok = np.array([[int(f is not None and f.valid) for f in row] for row in fits],
+                            dtype=np.int8)
+        bnd = self.bounds
+        nan = np.full(lev, np.nan)
+        xc = self.cross_check
+
+        def e(name: str) -> dict[str, str]:
+            return {"units": e_unit, "long_name": name}
+
+        def ln(name: str) -> dict[str, str]:
+            return {"units": l_unit, "long_name": name}
+
+        return {
+            "convergence_energy": (("level", "basis_size", "basis_length"), grid,
+                                   e("Ritz value in the basis (size, length); an upper bound "
+                                     "on the exact level")),
+            "convergence_length": (("basis_length",), b, ln("oscillator length of the scan")),
+            "convergence_frequency": (("basis_length",), hw,
+                                      e("hbar*omega of the scan's oscillator lengths")),
+            "convergence_infrared_length": (("basis_size", "basis_length"), irl,
+                                            ln("infrared length L of the basis (Wendt et al. "
+                                               "2015)")),
+            "convergence_size": ((), np.array(self.size), {"units": "1", "long_name":
+                                                          "largest basis size of the run"}),
+            "optimal_length": (("level",), self.optimal_lengths,
+                               ln("length minimising the level at the largest size")),
+            "joint_length": ((), np.array(self.joint_length),
+                             ln("length minimising the sum of the bound levels")),
+            "extrapolated_energy": (("level",), self.extrapolated,
+                                    e("level extrapolated to the infinite basis")),
+            "extrapolation_uncertainty": (("level",), self.uncertainty,
+                                          e("uncertainty of extrapolated_energy")),
+            "extrapolation_spread": (("level",), self.spread,
+                                     e("spread of the valid extrapolation models")),
+            "model_energy": (("level", "model"), model_e, e("extrapolation of each model")),
+            "model_uncertainty": (("level", "model"), model_u,
+                                  e("uncertainty of each model's extrapolation")),
+            "model_valid": (("level", "model"), model_ok,
+                            {"units": "1", "long_name": "1 where the model applies"}),
+            "error_estimate": (("level",), self.error_estimate,
+                               e("estimated |E - E_exact| of the Ritz value")),
+            "converged": (("level",), self.converged.astype(np.int8),
+                          {"units": "1", "long_name": "1 where error_estimate < tolerance "
+                                                      "for a bound level"}),
+            "error_method": (("level",), np.array(self.method, dtype=str),
+                             {"long_name": "what error_estimate is based on"}),
+            "error_reason": (("level",), np.array(self.reason, dtype=str),
+                             {"long_name": "why error_estimate uses error_method"}),
+            "variance_sigma": (("level",), bnd.sigma if bnd is not None else nan,
+                               e("sqrt(<H^2> - <H>^2) of the Ritz vector")),
+            "weinstein_lower": (("level",), bnd.weinstein_lower if bnd is not None else nan,
+                                e("E - sigma: [E - sigma, E + sigma] holds an eigenvalue")),
+            "weinstein_upper": (("level",), bnd.weinstein_upper if bnd is not None else nan,
+                                e("E + sigma")),
+            "kato_temple_lower": (("level",), bnd.kato_temple_lower if bnd is not None else nan,
+                                  {**e("Kato-Temple lower bound"),
+                                   "comment": bnd.assumption if bnd is not None else ""}),
+            "cross_check_energy": (("level",), xc.energies if xc is not None else nan,
+                                   {**e("level from the cross-check solver"),
+                                    "comment": xc.method if xc is not None else ""}),
+            "cross_check_uncertainty": (("level",), xc.uncertainty if xc is not None else nan,
+                                        e("change of the cross-check over its last mesh")),
+            "cross_check_difference": (("level",), self.cross_check_difference,
+                                       e("Ritz value minus cross-check level")),
+            "convergence_stopped": ((), np.array(self.stopped),
+                                    {"long_name": "why the basis stopped growing"}),
+        }
+
     def summary(self) -> str:
         """A plain-text table of the levels (for logs; the library itself prints nothing)."""
         u = self.units.energy
@@ -503,8 +617,9 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     frequencies
         ħω values instead of ``lengths``.
     tolerance
-        With a tolerance the sizes are tried in order and the run stops at the first size where
-        every bound level's error estimate is below it; ``converged`` compares with it.
+        With a tolerance the sizes are tried in order and the run stops at the first size
+        (from the second on) where every bound level's error estimate is below it;
+        ``converged`` compares with it.
         Without one every size is used and ``converged`` means error < DEFAULT_RTOL · ħω_ref.
     max_size
         Size limit of the run: sizes beyond the given ones continue the √2 ladder up to it.
@@ -546,7 +661,6 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     stopped = ""
     scan = bnd = None
     est: list[_LevelEstimate] = []
-    steps = ladder if tolerance is not None else (ladder[-1],)
     first = 0 if tolerance is not None else len(ladder) - 1
     for k in range(first, len(ladder)):
         now = ladder[: k + 1]
@@ -564,13 +678,13 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         est = [_estimate(problem, scan, i, ir_length, bnd) for i in range(levels)]
         errs = np.array([e.error for e in est])
         history.append((int(now[-1]), tuple(float(x) for x in errs)))
-        if tolerance is not None and np.all(errs[bound] < tol) and bound.any():
+        if tolerance is not None and len(history) >= 2 and bound.any() \
+                and np.all(errs[bound] < tol):
             stopped = f"converged at size {now[-1]} (tolerance {tol:.3g})"
             break
     else:
         stopped = (f"size limit {ladder[-1]} reached" if tolerance is not None
                    else f"fixed sizes up to {ladder[-1]}")
-    del steps
     assert scan is not None  # the ladder always has a size >= levels
     ritz = scan.best_energies()[:levels]
     bound = ritz < problem.threshold
