@@ -301,3 +301,23 @@ def test_demo_cases_can_be_copied_and_run_elsewhere(tmp_path):
     shutil.copy(src, tmp_path / src.name)
     ds = run_case(tmp_path / src.name)
     assert ds.attrs["case"] == src.read_text()
+
+
+@pytest.mark.parametrize(("parameter", "values"), [("particle.mass", [1.0, 4.0]),
+                                                    ("reference.frequency", [0.5, 2.0]),
+                                                    ("basis.length", [0.7, 1.4])])
+def test_scans_of_settings_match_the_oscillator_formula(tmp_path, parameter, values):
+    text = ("schema: 1\nspace: {dimension: 1}\nwell:\n  - harmonic: {stiffness: 1.0}\n"
+            "basis: {size: 30}\nlevels: {count: 3}\n"
+            f"scan: {{parameter: {parameter}, values: {values}}}\n")
+    case = case_from_dict(yaml.safe_load(text), folder=tmp_path)
+    ds = run_case(case)
+    mass = np.array(values) if parameter == "particle.mass" else np.ones(2)
+    # 1D oscillator of stiffness k: E_n = ħ sqrt(k/m) (n + 1/2), ħ = 1 in oscillator units
+    exact = np.sqrt(1.0 / mass)[:, None] * (np.arange(3) + 0.5)
+    # a basis length far from the well's own converges more slowly (N = 30): 1e-9 is ample
+    np.testing.assert_allclose(ds.energy.values[:, 0, :], exact, rtol=1e-9)
+    if parameter == "reference.frequency":
+        np.testing.assert_allclose(ds.frequency.values, values, rtol=1e-14)
+    if parameter == "basis.length":
+        np.testing.assert_allclose(ds.length.values, values, rtol=1e-14)

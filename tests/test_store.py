@@ -64,6 +64,16 @@ def test_every_core_name_is_present(made):
     assert ds.scan_value.attrs["units"] == "MeV"
 
 
+def test_convergence_sizes_are_stored_and_feed_the_error_estimate(made):
+    _, ds = made
+    assert list(ds.basis_size.values) == [6, 8]
+    # error_estimate is the change from the largest listed size below N = 10 (here 8)
+    expected = abs(ds.energy - ds.convergence_energy.sel(basis_size=8))
+    xr.testing.assert_allclose(ds.error_estimate, expected.drop_vars("basis_size"),
+                               rtol=0, atol=0)
+    assert (ds.convergence_energy.sel(basis_size=6) >= ds.energy - 1e-12).all()  # Rayleigh–Ritz
+
+
 def test_every_variable_has_units_and_long_name(made):
     _, ds = made
     for name, var in ds.variables.items():
