@@ -83,6 +83,8 @@ MALFORMED = [
      "steps: 3}", "parameter: well[0].frequency\n  values: [1.0, -1.0]", "scan.values"),
     ("term-not-a-mapping", "  - harmonic: {frequency: 1.0}", "  - harmonic", "well[0]"),
     ("no-unit-systems-of-own", "units: oscillator", "units: meV", "units"),
+    ("on-for-a-name", "units: oscillator", "units: on", "units"),
+    ("no-for-a-resummation", "resum: [pade]", "resum: [no]", "perturbation.resum[0]"),
 ]
 
 
@@ -113,6 +115,8 @@ def test_malformed_case_gives_exit_2_and_one_line(tmp_path, capsys, old, new, fi
     assert f": {field}: " in lines[0], lines[0]
     assert "Traceback" not in err + out
     assert list(tmp_path.glob("*.nc")) == [] and list(tmp_path.glob(".*")) == []
+    if new.endswith(("on", "[no]")):
+        assert "quote it" in lines[0]  # YAML 1.1 reads on/no as booleans
 
 
 @pytest.mark.parametrize("name", ["duplicate-keys.yaml", "unsafe-formula.yaml",
