@@ -289,6 +289,17 @@ def _default_lm(order: int) -> tuple[int, int]:
     return order - m, m
 
 
+def _candidates(order: int) -> list[tuple[int, int]]:
+    """Near-diagonal [L/M] tried in turn when the default has a pole on the path."""
+    l0, m0 = _default_lm(order)
+    out = []
+    for dl, dm in ((0, 0), (1, -1), (-1, 0), (0, -1), (-1, -1), (2, -2), (-2, 0), (-1, 1)):
+        l, m = l0 + dl, m0 + dm
+        if l >= 0 and m >= 1 and l + m <= order and (l, m) not in out:
+            out.append((l, m))
+    return out
+
+
 def borel_pade(
     coefficients: Sequence[Any],
     lam: Any,
@@ -296,6 +307,12 @@ def borel_pade(
     M: int | None = None,
 ) -> BorelPade:
     """Borel–Padé sum: Padé of the Borel transform, then the Laplace integral.
+
+    With L and M left out, the near-diagonal approximant is used; if it has a real pole on the
+    integration path for some λ (often a Froissart doublet that is not quite exact), the
+    neighbouring approximants [L+1/M−1], [L−1/M], [L/M−1], … are tried in turn and the first
+    without a pole on the path is returned (``result.approximant`` says which was used). If
+    all of them have one, the first result (with NaN where the path is blocked) is returned.
 
     Parameters
     ----------
@@ -325,14 +342,29 @@ def borel_pade(
     |Im s| < 1e-8 |s| sits on the path: the sum is then not defined (a non-Borel-summable
     direction, or too few orders) and the value is NaN.
     """
-    from scipy.integrate import quad
-
     check_coefficients(coefficients)
     order = len(coefficients) - 1
     if L is None and M is None:
-        L, M = _default_lm(order)
-    elif L is None or M is None:
+        first = None
+        for i, (l_try, m_try) in enumerate(_candidates(order) or [_default_lm(order)]):
+            try:
+                result = _borel_pade(coefficients, lam, l_try, m_try, order)
+            except (ValueError, TypeError, ZeroDivisionError):
+                if i == 0:
+                    raise
+                continue  # a singular neighbour: try the next one
+            if not np.any(result.on_path):
+                return result
+            first = result if first is None else first
+        return first
+    if L is None or M is None:
         raise ValueError(f"give both L and M or neither; got L={L!r}, M={M!r}")
+    return _borel_pade(coefficients, lam, L, M, order)
+
+
+def _borel_pade(coefficients: Sequence[Any], lam: Any, L: int, M: int, order: int
+                ) -> BorelPade:
+    from scipy.integrate import quad
     with mpmath.workdps(40 + 3 * (L + M)):
         even = even_series(coefficients)
         used = coefficients if even is None else even
