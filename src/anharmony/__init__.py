@@ -15,6 +15,7 @@ __all__ = [
     "SYSTEMS",
     "TERMS",
     "AnharmonyWarning",
+    "CaseError",
     "Channel",
     "ConvergenceWarning",
     "DegenerateLevelError",
@@ -28,6 +29,8 @@ __all__ = [
     "__version__",
     "channel_hamiltonian",
     "get_units",
+    "load_cases",
+    "read_dataset",
     "reference_oscillator",
     "run_case",
     "series",
@@ -35,11 +38,19 @@ __all__ = [
 ]
 
 
-def __getattr__(name: str):
-    # run_case lives on top of the store (xarray): imported on first use, so that
-    # ``import anharmony`` keeps xarray, yaml and matplotlib out of sys.modules.
-    if name == "run_case":
-        from .runner import run_case
+_LAZY = {  # names that live on top of yaml / xarray: imported on first use, so that
+    # ``import anharmony`` keeps xarray, yaml and matplotlib out of sys.modules
+    "run_case": ("runner", "run_case"),
+    "load_cases": ("cases", "load_cases"),
+    "CaseError": ("cases", "CaseError"),
+    "read_dataset": ("store", "read_dataset"),
+}
 
-        return run_case
+
+def __getattr__(name: str):
+    if name in _LAZY:
+        from importlib import import_module
+
+        module, attr = _LAZY[name]
+        return getattr(import_module(f".{module}", __name__), attr)
     raise AttributeError(f"module 'anharmony' has no attribute {name!r}")

@@ -388,7 +388,7 @@ class CaseModel(_Strict):
 
     schema_: Literal[1] = Field(alias="schema")
     title: str = ""
-    units: Literal["oscillator", "nuclear", "molecular", "trap", "atomic"] = "oscillator"
+    units: Literal["oscillator", "nuclear", "molecular", "trap", "dot", "atomic"] = "oscillator"
     particle: Particle = Field(default_factory=Particle)
     space: Space = Field(default_factory=Space)
     well: list[dict[Any, Any]] = Field(min_length=1)

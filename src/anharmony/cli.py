@@ -16,6 +16,7 @@ from typing import Any, NoReturn, TextIO
 import numpy as np
 
 from . import __version__
+from .hamiltonian import level_label
 
 __all__ = ["main"]
 
@@ -271,10 +272,6 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 
 # --------------------------------------------------------------------------- show
-def _level_label(label: str, dimension: int, n: int) -> str:
-    return f"{n + 1}{label}" if dimension == 3 else f"{n}{label}" if label != "x" else f"n={n}"
-
-
 def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     if ds.sizes.get("order", 0) == 0:
         return "-"
@@ -333,7 +330,7 @@ def _cmd_show(args: argparse.Namespace) -> int:
     print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {shown_units}]")
     print(f"  from {a.get('case_file', '?')}; {a.get('source', '')}; {a.get('history', '')}")
     param = ds.scan_value.attrs.get("parameter", "coupling")
-    head = (f"  {'level':>8} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
+    head = (f"  {'level':>12} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
             f"{'error':>9}  perturbation")
     for k in points:
         sv = float(ds.scan_value.values[k])
@@ -349,7 +346,9 @@ def _cmd_show(args: argparse.Namespace) -> int:
                 bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
                 err = float(ds.error_estimate.values[k, c, n])
                 errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
-                print(f"  {_level_label(labels[c], dim, n):>8} {e:14.8g} {ref:14.8g} "
+                jc = float(ds.j.values[c]) if "j" in ds else None
+                name = level_label(dim, int(ds.l.values[c]), jc, n)
+                print(f"  {name:>12} {e:14.8g} {ref:14.8g} "
                       f"{e - ref:12.5g} {bound:>6} {errs}  {_verdict(ds, k, c, n, tol)}")
     return EXIT_OK
 

@@ -19,9 +19,10 @@ import numpy as np
 from .basis import HermiteBasis, RadialBasis
 from .potentials import Coulomb, Power, Term, Well
 
-__all__ = ["Channel", "ChannelMatrices", "channel_hamiltonian", "make_basis", "parse_j"]
+__all__ = ["L_LETTERS", "Channel", "ChannelMatrices", "channel_hamiltonian", "level_label",
+           "make_basis", "parse_j"]
 
-_LETTERS = "spdfghiklmnoqrtuvwxyz"  # spectroscopic letters; j is skipped (common practice)
+L_LETTERS = "spdfghiklmnoqrtuvwxyz"  # spectroscopic letters; j is skipped (common practice)
 _WEIGHT_1D = {"harmonic", "power", "polynomial", "gaussian", "morse", "poschl_teller"}
 _WEIGHT_RADIAL = {"gaussian", "poschl_teller"}  # analytic functions of r² when centred at 0
 
@@ -88,12 +89,28 @@ class Channel:
             return ("even", "odd")[self.l]
         if self.dimension == 2:
             return f"m={self.l}"
-        letter = _LETTERS[self.l] if self.l < len(_LETTERS) else f"[l={self.l}]"
+        letter = L_LETTERS[self.l] if self.l < len(L_LETTERS) else f"[l={self.l}]"
         return letter if self.j is None else f"{letter}{int(2 * self.j)}/2"
 
     def level_label(self, n: int) -> str:
-        """Spectroscopic label of level n (0-based radial index): ``1d5/2`` for n = 0."""
-        return f"{n + 1}{self.label}" if self.dimension == 3 else f"{n}{self.label}"
+        """Label of level n (0-based radial index) of this channel; see :func:`level_label`."""
+        return level_label(self.dimension, -1 if self.l is None else self.l, self.j, n)
+
+
+def level_label(dimension: int, l: int, j: float | None, n: int) -> str:  # noqa: E741
+    """Label of level ``n`` (0-based radial index) of a channel.
+
+    3D: ``n l j`` with n counted from 1 (``1d5/2``; ``2s`` without spin), the trade's
+    spectroscopic convention. 2D: ``n=0, |m|=1``. 1D: ``v=3`` with v the oscillator-like
+    quantum number (v = 2n + parity in the parity channels, v = n without symmetry, l = −1).
+    """
+    if dimension == 3:
+        letter = L_LETTERS[l] if 0 <= l < len(L_LETTERS) else f"[l={l}]"
+        spin = "" if j is None or not math.isfinite(j) else f"{round(2 * j)}/2"
+        return f"{n + 1}{letter}{spin}"
+    if dimension == 2:
+        return f"n={n}, |m|={l}"
+    return f"v={n if l < 0 else 2 * n + l}"
 
 
 @dataclass(frozen=True)

@@ -24,6 +24,8 @@ _ANGSTROM = sc.angstrom
 _U = sc.physical_constants["atomic mass constant"][0]
 _H_KHZ = sc.h * 1e3
 _MICRON = sc.micro
+_MEV_MILLI = 1e-3 * sc.electron_volt
+_NM = sc.nano
 _HARTREE = sc.physical_constants["Hartree energy"][0]
 _BOHR = sc.physical_constants["Bohr radius"][0]
 _COULOMB_SI = sc.e**2 / (4.0 * sc.pi * sc.epsilon_0)  # e^2/(4 pi eps0) in J m
@@ -101,6 +103,11 @@ SYSTEMS: dict[str, UnitSystem] = {
     "trap": UnitSystem(
         "trap", "kHz", "um", "u", _H_KHZ, _MICRON, _U, 1.0,
         "1 u (give the atom's mass)", "energy E/h in kHz", "length in micrometre",
+    ),
+    "dot": UnitSystem(
+        "dot", "meV", "nm", "m_e", _MEV_MILLI, _NM, sc.m_e, 1.0,
+        "the free electron mass (give the effective mass, e.g. 0.067 for GaAs)",
+        "energy in meV", "length in nm",
     ),
     "atomic": UnitSystem(
         "atomic", "hartree", "bohr", "m_e", None, None, None, 1.0, "the electron mass",

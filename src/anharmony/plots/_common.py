@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 
 from . import _style
+from ..hamiltonian import L_LETTERS, level_label
 
 __all__ = [
     "FigureRequest",
@@ -27,7 +28,6 @@ __all__ = [
 ]
 
 # Spectroscopic letters of l = 0, 1, 2, …; j is skipped (trade convention).
-L_LETTERS = "spdfghiklmnoqrtuvwxyz"
 _SUPERSCRIPT = str.maketrans("-0123456789.", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹·")
 _UNIT_NAMES = {"angstrom": "Å", "um": "µm", "micrometre": "µm", "MeV/c2": "MeV/c²",
                "hartree": "Eₕ", "bohr": "a₀", "m_e": "mₑ"}
@@ -113,22 +113,6 @@ def pretty_units(units: Any, system: str | None = None, quantity: str | None = N
 def axis_label(name: str, units: str | None) -> str:
     """``"energy E (MeV)"``, or the bare name for a pure number."""
     return f"{name} ({units})" if units else name
-
-
-def level_label(dimension: int, l: int, j: float | None, n: int) -> str:
-    """Spectroscopic label of level ``n`` (0-based radial index) of a channel.
-
-    3D: ``n l j`` with n counted from 1 (``1d5/2``; ``2s`` without spin). 2D: ``n=0, |m|=1``.
-    1D: ``v=3`` with v the oscillator-like quantum number (v = 2n + parity for the parity
-    channels, v = n for the basis without symmetry).
-    """
-    if dimension == 3:
-        letter = L_LETTERS[l] if 0 <= l < len(L_LETTERS) else f"[l={l}]"
-        spin = "" if j is None or not math.isfinite(j) else f"{round(2 * j)}/2"
-        return f"{n + 1}{letter}{spin}"
-    if dimension == 2:
-        return f"n={n}, |m|={l}"
-    return f"v={n if l < 0 else 2 * n + l}"
 
 
 def shell_number(dimension: int, l: int, n: int) -> int:
