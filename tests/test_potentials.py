@@ -123,3 +123,11 @@ def test_harmonic_frequency_form_gives_that_frequency_in_any_units():
         w = W([{"harmonic": {"frequency": 3.0}}], units=units, mass=2.0)
         s = ah.solve(w, dimension=3, l=0, size=4, levels=2, units=units, mass=2.0)
         np.testing.assert_allclose(s.energies, [4.5, 10.5], rtol=1e-12)
+
+
+def test_dot_units_kinetic_prefactor_against_handbook_value():
+    # ħ²/2mₑ = 38.09982 meV nm² (CODATA-derived handbook value, quoted from memory); GaAs
+    # effective mass 0.067 mₑ (common practice).
+    u = get_units("dot")
+    assert u.hbar2_over_2m(1.0) == pytest.approx(38.09982, rel=1e-6)
+    assert u.length_from_frequency(3.0, 0.067) == pytest.approx(19.47, rel=1e-3)
