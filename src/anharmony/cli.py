@@ -93,7 +93,33 @@ def _parser() -> argparse.ArgumentParser:
                            "(default the last; negative counts from the end)")
     plot.add_argument("--dpi", type=float, metavar="DPI",
                       help="resolution of a PNG (default the plots module's)")
+    plot.add_argument("--levels", type=_int_list, metavar="N[,N…]",
+                      help="0-based levels per channel to draw, e.g. 0,1 (default: all; "
+                           "series and convergence: the lowest; well and scheme: the bound)")
+    plot.add_argument("--orders", type=_int_list, metavar="K[,K…]",
+                      help="perturbation orders whose partial sums flow and shift draw "
+                           "(default 1,2)")
+    plot.add_argument("--methods", type=lambda s: [m.strip() for m in s.split(",") if m.strip()],
+                      metavar="M[,M…]",
+                      help="resummation methods to draw in flow and series: pade, borel_pade "
+                           "(default: all in the file)")
+    plot.add_argument("--log", action="store_true",
+                      help="log-log axes in the shift figure, with the low-order slope")
+    plot.add_argument("--basis-size", type=int, metavar="N",
+                      help="basis size of the energy-against-length panel of convergence")
+    plot.add_argument("--size", type=float, nargs=2, metavar=("W", "H"),
+                      help="figure size in inches (default per kind)")
+    plot.add_argument("--title", metavar="TEXT",
+                      help="figure title (default: the case title)")
     return p
+
+
+def _int_list(text: str) -> list[int]:
+    try:
+        return [int(t) for t in text.split(",") if t.strip()]
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected integers separated by commas; got {text!r}"
+                                         ) from None
 
 
 # --------------------------------------------------------------------------- helpers
@@ -373,7 +399,10 @@ def _cmd_plot(args: argparse.Namespace) -> int:
         return EXIT_BAD_INPUT
     try:
         channel = args.channel[0] if args.channel and len(args.channel) == 1 else args.channel
-        fig = make(ds, args.kind, channel=channel, scan_index=args.scan)
+        fig = make(ds, args.kind, channel=channel, scan_index=args.scan, levels=args.levels,
+                   orders=args.orders, methods=args.methods, log=args.log,
+                   basis_size=args.basis_size, size=tuple(args.size) if args.size else None,
+                   title=args.title)
         path = save(fig, args.output, dpi=args.dpi)
     except (ValueError, KeyError, IndexError) as exc:
         _err(f"plot: {exc}")
