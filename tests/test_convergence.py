@@ -274,3 +274,12 @@ def test_case_block_drives_a_run():
     r = converge(W(QUARTIC), 1, 0, levels=2, warn=False, **s.keywords())
     assert r.converged.all() and r.size in (20, 40, 80)
     assert abs(r.energies[0] - QUARTIC_E0) < 1e-9
+
+
+def test_without_growth_a_tolerance_only_sets_the_flags():
+    r = converge(W(QUARTIC), 1, 0, levels=2, sizes=[6, 8, 10, 12], tolerance=1e-9, grow=False,
+                 warn=False)
+    assert not r.tolerance_driven and r.size == 12 and "fixed sizes" in r.stopped
+    np.testing.assert_array_equal(r.converged, r.error_estimate < 1e-9)
+    with pytest.raises(ValueError, match="grow: growing the basis needs a tolerance"):
+        converge(W(QUARTIC), 1, 0, grow=True)

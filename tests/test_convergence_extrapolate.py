@@ -157,6 +157,8 @@ def test_settings_from_a_case_block_and_back_to_keywords():
     ({"cross_check": "yes"}, "convergence.cross_check: must be true or false"),
     ({"max_size": 1}, "convergence.max_size: must be an integer >= 2"),
     ({"ir_length": "box"}, "convergence.ir_length: must be one of eigenvalue, closed_form"),
+    ({"estimate": "guess"}, "convergence.estimate: must be one of extrapolate, smaller_basis"),
+    ({"grow": 1}, "convergence.grow: must be true or false"),
 ])
 def test_settings_errors_name_the_field_and_the_value(block, fragment):
     with pytest.raises(ValueError) as info:

@@ -85,8 +85,9 @@ def size_ladder(start: int, stop: int, ratio: float = LADDER_RATIO) -> tuple[int
 
 
 # --------------------------------------------------------------------------- settings
-_KEYS = ("sizes", "lengths", "frequencies", "tolerance", "max_size", "cross_check", "bounds",
-         "ir_length")
+_KEYS = ("sizes", "lengths", "frequencies", "tolerance", "grow", "max_size", "cross_check",
+         "bounds", "ir_length", "estimate")
+ESTIMATES = ("extrapolate", "smaller_basis", "none")
 
 
 @dataclass(frozen=True)
@@ -103,6 +104,9 @@ class ConvergenceSettings:
         ħω values instead of lengths.
     tolerance : float or None
         Target of the error estimate; with it the basis grows until every bound level meets it.
+    grow : bool or None
+        Grow the basis towards the tolerance (default: whenever a tolerance is given); False
+        scans every size and only flags ``converged``.
     max_size : int or None
         Size limit of a tolerance-driven run (default: the largest of ``sizes``, or 320).
     cross_check : bool
@@ -111,16 +115,22 @@ class ConvergenceSettings:
         Compute the residual bounds (variance, Weinstein, Kato–Temple).
     ir_length : str
         ``"eigenvalue"`` (Wendt et al. 2015) or ``"closed_form"`` (L₂ of More et al. 2013).
+    estimate : str
+        How a runner fills ``error_estimate``: ``"extrapolate"`` (this module's
+        :func:`converge`), ``"smaller_basis"`` (the change from a smaller basis, computed by the
+        runner) or ``"none"``. Not used by :func:`converge` itself.
     """
 
     sizes: tuple[int, ...] | None = None
     lengths: tuple[float, ...] | None = None
     frequencies: tuple[float, ...] | None = None
     tolerance: float | None = None
+    grow: bool | None = None
     max_size: int | None = None
     cross_check: bool = False
     bounds: bool = True
     ir_length: str = "eigenvalue"
+    estimate: str = "extrapolate"
 
     @classmethod
     def from_mapping(cls, block: Mapping[str, Any] | None, path: str = "convergence"
@@ -150,8 +160,8 @@ class ConvergenceSettings:
             kw["tolerance"] = check_positive(f"{path}.tolerance", block["tolerance"])
         if block.get("max_size") is not None:
             kw["max_size"] = check_count(f"{path}.max_size", block["max_size"], 2)
-        for key in ("cross_check", "bounds"):
-            if key in block:
+        for key in ("cross_check", "bounds", "grow"):
+            if key in block and not (key == "grow" and block[key] is None):
                 if not isinstance(block[key], bool):
                     raise ValueError(f"{path}.{key}: must be true or false; got {block[key]!r}")
                 kw[key] = block[key]
@@ -160,13 +170,18 @@ class ConvergenceSettings:
                 raise ValueError(f"{path}.ir_length: must be one of {', '.join(_IR_LENGTHS)}; "
                                  f"got {block['ir_length']!r}")
             kw["ir_length"] = block["ir_length"]
+        if "estimate" in block:
+            if block["estimate"] not in ESTIMATES:
+                raise ValueError(f"{path}.estimate: must be one of {', '.join(ESTIMATES)}; "
+                                 f"got {block['estimate']!r}")
+            kw["estimate"] = block["estimate"]
         return cls(**kw)
 
     def keywords(self) -> dict[str, Any]:
         """Keyword arguments of :func:`converge`."""
         return {"sizes": self.sizes, "lengths": self.lengths or "auto",
                 "frequencies": self.frequencies, "tolerance": self.tolerance,
-                "max_size": self.max_size, "cross_check": self.cross_check,
+                "grow": self.grow, "max_size": self.max_size, "cross_check": self.cross_check,
                 "bounds": self.bounds, "ir_length": self.ir_length}
 
 
@@ -584,8 +599,8 @@ def _ladder(sizes: tuple[int, ...] | None, max_size: int | None, tolerance: floa
             start = max(top // 4, levels + 1, 1)
         ladder = size_ladder(start, top)
         return ladder, top
-    if max_size is None or max_size <= sizes[-1]:
-        if max_size is not None:
+    if max_size is None or max_size <= sizes[-1] or tolerance is None:
+        if max_size is not None and max_size <= sizes[-1]:
             sizes = tuple(s for s in sizes if s <= max_size) or (max_size,)
         return sizes, sizes[-1]
     more = size_ladder(sizes[-1], max_size)[1:]
@@ -597,8 +612,9 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
              mass: float | None = None, reference: str | Mapping[str, float] = "auto",
              sizes: Sequence[int] | None = None, lengths: Any = "auto",
              frequencies: Sequence[float] | None = None, tolerance: float | None = None,
-             max_size: int | None = None, cross_check: bool = False, bounds: bool = True,
-             ir_length: str = "eigenvalue", warn: bool = True) -> ConvergenceReport:
+             grow: bool | None = None, max_size: int | None = None, cross_check: bool = False,
+             bounds: bool = True, ir_length: str = "eigenvalue", warn: bool = True
+             ) -> ConvergenceReport:
     """Convergence study of the lowest levels of one channel.
 
     Parameters
@@ -620,6 +636,9 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         With a tolerance the sizes are tried in order and the run stops at the first size
         (from the second on) where every bound level's error estimate is below it;
         ``converged`` compares with it.
+    grow
+        Whether a tolerance drives the size (default True when a tolerance is given); with
+        ``grow=False`` every size is scanned and the tolerance only sets ``converged``.
         Without one every size is used and ``converged`` means error < DEFAULT_RTOL · ħω_ref.
     max_size
         Size limit of the run: sizes beyond the given ones continue the √2 ladder up to it.
@@ -640,6 +659,12 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     levels = check_count("levels", levels)
     if tolerance is not None:
         tolerance = check_positive("tolerance", tolerance)
+    if grow is None:
+        grow = tolerance is not None
+    elif not isinstance(grow, bool):
+        raise ValueError(f"grow: must be True, False or None; got {grow!r}")
+    if grow and tolerance is None:
+        raise ValueError("grow: growing the basis needs a tolerance")
     if max_size is not None:
         max_size = check_count("max_size", max_size, 2)
     sizes_t = check_sizes(sizes) if sizes is not None else None
@@ -650,7 +675,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
             raise ValueError(f"{name}: must be True or False; got {flag!r}")
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
     explicit = resolve_lengths(problem, lengths, frequencies)
-    ladder, limit = _ladder(sizes_t, max_size, tolerance, levels)
+    ladder, limit = _ladder(sizes_t, max_size, tolerance if grow else None, levels)
     if ladder[-1] < levels:
         raise ValueError(f"sizes: {levels} levels need a basis of at least that size; "
                          f"the largest size is {ladder[-1]}")
@@ -661,7 +686,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     stopped = ""
     scan = bnd = None
     est: list[_LevelEstimate] = []
-    first = 0 if tolerance is not None else len(ladder) - 1
+    first = 0 if grow else len(ladder) - 1
     for k in range(first, len(ladder)):
         now = ladder[: k + 1]
         if now[-1] < levels:
@@ -678,12 +703,12 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         est = [_estimate(problem, scan, i, ir_length, bnd) for i in range(levels)]
         errs = np.array([e.error for e in est])
         history.append((int(now[-1]), tuple(float(x) for x in errs)))
-        if tolerance is not None and len(history) >= 2 and bound.any() \
+        if grow and len(history) >= 2 and bound.any() \
                 and np.all(errs[bound] < tol):
             stopped = f"converged at size {now[-1]} (tolerance {tol:.3g})"
             break
     else:
-        stopped = (f"size limit {ladder[-1]} reached" if tolerance is not None
+        stopped = (f"size limit {ladder[-1]} reached" if grow
                    else f"fixed sizes up to {ladder[-1]}")
     assert scan is not None  # the ladder always has a size >= levels
     ritz = scan.best_energies()[:levels]
@@ -696,8 +721,8 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     xcheck = None
     if cross_check:
         xcheck = run_cross_check(problem, levels, ritz)
-    messages = _messages(problem, scan, ritz, bound, errs, converged, tol, tolerance, stopped,
-                         limit)
+    messages = _messages(problem, scan, ritz, bound, errs, converged, tol, tolerance, grow,
+                         stopped, limit)
     if warn:
         for msg in messages:
             warnings.warn(msg, ConvergenceWarning, stacklevel=2)
@@ -713,7 +738,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         converged=converged, method=tuple(e.method for e in est),
         reason=tuple(e.reason for e in est), extrapolations=tuple(e.fits for e in est),
         spread=np.array([e.spread for e in est]), scan=scan, bounds=bnd, cross_check=xcheck,
-        tolerance=float(tol), tolerance_driven=tolerance is not None, size_limit=int(limit),
+        tolerance=float(tol), tolerance_driven=grow, size_limit=int(limit),
         stopped=stopped, threshold=problem.threshold, units=problem.units,
         reference=problem.reference, history=tuple(history), messages=tuple(messages),
         notes=notes)
@@ -721,7 +746,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
 
 def _messages(problem: Problem, scan: BasisScan, ritz: np.ndarray, bound: np.ndarray,
               errs: np.ndarray, converged: np.ndarray, tol: float, tolerance: float | None,
-              stopped: str, limit: int) -> list[str]:
+              grow: bool, stopped: str, limit: int) -> list[str]:
     out = []
     u = problem.units.energy
     ch = problem.channel
@@ -739,8 +764,12 @@ def _messages(problem: Problem, scan: BasisScan, ritz: np.ndarray, bound: np.nda
             out.append(f"{lab}: error estimate {errs[k]:.2e} {u} exceeds the default "
                        f"{tol:.2e} {u} at size {n}; give convergence.tolerance, or more or "
                        "larger convergence.sizes")
-        else:
+        elif grow:
             out.append(f"{lab}: error estimate {errs[k]:.2e} {u} exceeds the tolerance "
                        f"{tol:.2e} {u} ({stopped}); raise convergence.max_size (now {limit}) "
                        "or relax convergence.tolerance")
+        else:
+            out.append(f"{lab}: error estimate {errs[k]:.2e} {u} exceeds the tolerance "
+                       f"{tol:.2e} {u} at size {n}; add larger convergence.sizes, or let the "
+                       "basis grow (convergence.grow: true)")
     return out
