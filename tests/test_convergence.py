@@ -283,3 +283,18 @@ def test_without_growth_a_tolerance_only_sets_the_flags():
     np.testing.assert_array_equal(r.converged, r.error_estimate < 1e-9)
     with pytest.raises(ValueError, match="grow: growing the basis needs a tolerance"):
         converge(W(QUARTIC), 1, 0, grow=True)
+
+
+def test_scan_accepts_frequencies_in_place_of_lengths():
+    # b = sqrt(ħ/(mω)) = 1/sqrt(ħω) with ħ = m = 1 (definition of the oscillator length).
+    scan = scan_basis(W(QUARTIC), 1, None, sizes=[6, 8, 10], frequencies=[1.0, 4.0], levels=1)
+    np.testing.assert_allclose(scan.lengths, [0.5, 1.0], rtol=1e-14)
+    np.testing.assert_allclose(scan.frequencies, [4.0, 1.0], rtol=1e-14)
+
+
+def test_cross_check_of_an_unconfined_well_is_reported_not_raised():
+    # V = x²/2 − x³/10 falls to −∞ on the right: its local levels are resonances.
+    well = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 3, "strength": -0.1}}])
+    r = converge(well, 1, None, levels=1, sizes=[6, 8, 10], cross_check=True, warn=False)
+    assert r.cross_check.method == "none" and "not possible" in r.cross_check.note
+    assert not r.bound[0] and not r.converged[0]

@@ -12,12 +12,18 @@ How ``error_estimate`` is chosen, per level (the reason is stored in the report)
 1. Each model is fitted at every length of the grid; per model the valid fit with the smallest
    uncertainty is kept. A fit whose E∞ lies above the level's lowest Ritz value by more than its
    uncertainty contradicts the variational principle and is dropped.
-2. The *used* extrapolation is the kept fit with the smallest uncertainty; its estimate of the
-   Ritz error is (E_Ritz − E∞) + uncertainty.
+2. The *used* extrapolation is the kept fit with the smallest uncertainty; its uncertainty is
+   raised to the spread of the valid models when that is larger, and its estimate of the Ritz
+   error is (E_Ritz − E∞) + uncertainty.
 3. Where the Kato–Temple bound applies (gap assumption met), the Ritz error is at most
-   E_Ritz − E_KT. If that is smaller, it is used instead ("kato_temple").
-4. Without any of these, the change of the level over the last size step is used
-   ("difference", a rough estimate), or inf with a single size.
+   E_Ritz − E_KT. If that is smaller, it is used instead (``kato_temple``).
+4. For a level below a finite threshold, an extrapolation-based estimate is never below the
+   infrared tail at the level's best length, E_Ritz − E∞ from the last two sizes with
+   k = 2κ∞ fixed by the binding energy (:func:`.extrapolate.infrared_tail`); where the
+   ultraviolet error dominates this floor is smaller and changes nothing.
+5. No estimate is below the rounding scale eps·||H||₁ of the eigenvalue.
+6. Without any model or bound, the change of the level over the last size step is used
+   (``difference``, a rough estimate), or inf with a single size (``none``).
 
 ``converged`` is error_estimate < tolerance for bound levels; levels above the threshold are
 discretised-continuum states and are never converged.
@@ -34,7 +40,7 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import ConvergenceWarning
+from ..errors import ConvergenceWarning, NumericalError
 from ..hamiltonian import Channel
 from ..potentials import Well
 from ..spectrum import Reference
@@ -720,7 +726,15 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     count = int(np.count_nonzero(bound)) or levels
     xcheck = None
     if cross_check:
-        xcheck = run_cross_check(problem, levels, ritz)
+        try:
+            xcheck = run_cross_check(problem, levels, np.where(np.isfinite(ritz), ritz,
+                                                               problem.reference.v_min))
+        except (ValueError, NumericalError) as exc:  # e.g. a well unbounded on one side
+            xcheck = CrossCheck(method="none", energies=np.full(levels, np.nan),
+                                uncertainty=np.full(levels, np.inf),
+                                bound=np.zeros(levels, dtype=bool), converged=False, points=0,
+                                scale=math.nan, extent=(math.nan, math.nan),
+                                note=f"cross-check not possible: {exc}")
     messages = _messages(problem, scan, ritz, bound, errs, converged, tol, tolerance, grow,
                          stopped, limit)
     if warn:
