@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
@@ -95,7 +95,6 @@ class BasisScan:
     center: float = 0.0
     mass: float | None = None
     skipped: tuple[tuple[float, str], ...] = ()  # (length, why) of lengths left out
-    matrices: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
     def levels(self) -> int:
@@ -259,8 +258,8 @@ def closed_form_length(basis: HermiteBasis | RadialBasis) -> float:
 
 
 # --------------------------------------------------------------------------- kernel
-def run_scan(problem: Problem, sizes: Sequence[int], lengths: Sequence[float], levels: int,
-             keep: bool = False) -> BasisScan:
+def run_scan(problem: Problem, sizes: Sequence[int], lengths: Sequence[float], levels: int
+             ) -> BasisScan:
     """Diagonalise ``problem`` on the grid (validated inputs); ``levels`` per basis."""
     sizes_a = np.array(sorted({int(s) for s in sizes}), dtype=int)
     lengths_a = np.array(sorted({float(b) for b in lengths}), dtype=float)
@@ -269,7 +268,6 @@ def run_scan(problem: Problem, sizes: Sequence[int], lengths: Sequence[float], l
     ir = np.empty((sizes_a.size, lengths_a.size))
     l2 = np.empty_like(ir)
     noise = np.empty_like(ir)
-    kept = {}
     skipped = []
     ok = np.ones(lengths_a.size, dtype=bool)
     for jb, b in enumerate(lengths_a):
@@ -280,8 +278,6 @@ def run_scan(problem: Problem, sizes: Sequence[int], lengths: Sequence[float], l
             skipped.append((float(b), str(exc)))
             continue
         h = mats.total
-        if keep:
-            kept[float(b)] = h
         for i, n in enumerate(sizes_a):
             sub = h[:n, :n]
             k = min(levels, int(n))
@@ -297,7 +293,7 @@ def run_scan(problem: Problem, sizes: Sequence[int], lengths: Sequence[float], l
                      energies=e[..., ok], ir_lengths=ir[:, ok], closed_form_lengths=l2[:, ok],
                      noise=noise[:, ok], threshold=problem.threshold, hbar2_2m=problem.hbar2_2m,
                      units=problem.units, center=problem.center, mass=problem.mass,
-                     skipped=tuple(skipped), matrices=kept)
+                     skipped=tuple(skipped))
 
 
 def check_sizes(sizes: Any, name: str = "sizes") -> tuple[int, ...]:
@@ -332,12 +328,12 @@ def resolve_lengths(problem: Problem, lengths: Any, frequencies: Any) -> tuple[f
     return tuple(sorted(out))
 
 
-def auto_scan(problem: Problem, sizes: Sequence[int], levels: int, center: float,
-              keep: bool = False) -> BasisScan:
+def auto_scan(problem: Problem, sizes: Sequence[int], levels: int, center: float
+              ) -> BasisScan:
     """Scan on the automatic grid around ``center``, extended until every level's optimum
     at the largest size lies inside the grid (or the grid holds _MAX_LENGTHS lengths)."""
     lengths = list(length_grid(center))
-    scan = run_scan(problem, sizes, lengths, levels, keep)
+    scan = run_scan(problem, sizes, lengths, levels)
     while len(lengths) < _MAX_LENGTHS:
         low = high = False
         for k in range(levels):
@@ -357,7 +353,7 @@ def auto_scan(problem: Problem, sizes: Sequence[int], levels: int, center: float
         if high:
             extra.append(lengths[-1] * GRID_RATIO)
         try:
-            more = run_scan(problem, sizes, extra, levels, keep)
+            more = run_scan(problem, sizes, extra, levels)
         except NumericalError:
             break
         scan = merge_scans(scan, more)
@@ -371,11 +367,10 @@ def merge_scans(a: BasisScan, b: BasisScan) -> BasisScan:
     order = np.argsort(lengths)
     cat = {name: np.concatenate([getattr(a, name), getattr(b, name)], axis=-1)[..., order]
            for name in ("energies", "ir_lengths", "closed_form_lengths", "noise")}
-    kept = {**a.matrices, **b.matrices}
     return BasisScan(channel=a.channel, sizes=a.sizes, lengths=lengths[order],
                      threshold=a.threshold, hbar2_2m=a.hbar2_2m, units=a.units,
                      center=a.center, mass=a.mass, skipped=a.skipped + b.skipped,
-                     matrices=kept, **cat)
+                     **cat)
 
 
 # --------------------------------------------------------------------------- front end
