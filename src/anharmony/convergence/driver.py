@@ -46,7 +46,13 @@ from ..potentials import Well
 from ..spectrum import Reference
 from ..units import UnitSystem
 from ._problem import Problem, check_count, check_positive, make_problem
-from .bounds import ResidualBounds, combine_bounds, compute_bounds
+from .bounds import (
+    KT_ASSUMPTION,
+    UPPER_BOUND_NOTE,
+    ResidualBounds,
+    combine_bounds,
+    compute_bounds,
+)
 from .extrapolate import (
     Extrapolation,
     extrapolate_exponential,
@@ -740,8 +746,6 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     if warn:
         for msg in messages:
             warnings.warn(msg, ConvergenceWarning, stacklevel=2)
-    from .bounds import KT_ASSUMPTION, UPPER_BOUND_NOTE
-
     notes = (UPPER_BOUND_NOTE,) + ((KT_ASSUMPTION,) if bounds else ())
     return ConvergenceReport(
         channel=problem.channel, levels=levels, energies=ritz,
