@@ -298,3 +298,14 @@ def test_cross_check_of_an_unconfined_well_is_reported_not_raised():
     r = converge(well, 1, None, levels=1, sizes=[6, 8, 10], cross_check=True, warn=False)
     assert r.cross_check.method == "none" and "not possible" in r.cross_check.note
     assert not r.bound[0] and not r.converged[0]
+
+
+def test_settings_give_the_axes_every_run_fits_on():
+    from anharmony.convergence import ConvergenceSettings
+
+    s = ConvergenceSettings.from_mapping({"tolerance": 1e-9, "max_size": 60})
+    axis = s.size_axis(levels=2)
+    assert axis[-1] == 60
+    r = converge(W(QUARTIC), 1, None, levels=2, warn=False, **s.keywords())
+    assert set(r.sizes.tolist()) <= set(axis)
+    assert r.lengths.size <= s.length_slots()

@@ -62,7 +62,7 @@ from .extrapolate import (
     infrared_tail,
 )
 from .mesh import CrossCheck, run_cross_check
-from .scans import BasisScan, auto_scan, check_sizes, resolve_lengths, run_scan
+from .scans import MAX_LENGTHS, BasisScan, auto_scan, check_sizes, resolve_lengths, run_scan
 
 __all__ = [
     "DEFAULT_MAX_SIZE",
@@ -188,6 +188,20 @@ class ConvergenceSettings:
                                  f"got {block['estimate']!r}")
             kw["estimate"] = block["estimate"]
         return cls(**kw)
+
+    def size_axis(self, levels: int) -> tuple[int, ...]:
+        """Every basis size a run with these settings can use (the ``basis_size`` axis)."""
+        grow = self.grow if self.grow is not None else self.tolerance is not None
+        return _ladder(self.sizes, self.max_size, self.tolerance if grow else None,
+                       check_count("levels", levels))[0]
+
+    def length_slots(self) -> int:
+        """Most lengths a run can hold (the ``basis_length`` axis of the result file)."""
+        if self.lengths is not None:
+            return len(self.lengths)
+        if self.frequencies is not None:
+            return len(self.frequencies)
+        return MAX_LENGTHS
 
     def keywords(self) -> dict[str, Any]:
         """Keyword arguments of :func:`converge`."""

@@ -48,7 +48,7 @@ _EPS = float(np.finfo(float).eps)
 NOISE_FACTOR = 1.0  # eigenvalues from eigh are accurate to about eps · ||H|| (backward stable)
 GRID_RATIO = 2.0 ** 0.25  # spacing of the automatic length grid (energies are flat near b_opt)
 GRID_HALF_WIDTH = 3  # automatic grid: b_opt · GRID_RATIO^k, k = −3 … 3
-_MAX_LENGTHS = 15  # cap of the automatic grid when it is extended towards a level's optimum
+MAX_LENGTHS = 15  # cap of the automatic grid when it is extended towards a level's optimum
 
 
 @dataclass(frozen=True)
@@ -331,10 +331,10 @@ def resolve_lengths(problem: Problem, lengths: Any, frequencies: Any) -> tuple[f
 def auto_scan(problem: Problem, sizes: Sequence[int], levels: int, center: float
               ) -> BasisScan:
     """Scan on the automatic grid around ``center``, extended until every level's optimum
-    at the largest size lies inside the grid (or the grid holds _MAX_LENGTHS lengths)."""
+    at the largest size lies inside the grid (or the grid holds MAX_LENGTHS lengths)."""
     lengths = list(length_grid(center))
     scan = run_scan(problem, sizes, lengths, levels)
-    while len(lengths) < _MAX_LENGTHS:
+    while len(lengths) < MAX_LENGTHS:
         low = high = False
         for k in range(levels):
             row = scan.energies[k, -1, :] + scan.noise[-1, :]
