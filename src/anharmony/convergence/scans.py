@@ -350,7 +350,7 @@ def auto_scan(problem: Problem, sizes: Sequence[int], levels: int, center: float
         extra = []
         if low:
             extra.append(lengths[0] / GRID_RATIO)
-        if high:
+        if high and len(lengths) + len(extra) < MAX_LENGTHS:
             extra.append(lengths[-1] * GRID_RATIO)
         try:
             more = run_scan(problem, sizes, extra, levels)
