@@ -129,3 +129,14 @@ def test_wavefunctions_are_normalised_on_a_fine_grid():
     psi = s.wavefunctions(r)
     norm = np.trapezoid(psi**2 * r**2, r)
     np.testing.assert_allclose(norm, 1.0, rtol=1e-8)
+
+
+def test_a_basis_reaching_far_into_an_exponential_wall_warns():
+    # The Morse wall e^{2α|x|} makes ‖H‖ huge when N·b is large; eigenvalues are then only
+    # accurate to eps·‖H‖ (backward stability of eigh, common practice): the user is told.
+    w = W([{"morse": {"depth": 10.0, "width": 1.0}}])
+    with pytest.warns(ah.ConvergenceWarning, match="steep wall"):
+        s = ah.solve(w, dimension=1, l=None, size=100, length=1.0, levels=1)
+    assert s.rounding > 1e-4
+    quiet = ah.solve(w, dimension=1, l=None, size=30, levels=1)
+    assert quiet.rounding < 1e-9

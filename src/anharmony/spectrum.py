@@ -7,6 +7,7 @@ the reference oscillator, builds the channel matrices and returns a :class:`Spec
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -16,6 +17,7 @@ from scipy.linalg import eig_banded, eigh
 from scipy.optimize import minimize_scalar
 
 from .basis import HermiteBasis, RadialBasis
+from .errors import ConvergenceWarning
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
 from .potentials import Well
 from .units import UnitSystem, get_units
@@ -26,6 +28,7 @@ FAIRNESS_RATIO = 1.0  # harmonic approx. is fair if |V − V_harm| at the ground
 #                       point is below this fraction of the ground level's excitation energy
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
 _BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this · N
+ROUNDING_WARN = 1e-9  # warn when eps·‖H‖₁ exceeds this fraction of the energy scale
 
 
 @dataclass(frozen=True)
@@ -71,6 +74,9 @@ class Spectrum:
         Eigenvectors in the oscillator basis, shape (N, levels).
     reference_energies : ndarray
         Levels of the reference oscillator in this channel, v_min + ħω (2n + l + d/2).
+    rounding : float
+        eps · ‖H‖₁, the absolute accuracy floor of the eigenvalues; large when the basis
+        reaches far into a steep wall (then :func:`solve` warns).
     """
 
     energies: np.ndarray
@@ -84,6 +90,7 @@ class Spectrum:
     mass: float | None
     well: Well = field(repr=False)
     reference_energies: np.ndarray = field(repr=False, default_factory=lambda: np.zeros(0))
+    rounding: float = 0.0  # eps·‖H‖₁: the absolute accuracy floor of the eigenvalues
 
     @property
     def shifts(self) -> np.ndarray:
@@ -327,6 +334,15 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     center = ref.center if channel.l is None else 0.0
     mats: ChannelMatrices = channel_hamiltonian(well, channel, size, b, center)
     energies, vectors = diagonalize(mats.total, levels, mats.bandwidth)
+    rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(mats.total), axis=0)))
+    scale = max(float(np.max(np.abs(energies - ref.v_min))), mats.hbar_omega)
+    if rounding > ROUNDING_WARN * scale:
+        warnings.warn(
+            f"{channel.label}: the Hamiltonian matrix has norm {rounding / np.finfo(float).eps:.1e}"
+            f" (the basis reaches far into a steep wall), so its eigenvalues are uncertain by "
+            f"about {rounding:.1e}{'' if system.energy == '1' else ' ' + system.energy}; "
+            "use a smaller size or length",
+            ConvergenceWarning, stacklevel=2)
     radial = channel.l is not None
     threshold = well.threshold(dimension, symmetric=radial)
     bound = energies < threshold
@@ -335,4 +351,4 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     ref_levels = ref.v_min + ref.frequency * osc
     return Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
-                    mass=mass, well=well, reference_energies=ref_levels)
+                    mass=mass, well=well, reference_energies=ref_levels, rounding=rounding)
