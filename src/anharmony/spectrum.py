@@ -22,7 +22,8 @@ from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
 from .potentials import Well
 from .units import UnitSystem, get_units
 
-__all__ = ["Reference", "Spectrum", "diagonalize", "reference_oscillator", "solve"]
+__all__ = ["Reference", "Spectrum", "diagonalize", "reference_oscillator", "resolve_channel",
+           "solve"]
 
 FAIRNESS_RATIO = 1.0  # harmonic approx. is fair if |V − V_harm| at the ground-state turning
 #                       point is below this fraction of the ground level's excitation energy
@@ -134,6 +135,30 @@ def _channel_from(dimension: int, l: int | None, j: Any) -> Channel:
     if isinstance(dimension, bool) or dimension not in (1, 2, 3):
         raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
     return Channel(dimension, l, parse_j(j))
+
+
+def resolve_channel(well: Well, dimension: int, l: int | None, j: Any,
+                    units: str | UnitSystem, mass: float | None) -> tuple[Well, Channel]:
+    """Validate a channel request against a well; return the well in ``units`` and the channel.
+
+    Raises ``ValueError`` naming the argument: a bad dimension, l or j, j missing where the
+    well has spin–orbit terms, or a 1D parity channel of a well that is not symmetric.
+    """
+    if not isinstance(well, Well):
+        raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
+    system = get_units(units)
+    if mass is not None and (isinstance(mass, bool) or not isinstance(mass, (int, float))
+                             or not math.isfinite(mass) or mass <= 0):
+        raise ValueError(f"mass: must be a positive number; got {mass!r}")
+    well = well.with_context(system, mass)
+    channel = _channel_from(dimension, l, j)
+    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
+        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
+                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
+    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
+        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
+                         "for the basis without symmetry")
+    return well, channel
 
 
 def _check_levels(levels: Any, size: int) -> int:
@@ -315,20 +340,11 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     -------
     Spectrum
     """
-    if not isinstance(well, Well):
-        raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
-    system = get_units(units)
-    well = well.with_context(system, mass)
-    channel = _channel_from(dimension, l, j)
+    well, channel = resolve_channel(well, dimension, l, j, units, mass)
+    system = well.units
     if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
         raise ValueError(f"size: must be an integer >= 1; got {size!r}")
     levels = _check_levels(levels, size)
-    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
-        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
-                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
-    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
-        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
-                         "for the basis without symmetry")
     ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
     b = ref.length if length == "auto" else _positive("length", length)
     center = ref.center if channel.l is None else 0.0

@@ -23,11 +23,10 @@ from ..hamiltonian import (
     channel_hamiltonian,
     effective_lambda,
     make_basis,
-    parse_j,
 )
 from ..potentials import Term, Well
-from ..spectrum import Reference, reference_oscillator
-from ..units import UnitSystem, get_units
+from ..spectrum import Reference, reference_oscillator, resolve_channel
+from ..units import UnitSystem
 
 __all__ = ["Problem", "make_problem"]
 
@@ -137,18 +136,8 @@ def make_problem(well: Well, dimension: int, l: int | None, j: Any,
         raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
     if isinstance(dimension, bool) or dimension not in (1, 2, 3):
         raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
-    system = get_units(units)
-    if mass is not None and (isinstance(mass, bool) or not isinstance(mass, (int, float))
-                             or not math.isfinite(mass) or mass <= 0):
-        raise ValueError(f"mass: must be a positive number; got {mass!r}")
-    well = well.with_context(system, mass)
-    channel = Channel(dimension, l, parse_j(j))
-    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
-        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
-                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
-    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
-        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
-                         "for the basis without symmetry")
+    well, channel = resolve_channel(well, dimension, l, j, units, mass)
+    system = well.units
     ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
     radial = channel.l is not None
     lam, rest = effective_lambda(well, channel)

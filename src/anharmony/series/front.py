@@ -18,10 +18,10 @@ import mpmath
 import numpy as np
 
 from anharmony.errors import ConvergenceWarning
-from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda, parse_j
+from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda
 from anharmony.potentials import Well
-from anharmony.spectrum import Reference, reference_oscillator
-from anharmony.units import UnitSystem, get_units
+from anharmony.spectrum import Reference, reference_oscillator, resolve_channel
+from anharmony.units import UnitSystem
 
 from ._values import to_mpf
 from .growth import LargeOrder, large_order
@@ -268,15 +268,8 @@ def series(
     of 1.5 until no coefficient moves by more than 1e-10.
     """
     _validate(well, dimension, l, level, orders, exact, max_size)
-    system = get_units(units)
-    well = well.with_context(system, mass)
-    channel = Channel(dimension, l, parse_j(j))
-    if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
-        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
-                         f"j = {channel.l - 0.5} or {channel.l + 0.5})")
-    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
-        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
-                         "for the basis without symmetry")
+    well, channel = resolve_channel(well, dimension, l, j, units, mass)
+    system = well.units
     ref = reference_oscillator(well, dimension, l, None, max(_REFERENCE_LEVELS, level + 1),
                                reference, channel.j)
     center = ref.center if channel.l is None else 0.0
