@@ -13,6 +13,7 @@ resolved. This module imports PyYAML and pydantic; nothing in the numerical core
 from __future__ import annotations
 
 import copy
+import dataclasses
 import difflib
 import functools
 import re
@@ -370,17 +371,74 @@ class Perturbation(_Strict):
 
 
 class Convergence(_Strict):
-    """``convergence:`` basis sizes and lengths to scan, and the tolerance of ``converged``.
+    """``convergence:`` the convergence study of each (scan point, channel), or a quick estimate.
 
-    Extend this model (not a copy of it) when new convergence settings are added.
+    Extend this model (not a copy of it) when new convergence settings are added. The keys are
+    those of :class:`anharmony.convergence.ConvergenceSettings`; how a block is read:
+
+    - no block, an empty block, or only ``tolerance`` with ``estimate: smaller_basis`` (or
+      ``none``): no study; ``error_estimate`` is the change of each level from a basis of
+      N − N//4 states to N (or not estimated);
+    - any other block runs :func:`anharmony.convergence.converge` per (scan point, channel),
+      and ``estimate`` defaults to ``extrapolate`` (the study's error estimate);
+    - the basis grows towards the tolerance (``grow``) only when ``tolerance`` is written (or
+      ``grow: true``); otherwise the study only sets the flags of the case's own basis;
+    - without ``lengths`` or ``frequencies`` a study that does not grow scans the sizes at the
+      case's basis length (no ``basis_length`` axis); one that grows re-optimises the length
+      (``lengths: auto``).
     """
 
     sizes: list[Annotated[int, Field(ge=1, le=MAX_SIZE)]] | None = None
-    lengths: list[Positive] | None = None
+    lengths: Annotated[list[Positive], Field(min_length=1)] | Auto | None = None
+    frequencies: Annotated[list[Positive], Field(min_length=1)] | None = None
     tolerance: Positive = 1e-6
-    # how error_estimate is found: the change of each level from a basis of N - N//4 states
-    # (or the largest smaller convergence size) to N states, or not at all
-    estimate: Literal["smaller_basis", "none"] = "smaller_basis"
+    grow: bool | None = None
+    max_size: Annotated[int, Field(ge=2, le=MAX_SIZE)] | None = None
+    cross_check: bool = False
+    bounds: bool = True
+    ir_length: Literal["eigenvalue", "closed_form"] = "eigenvalue"
+    # how error_estimate is found: the study's estimate (extrapolate), the change of each level
+    # from a basis of N - N//4 states (or the largest smaller convergence size) to N states, or
+    # not at all; default: extrapolate when the block has any key, else smaller_basis
+    estimate: Literal["extrapolate", "smaller_basis", "none"] | None = None
+
+    @property
+    def written(self) -> frozenset[str]:
+        """The keys given in the case file."""
+        return frozenset(self.model_fields_set)
+
+    @property
+    def method(self) -> str:
+        """How ``error_estimate`` is found: ``extrapolate``, ``smaller_basis`` or ``none``."""
+        if self.estimate is not None:
+            return self.estimate
+        return "extrapolate" if self.written else "smaller_basis"
+
+    @property
+    def study(self) -> bool:
+        """Whether the convergence study runs (see the class docstring)."""
+        return self.method == "extrapolate" or bool(self.written - {"estimate", "tolerance"})
+
+    @property
+    def grows(self) -> bool:
+        """Whether the basis grows towards the tolerance."""
+        if not self.study:
+            return False
+        if self.grow is not None:
+            return self.grow
+        return "tolerance" in self.written and self.method == "extrapolate"
+
+    @property
+    def scans_lengths(self) -> bool:
+        """Whether the study has a length axis (``basis_length``); else it uses the basis'."""
+        return self.study and (self.lengths is not None or self.frequencies is not None
+                               or self.grows)
+
+    def settings_mapping(self) -> dict[str, Any]:
+        """The block as the mapping of :meth:`ConvergenceSettings.from_mapping` (written keys)."""
+        out = {k: getattr(self, k) for k in sorted(self.written)}
+        out["estimate"] = self.method
+        return out
 
 
 class CaseModel(_Strict):
@@ -778,6 +836,38 @@ class Case:
     def to_dict(self) -> dict[str, Any]:
         return self.model.to_dict()
 
+    # --------------------------------------------------------------- convergence study
+    def study_settings(self) -> Any:
+        """The :class:`~anharmony.convergence.ConvergenceSettings` of the study, or None.
+
+        ``tolerance`` is the case's (given or default), ``grow`` follows
+        :attr:`Convergence.grows`, and a study without sizes that does not grow ends its size
+        ladder at the case's basis size. ``lengths`` stays None both for the automatic grid
+        and for a study at the basis length (:attr:`Convergence.scans_lengths` tells which).
+
+        Raises
+        ------
+        ValueError
+            From the study's own validation, as ``convergence.<key>: message``.
+        """
+        conv = self.model.convergence
+        if not conv.study:
+            return None
+        from .convergence import ConvergenceSettings
+
+        s = ConvergenceSettings.from_mapping(conv.settings_mapping())
+        max_size = s.max_size
+        if max_size is None and s.sizes is None and not conv.grows \
+                and self.model.basis.size >= 2:
+            max_size = self.model.basis.size
+        return dataclasses.replace(s, tolerance=float(conv.tolerance), grow=conv.grows,
+                                   max_size=max_size)
+
+    def with_cross_check(self) -> Case:
+        """The same case with ``convergence.cross_check: true`` (the text is kept)."""
+        conv = self.model.convergence.model_copy(update={"cross_check": True})
+        return dataclasses.replace(self, model=self.model.model_copy(update={"convergence": conv}))
+
 
 def _channels(space: Space) -> list[ChannelSpec]:
     d = space.dimension
@@ -920,10 +1010,14 @@ def _validate(data: Any, name: str, marks: _Marks, prefix: Path_, folder: Path,
         add(("reference", "length"), "give frequency or length, not both")
     if model.reference.center is not None and space.dimension != 1:
         add(("reference", "center"), "a centre applies to 1D wells only")
-    if model.convergence.sizes is not None:
-        sizes = model.convergence.sizes
-        if len(set(sizes)) != len(sizes):
-            add(("convergence", "sizes"), f"lists a size twice; got {sizes}")
+    conv = model.convergence
+    if conv.sizes is not None and len(set(conv.sizes)) != len(conv.sizes):
+        add(("convergence", "sizes"), f"lists a size twice; got {conv.sizes}")
+    if conv.lengths is not None and conv.frequencies is not None:
+        add(("convergence", "frequencies"), "give lengths or frequencies, not both")
+    if conv.grow and conv.method != "extrapolate":
+        add(("convergence", "grow"), "growing the basis needs the study's error estimate "
+            f"(estimate: extrapolate); got estimate: {conv.method}")
     if model.output is not None and not model.output.endswith(".nc"):
         add(("output",), f"must name a netCDF file ending in .nc; got {model.output!r}")
 
@@ -940,6 +1034,10 @@ def _validate(data: Any, name: str, marks: _Marks, prefix: Path_, folder: Path,
                                 + ".nc")
     output = Path(out_name) if Path(out_name).is_absolute() else folder / out_name
     case = Case(model, name, index, text, output, target)
+    for path, message in _study_problems(case):
+        add(path, message)
+    if problems:
+        return None, problems
     if model.scan is not None and target.kind != "coupling":
         # every scan point must give a valid case
         for k, value in enumerate(model.scan.points()):
@@ -960,6 +1058,33 @@ def _validate(data: Any, name: str, marks: _Marks, prefix: Path_, folder: Path,
                 add(("scan", "values"), f"at {model.scan.parameter} = {value:g}: {exc}")
                 break
     return (None if problems else case), problems
+
+
+def _study_problems(case: Case) -> list[tuple[Path_, str]]:
+    """Checks of the ``convergence:`` block beyond its types (the study's own validation)."""
+    conv = case.model.convergence
+    if not conv.study:
+        return []
+    try:
+        settings = case.study_settings()
+    except ValueError as exc:  # "convergence.sizes[1]: message"
+        where, _, message = str(exc).partition(": ")
+        return [(_parse_path(where), message or str(exc))]
+    count = case.model.levels.count
+    top = max(settings.size_axis(count))
+    if top < count:
+        key = "max_size" if "max_size" in conv.written else "sizes"
+        return [(("convergence", key), f"the largest basis size of the study is {top}, fewer "
+                 f"than the {count} levels asked for (levels.count)")]
+    return []
+
+
+def _parse_path(text: str) -> Path_:
+    """``convergence.sizes[1]`` → ``("convergence", "sizes", 1)``."""
+    out: list[Any] = []
+    for name, index in re.findall(r"([A-Za-z_][A-Za-z0-9_]*)|\[(\d+)\]", text):
+        out.append(name if name else int(index))
+    return tuple(out)
 
 
 def _case_text(text: str, node: yaml.Node | None) -> str:

@@ -59,6 +59,10 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--progress", choices=("auto", "bar", "lines", "off"), default="auto",
                      help="progress display: a bar on a terminal and plain lines otherwise "
                           "(auto), always a bar, always lines, or none")
+    run.add_argument("--cross-check", action="store_true",
+                     help="also solve every channel with the cross-check solver of another "
+                          "family (as convergence: {cross_check: true} in every case) and "
+                          "store its difference from the basis result")
 
     check = sub.add_parser("check", help="validate case files and print the resolved cases",
                            description="Validate case files and print each resolved case: "
@@ -188,6 +192,8 @@ class _Progress:
             self.say(f"up to date: {info['path']} ({info['case'].name})")
         elif kind == "failed":
             self.say(f"{info['case'].name}: failed: {info['message']}")
+        elif kind == "warning":  # a level that is not converged; the run goes on
+            self.say(f"warning: {info['case'].name}: {info['message']}")
 
     def close(self) -> None:
         if self.bar is not None:
@@ -213,7 +219,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
         report = run_batch(cases, out_dir=args.output_dir, jobs=args.jobs,
                            scheduler=args.scheduler, resume=args.resume,
                            overwrite=args.overwrite, on_event=progress, history=history,
-                           handle_signals=True)
+                           handle_signals=True, cross_check=args.cross_check)
     except CaseError as exc:
         progress.close()
         return _problems(exc)
@@ -233,7 +239,10 @@ def _cmd_run(args: argparse.Namespace) -> int:
         left = ", ".join(c.name for c in report.not_run) or "none"
         _err(f"stopped by {name}: finished {done}; not finished: {left}")
         return report.exit_code
-    _err(f"{written} written, {len(report.skipped)} up to date, {len(report.failed)} failed")
+    warned = (f"; {len(report.warnings)} convergence warning(s) above" if report.warnings
+              else "")
+    _err(f"{written} written, {len(report.skipped)} up to date, {len(report.failed)} "
+         f"failed{warned}")
     return report.exit_code
 
 
@@ -284,17 +293,47 @@ def _cmd_check(args: argparse.Namespace) -> int:
         print(f"  channels   {', '.join(c.label for c in chans)} ({len(chans)}); "
               f"{m.levels.count} levels each")
         if m.scan is not None:
-            how = "linear: matrices built once" if _linear_ok(case) else "rebuilt per point"
+            how = ("per point and channel, for the convergence study" if m.convergence.study
+                   else "linear: matrices built once" if _linear_ok(case)
+                   else "rebuilt per point")
             print(f"  scan       {case.scan_parameter}: {len(values)} values "
                   f"{values[0]:g} … {values[-1]:g} ({how})")
         if m.perturbation is not None:
             p = m.perturbation
             print(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
                   f"{', '.join(p.resum) or 'none'}")
+        print(f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}")
         print(f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
               f"{len(chans)} channel(s))")
         print(f"  output     {output_path(case, None)}")
     return status
+
+
+def _study_text(case: Any) -> str:
+    """The convergence settings of a case in one line (``check``)."""
+    from .runner import _smaller_size
+
+    conv = case.model.convergence
+    unit = case.units.energy
+    tol = f"converged below {conv.tolerance:g} {unit}"
+    if not conv.study:
+        if conv.method == "none":
+            return "not estimated (convergence.estimate: none)"
+        return (f"change from {_smaller_size(case)} to {case.model.basis.size} states; {tol}")
+    s = case.study_settings()
+    sizes = s.size_axis(case.model.levels.count)
+    if not conv.scans_lengths:
+        where = "at the basis length"
+    elif s.lengths is not None:
+        where = f"lengths {', '.join(f'{b:g}' for b in s.lengths)} {case.units.length}"
+    elif s.frequencies is not None:
+        where = f"hbar*omega {', '.join(f'{w:g}' for w in s.frequencies)} {unit}"
+    else:
+        where = "lengths auto (re-optimised at each size)"
+    grow = (f"basis grows to the tolerance, sizes {sizes[0]} … {sizes[-1]}" if conv.grows
+            else f"sizes {', '.join(str(n) for n in sizes)}")
+    return (f"{grow}, {where}; error_estimate: {conv.method}; {tol}"
+            + ("; cross-check" if conv.cross_check else ""))
 
 
 # --------------------------------------------------------------------------- show
@@ -355,13 +394,23 @@ def _cmd_show(args: argparse.Namespace) -> int:
     shown_units = "units of hbar*omega" if e_units == "1" else e_units
     print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {shown_units}]")
     print(f"  from {a.get('case_file', '?')}; {a.get('source', '')}; {a.get('history', '')}")
+    if "convergence" in a:
+        print(f"  convergence: {a['convergence']}; converged = error below {tol:g}")
     param = ds.scan_value.attrs.get("parameter", "coupling")
+    xdiff = ds["cross_check_difference"].values if "cross_check_difference" in ds else None
+    xcheck = xdiff is not None and bool(np.isfinite(xdiff).any())
+    grown = "convergence_size" in ds and "grown" in str(a.get("convergence", ""))
     head = (f"  {'level':>12} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
-            f"{'error':>9}  perturbation")
+            f"{'error':>9} {'conv':>5}" + (f" {'x-check':>9}" if xcheck else "")
+            + "  perturbation")
     for k in points:
         sv = float(ds.scan_value.values[k])
         print(f"\n{param} = {sv:g}: hbar*omega = {float(ds.frequency.values[k]):.6g}, "
               f"b = {float(ds.length.values[k]):.6g} ({ds.reference_method.values[k]})")
+        if grown:
+            reached = ", ".join(f"{labels[c]} {int(ds.convergence_size.values[k, c])}"
+                                for c in chans)
+            print(f"  basis grown per channel to: {reached}")
         print(head)
         for c in chans:
             for n in range(ds.sizes["level"]):
@@ -372,10 +421,24 @@ def _cmd_show(args: argparse.Namespace) -> int:
                 bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
                 err = float(ds.error_estimate.values[k, c, n])
                 errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
+                conv = "yes" if int(ds.converged.values[k, c, n]) else "NO"
+                extra = ""
+                if xcheck:
+                    x = float(xdiff[k, c, n])
+                    extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
                 jc = float(ds.j.values[c]) if "j" in ds else None
                 name = level_label(dim, int(ds.l.values[c]), jc, n)
                 print(f"  {name:>12} {e:14.8g} {ref:14.8g} "
-                      f"{e - ref:12.5g} {bound:>6} {errs}  {_verdict(ds, k, c, n, tol)}")
+                      f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
+                      f"{_verdict(ds, k, c, n, tol)}")
+    notes = [w for w in str(a.get("convergence_warnings", "")).splitlines() if w]
+    if xcheck:
+        print("\nx-check: energy minus the level of the cross-check solver "
+              "(cross_check_difference)")
+    if notes:
+        print(f"\n{len(notes)} convergence warning(s):")
+        for w in notes:
+            print(f"  {w}")
     return EXIT_OK
 
 

@@ -5,6 +5,9 @@ term's strength or depth, a polynomial coefficient, the coupling λ) and the bas
 at every scan point, a job is one channel over all scan points: the matrices H = A + s·B are
 built once and each point costs one eigensolve (plus one for the error estimate). Otherwise a
 job is one scan point over all channels, with the reference oscillator resolved at that point.
+A case with a convergence study (``convergence:``, see :class:`anharmony.cases.Convergence`)
+has one job per (scan point, channel): each runs :func:`anharmony.convergence.converge` for its
+channel at its point, besides the case's own basis.
 
 :func:`run_case` returns the dataset of one case without writing anything (DESIGN §8);
 :func:`run_batch` runs many cases, writes each result as soon as it is complete and reports
@@ -14,6 +17,7 @@ progress through a callback (the command line turns it into a bar or plain lines
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import importlib
 import math
 import os
@@ -119,6 +123,8 @@ def plan_case(case: Case, case_key: int = 0) -> list[Job]:
     """Split a case into jobs (see the module docstring)."""
     values = case.scan_values()
     chans = tuple(range(len(case.channels())))
+    if case.model.convergence.study:  # one converge() per (scan point, channel)
+        return [Job(case_key, "points", (k,), (c,)) for k in range(len(values)) for c in chans]
     if _linear_ok(case):
         if case.scan_target.kind == "coupling":
             refs = (_reference_at(case, None),) * len(values)
@@ -150,10 +156,6 @@ def _smaller_size(case: Case) -> int | None:
     sizes = [s for s in (case.model.convergence.sizes or []) if s < n]
     m = max(sizes) if sizes else n - n // 4
     return m if 1 <= m < n else None
-
-
-def _sizes(case: Case) -> list[int]:
-    return sorted(case.model.convergence.sizes or [])
 
 
 def _levels_of(h: np.ndarray, size: int, count: int, bandwidth: int | None) -> np.ndarray:
@@ -221,7 +223,6 @@ def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass:
 def _empty(case: Case, s: int) -> dict[str, np.ndarray]:
     c = len(case.channels())
     n = case.model.levels.count
-    b = len(_sizes(case))
     pert = case.model.perturbation
     orders = pert.orders + 1 if pert else 0
     methods = len(pert.resum) if pert else 0
@@ -231,7 +232,6 @@ def _empty(case: Case, s: int) -> dict[str, np.ndarray]:
         "smaller": np.full((s, c, n), np.nan),
         "reference_energy": np.full((s, c, n), np.nan),
         "threshold": np.full((s, c), np.nan),
-        "convergence_energy": np.full((s, c, n, b), np.nan),
         "frequency": np.full(s, np.nan), "length": np.full(s, np.nan),
         "ref_frequency": np.full(s, np.nan), "ref_length": np.full(s, np.nan),
         "center": np.full(s, np.nan), "v_min": np.full(s, np.nan),
@@ -239,6 +239,8 @@ def _empty(case: Case, s: int) -> dict[str, np.ndarray]:
     out.update(empty_like_series(s, c, n, orders, methods))
     out["notes"] = set()
     out["series_method"] = set()
+    out["cells"] = {}  # (k, c) → the study's variables of that cell
+    out["study"] = {}  # (k, c) → the study's levels, errors and messages
     return out
 
 
@@ -263,21 +265,20 @@ def _run_points(case: Case, job: Job) -> dict[str, Any]:
     n_main = case.model.basis.size
     count = case.model.levels.count
     smaller = _smaller_size(case)
-    sizes = _sizes(case)
-    n_build = max([n_main, *sizes])
     refs: dict[int, Reference] = {}
     series_ok = True
     for k in job.points:
         value = values[k]
         ref = _reference_at(case, value)
         refs[k] = ref
-        well = case.well_at(value)
+        well = _point_well(case, value, ref)
+        physical = case.well_at(value)  # coupling: λ = 1, whose λ-series is the scan's
         mass = case.mass_at(value)
         b, center = _basis_at(case, value, ref)
         _fill_reference(out, k, ref, b, case.units.frequency_from_length(b, mass))
         for c in job.channels:
             ch = chans[c]
-            mats = channel_hamiltonian(well, _core_channel(ch), n_build, b, center)
+            mats = channel_hamiltonian(well, _core_channel(ch), n_main, b, center)
             h = mats.total
             e = _levels_of(h, n_main, count, mats.bandwidth)
             thr = _threshold(case, well, ch)
@@ -288,14 +289,133 @@ def _run_points(case: Case, job: Job) -> dict[str, Any]:
                 ch, count)
             if smaller is not None:
                 out["smaller"][k, c] = _levels_of(h, smaller, count, mats.bandwidth)
-            for i, size in enumerate(sizes):
-                out["convergence_energy"][k, c, :, i] = _levels_of(h, size, count,
-                                                                    mats.bandwidth)
-            series_ok &= _series_block(case, well, ch, ref, mass, out, k, c)
+            if case.model.convergence.study:
+                _study_cell(case, out, k, c, well, ref, mass, b, e, e < thr)
+            series_ok &= _series_block(case, physical, ch, ref, mass, out, k, c)
     return {"out": out, "points": job.points, "channels": job.channels,
             "methods": sorted({r.method for r in refs.values()}),
             "reasons": {k: (r.method, r.reason) for k, r in refs.items()},
             "series_ok": series_ok}
+
+
+# ----------------------------------------------------------------- convergence study
+def _study_cell(case: Case, out: dict[str, Any], k: int, c: int, well: Well, ref: Reference,
+                mass: float | None, b: float, energy: np.ndarray, bound: np.ndarray) -> None:
+    """Run the convergence study of channel c at scan point k; keep its cell and levels."""
+    from .convergence import converge
+
+    conv = case.model.convergence
+    settings = case.study_settings()
+    count = case.model.levels.count
+    ch = case.channels()[c]
+    kw = settings.keywords()
+    if not conv.scans_lengths:  # a size scan at the case's own basis length
+        kw["lengths"] = (float(b),)
+    spec: dict[str, float] = {"frequency": float(ref.frequency)}
+    if ch.l is None:
+        spec["center"] = float(ref.center)
+    rep = converge(well, ch.dimension, ch.l, ch.j, levels=count, units=case.units, mass=mass,
+                   reference=spec, warn=False, **kw)
+    slots = settings.length_slots() if conv.scans_lengths else 1
+    cell = rep.variables(basis_sizes=settings.size_axis(count), length_slots=slots)
+    del cell["error_estimate"], cell["converged"]  # the case's own, decided in assemble()
+    if conv.grows:
+        cell["energy_basis_length"] = (
+            ("level",), np.asarray(rep.best_lengths, dtype=float),
+            {"units": case.units.length, "long_name": "oscillator length of the basis that "
+             "gives energy (the best of the study's grid at convergence_size)"})
+    if not conv.scans_lengths:  # one length: no basis_length axis
+        for name, (dims, vals, attrs) in list(cell.items()):
+            if "basis_length" in dims:
+                axis = dims.index("basis_length")
+                cell[name] = (tuple(d for d in dims if d != "basis_length"),
+                              np.take(np.asarray(vals), 0, axis=axis), attrs)
+    out["cells"][(k, c)] = cell
+    err_basis = rep.error_of(energy)
+    out["study"][(k, c)] = {
+        "energy": np.asarray(rep.energies, dtype=float),
+        "error": np.asarray(rep.error_estimate, dtype=float),
+        "converged": np.asarray(rep.converged, dtype=bool),
+        "error_of_basis": err_basis,
+        "messages": _study_messages(case, rep, energy, bound, err_basis),
+        "notes": tuple(rep.notes),
+    }
+
+
+def _study_messages(case: Case, rep: Any, energy: np.ndarray, bound: np.ndarray,
+                    err_basis: np.ndarray) -> list[tuple[int, bool, str, str]]:
+    """(level, bound, label, text) for each level whose stored ``converged`` will be 0."""
+    conv = case.model.convergence
+    if conv.method != "extrapolate":
+        return []
+    own = dict(zip([i for i in range(rep.levels) if not rep.converged[i]], rep.messages,
+                   strict=True))
+    labels = [rep.channel.level_label(i) for i in range(rep.levels)]
+    if conv.grows:
+        return [(i, bool(rep.bound[i]), labels[i], text) for i, text in sorted(own.items())]
+    out = []
+    u = case.units.energy
+    n = case.model.basis.size
+    tol = float(conv.tolerance)
+    for i in range(rep.levels):
+        if bound[i] and math.isfinite(err_basis[i]) and err_basis[i] < tol:
+            continue
+        lab = f"level {labels[i]} (index {i}) of channel {rep.channel.label}"
+        if i in own:
+            text = own[i]
+        elif not bound[i]:
+            text = (f"{lab} lies at {energy[i]:.6g} {u}, above the threshold in the case's "
+                    f"basis of {n} states but below it at the study's size {rep.size}; raise "
+                    "basis.size")
+        else:
+            text = (f"{lab}: error estimate {err_basis[i]:.2e} {u} of the case's basis of {n} "
+                    f"states exceeds the tolerance {tol:.2e} {u} (the study's size {rep.size} "
+                    "meets it); raise basis.size, or let the basis grow (convergence.grow: "
+                    "true)")
+        out.append((i, bool(bound[i]), labels[i], text))
+    return out
+
+
+# λ V of each term as a term of the same kind: the parameter V is proportional to
+_SCALED = {"power": "strength", "gaussian": "depth", "woods_saxon": "depth",
+           "spin_orbit": "strength", "coulomb": "charge", "morse": "depth",
+           "poschl_teller": "depth"}
+
+
+def _point_well(case: Case, value: float, ref: Reference) -> Well:
+    """The well whose levels a scan point asks for.
+
+    For ``coupling`` that is H_ref + λ(H − H_ref), i.e. the well λ V + (1 − λ) V_ref; else the
+    well with the scanned parameter set.
+    """
+    if case.scan_target.kind != "coupling" or value == 1.0:
+        return case.well_at(value)
+    lam = float(value)
+    physical = case.well_at(None)
+    units, mass = physical.units, physical.mass
+    terms: list[Any] = []
+    if lam != 0.0:
+        for t in physical.terms:
+            if t.kind in ("harmonic", "polynomial"):
+                poly = t.polynomial() or {}
+                terms.append(Well.from_terms([{"polynomial": {
+                    "coefficients": {p: lam * v for p, v in poly.items()},
+                    "center": t.center}}], units, mass).terms[0])
+            elif t.kind in _SCALED:
+                name = _SCALED[t.kind]
+                terms.append(dataclasses.replace(t, **{name: lam * getattr(t, name)}))
+            else:
+                raise ValueError(f"scan: coupling: the {t.kind} term cannot be scaled by lambda "
+                                 "for the convergence study; scan one of its parameters")
+    radial = case.channels()[0].l is not None
+    k = ref.frequency ** 2 / (2.0 * units.hbar2_over_2m(mass))  # m ω² from ħω
+    coeffs = {p: v for p, v in ((0, (1.0 - lam) * ref.v_min), (2, (1.0 - lam) * 0.5 * k))
+              if v != 0.0}
+    if coeffs:
+        terms.append(Well.from_terms([{"polynomial": {
+            "coefficients": coeffs, "center": 0.0 if radial else ref.center}}],
+            units, mass).terms[0])
+    return Well.from_terms(terms, units, mass)
 
 
 def _reference_well(case: Case, ref: Reference, radial: bool) -> Well:
@@ -416,8 +536,7 @@ def _run_linear(case: Case, job: Job) -> dict[str, Any]:
     n_main = case.model.basis.size
     count = case.model.levels.count
     smaller = _smaller_size(case)
-    sizes = _sizes(case)
-    n_build = max([n_main, *sizes])
+    n_build = n_main
     (c,) = job.channels
     ch = chans[c]
     refs = job.references
@@ -447,8 +566,6 @@ def _run_linear(case: Case, job: Job) -> dict[str, Any]:
         _fill_reference(out, k, ref, b, hw_basis)
         if smaller is not None:
             out["smaller"][k, c] = pencil.levels(h, smaller, count)
-        for i, size in enumerate(sizes):
-            out["convergence_energy"][k, c, :, i] = pencil.levels(h, size, count)
         if case.model.perturbation is None:
             continue
         if coupling and k != job.points[0]:
@@ -472,9 +589,9 @@ def run_job(case: Case, job: Job) -> dict[str, Any]:
 
 _SERIES = ("series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
            "series_optimal_error", "series_optimal_order")
-_MERGE = ("energy", "bound", "smaller", "reference_energy", "threshold", "convergence_energy",
-          "series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
-          "series_optimal_error", "series_optimal_order")
+_MERGE = ("energy", "bound", "smaller", "reference_energy", "threshold", "series_coefficient",
+          "series_partial_sum", "series_resummed", "series_optimal", "series_optimal_error",
+          "series_optimal_order")
 _PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min")
 
 
@@ -495,22 +612,50 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         series_ok &= part["series_ok"]
         out["notes"] |= src["notes"]
         out["series_method"] |= src["series_method"]
+        out["cells"].update(src["cells"])
+        out["study"].update(src["study"])
     chans = case.channels()
-    tol = case.model.convergence.tolerance
-    err = np.abs(out["energy"] - out["smaller"])
+    conv = case.model.convergence
+    tol = conv.tolerance
     notes = []
-    if _smaller_size(case) is None:
-        notes.append("error_estimate: not estimated (convergence.estimate is none)")
+    if conv.method == "extrapolate":
+        err, converged = _study_estimate(case, out)
+        if conv.grows:
+            notes.append(f"error_estimate: the convergence study's, the basis grown until every "
+                         f"bound level's estimate is below {tol:g} or the size limit is reached; "
+                         "energy is the lowest Ritz value at convergence_size over the length "
+                         "grid (energy_basis_length); error_method and error_reason say how "
+                         "each estimate was made")
+        else:
+            notes.append(f"error_estimate: |E - E_study| + the study's estimate for E_study "
+                         f"(triangle inequality), E from the case's basis of "
+                         f"{case.model.basis.size} states, E_study the study's lowest Ritz "
+                         "value at convergence_size; error_method and error_reason say how the "
+                         "study's estimate was made")
     else:
-        notes.append(f"error_estimate: |E(N) - E(M)| with N = {case.model.basis.size} and "
-                     f"M = {_smaller_size(case)} basis states, the same basis length")
+        err = np.abs(out["energy"] - out["smaller"])
+        converged = np.isfinite(err) & (err < tol)
+        if _smaller_size(case) is None:
+            notes.append("error_estimate: not estimated (convergence.estimate is none)")
+        else:
+            notes.append(f"error_estimate: |E(N) - E(M)| with N = {case.model.basis.size} "
+                         f"and M = {_smaller_size(case)} basis states, the same basis length")
+    if out["study"]:
+        notes += sorted({n for st in out["study"].values() for n in st["notes"]})
     if case.model.perturbation is not None and not series_ok:
         notes.append("series: not computed (no series engine in this version)")
     if out["series_method"]:
         notes.append("series engine: " + ", ".join(sorted(out["series_method"])))
     notes += sorted(out["notes"])[:20]
-    converged = np.isfinite(err) & (err < tol)
     has_spin = any(c.j is not None for c in chans)
+    settings = case.study_settings()
+    sizes = (settings.size_axis(case.model.levels.count) if settings is not None else ())
+    study_vars = _stack_cells(out["cells"], len(values), len(chans))
+    if "cross_check_energy" in study_vars:  # beside the stored energy, whichever basis it is
+        dims, xe, _ = study_vars["cross_check_energy"]
+        study_vars["cross_check_difference"] = (
+            dims, out["energy"] - xe, {"units": case.units.energy,
+                                       "long_name": "energy minus cross_check_energy"})
     return CaseResult(
         scan_value=np.asarray(values, dtype=float),
         l=np.array([-1 if c.l is None else c.l for c in chans], dtype=np.int64),
@@ -529,11 +674,86 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         resum_methods=list(case.model.perturbation.resum) if case.model.perturbation else [],
         series_optimal=out["series_optimal"], series_optimal_error=out["series_optimal_error"],
         series_optimal_order=out["series_optimal_order"],
-        convergence_sizes=np.asarray(_sizes(case), dtype=np.int64),
-        convergence_energy=out["convergence_energy"] if _sizes(case) else None,
+        convergence_sizes=np.asarray(sizes, dtype=np.int64),
+        convergence=study_vars,
         reference_frequency=out["ref_frequency"], reference_length=out["ref_length"],
-        notes=notes,
+        notes=notes, warnings=_study_warnings(case, out["study"]),
     )
+
+
+def _study_estimate(case: Case, out: dict[str, Any]) -> tuple[np.ndarray, np.ndarray]:
+    """error_estimate and converged from the study; a grown basis replaces energy and bound."""
+    conv = case.model.convergence
+    err = np.full(out["energy"].shape, np.nan)
+    for (k, c), st in out["study"].items():
+        if conv.grows:
+            out["energy"][k, c] = st["energy"]
+            out["bound"][k, c] = st["energy"] < out["threshold"][k, c]
+            err[k, c] = st["error"]
+        else:
+            err[k, c] = st["error_of_basis"]
+    converged = out["bound"] & np.isfinite(err) & (err < conv.tolerance)
+    if conv.grows:  # exactly the study's flags
+        for (k, c), st in out["study"].items():
+            converged[k, c] = st["converged"]
+    return err, converged
+
+
+def _stack_cells(cells: dict[tuple[int, int], dict[str, Any]], s: int, c: int
+                 ) -> dict[str, tuple[tuple[str, ...], np.ndarray, dict[str, Any]]]:
+    """Stack the study's per-cell variables along (scan, channel)."""
+    if not cells:
+        return {}
+    if len(cells) != s * c:
+        raise ValueError(f"convergence study: {len(cells)} of {s * c} (scan point, channel) "
+                         "cells were computed")
+    first = cells[(0, 0)]
+    stacked = {}
+    for name, (dims, _, attrs) in first.items():
+        rows = [np.stack([np.asarray(cells[(k, j)][name][1]) for j in range(c)])
+                for k in range(s)]
+        merged: dict[str, Any] = {} if "units" in attrs else {"units": "1"}  # text, flags
+        for key, value in attrs.items():
+            seen = [cells[kc][name][2].get(key, value) for kc in sorted(cells)]
+            if isinstance(value, str):
+                distinct = list(dict.fromkeys(str(v) for v in seen if str(v)))
+                merged[key] = "; ".join(distinct)
+            else:
+                merged[key] = value
+        stacked[name] = (("scan", "channel", *dims), np.stack(rows), merged)
+    return stacked
+
+
+def _study_warnings(case: Case, study: dict[tuple[int, int], dict[str, Any]]) -> list[str]:
+    """One line per bound (channel, level) that is not converged at some scan point, and one
+    line for all the levels that lie above the threshold (discretised-continuum states)."""
+    values = case.scan_values()
+    groups: dict[tuple[int, int], list[tuple[int, str]]] = {}
+    continuum: dict[str, set[int]] = {}
+    for (k, c) in sorted(study):
+        for i, bound, label, text in study[(k, c)]["messages"]:
+            if bound:
+                groups.setdefault((c, i), []).append((k, text))
+            else:
+                continuum.setdefault(label, set()).add(k)
+    lines = []
+    for (_, _), items in sorted(groups.items()):
+        k, text = items[0]
+        if len(values) > 1:
+            more = f"; {len(items)} of {len(values)} scan points" if len(items) > 1 else ""
+            text += f" [at {case.scan_parameter} = {values[k]:g}{more}]"
+        lines.append(text)
+    if continuum:
+        names = ", ".join(f"{lab}" + (f" ({len(ks)} of {len(values)} scan points)"
+                                      if len(values) > 1 else "")
+                          for lab, ks in continuum.items())
+        grows = case.model.convergence.grows
+        lines.append(f"{len(continuum)} level(s) lie above the threshold, discretised-continuum "
+                     f"states flagged bound = 0 and converged = 0: {names}; request fewer levels "
+                     "(levels.count)" + (", or raise convergence.max_size if one should be "
+                                         "bound" if grows else ", or raise basis.size if one "
+                                         "should be bound"))
+    return lines
 
 
 def compute_case(case: Case) -> CaseResult:
@@ -569,6 +789,7 @@ class BatchReport:
     failed: list[tuple[Case, str]] = field(default_factory=list)
     not_run: list[Case] = field(default_factory=list)
     interrupted: int | None = None  # the signal number
+    warnings: list[tuple[Case, str]] = field(default_factory=list)  # levels not converged
 
     @property
     def exit_code(self) -> int:
@@ -582,15 +803,21 @@ def output_path(case: Case, out_dir: str | Path | None) -> Path:
     return case.output if out_dir is None else Path(out_dir) / case.output.name
 
 
-def _case_text_of(path: Path) -> str | None:
-    """The ``case`` attribute of an existing result, or None if it cannot be read."""
+def _result_attrs(path: Path) -> dict[str, Any] | None:
+    """The global attributes of an existing result, or None if it cannot be read."""
     try:
         import netCDF4
 
         with netCDF4.Dataset(path) as f:
-            return str(f.getncattr("case")) if "case" in f.ncattrs() else None
+            return {k: f.getncattr(k) for k in f.ncattrs()}
     except (OSError, RuntimeError, ValueError, ImportError):
         return None
+
+
+def _case_text_of(path: Path) -> str | None:
+    """The ``case`` attribute of an existing result, or None if it cannot be read."""
+    attrs = _result_attrs(path)
+    return str(attrs["case"]) if attrs is not None and "case" in attrs else None
 
 
 def _folder_problem(folder: Path) -> str | None:
@@ -651,7 +878,15 @@ def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: 
             continue
         if path.exists() and not overwrite:
             if resume:
-                if _case_text_of(path) == case.text:
+                attrs = _result_attrs(path) or {}
+                same = str(attrs.get("case")) == case.text if "case" in attrs else False
+                if same and case.model.convergence.cross_check \
+                        and int(attrs.get("cross_check", 0)) != 1:
+                    problems.append(Problem(case.file, None, None, where,
+                                            f"{path} was made without the cross-check; use "
+                                            "--overwrite to replace it"))
+                    continue
+                if same:
                     skipped.append((case, path))
                     continue
                 problems.append(Problem(case.file, None, None, where,
@@ -749,7 +984,8 @@ Event = Callable[..., None]
 def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
               out_dir: str | Path | None = None, jobs: int = 1, scheduler: Any = None,
               resume: bool = False, overwrite: bool = False, on_event: Event | None = None,
-              history: str | None = None, handle_signals: bool = False) -> BatchReport:
+              history: str | None = None, handle_signals: bool = False,
+              cross_check: bool = False) -> BatchReport:
     """Run many cases and write one result file per case.
 
     Parameters
@@ -769,10 +1005,14 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         Replace existing results.
     on_event
         ``on_event(kind, **info)`` for progress: ``start`` (tasks, cases), ``tasks`` (n),
-        ``written`` (case, path), ``skipped`` (case, path), ``failed`` (case, message).
+        ``written`` (case, path), ``skipped`` (case, path), ``failed`` (case, message),
+        ``warning`` (case, message: a level that is not converged, after ``written``).
     handle_signals
         Turn SIGTERM into :class:`Interrupted` while the batch runs (SIGINT is caught as
         ``KeyboardInterrupt``); a stopped batch keeps every finished file whole.
+    cross_check
+        Run every case as if its ``convergence:`` block had ``cross_check: true`` (a case
+        without a study gets one); a resumed result made without it is not up to date.
 
     Returns
     -------
@@ -783,6 +1023,8 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         cases = load_cases(list(cases))
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
         raise ValueError(f"jobs: must be an integer >= 1; got {jobs!r}")
+    if cross_check:
+        cases = [c.with_cross_check() for c in cases]
     todo, skipped = check_outputs(cases, out_dir, resume=resume, overwrite=overwrite)
     report = BatchReport(skipped=skipped)
     for case, path in skipped:
@@ -836,7 +1078,8 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
                 emit("failed", case=case, message=failed[key])
                 continue
             try:
-                ds = build_dataset(case, assemble(case, parts.pop(key)), history=history)
+                result = assemble(case, parts.pop(key))
+                ds = build_dataset(case, result, history=history)
                 path = write_dataset(ds, output_path(case, out_dir), overwrite=overwrite)
             except (OSError, ValueError, TypeError) as exc:
                 del pending[key]
@@ -846,6 +1089,9 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
             del pending[key]
             report.written.append((case, path))
             emit("written", case=case, path=path)
+            for line in result.warnings:
+                report.warnings.append((case, line))
+                emit("warning", case=case, message=line)
     except KeyboardInterrupt:
         report.interrupted = int(signal.SIGINT)
     except Interrupted as exc:

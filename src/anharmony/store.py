@@ -84,9 +84,15 @@ class CaseResult:
     series_optimal, series_optimal_error : ndarray (S, C, L)
     series_optimal_order : ndarray of int (S, C, L), −1 where there is none
     convergence_sizes : ndarray of int (B,)
-    convergence_energy : ndarray (S, C, L, B)
+        The ``basis_size`` axis of the convergence study (empty without one).
+    convergence : mapping
+        Variables of the convergence study, ``name → (dims, values, attrs)`` with dims
+        starting ``("scan", "channel")`` (empty without a study); ``attrs`` carry ``units``
+        and ``long_name``.
     notes : list of str
         Remarks on how numbers were obtained (stored in the ``comment`` attribute).
+    warnings : list of str
+        One line per level that is not converged (stored in ``convergence_warnings``).
     """
 
     scan_value: np.ndarray
@@ -116,8 +122,10 @@ class CaseResult:
     reference_frequency: np.ndarray | None = None
     reference_length: np.ndarray | None = None
     convergence_sizes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
-    convergence_energy: np.ndarray | None = None
+    convergence: Mapping[str, tuple[tuple[str, ...], np.ndarray, Mapping[str, Any]]] = field(
+        default_factory=dict)
     notes: Sequence[str] = ()
+    warnings: Sequence[str] = ()
 
 
 # --------------------------------------------------------------------------- attributes
@@ -309,9 +317,12 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "threshold": (("scan", "channel"), result.threshold,
                       _float_attrs(e_units, "threshold of the continuum, lim V at infinity")),
     }
-    if sizes.size and result.convergence_energy is not None:
-        data["convergence_energy"] = ((*lev, "basis_size"), result.convergence_energy,
-                                      _float_attrs(e_units, "eigenvalue at each basis size"))
+    for name, (dims, values, var_attrs) in result.convergence.items():
+        if name in data or name in coords:
+            raise ValueError(f"{name}: a convergence variable may not replace a core variable")
+        if "basis_size" in dims and not sizes.size:
+            raise ValueError(f"{name}: has a basis_size axis but the result has no sizes")
+        data[name] = (tuple(dims), values, dict(var_attrs))
 
     reasons = sorted(set(result.reference_reason))
     now = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
@@ -332,6 +343,10 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "dimension": case.dimension,
         "basis_size": int(result.basis_size),
         "tolerance": case.model.convergence.tolerance,
+        "convergence": _convergence_mode(case),
+        "cross_check": int(bool(case.model.convergence.cross_check
+                                and case.model.convergence.study)),
+        "convergence_warnings": "\n".join(result.warnings),
         "reference_reason": " | ".join(reasons),
         "scan_parameter": case.scan_parameter,
         "case_file": case.file,
@@ -347,6 +362,19 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
     )
     _check_no_object(ds)
     return ds
+
+
+def _convergence_mode(case: Case) -> str:
+    """How the case's levels were checked, in words (global attribute ``convergence``)."""
+    conv = case.model.convergence
+    if not conv.study:
+        return {"smaller_basis": "quick estimate: change from a smaller basis",
+                "none": "not estimated"}[conv.method]
+    what = ("study, basis grown towards the tolerance" if conv.grows else
+            "study of the case's basis" + ("" if conv.scans_lengths else " at its length"))
+    if conv.method != "extrapolate":
+        what += f"; error_estimate: {conv.method}"
+    return what + ("; with cross-check" if conv.cross_check else "")
 
 
 def _or(value: np.ndarray | None, default: np.ndarray) -> np.ndarray:
