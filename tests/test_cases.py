@@ -267,3 +267,68 @@ def test_case_is_frozen(tmp_path):
     assert isinstance(case, Case)
     with pytest.raises(Exception):  # noqa: B017 - pydantic raises ValidationError
         case.model.basis.size = 4  # type: ignore[misc]
+
+
+# --------------------------------------------------------------------------- convergence
+# How a `convergence:` block is read (the rules of anharmony.cases.Convergence, our own
+# design): (block, estimate used, study runs, basis grows, study has a length axis)
+CONVERGENCE_RULES = [
+    (None, "smaller_basis", False, False, False),
+    ("{}", "smaller_basis", False, False, False),
+    ("{estimate: none}", "none", False, False, False),
+    ("{tolerance: 1.0e-6, estimate: smaller_basis}", "smaller_basis", False, False, False),
+    ("{tolerance: 1.0e-6}", "extrapolate", True, True, True),
+    ("{tolerance: 1.0e-6, grow: false}", "extrapolate", True, False, False),
+    ("{sizes: [8, 12]}", "extrapolate", True, False, False),
+    ("{sizes: [8, 12], estimate: smaller_basis}", "smaller_basis", True, False, False),
+    ("{sizes: [8, 12], lengths: auto}", "extrapolate", True, False, True),
+    ("{frequencies: [0.8, 1.0]}", "extrapolate", True, False, True),
+    ("{grow: true}", "extrapolate", True, True, True),
+    ("{cross_check: true}", "extrapolate", True, False, False),
+    ("{estimate: extrapolate}", "extrapolate", True, False, False),
+]
+
+
+@pytest.mark.parametrize(("block", "method", "study", "grows", "lengths"), CONVERGENCE_RULES)
+def test_convergence_block_selects_the_study(tmp_path, block, method, study, grows, lengths):
+    text = BASE if block is None else BASE + f"convergence: {block}\n"
+    conv = load_case(_write(tmp_path, text)).model.convergence
+    assert (conv.method, conv.study, conv.grows, conv.scans_lengths) == (method, study, grows,
+                                                                         lengths)
+
+
+def test_study_settings_keep_the_case_tolerance_and_end_at_the_basis_size(tmp_path):
+    case = load_case(_write(tmp_path, BASE + "convergence: {cross_check: true}\n"))
+    s = case.study_settings()
+    assert s.tolerance == 1e-6 and s.grow is False and s.cross_check
+    assert s.size_axis(3)[-1] == 12  # no sizes, no growth: the ladder ends at basis.size
+    grown = load_case(_write(tmp_path, BASE + "convergence: {tolerance: 1.0e-9, max_size: "
+                             "60}\n", "g.yaml")).study_settings()
+    assert grown.grow is True and grown.tolerance == 1e-9 and grown.size_axis(3)[-1] == 60
+    assert load_case(_write(tmp_path, BASE, "q.yaml")).study_settings() is None
+
+
+def test_cross_check_copy_keeps_the_text(tmp_path):
+    case = load_case(_write(tmp_path, BASE))
+    copy = case.with_cross_check()
+    assert copy.text == case.text and copy.model.convergence.cross_check
+    assert copy.model.convergence.study and not case.model.convergence.study
+
+
+def test_convergence_problems_name_file_line_and_field(tmp_path):
+    text = BASE + "convergence: {lengths: [1.0, 1.0], ir_length: closed}\n"
+    found = {p.path: p for p in _problems(_write(tmp_path, text))}
+    assert set(found) == {"convergence.ir_length"}  # the schema first; the study's checks
+    assert found["convergence.ir_length"].line == 14  # follow once the types are right
+    text = BASE + "convergence: {lengths: [1.0, 1.0]}\n"
+    (p,) = _problems(_write(tmp_path, text, "b.yaml"))
+    assert (p.path, p.line) == ("convergence.lengths", 14) and "distinct" in p.message
+
+
+def test_study_of_a_coupling_scan_with_an_expression_term_is_refused(tmp_path):
+    text = BASE.replace("  - power: {exponent: 4, strength: 0.1}",
+                        "  - expression: {formula: '0.1*r**4'}").replace(
+        "parameter: well[1].strength", "parameter: coupling")
+    assert load_case(_write(tmp_path, text)).model.convergence.study is False  # fine alone
+    (p,) = _problems(_write(tmp_path, text + "convergence: {sizes: [8, 12]}\n", "b.yaml"))
+    assert p.path == "convergence" and "expression term well[1]" in p.message

@@ -30,7 +30,7 @@ scan:
   parameter: well[1].strength
   values: {from: 0.0, to: 0.2, steps: 3}
 perturbation: {orders: 4, exact: auto, resum: [pade]}
-convergence: {sizes: [8, 12], tolerance: 1.0e-6}
+convergence: {sizes: [8, 12], tolerance: 1.0e-6, grow: false}
 output: base.nc
 """
 
@@ -70,6 +70,24 @@ MALFORMED = [
     ("resum-typo", "resum: [pade]", "resum: [padé]", "perturbation.resum[0]"),
     ("negative-tolerance", "tolerance: 1.0e-6", "tolerance: -1e-6", "convergence.tolerance"),
     ("zero-size-in-sizes", "sizes: [8, 12]", "sizes: [8, 0]", "convergence.sizes[1]"),
+    ("convergence-key-typo", "grow: false", "grw: false", "convergence.grw"),
+    ("grow-not-a-flag", "grow: false", "grow: maybe", "convergence.grow"),
+    ("max-size-text", "grow: false", "grow: false, max_size: big", "convergence.max_size"),
+    ("max-size-below-levels", "grow: false", "grow: false, max_size: 2",
+     "convergence.max_size"),
+    ("lengths-word", "grow: false", "grow: false, lengths: best", "convergence.lengths"),
+    ("repeated-length", "grow: false", "grow: false, lengths: [1.0, 1.0]",
+     "convergence.lengths"),
+    ("lengths-and-frequencies", "grow: false", "grow: false, lengths: [1.0], frequencies: [2.0]",
+     "convergence.frequencies"),
+    ("negative-frequency", "grow: false", "grow: false, frequencies: [1.0, -2.0]",
+     "convergence.frequencies[1]"),
+    ("ir-length-word", "grow: false", "grow: false, ir_length: closed", "convergence.ir_length"),
+    ("estimate-word", "grow: false", "grow: false, estimate: smaller", "convergence.estimate"),
+    ("grow-without-the-study-estimate", "grow: false", "grow: true, estimate: none",
+     "convergence.grow"),
+    ("cross-check-word", "grow: false", "grow: false, cross_check: sometimes",
+     "convergence.cross_check"),
     ("levels-above-size", "count: 3", "count: 30", "levels.count"),
     ("title-not-text", "title: Base case for the malformed-case table", "title: 5", "title"),
     ("empty-well", "well:\n  - harmonic: {frequency: 1.0}\n  - power: {exponent: 4, "
@@ -214,8 +232,15 @@ def test_check_prints_the_resolved_case(tmp_path, capsys):
     assert "hbar*omega = 1" in out and "harmonic" in out
     assert "channels   s, p (2)" in out
     assert "tasks      6 (3 scan point(s) × 2 channel(s))" in out
-    assert "linear: matrices built once" in out
+    assert "(per point and channel, for the convergence study)" in out
+    assert "study      sizes 8, 12, at the basis length; error_estimate: extrapolate; " \
+           "converged below 1e-06 hbar*omega" in out
     assert list(tmp_path.glob("*.nc")) == []
+    quick = BASE.replace("convergence: {sizes: [8, 12], tolerance: 1.0e-6, grow: false}\n", "")
+    (tmp_path / "quick.yaml").write_text(quick)
+    code, out, _ = _run(capsys, "check", str(tmp_path / "quick.yaml"))
+    assert code == 0 and "linear: matrices built once" in out
+    assert "errors     change from 9 to 12 states; converged below 1e-06 hbar*omega" in out
 
 
 def test_check_reports_problems_like_run(tmp_path, capsys):

@@ -41,7 +41,7 @@ scan:
   parameter: well[0].depth
   values: [45.0, 50.0]
 perturbation: {orders: 3, exact: false, resum: [pade]}
-convergence: {sizes: [6, 8], tolerance: 1.0e-3}
+convergence: {sizes: [6, 8], tolerance: 1.0e-3, estimate: smaller_basis}
 output: store.nc
 """
 
@@ -67,11 +67,19 @@ def test_every_core_name_is_present(made):
 def test_convergence_sizes_are_stored_and_feed_the_error_estimate(made):
     _, ds = made
     assert list(ds.basis_size.values) == [6, 8]
-    # error_estimate is the change from the largest listed size below N = 10 (here 8)
+    # sizes at the case's basis length: no basis_length axis
+    assert ds.convergence_energy.dims == ("scan", "channel", "level", "basis_size")
+    np.testing.assert_array_equal(ds.convergence_length.values,
+                                  np.broadcast_to(ds.length.values[:, None], (2, 3)))
+    # estimate: smaller_basis — error_estimate is the change from the largest listed size below
+    # N = 10 (here 8); the study diagonalises its own 8-state matrix, so the two agree to
+    # rounding (eigenvalues ~50 MeV, eps * 50 ≈ 1e-14 MeV)
     expected = abs(ds.energy - ds.convergence_energy.sel(basis_size=8))
     xr.testing.assert_allclose(ds.error_estimate, expected.drop_vars("basis_size"),
-                               rtol=0, atol=0)
+                               rtol=0, atol=1e-12)
     assert (ds.convergence_energy.sel(basis_size=6) >= ds.energy - 1e-12).all()  # Rayleigh–Ritz
+    assert ds.error_estimate.attrs["comment"].startswith("error_estimate: |E(N) - E(M)|")
+    assert ds.attrs["convergence"].endswith("error_estimate: smaller_basis")
 
 
 def test_every_variable_has_units_and_long_name(made):

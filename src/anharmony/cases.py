@@ -1065,6 +1065,12 @@ def _study_problems(case: Case) -> list[tuple[Path_, str]]:
     conv = case.model.convergence
     if not conv.study:
         return []
+    if case.scan_target.kind == "coupling" and case.model.scan is not None:
+        for i, spec in enumerate(case.model.well):
+            if next(iter(spec)) == "expression":
+                return [(("convergence",), f"a study of a coupling scan needs the well at each "
+                         f"lambda, and the expression term well[{i}] cannot be scaled by "
+                         "lambda; scan a parameter of its formula instead")]
     try:
         settings = case.study_settings()
     except ValueError as exc:  # "convergence.sizes[1]: message"

@@ -314,7 +314,7 @@ def _study_text(case: Any) -> str:
     from .runner import _smaller_size
 
     conv = case.model.convergence
-    unit = case.units.energy
+    unit = "hbar*omega" if case.units.energy == "1" else case.units.energy
     tol = f"converged below {conv.tolerance:g} {unit}"
     if not conv.study:
         if conv.method == "none":
