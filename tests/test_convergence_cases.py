@@ -83,7 +83,8 @@ def test_tolerance_driven_case_stops_growing_once_converged_and_records_the_size
     capsys.readouterr()
     ds = read_dataset(tmp_path / "ws.nc")
     sizes = ds.basis_size.values
-    assert sizes[-1] == 80  # the axis holds every size the run could use
+    # the axis ends at the largest size any channel grew to (√2 ladder from 10 towards 80)
+    assert sizes[-1] == ds.convergence_size.values.max() < 80
     for c, (l, j) in enumerate(WS_CHANNELS):
         size = int(ds.convergence_size.values[0, c])
         assert size < 80, "stopped before the size limit"

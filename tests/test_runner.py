@@ -132,6 +132,58 @@ def test_morse_demo_matches_the_exact_morse_levels(demo_results):
     assert abs(float(ds.frequency[0]) - hw) < 1e-9 * hw
 
 
+ATOL_ROUND_CM = 1e-10  # cm^-1: levels ~1e4 cm^-1 to eps (2e-12) and CODATA products (~1e-11)
+
+
+def test_morse_demo_error_estimates_cover_the_exact_errors(demo_results):
+    ds = demo_results["diatomic-morse.nc"]
+    case = load_cases([ROOT / "cases" / "diatomic-morse.yaml"])[0]
+    (term,) = case.model.well
+    depth, width = term["morse"]["depth"], term["morse"]["width"]
+    mu = case.model.particle.mass * sc.physical_constants["atomic mass constant"][0]
+    wavenumber = sc.h * sc.c * 100.0
+    # Morse, Phys. Rev. 34, 57 (1929), as above, for all eight levels of the demo
+    hw = sc.hbar * (width / sc.angstrom) * math.sqrt(2 * depth * wavenumber / mu) / wavenumber
+    n = np.arange(ds.sizes["level"]) + 0.5
+    exact = hw * n - hw**2 * n**2 / (4 * depth)
+    full = ds.isel(scan=-1)
+    err = full.error_estimate.values[0]
+    assert (np.abs(full.energy.values[0] - exact) <= err + ATOL_ROUND_CM).all()
+    np.testing.assert_array_equal(full.converged.values[0], (err < 1e-4).astype(np.int8))
+    ext, unc = full.extrapolated_energy.values[0], full.extrapolation_uncertainty.values[0]
+    ok = np.isfinite(ext)
+    assert ok.sum() >= 6
+    assert (np.abs(ext[ok] - exact[ok]) <= unc[ok] + ATOL_ROUND_CM).all()
+
+
+def test_quartic_demo_holds_a_size_scan_for_the_convergence_figure(demo_results):
+    ds = demo_results["quartic-3d.nc"]
+    assert list(ds.basis_size.values) == [10, 14, 20, 28, 40]
+    assert ds.convergence_energy.dims == ("scan", "channel", "level", "basis_size")
+    zero = ds.isel(scan=0)
+    for c, l in enumerate(zero.l.values):
+        # at zero strength the b = 1 basis holds the 3D oscillator's eigenstates: every size
+        # gives E = 2n + l + 3/2 (any QM textbook)
+        exact = 2 * np.arange(ds.sizes["level"]) + l + 1.5
+        np.testing.assert_allclose(zero.convergence_energy.values[c],
+                                   np.repeat(exact[:, None], 5, axis=1), rtol=RTOL_EXACT)
+
+
+def test_neutron_demo_grows_within_its_limit_and_names_what_is_not_converged(demo_results):
+    from anharmony.hamiltonian import level_label
+
+    for name in ("neutron-ws-a16.nc", "neutron-ws-a40.nc", "neutron-ws-a90.nc"):
+        ds = demo_results[name]
+        assert "grown" in ds.attrs["convergence"]
+        assert (ds.convergence_size.values <= 40).all()  # max_size of the demo
+        text = ds.attrs.get("convergence_warnings", "")
+        for c in range(ds.sizes["channel"]):
+            for n in range(ds.sizes["level"]):
+                if not int(ds.converged.values[0, c, n]):
+                    label = level_label(3, int(ds.l.values[c]), float(ds.j.values[c]), n)
+                    assert label in text, (name, label)
+
+
 def test_linear_scan_equals_a_solve_at_every_point(demo_results):
     ds = demo_results["proton-coulomb.nc"]
     case = load_cases([ROOT / "cases" / "proton-coulomb.yaml"])[0]

@@ -651,6 +651,7 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
     settings = case.study_settings()
     sizes = (settings.size_axis(case.model.levels.count) if settings is not None else ())
     study_vars = _stack_cells(out["cells"], len(values), len(chans))
+    sizes, study_vars = _trim_sizes(np.asarray(sizes, dtype=np.int64), study_vars)
     if "cross_check_energy" in study_vars:  # beside the stored energy, whichever basis it is
         dims, xe, _ = study_vars["cross_check_energy"]
         study_vars["cross_check_difference"] = (
@@ -674,7 +675,7 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         resum_methods=list(case.model.perturbation.resum) if case.model.perturbation else [],
         series_optimal=out["series_optimal"], series_optimal_error=out["series_optimal_error"],
         series_optimal_order=out["series_optimal_order"],
-        convergence_sizes=np.asarray(sizes, dtype=np.int64),
+        convergence_sizes=sizes,
         convergence=study_vars,
         reference_frequency=out["ref_frequency"], reference_length=out["ref_length"],
         notes=notes, warnings=_study_warnings(case, out["study"]),
@@ -722,6 +723,29 @@ def _stack_cells(cells: dict[tuple[int, int], dict[str, Any]], s: int, c: int
                 merged[key] = value
         stacked[name] = (("scan", "channel", *dims), np.stack(rows), merged)
     return stacked
+
+
+def _trim_sizes(sizes: np.ndarray, variables: dict[str, Any]) -> tuple[np.ndarray, dict]:
+    """Drop the trailing basis sizes that no (scan point, channel) reached.
+
+    A tolerance-driven study's axis holds every size it could use (up to ``max_size``); sizes
+    beyond the largest one any channel grew to would only be NaN.
+    """
+    if "convergence_energy" not in variables or not sizes.size:
+        return sizes, variables
+    dims, values, _ = variables["convergence_energy"]
+    axis = dims.index("basis_size")
+    other = tuple(i for i in range(len(dims)) if i != axis)
+    used = np.flatnonzero(np.isfinite(values).any(axis=other))
+    if not used.size or used[-1] == sizes.size - 1:
+        return sizes, variables
+    keep = int(used[-1]) + 1
+    out = {}
+    for name, (d, v, a) in variables.items():
+        if "basis_size" in d:
+            v = np.take(v, np.arange(keep), axis=d.index("basis_size"))
+        out[name] = (d, v, a)
+    return sizes[:keep], out
 
 
 def _study_warnings(case: Case, study: dict[tuple[int, int], dict[str, Any]]) -> list[str]:
