@@ -841,9 +841,10 @@ class Case:
         """The :class:`~anharmony.convergence.ConvergenceSettings` of the study, or None.
 
         ``tolerance`` is the case's (given or default), ``grow`` follows
-        :attr:`Convergence.grows`, and a study without sizes that does not grow ends its size
-        ladder at the case's basis size. ``lengths`` stays None both for the automatic grid
-        and for a study at the basis length (:attr:`Convergence.scans_lengths` tells which).
+        :attr:`Convergence.grows`, and a study without sizes (or ``max_size``) that does not
+        grow scans a √2 ladder that ends at the case's basis size. ``lengths`` stays None both
+        for the automatic grid and for a study at the basis length
+        (:attr:`Convergence.scans_lengths` tells which).
 
         Raises
         ------
@@ -856,17 +857,36 @@ class Case:
         from .convergence import ConvergenceSettings
 
         s = ConvergenceSettings.from_mapping(conv.settings_mapping())
-        max_size = s.max_size
-        if max_size is None and s.sizes is None and not conv.grows \
-                and self.model.basis.size >= 2:
-            max_size = self.model.basis.size
+        sizes = s.sizes
+        if sizes is None and s.max_size is None and not conv.grows:
+            sizes = _ladder_down(self.model.basis.size, self.model.levels.count)
         return dataclasses.replace(s, tolerance=float(conv.tolerance), grow=conv.grows,
-                                   max_size=max_size)
+                                   sizes=sizes)
 
     def with_cross_check(self) -> Case:
         """The same case with ``convergence.cross_check: true`` (the text is kept)."""
         conv = self.model.convergence.model_copy(update={"cross_check": True})
         return dataclasses.replace(self, model=self.model.model_copy(update={"convergence": conv}))
+
+
+LADDER_RATIO = 2.0 ** 0.5  # successive sizes of a study's default ladder (as the study's own)
+
+
+def _ladder_down(top: int, levels: int) -> tuple[int, ...]:
+    """Sizes top, top/√2, top/2, … down to max(10, levels + 4): a study of the case's basis.
+
+    The largest size is the case's own, so the study's estimate is that of its levels. A basis
+    too small for that start goes down to max(top // 4, levels + 1) instead.
+    """
+    start = max(10, levels + 4)
+    if top < start * LADDER_RATIO:
+        start = max(top // 4, levels + 1, 1)
+    out = {int(top)}
+    x = float(top)
+    while round(x / LADDER_RATIO) >= start:
+        x /= LADDER_RATIO
+        out.add(round(x))
+    return tuple(sorted(out))
 
 
 def _channels(space: Space) -> list[ChannelSpec]:
