@@ -97,7 +97,7 @@ class Channel:
         return level_label(self.dimension, -1 if self.l is None else self.l, self.j, n)
 
 
-def level_label(dimension: int, l: int, j: float | None, n: int) -> str:  # noqa: E741
+def level_label(dimension: int, l: int, j: float | None, n: int) -> str:
     """Label of level ``n`` (0-based radial index) of a channel.
 
     3D: ``n l j`` with n counted from 1 (``1d5/2``; ``2s`` without spin), the trade's

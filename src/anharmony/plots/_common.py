@@ -14,8 +14,8 @@ from typing import Any
 
 import numpy as np
 
+from ..hamiltonian import level_label
 from . import _style
-from ..hamiltonian import L_LETTERS, level_label
 
 __all__ = [
     "FigureRequest",

@@ -5,9 +5,10 @@ tolerance. Right: the energy against the oscillator length b at one basis size N
 holds a length scan, dimension ``basis_length``), else against N, beside the extrapolated value
 E∞ and its band.
 
-E∞ and its band are the file's ``convergence_extrapolated`` and
-``convergence_extrapolated_error`` when present; otherwise the best level of the run
-(``energy``) and its ``error_estimate``.
+E∞ and its band are the file's ``extrapolated_energy`` and ``extrapolation_uncertainty``
+(written by a convergence study) when present; otherwise the best level of the run
+(``energy``) and its ``error_estimate``. The lengths of a length scan are read per scan point
+and channel from ``convergence_length`` (``basis_length`` is a slot index).
 """
 
 from __future__ import annotations
@@ -33,8 +34,8 @@ __all__ = ["EXTRAPOLATED", "EXTRAPOLATED_ERROR", "OPTIONS", "SIZE", "draw", "lim
 
 OPTIONS = frozenset({"channel", "scan_index", "levels", "basis_size", "size", "title"})
 SIZE = (7.6, 4.2)
-EXTRAPOLATED = "convergence_extrapolated"
-EXTRAPOLATED_ERROR = "convergence_extrapolated_error"
+EXTRAPOLATED = "extrapolated_energy"
+EXTRAPOLATED_ERROR = "extrapolation_uncertainty"
 _MARKERS = ("o", "s", "^", "D", "v", "P")
 
 
@@ -81,7 +82,13 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         conv = np.moveaxis(conv, [order.index(d) for d in
                                   ("channel", "level", "basis_size", "basis_length")],
                            [0, 1, 2, 3])
-        lengths = view.coord("basis_length").astype(float)
+        if view.has("convergence_length"):
+            lengths = _at(view, "convergence_length", p)
+            lengths = lengths[c] if lengths.ndim > 1 else lengths
+        else:
+            lengths = view.coord("basis_length").astype(float)
+        keep = np.isfinite(lengths)  # slots past the channel's own length grid are NaN
+        conv, lengths = conv[..., keep], lengths[keep]
     else:
         conv = conv[..., None]
         lengths = np.array([_at(view, "length", p).item()]) if view.has("length") else \
@@ -90,8 +97,9 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         raise ValueError("basis_size: this result holds no basis-length scan (dimension "
                          "basis_length), so there is no energy-against-length panel to choose "
                          "N for")
-    if req.basis_size is None:
-        ni = int(np.argmax(sizes))
+    if req.basis_size is None:  # the largest size that holds data for this channel
+        filled = np.flatnonzero(np.isfinite(conv[c, levels[0]]).any(axis=-1))
+        ni = int(filled[-1]) if filled.size else int(np.argmax(sizes))
     else:
         ni = view.pick("basis_size", [req.basis_size], [int(s) for s in sizes],
                        "basis size")[0]
