@@ -480,6 +480,24 @@ def _cmd_plot(args: argparse.Namespace) -> int:
 _COMMANDS = {"run": _cmd_run, "check": _cmd_check, "show": _cmd_show, "plot": _cmd_plot}
 
 
+_BLAS_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")
+
+
+def _one_blas_thread() -> None:
+    """One BLAS thread per process unless the user chose otherwise in the environment.
+
+    Our matrices are small (N ≲ 500): BLAS threads only add hand-off cost, and on a busy
+    machine they slow eigh by orders of magnitude; ``--jobs`` is the way to use more cores.
+    """
+    if any(v in os.environ for v in _BLAS_VARS):
+        return
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        return
+    threadpool_limits(limits=1, user_api="blas")
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``anharmony`` command; returns the exit code."""
     parser = _parser()
@@ -487,6 +505,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
+    _one_blas_thread()
     try:
         return _COMMANDS[args.command](args)
     except KeyboardInterrupt:
