@@ -4,6 +4,7 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
+from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
 from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import TERMS, TermError, Well
@@ -17,6 +18,7 @@ __all__ = [
     "AnharmonyWarning",
     "CaseError",
     "Channel",
+    "ConvergenceReport",
     "ConvergenceWarning",
     "DegenerateLevelError",
     "NumericalError",
@@ -28,11 +30,15 @@ __all__ = [
     "Well",
     "__version__",
     "channel_hamiltonian",
+    "converge",
+    "cross_check",
     "get_units",
     "load_cases",
     "read_dataset",
     "reference_oscillator",
+    "residual_bounds",
     "run_case",
+    "scan_basis",
     "series",
     "solve",
 ]
