@@ -86,7 +86,14 @@ def test_pade_reproduces_a_rational_function_and_its_poles():
 def test_singular_pade_system_is_a_numerical_error():
     # A series in λ² (odd coefficients zero) has no [2/3] approximant: the system is singular.
     with pytest.raises(NumericalError, match="singular"):
-        pade([1, 0, 1, 0, 1, 0], 2, 3, 0.5, method="mpmath")
+        pade_approximant([1, 0, 1, 0, 1, 0], 2, 3, method="mpmath")
+
+
+def test_pade_value_of_a_singular_system_falls_back_to_the_block_entry():
+    # 1 + λ² + λ⁴ + … = 1/(1 − λ²): the Padé table has a block, and its top-left entry is
+    # the exact rational function (Baker & Graves-Morris, Padé Approximants, ch. 2).
+    assert float(pade([1, 0, 1, 0, 1, 0], 2, 3, 0.5, method="mpmath")) == pytest.approx(
+        1 / (1 - 0.25), rel=1e-14)
 
 
 def test_pade_order_beyond_coefficients_is_rejected():
@@ -173,3 +180,15 @@ def test_rounding_noise_in_vanishing_orders_is_treated_as_zero():
     a, b = large_order(exact), large_order(noisy)
     assert b.step == 2 and b.rate == pytest.approx(a.rate, rel=1e-12)
     assert optimal_truncation(noisy, 0.05).order == optimal_truncation(exact, 0.05).order
+
+
+@pytest.mark.parametrize("c0", [1.5, -2.25, 3.5])
+def test_resummations_of_a_series_without_corrections_return_its_first_term(c0):
+    # A series c0 + 0λ + 0λ² + … is the constant c0; every Padé [L/M] and its Borel sum are
+    # exactly c0 (Baker & Graves-Morris, Padé Approximants, ch. 1: the Padé table of a
+    # polynomial). Regression: [0/0] once evaluated to 1, and [5/5] raised on the singular
+    # system.
+    coeffs = [c0] + [0.0] * 10
+    assert float(pade(coeffs, 5, 5, 1.0)) == pytest.approx(c0, rel=1e-14)
+    assert float(borel_pade(coeffs, 1.0).value) == pytest.approx(c0, rel=1e-12)
+    assert float(pade(coeffs, 0, 0, 0.7)) == pytest.approx(c0, rel=1e-14)

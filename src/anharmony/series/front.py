@@ -25,7 +25,7 @@ from anharmony.units import UnitSystem
 
 from ._values import to_mpf
 from .growth import LargeOrder, large_order
-from .resum import BorelPade, PadeApproximant, borel_pade, pade_approximant
+from .resum import BorelPade, PadeApproximant, borel_pade, pade, pade_approximant
 from .rs_exact import rs_exact_1d, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
 from .truncation import OptimalTruncation, optimal_truncation, partial_sums
@@ -103,8 +103,9 @@ class Series:
         return pade_approximant(self.precise, L, M, method=method)
 
     def pade(self, L: int, M: int, lam: Any = 1.0, *, method: str = "auto") -> Any:
-        """Value of the Padé [L/M] approximant at λ."""
-        return self.pade_approximant(L, M, method=method)(lam)
+        """Value of the Padé [L/M] approximant at λ (a singular [L/M] falls back to the
+        nearest lower approximant, see :func:`anharmony.series.resum.pade`)."""
+        return pade(self.precise, L, M, lam, method=method)
 
     def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None
                    ) -> BorelPade:

@@ -159,7 +159,10 @@ def pade_approximant(
         c = [to_mpf(x) for x in (coefficients[:n] if even is None else even)]
         g = _growth_scale(c)
         scaled = [ck * g**k for k, ck in enumerate(c)]
-        if method == "scipy":
+        if M == 0:  # [L/0] is the partial sum; neither library handles it reliably
+            p_low = list(scaled[: L + 1]) + [mpmath.mpf(0)] * (L + 1 - len(scaled[: L + 1]))
+            q_low = [mpmath.mpf(1)]
+        elif method == "scipy":
             from scipy.interpolate import pade as scipy_pade
 
             an = np.array([float(x) for x in scaled])
@@ -223,8 +226,15 @@ def _reducing_pade(coefficients: Sequence[Any], L: int, M: int) -> PadeApproxima
 def pade(
     coefficients: Sequence[Any], L: int, M: int, lam: Any, *, method: str = "auto"
 ) -> np.ndarray | float:
-    """Value of the Padé approximant [L/M] at λ (see :func:`pade_approximant`)."""
-    return pade_approximant(coefficients, L, M, method=method)(lam)
+    """Value of the Padé approximant [L/M] at λ (see :func:`pade_approximant`).
+
+    A singular [L/M] system (the series is that of a lower-degree rational function — e.g.
+    all corrections zero) falls back to the nearest lower [L−i/M−i], which is then exact.
+    """
+    try:
+        return pade_approximant(coefficients, L, M, method=method)(lam)
+    except NumericalError:
+        return _reducing_pade(coefficients, L, M)(lam)
 
 
 @dataclass(frozen=True, eq=False)
