@@ -59,3 +59,27 @@ def test_given_length_or_frequency_is_kept():
     b = ah.reference_oscillator(w, 3, 0, spec={"frequency": 2.0})
     assert (a.method, a.length) == ("given", 0.9)
     assert b.length == pytest.approx(math.sqrt(2 * 0.5 / 2.0))
+
+
+def test_strong_quartic_keeps_the_harmonic_reference_so_shifts_are_positive():
+    # A positive quartic raises every level above the oscillator's (first-order RS: ⟨r⁴⟩ > 0;
+    # variational principle for the positive perturbation, common practice): with the
+    # harmonic reference of DESIGN §2 all shifts are positive, whatever `levels` is.
+    w = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 4, "strength": 0.5}}])
+    for levels in (3, 5):
+        spec = ah.solve(w, dimension=3, l=0, size=40, levels=levels)
+        assert spec.reference.method == "harmonic" and spec.reference.frequency == 1.0
+        assert (spec.shifts > 0).all()
+
+
+def test_shallow_gaussian_is_chosen_variationally():
+    # ħω = √(2V₀/(m a²)) = 2 exceeds the depth here: no oscillator level fits in the well.
+    w = W([{"gaussian": {"depth": 2.0, "range": 1.0}}])
+    ref = ah.reference_oscillator(w, 3, 0)
+    assert ref.method == "variational" and "threshold" in ref.reason
+
+
+def test_woods_saxon_reason_names_the_cusp_at_the_origin():
+    w = W([{"woods_saxon": {"depth": 50.0, "radius": 4.5, "diffuseness": 0.65}}],
+          units="nuclear")
+    assert "cusp" in ah.reference_oscillator(w, 3, 0).reason

@@ -25,8 +25,7 @@ from .units import UnitSystem, get_units
 __all__ = ["Reference", "Spectrum", "diagonalize", "reference_oscillator", "resolve_channel",
            "solve"]
 
-FAIRNESS_RATIO = 1.0  # harmonic approx. is fair if |V − V_harm| at the ground-state turning
-#                       point is below this fraction of the ground level's excitation energy
+HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
 _BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this · N
 ROUNDING_WARN = 1e-9  # warn when eps·‖H‖₁ exceeds this fraction of the energy scale
@@ -191,9 +190,10 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
     Notes
     -----
     ``auto`` takes the harmonic approximation V″(x_min) = mω² at the local minimum nearest the
-    centre of the terms when it is fair: V″ > 0, the lowest oscillator level lies below the
-    threshold, and at the classical turning point of that level the well differs from its
-    harmonic approximation by less than the level's excitation energy. Otherwise b minimises
+    centre of the terms when it is fair: V″ > 0 and the lowest oscillator level lies inside
+    the well — below the threshold, and with its classical turning point within the well's
+    half-depth extent (where V first climbs half-way from V_min to the threshold; unlimited
+    for confining wells). A Woods–Saxon well fails the second test (flat bottom). Otherwise b minimises
     the sum of the lowest ``levels`` energies of the channel in a basis of 16 states (each
     clamped at the threshold, so that continuum states do not pull b outwards).
     """
@@ -251,31 +251,56 @@ def _auto_reference(well: Well, channel: Channel, levels: int, c: float, radial:
     if v2 > 0 and not why:
         hw = math.sqrt(2.0 * c * v2)
         b = math.sqrt(2.0 * c / hw)
-        xt = b * math.sqrt(2.0 * e_low)
-        pts = np.array([x0 + xt]) if radial else np.array([x0 - xt, x0 + xt])
-        dev = float(np.max(np.abs(well.value(pts) - (vmin + 0.5 * v2 * (pts - x0) ** 2))))
+        xt = b * math.sqrt(2.0 * e_low)  # classical turning point of the lowest level
         excitation = hw * e_low
+        extent = _well_extent(well, x0, vmin, threshold, radial)
         if vmin + excitation >= threshold and threshold != -math.inf:
             why = "the lowest oscillator level lies above the threshold"
-        elif dev > FAIRNESS_RATIO * excitation:
-            why = (f"the well departs from its harmonic approximation by {dev:.3g} at the "
-                   f"ground-state turning point ({dev / excitation:.2g} of the level's energy): "
-                   "flat-bottomed or strongly anharmonic")
+        elif xt > extent:
+            why = (f"the lowest oscillator level reaches out to {xt:.4g}, beyond the well's "
+                   f"half-depth extent {extent:.4g} (a flat-bottomed well)")
         else:
             note = ("; the well is unbounded below, so this is a formal expansion about the "
                     "local minimum" if threshold == -math.inf else "")
+            inside = ("" if not math.isfinite(extent)
+                      else f", inside the well's half-depth extent {extent:.4g}")
             return Reference(hw, b, x0, vmin, "harmonic",
                              f"harmonic approximation at the minimum x = {x0:.6g}: "
-                             f"V'' = {v2:.6g}, departure {dev / excitation:.2g} of the "
-                             f"ground level's energy at its turning point{note}")
+                             f"V'' = {v2:.6g}; the lowest level's turning point {xt:.4g}"
+                             f"{inside}{note}")
     elif not why:
-        why = ("V'' = 0 at the minimum" if v2 == 0
-               else "V'' <= 0 at the minimum (a cusp or a maximum)")
+        slope = float(well.d1(np.array([x0]))[0]) if radial and x0 == 0.0 else 0.0
+        if radial and abs(slope) > 1e-9 * max(1.0, abs(vmin)) / well.scale:
+            why = (f"V'(0) = {slope:.3g} at r = 0: the well has a cusp there and no parabolic "
+                   "bottom (flat-bottomed, like Woods–Saxon)")
+        else:
+            why = ("V'' = 0 at the minimum" if v2 == 0
+                   else "V'' <= 0 at the minimum (a cusp or a maximum)")
     b = _variational_length(well, channel, x0, levels, guess=well.scale)
     hw = 2.0 * c / b**2
     return Reference(hw, b, x0, vmin, "variational",
                      f"b chosen to minimise the sum of the lowest {levels} levels in a "
                      f"{_VARIATIONAL_SIZE}-state basis, because {why}")
+
+
+def _well_extent(well: Well, x0: float, vmin: float, threshold: float, radial: bool) -> float:
+    """Distance from x₀ at which V first climbs half-way to the threshold (the nearer side).
+
+    ``inf`` for wells that confine (threshold +∞) or are unbounded below (−∞), and on a side
+    where V never gets there within 20 length scales of the terms.
+    """
+    if not math.isfinite(threshold):
+        return math.inf
+    level = vmin + HALF_DEPTH * (threshold - vmin)
+    t = np.linspace(0.0, 20.0 * well.scale, 4001)[1:]
+    out = math.inf
+    for side in ((1.0,) if radial else (-1.0, 1.0)):
+        with np.errstate(all="ignore"):
+            v = well.value(x0 + side * t)
+        hit = np.flatnonzero(~(v < level))  # NaN or +inf count as climbed
+        if hit.size:
+            out = min(out, float(t[hit[0]]))
+    return out
 
 
 def _variational_length(well: Well, channel: Channel, x0: float, levels: int, guess: float
