@@ -393,6 +393,9 @@ def _cmd_show(args: argparse.Namespace) -> int:
     tol = float(a.get("tolerance", 0.0))
     shown_units = "units of hbar*omega" if e_units == "1" else e_units
     print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {shown_units}]")
+    if a.get("unit_system") in ("trap", "dot"):
+        print("  note: model results for an idealised potential, not a basis for building or "
+              "operating hardware (see the README's caution)")
     print(f"  from {a.get('case_file', '?')}; {a.get('source', '')}; {a.get('history', '')}")
     if "convergence" in a:
         print(f"  convergence: {a['convergence']}; converged = error below {tol:g}")
