@@ -55,10 +55,22 @@ def made(tmp_path_factory):
     return case, run_case(case)
 
 
+# The core names of the result-file contract (design notes §6), written out here so that a
+# name dropped from store.CORE_NAMES cannot pass unnoticed.
+DESIGN_CORE_NAMES = {
+    "scan_value", "l", "label", "energy", "bound", "converged", "reference_energy", "shift",
+    "series_coefficient", "series_partial_sum", "series_resummed", "error_estimate",
+    "frequency", "length",
+}
+
+
 def test_every_core_name_is_present(made):
     _, ds = made
     names = set(ds.variables)
-    assert set(CORE_NAMES) <= names
+    assert DESIGN_CORE_NAMES <= names
+    assert DESIGN_CORE_NAMES <= set(CORE_NAMES)
+    for name in DESIGN_CORE_NAMES:  # every variable carries units and long_name (§6)
+        assert "units" in ds[name].attrs and "long_name" in ds[name].attrs, name
     assert "j" in names  # spin-orbit case
     assert ds.scan_value.attrs["parameter"] == "well[0].depth"
     assert ds.scan_value.attrs["units"] == "MeV"
