@@ -76,7 +76,7 @@ def _parser() -> argparse.ArgumentParser:
                           description="Print levels, shifts and the perturbation verdict of a "
                                       "result file as a table.")
     show.add_argument("result", metavar="RESULT.nc", help="a result file of anharmony run")
-    show.add_argument("--scan", default="auto", metavar="K|all",
+    show.add_argument("--scan", default="auto", metavar="K|all|auto",
                       help="scan point(s) to print: an index, `all`, or `auto` (all up to "
                            f"{_SHOW_ALL_UP_TO}, else first, middle and last)")
     show.add_argument("--channel", metavar="LABEL", action="append",
@@ -273,8 +273,9 @@ def _cmd_check(args: argparse.Namespace) -> int:
         values = case.scan_values()
         mass = case.mass if case.mass is not None else u.default_mass
         print(f"{case.name}: {m.title or '(no title)'}")
-        print(f"  units      {u.name} (energy {u.energy}, length {u.length}); mass {mass:g} "
-              f"{u.mass}" + ("" if case.mass is not None else f" ({u.default_mass_note})"))
+        print(f"  units      {u.name} (energy {u.energy_text}, length {u.length_text}); mass "
+              f"{mass:g} {u.mass_text}"
+              + ("" if case.mass is not None else f" ({u.default_mass_note})"))
         print(f"  well       {' + '.join(_term_text(t) for t in m.well)}")
         if not args.no_reference:
             try:
@@ -285,8 +286,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
                 status = EXIT_BAD_INPUT
             else:
                 where = "" if len(values) == 1 else f" at {case.scan_parameter} = {values[0]:g}"
-                print(f"  reference  hbar*omega = {_fmt(ref.frequency)} {u.energy}, b = "
-                      f"{_fmt(ref.length)} {u.length}, centre {_fmt(ref.center)}, "
+                print(f"  reference  hbar*omega = {_fmt(ref.frequency)} {u.energy_text}, b = "
+                      f"{_fmt(ref.length)} {u.length_text}, centre {_fmt(ref.center)}, "
                       f"V_min = {_fmt(ref.v_min)}{where}")
                 print(f"             {ref.method}: {ref.reason}")
         print(f"  basis      {m.basis.size} states per channel, length {m.basis.length}")

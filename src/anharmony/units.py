@@ -61,6 +61,21 @@ class UnitSystem:
     energy_long: str
     length_long: str
 
+    @property
+    def energy_text(self) -> str:
+        """The energy unit for messages: ``hbar*omega`` in oscillator units, else the unit."""
+        return "hbar*omega" if self.name == "oscillator" else self.energy
+
+    @property
+    def length_text(self) -> str:
+        """The length unit for messages: ``b`` in oscillator units, else the unit."""
+        return "b" if self.name == "oscillator" else self.length
+
+    @property
+    def mass_text(self) -> str:
+        """The mass unit for messages: ``m`` in oscillator units, else the unit."""
+        return "m" if self.name == "oscillator" else self.mass
+
     def hbar2_over_2m(self, mass: float | None = None) -> float:
         """ħ²/(2m) in energy × length² of this system, for a particle of ``mass``."""
         m = self.default_mass if mass is None else float(mass)
