@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 import anharmony as ah
-from tolerances import RTOL_EIGH, RTOL_PUBLISHED
+from tolerances import RTOL_CONVERGED, RTOL_EIGH, RTOL_PUBLISHED
 
 W = ah.Well.from_terms
 
@@ -37,6 +37,7 @@ def test_3d_shell_degeneracy_is_half_n_plus_1_n_plus_2():
     levels = []
     for l in range(7):
         e = ah.solve(oscillator(), dimension=3, l=l, size=6, levels=4).energies
+        # rounded to 9 digits: the exact levels are integers + 3/2, eigh is good to 1e-13
         levels += [round(x - 1.5, 9) for x in e for _ in range(2 * l + 1)]
     for shell in range(7):
         assert levels.count(float(shell)) == (shell + 1) * (shell + 2) // 2
@@ -47,6 +48,7 @@ def test_2d_shell_degeneracy_is_n_plus_1():
     levels = []
     for m in range(6):
         e = ah.solve(oscillator(), dimension=2, l=m, size=6, levels=4).energies
+        # rounded to 9 digits: the exact levels are integers + 1, eigh is good to 1e-13
         levels += [round(x - 1.0, 9) for x in e for _ in range(1 if m == 0 else 2)]
     for shell in range(6):
         assert levels.count(float(shell)) == shell + 1
@@ -74,7 +76,7 @@ def test_morse_levels_and_count_of_bound_levels():
     exact = hw * (n + 0.5) - (hw * (n + 0.5)) ** 2 / (4 * d)
     n_bound = math.floor(math.sqrt(2 * d) / a - 0.5) + 1
     # the lowest 8 levels converge to 1e-10 in this basis (checked against N = 300)
-    np.testing.assert_allclose(s.energies[:8], exact[:8], rtol=1e-10)
+    np.testing.assert_allclose(s.energies[:8], exact[:8], rtol=RTOL_CONVERGED)
     assert n_bound == 15
     assert np.count_nonzero(s.bound) <= n_bound  # discretised states above D are never bound
     assert s.bound[:12].all()
@@ -118,4 +120,4 @@ def test_quartic_parity_channels_reproduce_the_full_basis():
     full = ah.solve(w, dimension=1, l=None, size=100, levels=4).energies
     even = ah.solve(w, dimension=1, l=0, size=50, levels=2).energies
     odd = ah.solve(w, dimension=1, l=1, size=50, levels=2).energies
-    np.testing.assert_allclose(np.sort(np.r_[even, odd]), full, rtol=1e-11)
+    np.testing.assert_allclose(np.sort(np.r_[even, odd]), full, rtol=RTOL_CONVERGED)

@@ -49,7 +49,8 @@ def test_woods_saxon_radius_is_r0_a_one_third():
     t = W([{"woods_saxon": {"depth": 50.0, "r0": 1.25, "mass_number": 27,
                             "diffuseness": 0.6}}]).terms[0]
     assert t.radius == pytest.approx(1.25 * 3.0)
-    assert t.value(np.array([3.75]))[0] == pytest.approx(-25.0)  # half depth at r = R
+    # by definition of the Woods–Saxon form, V(R) = −V₀/2 (common practice, no source)
+    assert t.value(np.array([3.75]))[0] == pytest.approx(-25.0)
 
 
 def test_coulomb_is_continuous_at_the_sphere_radius_and_uses_e2_of_the_units():
@@ -57,12 +58,14 @@ def test_coulomb_is_continuous_at_the_sphere_radius_and_uses_e2_of_the_units():
     w = W([{"coulomb": {"charge": 1, "radius": 3.0}}], units="nuclear")
     t = w.terms[0]
     inside, outside = t.value(np.array([3.0 - 1e-12, 3.0 + 1e-12]))
-    assert inside == pytest.approx(outside, rel=1e-10)
+    assert inside == pytest.approx(outside, rel=1e-10)  # 1e-12 apart: the slope × 2e-12
+    # rel 1e-8: the memorised constant has 10 digits
     assert t.value(np.array([10.0]))[0] * 10 == pytest.approx(1.439964548, rel=1e-8)
     assert t.value(np.array([0.0]))[0] == pytest.approx(1.5 * 1.439964548 / 3.0, rel=1e-8)
 
 
 def test_thresholds():
+    # Limits at infinity of the closed forms (calculus; common practice, no source).
     assert W([{"morse": {"depth": 4.0, "width": 1.0}}]).threshold(1) == 4.0
     assert W([{"gaussian": {"depth": 4.0, "range": 1.0}}]).threshold(3) == 0.0
     assert W([{"harmonic": {"frequency": 1.0}}]).threshold(1) == math.inf
@@ -79,6 +82,7 @@ def test_polynomial_of_the_well_about_a_new_center():
     poly = w.polynomial(center=0.5)
     x = np.linspace(-2, 2, 7)
     ref = sum(c * (x - 0.5) ** p for p, c in poly.items())
+    # binomial re-expansion about a new centre: rounding of a few terms of size ~10
     np.testing.assert_allclose(w.value(x), ref, rtol=1e-13, atol=1e-13)
     assert W([{"gaussian": {"depth": 1.0, "range": 1.0}}]).polynomial() is None
 
@@ -87,13 +91,14 @@ def test_minimum_of_an_unbounded_cubic_is_the_local_one_at_the_center():
     # DESIGN §2: the local minimum nearest the centre of the terms.
     w = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 3, "strength": 0.05}}])
     x0, v0, v2 = w.minimum()
+    # the minimiser is polished by Newton steps on V': converged to rounding
     assert abs(x0) < 1e-12 and v0 == pytest.approx(0.0, abs=1e-14) and v2 == pytest.approx(1.0)
 
 
 def test_minimum_of_a_shifted_morse_well():
     w = W([{"morse": {"depth": 4.0, "width": 1.3, "center": 1.7}}])
     x0, _, v2 = w.minimum()
-    assert x0 == pytest.approx(1.7, abs=1e-10)
+    assert x0 == pytest.approx(1.7, abs=1e-10)  # Newton-polished minimum: rounding level
     assert v2 == pytest.approx(2 * 4.0 * 1.3**2, rel=1e-9)
 
 
@@ -122,7 +127,7 @@ def test_harmonic_frequency_form_gives_that_frequency_in_any_units():
     for units in ("nuclear", "molecular", "trap", "atomic"):
         w = W([{"harmonic": {"frequency": 3.0}}], units=units, mass=2.0)
         s = ah.solve(w, dimension=3, l=0, size=4, levels=2, units=units, mass=2.0)
-        np.testing.assert_allclose(s.energies, [4.5, 10.5], rtol=1e-12)
+        np.testing.assert_allclose(s.energies, [4.5, 10.5], rtol=1e-12)  # exact in the basis
 
 
 def test_dot_units_kinetic_prefactor_against_handbook_value():
@@ -130,4 +135,4 @@ def test_dot_units_kinetic_prefactor_against_handbook_value():
     # effective mass 0.067 mₑ (common practice).
     u = get_units("dot")
     assert u.hbar2_over_2m(1.0) == pytest.approx(38.09982, rel=1e-6)
-    assert u.length_from_frequency(3.0, 0.067) == pytest.approx(19.47, rel=1e-3)
+    assert u.length_from_frequency(3.0, 0.067) == pytest.approx(19.47, rel=1e-3)  # 4 digits

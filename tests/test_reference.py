@@ -13,7 +13,7 @@ def test_weak_quartic_uses_the_harmonic_approximation():
     w = W([{"harmonic": {"frequency": 1.3}}, {"power": {"exponent": 4, "strength": 0.01}}])
     ref = ah.reference_oscillator(w, dimension=3, l=0)
     assert ref.method == "harmonic"
-    assert ref.frequency == pytest.approx(1.3, rel=1e-12)
+    assert ref.frequency == pytest.approx(1.3, rel=1e-12)  # V'' found to rounding
     assert ref.length == pytest.approx(1 / math.sqrt(1.3), rel=1e-12)  # b² = ħ/(mω), ħ = m = 1
 
 
@@ -49,7 +49,7 @@ def test_morse_reference_sits_at_the_minimum_with_the_morse_frequency():
     w = W([{"morse": {"depth": 20.0, "width": 0.8, "center": 1.5}}])
     ref = ah.reference_oscillator(w, dimension=1, l=None)
     assert ref.method == "harmonic"
-    assert ref.center == pytest.approx(1.5, abs=1e-9)
+    assert ref.center == pytest.approx(1.5, abs=1e-9)  # Newton-polished minimum
     assert ref.frequency == pytest.approx(0.8 * math.sqrt(2 * 20.0), rel=1e-9)
 
 
