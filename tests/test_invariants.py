@@ -77,6 +77,11 @@ def test_channel_matrices_are_symmetric():
            {"spin_orbit": {"strength": 20, "radius": 4.5, "diffuseness": 0.65}}], units="nuclear")
     m = channel_hamiltonian(w, Channel(3, 2, 2.5), 40, 2.0)
     np.testing.assert_array_equal(m.total, m.total.T)
+    np.testing.assert_array_equal(m.kinetic, m.kinetic.T)  # exact, never symmetrised
+    # the raw quadrature sum, before the code symmetrises it, is symmetric to rounding
+    r, u = m.basis.quadrature(200, "panels")
+    raw = u.T @ (w.value(r)[:, None] * u)
+    np.testing.assert_allclose(raw, raw.T, rtol=0, atol=1e-13 * np.abs(raw).max())
 
 
 @pytest.mark.parametrize(("dimension", "l"), [(1, None), (3, 0), (3, 2)])
