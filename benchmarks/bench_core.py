@@ -9,7 +9,6 @@ for benchmarks/RESULTS.md.
 from __future__ import annotations
 
 import math
-import platform
 import sys
 import time
 from pathlib import Path
@@ -27,6 +26,9 @@ from anharmony.spectrum import diagonalize
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 from refsolvers import shooting_level
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _machine import describe
+
 WS = [{"woods_saxon": {"depth": 51.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}},
       {"spin_orbit": {"strength": 22.0, "r0": 1.27, "mass_number": 40, "diffuseness": 0.67}}]
 
@@ -41,20 +43,7 @@ def best(fn, repeat=15):
 
 
 def machine() -> str:
-    cpu = "unknown CPU"
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
-    import os
-
-    import scipy
-
-    return (f"{platform.node()} — {cpu}, {os.cpu_count()} cores, Python "
-            f"{platform.python_version()}, numpy {np.__version__}, scipy {scipy.__version__}")
+    return describe()
 
 
 def bench_build():

@@ -16,12 +16,14 @@ from __future__ import annotations
 
 import datetime as dt
 import os
-import platform
 import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _machine import describe
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMOS = sorted((ROOT / "cases").glob("*.yaml"))
@@ -60,16 +62,7 @@ output: scan.nc
 
 
 def machine() -> str:
-    cpu = platform.processor() or "unknown CPU"
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
-    return (f"{platform.system()} {platform.release()}, {cpu}, {os.cpu_count()} logical CPUs, "
-            f"Python {platform.python_version()}")
+    return describe()
 
 
 def batch(jobs: int, one_thread: bool) -> tuple[int, float]:

@@ -32,6 +32,9 @@ from anharmony.series import series  # noqa: E402
 from anharmony.series.rs_exact import rs_exact_1d, rs_exact_radial  # noqa: E402
 from anharmony.series.rs_numeric import rs_numeric  # noqa: E402
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _machine import cpu_model  # noqa: E402
+
 
 def best_of(fn, repeat: int) -> tuple[float, object]:
     """Best CPU time (``time.process_time``) of ``repeat`` runs, and the last result.
@@ -48,14 +51,7 @@ def best_of(fn, repeat: int) -> tuple[float, object]:
 
 
 def machine() -> list[str]:
-    cpu = "unknown"
-    try:
-        for line in Path("/proc/cpuinfo").read_text().splitlines():
-            if line.startswith("model name"):
-                cpu = line.split(":", 1)[1].strip()
-                break
-    except OSError:
-        pass
+    cpu = cpu_model()
     uname = subprocess.run(["uname", "-a"], capture_output=True, text=True).stdout.strip()
     nproc = subprocess.run(["nproc"], capture_output=True, text=True).stdout.strip()
     try:
