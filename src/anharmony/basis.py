@@ -87,38 +87,53 @@ class OrthogonalFamily:
         ``norm_terms`` > 0, lognorm = ½ log Σ_{k<norm_terms} p_k(x)² (the inverse square root of
         the Christoffel function: the Gauss weight at a node is exp(−2·lognorm)).
         """
-        x = np.asarray(x, dtype=float)
+        x = np.asarray(x, dtype=float).ravel()
         n_run = max(rows, norm_terms)
         ks = np.arange(n_run + 1)
         a_k = self.a(ks).tolist()
         b_k = self.beta(ks).tolist()
-        vals = np.empty((rows, x.size))
-        logs = np.empty((rows, x.size))
-        s = np.full(x.size, self.log_p0)  # current log scale
-        p_prev = np.zeros(x.size)
-        p_cur = np.ones(x.size)
-        sumsq = np.zeros(x.size)
+        m = x.size
+        vals = np.empty((max(rows, 1), m))
+        ring = np.empty((3, m))  # rows beyond `rows` (needed only for the norm)
+
+        def row(k: int) -> np.ndarray:
+            return vals[k] if k < rows else ring[k % 3]
+
+        scales = [np.full(m, self.log_p0)]  # log scale of each stretch of rows
+        scale_of = [0] * max(rows, 1)
+        sumsq = np.zeros(m)
+        tmp = np.empty(m)
+        row(0)[:] = 1.0
         for k in range(n_run):
-            if k < rows:
-                vals[k] = p_cur
-                logs[k] = s
+            cur = row(k)
             if k < norm_terms:
-                sumsq += p_cur * p_cur
+                np.multiply(cur, cur, out=tmp)
+                sumsq += tmp
             if k == n_run - 1:
                 break
-            p_next = (x - a_k[k]) * p_cur
+            nxt = row(k + 1)
+            np.subtract(x, a_k[k], out=nxt)
+            nxt *= cur
             if k:
-                p_next -= b_k[k] * p_prev
-            p_next /= b_k[k + 1]
-            p_prev, p_cur = p_cur, p_next
+                np.multiply(row(k - 1), b_k[k], out=tmp)
+                nxt -= tmp
+            nxt *= 1.0 / b_k[k + 1]
+            if k + 1 < rows:
+                scale_of[k + 1] = len(scales) - 1
             if k % 4 == 3:  # growth per step is modest: checking every 4th step is safe
-                big = np.abs(p_cur) > _RESCALE
+                big = np.abs(nxt) > _RESCALE
                 if big.any():
-                    f = np.where(big, np.abs(p_cur), 1.0)
-                    p_cur = p_cur / f
-                    p_prev = p_prev / f
-                    sumsq = sumsq / (f * f)
-                    s = s + np.log(f)
+                    f = np.where(big, np.abs(nxt), 1.0)
+                    nxt /= f
+                    cur /= f  # the next step needs both rows on one scale
+                    sumsq /= f * f
+                    scales.append(scales[-1] + np.log(f))
+                    for r in (k, k + 1):
+                        if r < rows:
+                            scale_of[r] = len(scales) - 1
+        s = scales[-1]
+        vals = vals[:rows]
+        logs = _Logs(np.stack(scales), np.asarray(scale_of[:rows], dtype=np.intp))
         lognorm = 0.5 * np.log(sumsq) + s if norm_terms else np.zeros(x.size)
         return vals, logs, lognorm
 
@@ -145,6 +160,38 @@ class OrthogonalFamily:
                 f = np.where(big, f, 1.0)
                 p_prev, p_cur, d_prev, d_cur = p_prev / f, p_cur / f, d_prev / f, d_cur / f
         return p_cur / d_cur
+
+
+class _Logs:
+    """Log scales of the recurrence rows, stored per stretch of rows that share one scale.
+
+    ``scaled(vals, logpre)`` returns vals · exp(logs + logpre) with one exp per stretch and
+    node instead of one per row and node; ``np.asarray`` gives the full (rows, nodes) array.
+    """
+
+    __slots__ = ("of", "stretches")
+
+    def __init__(self, stretches: np.ndarray, of: np.ndarray) -> None:
+        self.stretches, self.of = stretches, of
+
+    def __array__(self, dtype=None, copy=None):
+        out = self.stretches[self.of]
+        return out if dtype is None else out.astype(dtype)
+
+    def __getitem__(self, k):
+        return np.asarray(self)[k]
+
+    def __add__(self, other):
+        return np.asarray(self) + other
+
+    __radd__ = __add__
+
+    def __sub__(self, other):
+        return np.asarray(self) - other
+
+    def scaled(self, vals: np.ndarray, logpre: np.ndarray | float = 0.0) -> np.ndarray:
+        factors = np.exp(self.stretches + logpre)
+        return vals * factors[self.of]
 
 
 def _panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
@@ -229,13 +276,15 @@ class _Basis:
             prev = cur
 
     def _quad_matrix(self, f, m, kind, breaks):
-        coords, u = _cached_rule(self, m, kind, tuple(breaks))
+        coords, u, live = _cached_rule(self, m, kind, tuple(breaks))
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
             fv = np.asarray(f(coords), dtype=float)
             fu = fv[:, None] * u
-        fu[u == 0.0] = 0.0  # f huge where the functions vanish to the last bit: contributes 0
-        significant = np.any(u != 0.0, axis=1)
-        fmax = float(np.max(np.abs(fv[significant]), initial=0.0))
+        if not np.all(np.isfinite(fv[live])):
+            pass  # reported by the caller (matrix not finite)
+        elif not np.all(np.isfinite(fv)):
+            fu[~live] = 0.0  # f infinite only where every function has underflowed to 0
+        fmax = float(np.max(np.abs(fv[live]), initial=0.0))
         a = u.T @ fu
         return 0.5 * (a + a.T), fmax
 
@@ -297,7 +346,7 @@ class HermiteBasis(_Basis):
         if kind == "weight":
             xi = fam.gauss_nodes(points)
             vals, logs, lognorm = fam.values(xi, self.size, norm_terms=points)
-            u = vals * np.exp(logs - lognorm[None, :])
+            u = logs.scaled(vals, -lognorm[None, :])
             return self.center + self.length * xi, u.T
         return self._panel_u(*self._panel_nodes(points, breaks))
 
@@ -308,14 +357,14 @@ class HermiteBasis(_Basis):
 
     def _panel_u(self, xi, w):
         vals, logs, _ = self.family.values(xi, self.size)
-        u = vals * np.exp(logs + 0.5 * np.log(w)[None, :] - 0.5 * xi[None, :] ** 2)
+        u = logs.scaled(vals, 0.5 * np.log(w)[None, :] - 0.5 * xi[None, :] ** 2)
         return self.center + self.length * xi, u.T
 
     def functions(self, x: np.ndarray) -> np.ndarray:
         """φ_n(x), shape (N, len(x)), normalised with dx."""
         xi = (np.asarray(x, dtype=float).ravel() - self.center) / self.length
         vals, logs, _ = self.family.values(xi, self.size)
-        return vals * np.exp(logs - 0.5 * xi[None, :] ** 2 - 0.5 * math.log(self.length))
+        return logs.scaled(vals, -0.5 * xi[None, :] ** 2 - 0.5 * math.log(self.length))
 
 
 @dataclass(frozen=True)
@@ -398,7 +447,7 @@ class RadialBasis(_Basis):
         if kind == "weight":
             t = fam.gauss_nodes(points)
             vals, logs, lognorm = fam.values(t, self.size, norm_terms=points)
-            u = vals * np.exp(logs - lognorm[None, :])
+            u = logs.scaled(vals, -lognorm[None, :])
             return self.length * np.sqrt(t), u.T
         return self._panel_u(*self._panel_nodes(points, breaks))
 
@@ -410,7 +459,7 @@ class RadialBasis(_Basis):
     def _panel_u(self, rho, w):
         vals, logs, _ = self.family.values(rho * rho, self.size)
         logpre = 0.5 * np.log(2.0 * w) + (self.alpha + 0.5) * np.log(rho) - 0.5 * rho * rho
-        u = vals * np.exp(logs + logpre[None, :])
+        u = logs.scaled(vals, logpre[None, :])
         return self.length * rho, u.T
 
     def functions(self, r: np.ndarray) -> np.ndarray:
@@ -423,7 +472,7 @@ class RadialBasis(_Basis):
         if self.lam_eff == 0:
             logpre = np.where(rho == 0, 0.5 * math.log(2.0) - 0.5 * self.dimension
                               * math.log(self.length), logpre)
-        return vals * np.exp(logs + logpre[None, :])
+        return logs.scaled(vals, logpre[None, :])
 
 
 def _panel_width(points: int, size: int) -> float:
@@ -465,11 +514,16 @@ def _cached_rule(basis, m, kind, breaks):
             x2, w2 = basis._panel_nodes(m2, breaks)
             coords, u = basis._panel_u(np.concatenate([x1, x2]), np.concatenate([w1, w2]))
             k = len(x1)
-            rule = _RULES[key] = (coords[:k], u[:k])
-            _RULES[(basis, m2, kind, breaks)] = (coords[k:], u[k:])
+            rule = _RULES[key] = _with_live(coords[:k], u[:k])
+            _RULES[(basis, m2, kind, breaks)] = _with_live(coords[k:], u[k:])
         else:
-            rule = _RULES[key] = basis.quadrature(m, kind, breaks)
+            rule = _RULES[key] = _with_live(*basis.quadrature(m, kind, breaks))
     return rule
+
+
+def _with_live(coords: np.ndarray, u: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """A rule with the mask of nodes where some basis function is not (underflowed to) 0."""
+    return coords, u, np.any(u != 0.0, axis=1)
 
 
 def _check_size_length(size: int, length: float) -> None:
