@@ -193,9 +193,9 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
     centre of the terms when it is fair: V″ > 0 and the lowest oscillator level lies inside
     the well — below the threshold, and with its classical turning point within the well's
     half-depth extent (where V first climbs half-way from V_min to the threshold; unlimited
-    for confining wells). A Woods–Saxon well fails the second test (flat bottom). Otherwise b minimises
-    the sum of the lowest ``levels`` energies of the channel in a basis of 16 states (each
-    clamped at the threshold, so that continuum states do not pull b outwards).
+    for confining wells). A Woods–Saxon well fails (cusp at r = 0, flat bottom). Otherwise b
+    minimises the sum of the lowest ``levels`` energies of the channel in a basis of 16
+    states (each clamped at the threshold, so that continuum states do not pull b outwards).
     """
     if mass is not None:
         well = well.with_context(well.units, mass)
