@@ -425,7 +425,8 @@ def _cmd_show(args: argparse.Namespace) -> int:
                 bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
                 err = float(ds.error_estimate.values[k, c, n])
                 errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
-                conv = "yes" if int(ds.converged.values[k, c, n]) else "NO"
+                conv = ("yes" if int(ds.converged.values[k, c, n])
+                        else "NO" if bound == "yes" else "-")  # continuum: no level to converge
                 extra = ""
                 if xcheck:
                     x = float(xdiff[k, c, n])
