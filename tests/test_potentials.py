@@ -17,6 +17,7 @@ TERMS = [
     {"polynomial": {"coefficients": {2: 0.5, 3: -0.1, 4: 0.02}, "center": -0.2}},
     {"gaussian": {"depth": 3.0, "waist": 2.0}},
     {"woods_saxon": {"depth": 50.0, "r0": 1.25, "mass_number": 27, "diffuseness": 0.6}},
+    {"spin_orbit": {"strength": 20.0, "radius": 3.0, "diffuseness": 0.6}},
     {"coulomb": {"charge": 8, "radius": 3.2}},
     {"morse": {"depth": 4.0, "width": 1.3, "center": 1.0}},
     {"poschl_teller": {"depth": 2.0, "range": 0.7}},

@@ -113,8 +113,8 @@ def test_quartic_series_starts_with_first_order_perturbation(demo_results):
                                rtol=RTOL_EXACT, atol=1e-15)
 
 
-def test_morse_demo_matches_the_exact_morse_levels(demo_results):
-    ds = demo_results["diatomic-morse.nc"]
+def _morse_demo_constants() -> tuple[float, float]:
+    """(ħω, D) of the Morse demo in cm⁻¹, from its case file and scipy.constants."""
     case = load_cases([ROOT / "cases" / "diatomic-morse.yaml"])[0]
     (term,) = case.model.well
     depth, width = term["morse"]["depth"], term["morse"]["width"]
@@ -122,6 +122,12 @@ def test_morse_demo_matches_the_exact_morse_levels(demo_results):
     wavenumber = sc.h * sc.c * 100.0
     # Morse, Phys. Rev. 34, 57 (1929): E_n = ħω(n+½) − (ħω)²(n+½)²/(4D), ħω = ħα√(2D/μ)
     hw = sc.hbar * (width / sc.angstrom) * math.sqrt(2 * depth * wavenumber / mu) / wavenumber
+    return hw, depth
+
+
+def test_morse_demo_matches_the_exact_morse_levels(demo_results):
+    ds = demo_results["diatomic-morse.nc"]
+    hw, depth = _morse_demo_constants()
     n = np.arange(4) + 0.5
     exact = hw * n - hw**2 * n**2 / (4 * depth)
     full = ds.sel(scan=ds.sizes["scan"] - 1)
@@ -138,13 +144,7 @@ ATOL_ROUND_CM = 1e-10  # cm^-1: levels ~1e4 cm^-1 to eps (2e-12) and CODATA prod
 
 def test_morse_demo_error_estimates_cover_the_exact_errors(demo_results):
     ds = demo_results["diatomic-morse.nc"]
-    case = load_cases([ROOT / "cases" / "diatomic-morse.yaml"])[0]
-    (term,) = case.model.well
-    depth, width = term["morse"]["depth"], term["morse"]["width"]
-    mu = case.model.particle.mass * sc.physical_constants["atomic mass constant"][0]
-    wavenumber = sc.h * sc.c * 100.0
-    # Morse, Phys. Rev. 34, 57 (1929), as above, for all eight levels of the demo
-    hw = sc.hbar * (width / sc.angstrom) * math.sqrt(2 * depth * wavenumber / mu) / wavenumber
+    hw, depth = _morse_demo_constants()  # Morse (1929), for all eight levels of the demo
     n = np.arange(ds.sizes["level"]) + 0.5
     exact = hw * n - hw**2 * n**2 / (4 * depth)
     full = ds.isel(scan=-1)

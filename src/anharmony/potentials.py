@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import difflib
 import math
+from abc import ABC, abstractmethod
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, ClassVar
@@ -119,7 +120,7 @@ class _Context:
 
 # --------------------------------------------------------------------------- terms
 @dataclass(frozen=True)
-class Term:
+class Term(ABC):
     """Base class of the terms of a well.
 
     Subclasses set :attr:`kind` and :attr:`parameters`, implement :meth:`_build`,
@@ -139,19 +140,23 @@ class Term:
         return cls._build(dict(params), _Context(get_units(units), mass))
 
     @classmethod
-    def _build(cls, params: dict[str, Any], ctx: _Context) -> Term:  # pragma: no cover
-        raise NotImplementedError
+    @abstractmethod
+    def _build(cls, params: dict[str, Any], ctx: _Context) -> Term:
+        """Check the parameters of the term and make it."""
 
     center: float = 0.0
 
-    def value(self, x: np.ndarray) -> np.ndarray:  # pragma: no cover - abstract
-        raise NotImplementedError
+    @abstractmethod
+    def value(self, x: np.ndarray) -> np.ndarray:
+        """V(x), vectorised."""
 
-    def d1(self, x: np.ndarray) -> np.ndarray:  # pragma: no cover - abstract
-        raise NotImplementedError
+    @abstractmethod
+    def d1(self, x: np.ndarray) -> np.ndarray:
+        """V′(x), vectorised."""
 
-    def d2(self, x: np.ndarray) -> np.ndarray:  # pragma: no cover - abstract
-        raise NotImplementedError
+    @abstractmethod
+    def d2(self, x: np.ndarray) -> np.ndarray:
+        """V″(x), vectorised."""
 
     def limits(self) -> tuple[float, float]:
         """Limits of the term at −∞ and +∞ (``±inf`` where it grows without bound)."""
@@ -441,17 +446,29 @@ class SpinOrbit(Term):
         ls = _number(cls.kind, "length", p.get("length", 1.0), positive=True)
         return cls(strength=s, radius=_radius(cls.kind, p), diffuseness=a, length=ls)
 
-    def value(self, r):
+    def _form(self, r):
+        """r, the prefactor V_ls r_ls², and f′, f″, f‴ of the Woods–Saxon form."""
         r = _arr(r)
-        f = expit(-(r - self.radius) / self.diffuseness)
-        dfdr = -f * (1.0 - f) / self.diffuseness
+        a = self.diffuseness
+        f = expit(-(r - self.radius) / a)
+        g = f * (1.0 - f)
+        return (r, self.strength * self.length**2, -g / a, g * (1.0 - 2.0 * f) / a**2,
+                -g * (1.0 - 6.0 * g) / a**3)
+
+    def value(self, r):
+        r, c, f1, _, _ = self._form(r)
         with np.errstate(divide="ignore", invalid="ignore"):
-            return self.strength * self.length**2 * dfdr / r
+            return c * f1 / r
 
     def d1(self, r):
-        raise NotImplementedError("derivatives of the spin-orbit form are not needed")
+        r, c, f1, f2, _ = self._form(r)  # d/dr (f′/r) = f″/r − f′/r²
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return c * (f2 / r - f1 / r**2)
 
-    d2 = d1
+    def d2(self, r):
+        r, c, f1, f2, f3 = self._form(r)  # d²/dr² (f′/r) = f‴/r − 2f″/r² + 2f′/r³
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return c * (f3 / r - 2.0 * f2 / r**2 + 2.0 * f1 / r**3)
 
     @property
     def scale(self):

@@ -46,7 +46,7 @@ from .cases import (
 from .errors import NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import Power, Well
-from .spectrum import Reference, diagonalize
+from .spectrum import BANDED_MAX_RATIO, Reference, diagonalize, upper_band
 from .store import CaseResult, build_dataset, empty_like_series, write_dataset
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -62,7 +62,6 @@ __all__ = [
 ]
 
 SAME_BASIS_RTOL = 1e-12  # references this close at every scan point share one basis
-BANDED_MAX_RATIO = 0.125  # banded eigensolver when half-bandwidth <= this * N (as the core)
 
 
 class Interrupted(BaseException):
@@ -496,12 +495,7 @@ class _Pencil:
         self.bandwidth = bandwidth
         self.banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * n
         if self.banded:
-            u = bandwidth
-            self.a = np.zeros((u + 1, n))
-            self.b = np.zeros((u + 1, n))
-            for d in range(u + 1):  # upper form: ab[u + i - j, j] = h[i, j]
-                self.a[u - d, d:] = np.diagonal(a, d)
-                self.b[u - d, d:] = np.diagonal(b, d)
+            self.a, self.b = upper_band(a, bandwidth), upper_band(b, bandwidth)
         else:
             self.a, self.b = a, b
 

@@ -22,12 +22,12 @@ from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
 from .potentials import Well
 from .units import UnitSystem, get_units
 
-__all__ = ["Reference", "Spectrum", "diagonalize", "reference_oscillator", "resolve_channel",
-           "solve"]
+__all__ = ["BANDED_MAX_RATIO", "Reference", "Spectrum", "diagonalize", "reference_oscillator",
+           "resolve_channel", "solve", "upper_band"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
-_BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this · N
+BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this · N
 ROUNDING_WARN = 1e-9  # warn when eps·‖H‖₁ exceeds this fraction of the energy scale
 
 
@@ -116,17 +116,23 @@ class Spectrum:
         return self.expectation(lambda r: np.abs(r) ** k)
 
 
+def upper_band(h: np.ndarray, bandwidth: int) -> np.ndarray:
+    """LAPACK upper band storage of a symmetric matrix: ab[u + i − j, j] = h[i, j]."""
+    u, n = bandwidth, h.shape[0]
+    ab = np.zeros((u + 1, n))
+    for d in range(u + 1):
+        ab[u - d, d:] = np.diagonal(h, d)
+    return ab
+
+
 def diagonalize(h: np.ndarray, levels: int, bandwidth: int | None = None
                 ) -> tuple[np.ndarray, np.ndarray]:
     """Lowest ``levels`` eigenpairs of a symmetric matrix (banded solver where it pays)."""
     n = h.shape[0]
     levels = min(levels, n)
-    if bandwidth is not None and bandwidth <= _BANDED_MAX_RATIO * n:
-        u = bandwidth
-        ab = np.zeros((u + 1, n))
-        for d in range(u + 1):
-            ab[u - d, d:] = np.diagonal(h, d)
-        return eig_banded(ab, lower=False, select="i", select_range=(0, levels - 1))
+    if bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * n:
+        return eig_banded(upper_band(h, bandwidth), lower=False, select="i",
+                          select_range=(0, levels - 1))
     return eigh(h, subset_by_index=(0, levels - 1), driver="evr")
 
 
