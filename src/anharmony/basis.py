@@ -22,6 +22,7 @@ from __future__ import annotations
 import itertools
 import math
 import warnings
+from abc import ABC, abstractmethod
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
@@ -210,15 +211,26 @@ def _panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
     return np.concatenate(xs), np.concatenate(ws)
 
 
-class _Basis:
+class _Basis(ABC):
     """Shared machinery: adaptive quadrature of a function's matrix."""
 
     size: int
     length: float
 
+    @abstractmethod
     def quadrature(self, points: int, kind: str = "weight", breaks: Sequence[float] = ()
-                   ) -> tuple[np.ndarray, np.ndarray]:  # pragma: no cover - abstract
-        raise NotImplementedError
+                   ) -> tuple[np.ndarray, np.ndarray]:
+        """Nodes (physical coordinate) and U[q, n] = √w_q φ_n(node_q) of an m-point rule."""
+
+    @abstractmethod
+    def _panel_nodes(self, points: int, breaks: Sequence[float]
+                     ) -> tuple[np.ndarray, np.ndarray]:
+        """Scaled nodes and weights of the composite Gauss–Legendre rule of level ``points``."""
+
+    @abstractmethod
+    def _panel_u(self, nodes: np.ndarray, weights: np.ndarray
+                 ) -> tuple[np.ndarray, np.ndarray]:
+        """Physical nodes and U of a panel rule given its scaled nodes and weights."""
 
     def matrix(self, f: Callable[[np.ndarray], np.ndarray], kind: str = "weight",
                breaks: Sequence[float] = (), rtol: float = QUADRATURE_RTOL,
