@@ -244,6 +244,14 @@ class ResultView:
     def level_label(self, c: int, n: int) -> str:
         return level_label(self.dimension, self.l_of(c), self.j_of(c), n)
 
+    def one_channel(self, channel: Any, figure: str) -> int:
+        """Position of the single channel a ``figure`` shows (default the first)."""
+        chans = self.channels(channel, default_all=False)
+        if len(chans) > 1:
+            raise ValueError(f"channel: the {figure} figure shows one channel; got "
+                             f"{len(chans)} ({', '.join(self.labels[i] for i in chans)})")
+        return chans[0]
+
     def channels(self, channel: Any, *, default_all: bool) -> list[int]:
         """Positions of the requested channel(s); all or the first when ``channel`` is None."""
         labels = self.labels

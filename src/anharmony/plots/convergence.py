@@ -62,11 +62,7 @@ def limit(view: ResultView, p: int, c: int, n: int) -> tuple[float, float, str]:
 def draw(view: ResultView, req: FigureRequest) -> Any:
     """The ``convergence`` figure."""
     p = view.scan_position(req.scan_index)
-    chans = view.channels(req.channel, default_all=False)
-    if len(chans) > 1:
-        raise ValueError("channel: the convergence figure shows one channel; got "
-                         f"{len(chans)} ({', '.join(view.labels[i] for i in chans)})")
-    c = chans[0]
+    c = view.one_channel(req.channel, "convergence")
     levels = view.level_indices(req.levels, default=[0])
     conv_var = view.var("convergence_energy")
     if "basis_size" not in conv_var.dims:

@@ -100,11 +100,7 @@ def large_order_curve(k: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndar
 def draw(view: ResultView, req: FigureRequest) -> Any:
     """The ``series`` figure."""
     p = view.scan_position(req.scan_index)
-    c = view.channels(req.channel, default_all=False)
-    if len(c) > 1:
-        raise ValueError("channel: the series figure shows one channel; got "
-                         f"{len(c)} ({', '.join(view.labels[i] for i in c)})")
-    c = c[0]
+    c = view.one_channel(req.channel, "series")
     levels = view.level_indices(req.levels, default=[0])
     coef = view.values("series_coefficient").astype(float)
     psum = view.values("series_partial_sum").astype(float)

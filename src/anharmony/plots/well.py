@@ -185,11 +185,7 @@ def _turning_points(x: np.ndarray, v: np.ndarray, e: float) -> tuple[float, floa
 def draw(view: ResultView, req: FigureRequest) -> Any:
     """The ``well`` figure."""
     p = view.scan_position(req.scan_index)
-    chans = view.channels(req.channel, default_all=False)
-    if len(chans) > 1:
-        raise ValueError("channel: the well figure shows one channel; got "
-                         f"{len(chans)} ({', '.join(view.labels[i] for i in chans)})")
-    c = chans[0]
+    c = view.one_channel(req.channel, "well")
     energy = view.values("energy").astype(float)[p, c]
     bound = view.values("bound").astype(bool)[p, c] if view.has("bound") else \
         np.isfinite(energy)
