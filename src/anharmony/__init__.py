@@ -2,8 +2,7 @@
 
 from __future__ import annotations
 
-__version__ = "0.1.0"
-
+from ._version import __version__
 from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
 from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
 from .hamiltonian import Channel, channel_hamiltonian

@@ -35,6 +35,7 @@ from pydantic import (
     field_validator,
 )
 
+from .errors import CaseError
 from .potentials import TERMS, TermError, Well
 from .units import SYSTEMS, UnitSystem, get_units
 
@@ -89,12 +90,6 @@ class Problem:
         return f"{where}: {self.path}: {self.message}" if self.path else f"{where}: {self.message}"
 
 
-class CaseError(ValueError):
-    """One or more case files are invalid; ``.problems`` lists every problem found."""
-
-    def __init__(self, problems: Sequence[Problem]) -> None:
-        self.problems = list(problems)
-        super().__init__("\n".join(str(p) for p in self.problems))
 
 
 # =========================================================================== YAML

@@ -15,7 +15,7 @@ from typing import Any, NoReturn, TextIO
 
 import numpy as np
 
-from . import __version__
+from ._version import __version__
 from .hamiltonian import level_label
 
 __all__ = ["main"]

@@ -36,6 +36,8 @@ import numpy as np
 import scipy.special
 import sympy as sp
 
+from .errors import FormulaError
+
 __all__ = [
     "CONSTANTS",
     "FUNCTIONS",
@@ -114,21 +116,6 @@ _NODE_NAMES = {
 }
 
 
-class FormulaError(ValueError):
-    """A formula that is not allowed or cannot be evaluated; the message quotes the piece.
-
-    Attributes
-    ----------
-    text
-        The whole formula text.
-    piece
-        The offending part of it (may be the whole text), or ``None``.
-    """
-
-    def __init__(self, message: str, *, text: str | None = None, piece: str | None = None):
-        super().__init__(message)
-        self.text = text
-        self.piece = piece
 
 
 # ------------------------------------------------------------------------------- the result

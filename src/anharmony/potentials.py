@@ -19,6 +19,7 @@ from typing import Any, ClassVar
 import numpy as np
 from scipy.special import expit
 
+from .errors import TermError
 from .units import UnitSystem, get_units
 
 __all__ = [
@@ -39,25 +40,6 @@ __all__ = [
 ]
 
 
-class TermError(ValueError):
-    """A term of a well was given a bad parameter.
-
-    Attributes
-    ----------
-    term : str
-        Case-file name of the term (``"gaussian"``).
-    field : str or None
-        Name of the offending parameter, ``None`` when the term as a whole is wrong.
-    message : str
-        What was wrong and what was expected.
-    """
-
-    def __init__(self, term: str, field: str | None, message: str) -> None:
-        where = f"{term}.{field}" if field else term
-        super().__init__(f"{where}: {message}")
-        self.term = term
-        self.field = field
-        self.message = message
 
 
 # --------------------------------------------------------------------------- parameter checks

@@ -25,6 +25,8 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from .errors import ResultFileError
+
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr
 
@@ -54,8 +56,6 @@ CORE_NAMES = (
 )
 
 
-class ResultFileError(ValueError):
-    """A file is not a readable anharmony result (missing, damaged, or another schema)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -229,7 +229,7 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
     """
     import xarray as xr
 
-    from . import __version__
+    from ._version import __version__
 
     u = case.units
     e_units, l_units = u.energy, u.length

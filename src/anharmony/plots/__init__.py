@@ -240,7 +240,7 @@ def save_figure(fig: Any, path: str | os.PathLike, dpi: float | None = None,
         fig.set_size_inches(*wh)
     from matplotlib import rc_context
 
-    from .. import __version__
+    from .._version import __version__
 
     software = f"anharmony {__version__}"
     metadata = {"png": {"Software": software},
