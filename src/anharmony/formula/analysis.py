@@ -1,0 +1,353 @@
+"""Analysis of a parsed formula: numbers, derivatives, polynomial form and limits at infinity.
+
+:class:`Formula` holds the validated sympy expression of :mod:`anharmony.formula.parse` and
+turns it into numpy functions with :func:`sympy.lambdify`, whose generated source contains
+nothing but printed sympy numbers, the coordinate's name and numpy / scipy function names.
+Derivatives (in the coordinate and in each parameter) are exact sympy derivatives; the
+polynomial form and the limits at ±∞ come from sympy, with numeric fallbacks.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+import scipy.special
+import sympy as sp
+
+from ..errors import FormulaError
+from .parse import (
+    check_parameter_values,
+    coordinate_symbol,
+    exact_rational,
+    parameter_symbol,
+    parse,
+)
+
+__all__ = ["MAX_POLYNOMIAL_DEGREE", "Formula", "compile_formula"]
+
+MAX_POLYNOMIAL_DEGREE = 100  # above this, polynomial() answers None (use quadrature)
+
+# Where lambdify should find erf: scipy.special; everything else from numpy.
+_MODULES = [{"erf": scipy.special.erf}, "numpy"]
+
+
+def compile_formula(
+    text: str, variable: str = "x", parameters: Mapping[str, float] | None = None
+) -> Formula:
+    """Parse a formula safely and return a :class:`Formula`.
+
+    Parameters
+    ----------
+    text
+        The formula, at most :data:`MAX_LENGTH` characters.
+    variable
+        ``"x"`` (1D coordinate) or ``"r"`` (radial coordinate).
+    parameters
+        Names (plain identifiers: a letter, then letters, digits or ``_``; no keywords, no
+        function or constant names, not the variable) and finite real values.
+
+    Returns
+    -------
+    Formula
+
+    Raises
+    ------
+    FormulaError
+        If the text uses anything outside the grammar of :mod:`.parse`, is too long or
+        too deep, or uses an unknown name (with a near-miss suggestion); the message quotes
+        the offending piece and says what is allowed.
+    TypeError
+        If ``text`` is not a string or ``parameters`` not a mapping.
+
+    Examples
+    --------
+    >>> f = compile_formula("0.5*x**2 + g*x**4", parameters={"g": 0.1})
+    >>> f.polynomial()
+    {2: 0.5, 4: 0.1}
+    """
+    expr, params = parse(text, variable, parameters)
+    return Formula(text=text, variable=variable, parameters=MappingProxyType(params), expr=expr)
+
+
+@dataclass(frozen=True)
+class Formula:
+    """A validated formula: a sympy expression and numpy functions for it and its derivatives.
+
+    Build it with :func:`compile_formula`, never directly from user text.
+
+    Parameters
+    ----------
+    text
+        The formula as given.
+    variable
+        The coordinate, ``"x"`` (1D, real) or ``"r"`` (radial, positive).
+    parameters
+        Read-only mapping of parameter names to values.
+    expr
+        The sympy expression, with the parameters still as symbols.
+
+    Notes
+    -----
+    Numerical evaluation follows numpy with its floating-point warnings silenced: the square
+    root or logarithm of a negative number, and fractional powers of negative numbers, give
+    ``nan``; division by zero and ``log(0)`` give ``±inf``; overflow gives ``inf``. Nothing
+    raises and no warning is issued. ``r`` is declared positive, so sympy simplifies
+    ``sqrt(r**2)`` to ``r`` and ``abs(r)`` to ``r``; radial formulas are meant for ``r >= 0``.
+    At the kink of ``abs`` the second derivative is taken as 0 (the delta function of the
+    distributional derivative is dropped).
+    """
+
+    text: str
+    variable: str
+    parameters: Mapping[str, float]
+    expr: sp.Expr
+    _numeric: sp.Expr = field(init=False, repr=False, compare=False)
+    _functions: tuple[Callable[..., Any], ...] = field(init=False, repr=False, compare=False)
+    _cache: dict = field(init=False, repr=False, compare=False, default_factory=dict)
+
+    def __post_init__(self) -> None:
+        symbol = coordinate_symbol(self.variable)
+        values = {parameter_symbol(k): exact_rational(v) for k, v in self.parameters.items()}
+        unknown = self.expr.free_symbols - {symbol, *values}
+        if unknown:
+            raise FormulaError(
+                f"formula {self.text!r}: expression has symbols {sorted(map(str, unknown))} "
+                "that are neither the variable nor a parameter",
+                text=self.text,
+            )
+        numeric = self.expr.xreplace(values) if values else self.expr
+        check_parameter_values(numeric, self.text, self.parameters)
+        d1 = _drop_deltas(sp.diff(numeric, symbol))
+        d2 = _drop_deltas(sp.diff(d1, symbol))
+        functions = tuple(sp.lambdify(symbol, e, modules=_MODULES) for e in (numeric, d1, d2))
+        object.__setattr__(self, "_numeric", numeric)
+        object.__setattr__(self, "_functions", functions)
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        # Pickle by recompiling: lambdified functions and mapping proxies do not pickle.
+        return (compile_formula, (self.text, self.variable, dict(self.parameters)))
+
+    def __hash__(self) -> int:
+        return hash((self.text, self.variable, tuple(sorted(self.parameters.items()))))
+
+    # -- numbers ----------------------------------------------------------------------------
+    @property
+    def numeric_expr(self) -> sp.Expr:
+        """The expression with the parameter values substituted (exact rationals)."""
+        return self._numeric
+
+    def value(self, x: Any) -> np.ndarray:
+        """Values of the formula at ``x`` (array of float, the shape of ``x``)."""
+        return _evaluate(self._functions[0], x)
+
+    def d1(self, x: Any) -> np.ndarray:
+        """First derivative with respect to the variable, at ``x``."""
+        return _evaluate(self._functions[1], x)
+
+    def d2(self, x: Any) -> np.ndarray:
+        """Second derivative with respect to the variable, at ``x``."""
+        return _evaluate(self._functions[2], x)
+
+    def parameter_derivative(self, name: str, x: Any) -> np.ndarray:
+        """Derivative with respect to parameter ``name`` at ``x`` (for Hellmann–Feynman checks).
+
+        Raises
+        ------
+        FormulaError
+            If ``name`` is not a parameter of the formula.
+        """
+        if name not in self.parameters:
+            raise FormulaError(
+                f"parameter_derivative: name must be a parameter of the formula "
+                f"{sorted(self.parameters)}; got {name!r}",
+                text=self.text,
+            )
+        key = ("dparam", name)
+        if key not in self._cache:
+            values = {parameter_symbol(k): exact_rational(v) for k, v in self.parameters.items()}
+            de = _drop_deltas(sp.diff(self.expr, parameter_symbol(name)).xreplace(values))
+            self._cache[key] = sp.lambdify(coordinate_symbol(self.variable), de, modules=_MODULES)
+        return _evaluate(self._cache[key], x)
+
+    # -- structure --------------------------------------------------------------------------
+    def polynomial(self) -> dict[int, float] | None:
+        """Coefficients ``{power: value}`` when the formula is a polynomial in the variable.
+
+        Returns
+        -------
+        dict or None
+            ``{0: 0.0}`` for the zero polynomial; ``None`` when the formula is not a
+            polynomial, or when its degree exceeds :data:`MAX_POLYNOMIAL_DEGREE` (then a
+            caller should treat it as a general function).
+        """
+        if "polynomial" not in self._cache:
+            self._cache["polynomial"] = self._polynomial()
+        result = self._cache["polynomial"]
+        return None if result is None else dict(result)
+
+    def _polynomial(self) -> dict[int, float] | None:
+        symbol = coordinate_symbol(self.variable)
+        expr = self._numeric
+        if not expr.is_polynomial(symbol):
+            return None
+        degree = _degree_bound(expr, symbol)
+        if degree is None or degree > MAX_POLYNOMIAL_DEGREE:
+            return None
+        poly = sp.Poly(sp.expand(expr), symbol)
+        out = {}
+        for (k,), c in poly.as_dict().items():
+            value = float(c)
+            if value != 0.0:
+                out[int(k)] = value
+        return out or {0: 0.0}
+
+    def threshold(self, side: int = +1) -> float:
+        """Limit of the formula as the variable goes to ``side·∞``.
+
+        Parameters
+        ----------
+        side
+            ``+1`` for ``+∞``, ``-1`` for ``-∞``. A radial formula has one infinity: for
+            ``r`` both sides give the limit ``r → +∞``.
+
+        Returns
+        -------
+        float
+            The limit; ``±inf`` where the formula diverges. Where it oscillates without a
+            limit but sympy finds the range it keeps (``sin(x)`` → ``[-1, 1]``), the lower end
+            (the lim inf) is returned, the level below which states stay confined.
+
+        Raises
+        ------
+        FormulaError
+            If neither :func:`sympy.limit` nor the numeric fallback can decide.
+
+        Notes
+        -----
+        :func:`sympy.limit` (Gruntz algorithm) on the expression with the parameter values
+        substituted; if it fails or returns something that is not a real number, a numeric
+        fallback samples the formula at ``|x| = 10^2 … 10^300`` and accepts a limit when the
+        last tenth of the samples agree to 1e-9 relative, or ``±inf`` when they all exceed
+        1e100 in size with one sign.
+        """
+        if side not in (1, -1):
+            raise FormulaError(f"threshold: side must be +1 or -1; got {side!r}", text=self.text)
+        if self.variable == "r":
+            side = 1
+        key = ("threshold", side)
+        if key not in self._cache:
+            self._cache[key] = self._threshold(side)
+        return self._cache[key]
+
+    def threshold_both(self) -> tuple[float, float]:
+        """``(limit at -∞, limit at +∞)``; see :meth:`threshold`."""
+        return (self.threshold(-1), self.threshold(+1))
+
+    def _threshold(self, side: int) -> float:
+        symbol = coordinate_symbol(self.variable)
+        try:
+            lim = sp.limit(self._numeric, symbol, sp.oo if side > 0 else -sp.oo)
+        except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError):
+            lim = None
+        value = _limit_to_float(lim)
+        if not self._real_somewhere_far(side):
+            where = "+inf" if side > 0 else "-inf"
+            raise FormulaError(
+                f"formula {self.text!r} has no real values as {self.variable} -> {where}",
+                text=self.text,
+            )
+        if value is not None:
+            return value
+        return self._numeric_limit(side)
+
+    def _real_somewhere_far(self, side: int) -> bool:
+        """Whether the formula is real at one of |x| = 1e2, 1e6, 1e12 (mpmath evalf: no
+        overflow). Guards against sympy's complex limits, e.g. log(x) -> oo as x -> -oo."""
+        symbol = coordinate_symbol(self.variable)
+        for far in (10**2, 10**6, 10**12):
+            try:
+                value = self._numeric.xreplace({symbol: sp.Integer(side * far)}).evalf(30)
+                re, im = value.as_real_imag()
+                if im == 0 or bool(abs(im) <= 1e-20 * abs(re)):
+                    return True
+            except (TypeError, ValueError, ArithmeticError, RecursionError):
+                return True  # cannot tell: do not block the limit
+        return False
+
+    def _numeric_limit(self, side: int) -> float:
+        xs = side * np.logspace(2.0, 300.0, 2385)
+        fs = self.value(xs)
+        tail = fs[-len(fs) // 10 :]
+        if np.all(np.isfinite(tail)):
+            spread = float(np.max(tail) - np.min(tail))
+            if spread <= 1e-9 * max(1.0, float(np.max(np.abs(tail)))) and abs(tail[-1]) < 1e100:
+                return float(tail[-1])
+        big = np.abs(np.nan_to_num(tail, nan=0.0, posinf=np.inf, neginf=-np.inf)) > 1e100
+        if np.all(big) and (np.all(tail > 0) or np.all(tail < 0)):
+            return math.inf if tail[-1] > 0 else -math.inf
+        where = "+inf" if side > 0 else "-inf"
+        raise FormulaError(
+            f"formula {self.text!r}: cannot determine its limit as {self.variable} -> {where} "
+            "(sympy.limit failed and the values do not settle)",
+            text=self.text,
+        )
+
+
+# ------------------------------------------------------------------------------ helpers
+def _degree_bound(expr: sp.Expr, symbol: sp.Symbol) -> int | None:
+    """Upper bound of the degree of a polynomial expression without expanding it."""
+    if not expr.has(symbol):
+        return 0
+    if expr == symbol:
+        return 1
+    if expr.is_Add:
+        parts = [_degree_bound(a, symbol) for a in expr.args]
+        return None if None in parts else max(parts)
+    if expr.is_Mul:
+        parts = [_degree_bound(a, symbol) for a in expr.args]
+        return None if None in parts else sum(parts)
+    if expr.is_Pow and expr.exp.is_Integer and expr.exp >= 0:
+        base = _degree_bound(expr.base, symbol)
+        return None if base is None else base * int(expr.exp)
+    return None
+
+
+def _drop_deltas(expr: sp.Expr) -> sp.Expr:
+    if expr.has(sp.DiracDelta):
+        expr = expr.replace(sp.DiracDelta, lambda *args: sp.S.Zero)
+    return expr
+
+
+def _limit_to_float(lim: Any) -> float | None:
+    if lim is None:
+        return None
+    if lim == sp.oo:
+        return math.inf
+    if lim == -sp.oo:
+        return -math.inf
+    if isinstance(lim, sp.AccumBounds):
+        lo = lim.min
+        if lo == -sp.oo:
+            return -math.inf
+        return float(lo) if lo.is_extended_real and lo.is_finite else None
+    if isinstance(lim, sp.Expr) and lim.is_number and lim.is_extended_real and lim.is_finite:
+        try:
+            return float(lim)
+        except (TypeError, ValueError):
+            return None
+    return None
+
+
+def _evaluate(function: Callable[..., Any], x: Any) -> np.ndarray:
+    xs = np.asarray(x, dtype=float)
+    with np.errstate(all="ignore"):
+        out = function(xs)
+    out = np.asarray(out)
+    if np.iscomplexobj(out):
+        out = np.where(np.imag(out) == 0, np.real(out), np.nan)
+    return np.array(np.broadcast_to(out.astype(float, copy=False), xs.shape), dtype=float)
