@@ -176,6 +176,7 @@ def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
     """
     if mass is not None:
         well = well.with_context(well.units, mass)
+    well.check_channel(channel.dimension)
     radial = channel.l is not None
     if radial:
         for t in well.central_terms:

@@ -153,6 +153,9 @@ class Term(ABC):
         """Coefficients of powers of ``(x - center)``, or ``None`` if not a polynomial."""
         return None
 
+    def check_channel(self, dimension: int) -> None:  # noqa: B027 (most terms fit any channel)
+        """Raise :class:`TermError` if the term cannot enter a channel of this dimension."""
+
 
 def _arr(x: Any) -> np.ndarray:
     return np.asarray(x, dtype=float)
@@ -619,6 +622,17 @@ class Expression(Term):
     def polynomial(self):
         return self.formula.polynomial()
 
+    def check_channel(self, dimension: int) -> None:
+        # The coordinate is x in 1D (with or without parity) and the radius r in 2D and 3D.
+        allowed = "x" if dimension == 1 else "r"
+        used = self.formula.variable
+        if used != allowed and self.formula.uses_variable:
+            where = "a 1D well" if dimension == 1 else f"a central {dimension}D channel"
+            meaning = "x" if dimension == 1 else "the radius r"
+            raise TermError(self.kind, "formula",
+                            f"{self.text!r} uses {used!r}, but the coordinate of {where} is "
+                            f"{meaning}; write the formula in {allowed!r}")
+
 
 def _uses_name(text: str, name: str) -> bool:
     import re
@@ -695,6 +709,15 @@ class Well:
                 raise TermError(f"well[{i}].{name}", exc.field, exc.message) from None
             specs.append((name, dict(params or {})))
         return cls(terms=tuple(built), specs=tuple(specs), units=system, mass=mass)
+
+    def check_channel(self, dimension: int) -> None:
+        """Raise :class:`TermError` (``well[i].<term>.<parameter>``) if a term does not fit
+        channels of ``dimension``: a formula must be in ``x`` in 1D and in ``r`` in 2D/3D."""
+        for i, t in enumerate(self.terms):
+            try:
+                t.check_channel(dimension)
+            except TermError as exc:
+                raise TermError(f"well[{i}].{t.kind}", exc.field, exc.message) from None
 
     def with_context(self, units: str | UnitSystem, mass: float | None) -> Well:
         """The same well rebuilt for another unit system or particle mass."""

@@ -147,7 +147,8 @@ def resolve_channel(well: Well, dimension: int, l: int | None, j: Any,
     """Validate a channel request against a well; return the well in ``units`` and the channel.
 
     Raises ``ValueError`` naming the argument: a bad dimension, l or j, j missing where the
-    well has spin–orbit terms, or a 1D parity channel of a well that is not symmetric.
+    well has spin–orbit terms, or a 1D parity channel of a well that is not symmetric; a
+    :class:`TermError` for a formula not in the channel's coordinate (``Well.check_channel``).
     """
     if not isinstance(well, Well):
         raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
@@ -157,6 +158,7 @@ def resolve_channel(well: Well, dimension: int, l: int | None, j: Any,
         raise ValueError(f"mass: must be a positive number; got {mass!r}")
     well = well.with_context(system, mass)
     channel = _channel_from(dimension, l, j)
+    well.check_channel(channel.dimension)
     if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
         raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
                          f"j = {channel.l - 0.5} or {channel.l + 0.5})")

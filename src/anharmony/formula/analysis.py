@@ -135,6 +135,11 @@ class Formula:
     def __hash__(self) -> int:
         return hash((self.text, self.variable, tuple(sorted(self.parameters.items()))))
 
+    @property
+    def uses_variable(self) -> bool:
+        """Whether the coordinate appears in the formula (``False`` for a constant)."""
+        return coordinate_symbol(self.variable) in self.expr.free_symbols
+
     # -- numbers ----------------------------------------------------------------------------
     @property
     def numeric_expr(self) -> sp.Expr:

@@ -248,6 +248,9 @@ class _Builder:
         other = [v for v in VARIABLES if v != self.variable]
         if node.id in other:
             hint = f"; the variable of this formula is {self.variable!r}"
+        elif node.id in ("y", "z"):
+            hint = (f"; {node.id!r} is not a coordinate of a well: write the formula in 'x' "
+                    "for a 1D well, or in the radius 'r' for a central well in 2D or 3D")
         raise self.fail(node, "the unknown name", hint)
 
     def binop(self, node: ast.BinOp) -> sp.Expr:
