@@ -17,12 +17,13 @@ from fractions import Fraction
 import numpy as np
 
 from .basis import HermiteBasis, RadialBasis
+from .labels import L_LETTERS, channel_label, level_label
 from .potentials import Coulomb, Power, Term, Well
+from .units import UnitSystem
 
 __all__ = ["L_LETTERS", "Channel", "ChannelMatrices", "channel_hamiltonian", "level_label",
            "make_basis", "parse_j"]
 
-L_LETTERS = "spdfghiklmnoqrtuvwxyz"  # spectroscopic letters; j is skipped (common practice)
 _WEIGHT_1D = {"harmonic", "power", "polynomial", "gaussian", "morse", "poschl_teller"}
 _WEIGHT_RADIAL = {"gaussian", "poschl_teller"}  # analytic functions of r² when centred at 0
 
@@ -82,35 +83,15 @@ class Channel:
 
     @property
     def label(self) -> str:
-        """``x``, ``even``/``odd``, ``m=2`` (2D), ``d`` or ``d5/2`` (3D)."""
-        if self.l is None:
-            return "x"
-        if self.dimension == 1:
-            return ("even", "odd")[self.l]
-        if self.dimension == 2:
-            return f"m={self.l}"
-        letter = L_LETTERS[self.l] if self.l < len(L_LETTERS) else f"[l={self.l}]"
-        return letter if self.j is None else f"{letter}{int(2 * self.j)}/2"
+        """``x``, ``even``/``odd``, ``m=2`` (2D), ``d`` or ``d5/2`` (3D), atomic letters; see
+        :func:`anharmony.labels.channel_label` for the nuclear ones."""
+        return channel_label(self.dimension, self.l, self.j)
 
-    def level_label(self, n: int) -> str:
+    def level_label(self, n: int, *, convention: str | None = None,
+                    units: str | UnitSystem | None = None) -> str:
         """Label of level n (0-based radial index) of this channel; see :func:`level_label`."""
-        return level_label(self.dimension, -1 if self.l is None else self.l, self.j, n)
-
-
-def level_label(dimension: int, l: int, j: float | None, n: int) -> str:
-    """Label of level ``n`` (0-based radial index) of a channel.
-
-    3D: ``n l j`` with n counted from 1 (``1d5/2``; ``2s`` without spin), the trade's
-    spectroscopic convention. 2D: ``n=0, |m|=1``. 1D: ``v=3`` with v the oscillator-like
-    quantum number (v = 2n + parity in the parity channels, v = n without symmetry, l = −1).
-    """
-    if dimension == 3:
-        letter = L_LETTERS[l] if 0 <= l < len(L_LETTERS) else f"[l={l}]"
-        spin = "" if j is None or not math.isfinite(j) else f"{round(2 * j)}/2"
-        return f"{n + 1}{letter}{spin}"
-    if dimension == 2:
-        return f"n={n}, |m|={l}"
-    return f"v={n if l < 0 else 2 * n + l}"
+        return level_label(self.dimension, -1 if self.l is None else self.l, self.j, n,
+                           convention=convention, units=units)
 
 
 @dataclass(frozen=True)

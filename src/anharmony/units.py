@@ -47,6 +47,12 @@ class UnitSystem:
         Particle mass used when a case gives none, in the system's mass unit.
     default_mass_note
         What the default mass is.
+    energy_long, length_long
+        Long names of the units, for result-file attributes.
+    label_convention
+        Letters of the spectroscopic labels (:mod:`anharmony.labels`): ``"nuclear"`` (l = 7
+        is ``j``, as in ``1j15/2``) for nuclear units, ``"atomic"`` (j skipped, l = 7 is
+        ``k``) for every other system.
     """
 
     name: str
@@ -60,6 +66,7 @@ class UnitSystem:
     default_mass_note: str
     energy_long: str
     length_long: str
+    label_convention: str = "atomic"
 
     @property
     def energy_text(self) -> str:
@@ -109,7 +116,7 @@ SYSTEMS: dict[str, UnitSystem] = {
     "nuclear": UnitSystem(
         "nuclear", "MeV", "fm", "MeV/c2", _MEV, _FM, _MEV_PER_C2,
         _NUCLEON_MASS / _MEV_PER_C2, "nucleon mass, mean of proton and neutron (CODATA)",
-        "energy in MeV", "length in fm",
+        "energy in MeV", "length in fm", label_convention="nuclear",
     ),
     "molecular": UnitSystem(
         "molecular", "cm-1", "angstrom", "u", _WAVENUMBER, _ANGSTROM, _U, 1.0,
