@@ -21,18 +21,6 @@ from .parse import (
     VARIABLES,
 )
 
-__all__ = [
-    "CONSTANTS",
-    "FUNCTIONS",
-    "MAX_DEPTH",
-    "MAX_EXPONENT",
-    "MAX_LENGTH",
-    "MAX_NESTING",
-    "MAX_NODES",
-    "MAX_NUMBER_BITS",
-    "MAX_POLYNOMIAL_DEGREE",
-    "VARIABLES",
-    "Formula",
-    "FormulaError",
-    "compile_formula",
-]
+__all__ = ["CONSTANTS", "FUNCTIONS", "MAX_DEPTH", "MAX_EXPONENT", "MAX_LENGTH", "MAX_NESTING",
+           "MAX_NODES", "MAX_NUMBER_BITS", "MAX_POLYNOMIAL_DEGREE", "VARIABLES", "Formula",
+           "FormulaError", "compile_formula"]
