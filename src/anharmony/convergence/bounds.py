@@ -37,10 +37,12 @@ from typing import Any
 
 import numpy as np
 
+from .._checks import integer, positive
+from ..errors import InputError
 from ..potentials import Well
 from ..spectrum import diagonalize
 from ..units import UnitSystem
-from ._problem import Problem, check_count, check_positive, make_problem
+from ._problem import Problem, make_problem
 
 __all__ = ["SIGMA_RTOL", "ResidualBounds", "residual_bounds"]
 
@@ -181,13 +183,13 @@ def residual_bounds(well: Well, dimension: int = 3, l: int | None = 0, j: Any = 
     -------
     ResidualBounds
     """
-    size = check_count("size", size)
-    levels = check_count("levels", levels)
+    size = integer("size", size, 1)
+    levels = integer("levels", levels, 1)
     if levels > size:
-        raise ValueError(f"levels: {levels} levels need a basis of at least that size; "
+        raise InputError(f"levels: {levels} levels need a basis of at least that size; "
                          f"got size={size}")
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
-    b = problem.reference.length if length == "auto" else check_positive("length", length)
+    b = problem.reference.length if length == "auto" else positive("length", length)
     return compute_bounds(problem, size, b, levels)
 
 

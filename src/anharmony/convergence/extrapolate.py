@@ -43,6 +43,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
+from ..errors import InputError
+
 __all__ = [
     "IR_CONSISTENCY",
     "WINDOW",
@@ -223,11 +225,11 @@ def _check(sizes: Sequence[float], energies: Sequence[float]) -> tuple[np.ndarra
     x = np.asarray(sizes, dtype=float)
     y = np.asarray(energies, dtype=float)
     if x.shape != y.shape or x.ndim != 1:
-        raise ValueError(f"energies: need one energy per size; got {y.shape} for {x.shape}")
+        raise InputError(f"energies: need one energy per size; got {y.shape} for {x.shape}")
     if np.any(np.diff(x) <= 0):
-        raise ValueError("sizes: must be strictly increasing")
+        raise InputError("sizes: must be strictly increasing")
     if not np.all(np.isfinite(y)):
-        raise ValueError("energies: must be finite")
+        raise InputError("energies: must be finite")
     return x, y
 
 
@@ -255,7 +257,7 @@ def extrapolate_power(sizes: Sequence[int], energies: Sequence[float], noise: fl
     """E(N) = E∞ + A N^{−p} at fixed b (an exponential in ln N), fitted to the last sizes."""
     x, y = _check(sizes, energies)
     if np.any(x <= 0):
-        raise ValueError("sizes: must be positive")
+        raise InputError("sizes: must be positive")
     fit = fit_decay(np.log(x), y, noise)
     return _result("power", fit, length, sizes)
 
