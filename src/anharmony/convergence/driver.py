@@ -62,7 +62,7 @@ from .extrapolate import (
     infrared_tail,
 )
 from .mesh import CrossCheck, run_cross_check
-from .scans import MAX_LENGTHS, BasisScan, auto_scan, resolve_lengths, run_scan
+from .scans import GRID_HALF_WIDTH, MAX_LENGTHS, BasisScan, auto_scan, resolve_lengths, run_scan
 
 __all__ = [
     "DEFAULT_MAX_SIZE",
@@ -81,6 +81,10 @@ DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explici
 DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
 DEFAULT_RTOL = 1e-8  # without a tolerance, "converged" means error < DEFAULT_RTOL · ħω_ref
 LADDER_RATIO = math.sqrt(2.0)  # successive sizes of the default ladder
+# A tolerance-driven run stops growing after this many successive sizes with no bound level:
+# Ritz values only fall as the basis grows, so a level can still become bound, but a basis
+# growing by 2x (three √2 steps) without binding any is taken to show a channel with none.
+NO_BOUND_STEPS = 3
 IR_LENGTHS = ("eigenvalue", "closed_form")
 
 
@@ -201,6 +205,31 @@ class ConvergenceSettings:
         if self.frequencies is not None:
             return len(self.frequencies)
         return MAX_LENGTHS
+
+    def work(self, levels: int, lengths: int | None = None
+             ) -> tuple[tuple[int, int, int], ...]:
+        """The work of one :func:`converge` run: ``(size, diagonalisations, builds)`` per size.
+
+        A growing run rescans every size so far at each step (one Hamiltonian per length at
+        the step's largest size); the count is that of a run that reaches its size limit, an
+        upper bound. ``lengths`` is the number of lengths per step (default: the given grid,
+        or the automatic grid of 2·GRID_HALF_WIDTH + 1 lengths, which may widen to
+        MAX_LENGTHS).
+        """
+        grow = self.grow if self.grow is not None else self.tolerance is not None
+        axis = [n for n in self.size_axis(levels) if n >= levels]
+        nl = lengths if lengths is not None else (
+            len(self.lengths) if self.lengths is not None else
+            len(self.frequencies) if self.frequencies is not None else 2 * GRID_HALF_WIDTH + 1)
+        solves = dict.fromkeys(axis, 0)
+        builds = dict.fromkeys(axis, 0)
+        for k in range(len(axis)) if grow else [len(axis) - 1]:
+            for n in axis[: k + 1]:
+                solves[n] += nl
+            extra = 1 if self.bounds else 0  # the residual bounds: one more at the step's size
+            solves[axis[k]] += extra
+            builds[axis[k]] += nl + extra
+        return tuple((n, solves[n], builds[n]) for n in axis if solves[n])
 
     def keywords(self) -> dict[str, Any]:
         """Keyword arguments of :func:`converge`."""
@@ -655,7 +684,9 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     tolerance
         With a tolerance the sizes are tried in order and the run stops at the first size
         (from the second on) where every bound level's error estimate is below it;
-        ``converged`` compares with it.
+        ``converged`` compares with it. Only bound levels drive the growth: levels above the
+        threshold are discretised-continuum states, reported as unbound (never converged),
+        and a channel with no bound level at NO_BOUND_STEPS successive sizes stops growing.
     grow
         Whether a tolerance drives the size (default True when a tolerance is given); with
         ``grow=False`` every size is scanned and the tolerance only sets ``converged``.
@@ -700,6 +731,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     scan = bnd = None
     est: list[_LevelEstimate] = []
     first = 0 if grow else len(ladder) - 1
+    unbound_run = 0  # successive sizes at which no requested level was bound
     for k in range(first, len(ladder)):
         now = ladder[: k + 1]
         if now[-1] < levels:
@@ -716,9 +748,15 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         est = [_estimate(problem, scan, i, ir_length, bnd) for i in range(levels)]
         errs = np.array([e.error for e in est])
         history.append((int(now[-1]), tuple(float(x) for x in errs)))
-        if grow and len(history) >= 2 and bound.any() \
-                and np.all(errs[bound] < tol):
+        unbound_run = unbound_run + 1 if not bound.any() else 0
+        # grow for bound levels only: continuum states of a finite basis never converge
+        if grow and len(history) >= 2 and bound.any() and np.all(errs[bound] < tol):
             stopped = f"converged at size {now[-1]} (tolerance {tol:.3g})"
+            break
+        if grow and unbound_run >= NO_BOUND_STEPS:
+            stopped = (f"no bound level at sizes {[h[0] for h in history[-unbound_run:]]}: "
+                       "every requested level lies above the threshold (discretised "
+                       "continuum), so the basis does not grow")
             break
     else:
         stopped = (f"size limit {ladder[-1]} reached" if grow
