@@ -30,7 +30,15 @@ scan:
   parameter: well[1].strength
   values: {from: 0.0, to: 0.2, steps: 3}
 perturbation: {orders: 4, exact: auto, resum: [pade]}
-convergence: {sizes: [8, 12], tolerance: 1.0e-6, grow: false, max_size: 12, cross_check: false, bounds: true, ir_length: eigenvalue, estimate: extrapolate}
+convergence:
+  sizes: [8, 12]
+  tolerance: 1.0e-6
+  grow: false
+  max_size: 12
+  cross_check: false
+  bounds: true
+  ir_length: eigenvalue
+  estimate: extrapolate
 output: every.nc
 """
 
@@ -64,8 +72,8 @@ BAD = [
     ("perturbation.exact", "exact: auto", "exact: sometimes"),
     ("perturbation.resum[0]", "resum: [pade]", "resum: [magic]"),
     ("convergence.sizes[1]", "sizes: [8, 12]", "sizes: [8, 0]"),
-    ("convergence.lengths[0]", "sizes: [8, 12]", "sizes: [8, 12], lengths: [0.0]"),
-    ("convergence.frequencies", "sizes: [8, 12]", "sizes: [8, 12], frequencies: left"),
+    ("convergence.lengths[0]", "sizes: [8, 12]", "sizes: [8, 12]\n  lengths: [0.0]"),
+    ("convergence.frequencies", "sizes: [8, 12]", "sizes: [8, 12]\n  frequencies: left"),
     ("convergence.tolerance", "tolerance: 1.0e-6", "tolerance: 0.0"),
     ("convergence.grow", "grow: false", "grow: 1"),
     ("convergence.max_size", "max_size: 12", "max_size: 1"),
@@ -78,7 +86,7 @@ BAD = [
 
 
 def _line_of(text: str, fragment: str) -> int:
-    first = fragment.splitlines()[0]
+    first = fragment.splitlines()[-1 if fragment.startswith("sizes:") else 0]
     return next(i for i, line in enumerate(text.splitlines(), 1) if first in line)
 
 
@@ -125,9 +133,10 @@ def test_a_bad_value_names_file_line_and_field(tmp_path, path, good, bad):
 ])
 def test_misspelt_keys_and_choices_get_a_near_miss(tmp_path, text, hint):
     key = text.split(":")[0]
-    line = next(x for x in FULL.splitlines() if x.startswith(key + ":"))
+    start = FULL.index(key + ":")
+    end = FULL.index("\n", start) if key != "convergence" else FULL.index("output:") - 1
     p = tmp_path / "near.yaml"
-    p.write_text(FULL.replace(line, text))
+    p.write_text(FULL[:start] + text + FULL[end:])
     with pytest.raises(CaseError) as info:
         load_cases([p])
     (q,) = info.value.problems
@@ -137,7 +146,8 @@ def test_misspelt_keys_and_choices_get_a_near_miss(tmp_path, text, hint):
 
 # --------------------------------------------------------------------------- work estimate
 def _case(tmp_path: Path, conv: str) -> object:
-    text = FULL.replace(FULL.split("convergence:")[1].split("\n")[0], f" {conv}")
+    block = FULL[FULL.index("convergence:"):FULL.index("output:")]
+    text = FULL.replace(block, f"convergence: {conv}\n")
     p = tmp_path / "w.yaml"
     p.write_text(text)
     return load_case(p)
