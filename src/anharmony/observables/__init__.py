@@ -10,16 +10,21 @@ Every function takes a :class:`~anharmony.Spectrum` first and returns arrays or 
 from __future__ import annotations
 
 from .levels import (
-                     PHASE_LOBE,
-                     expectation,
-                     fix_phases,
-                     matrix_element,
-                     operator_matrix,
-                     phase_signs,
-                     rms_radius,
-                     wavefunction,
+    PHASE_LOBE,
+    expectation,
+    fix_phases,
+    matrix_element,
+    operator_matrix,
+    phase_signs,
+    rms_radius,
+    wavefunction,
 )
-from .multipoles import coupled_reduced_y, orbital_reduced_y, reduced_multipole, transition_strength
+from .multipoles import (
+    coupled_reduced_y,
+    orbital_reduced_y,
+    reduced_multipole,
+    transition_strength,
+)
 from .pairs import FranckCondon, franck_condon, overlaps, radial_power_matrix, transition_matrix
 
 __all__ = ["PHASE_LOBE", "FranckCondon", "coupled_reduced_y", "expectation", "fix_phases",
