@@ -312,3 +312,17 @@ def test_parity_forbidden_multipole_is_zero():
     s1 = ah.solve(w, dimension=3, l=1, size=10, levels=2)
     assert ob.reduced_multipole(s1, s0, 2) == 0.0
     assert ob.reduced_multipole(s1, s0, 1) != 0.0
+
+
+def test_parity_channel_dipole_matches_the_channel_without_symmetry():
+    # Invariant: the 1D parity channels of a symmetric well are the levels of the basis without
+    # symmetry; ⟨even|x|odd⟩ on the whole line is the same element (up to the phase convention,
+    # which differs for odd levels: positive near 0⁺ versus positive at the far left).
+    w = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 4, "strength": 0.3}}])
+    even = ah.solve(w, dimension=1, l=0, size=30, levels=3)
+    odd = ah.solve(w, dimension=1, l=1, size=30, levels=3)
+    full = ah.solve(w, dimension=1, l=None, size=60, levels=6)
+    x_full = ob.operator_matrix(full, "x")
+    x_par = ob.transition_matrix(even, odd, "x")
+    np.testing.assert_allclose(np.abs(x_par), np.abs(x_full[0::2, 1::2]), atol=1e-10)
+    np.testing.assert_allclose(ob.transition_matrix(even, even, "x"), 0.0, atol=ATOL_ZERO)

@@ -162,7 +162,8 @@ def transition_matrix(spec_a, spec_b, op: str | int | Callable[[np.ndarray], np.
         Both 1D without symmetry, or radial channels of one dimension (l may differ: then this
         is the radial integral ∫ R_a f R_b r^{d−1} dr, without angular factors).
     op
-        A power ``"x**k"`` / ``"r**k"`` (or the integer k), exact; or a smooth vectorised
+        A power ``"x**k"`` / ``"r**k"`` (or the integer k), exact (between 1D parity
+        channels ``"x**k"`` is x^k on the whole line, ``"r**k"`` is |x|^k); or a smooth vectorised
         function f (a dipole function μ(x)), integrated by the joint Gauss rule grown until
         the matrix settles to :data:`PAIR_RTOL`.
 
@@ -176,23 +177,23 @@ def transition_matrix(spec_a, spec_b, op: str | int | Callable[[np.ndarray], np.
     if callable(op):
         m = _function_matrix(a.basis, b.basis, op)
     else:
-        k = _power_of(a, op)
-        m = (_hermite_power_matrix(a.basis, b.basis, k) if hermite
-             else radial_power_matrix(a.basis, b.basis, k))
+        var, k = _power_of(a, op)
+        if hermite:
+            m = _hermite_power_matrix(a.basis, b.basis, k)
+        elif var == "x" and (a.channel.l + b.channel.l + k) % 2:
+            m = np.zeros((a.basis.size, b.basis.size))  # 1D parity: x^k has parity (−1)^k
+        else:
+            m = radial_power_matrix(a.basis, b.basis, k)
     _warn_unbound(a, b)
     return a.vectors.T @ m @ b.vectors
 
 
-def _power_of(spec, op) -> int:
+def _power_of(spec, op) -> tuple[str, int]:
     if isinstance(op, (int, np.integer)) and not isinstance(op, bool) and op >= 0:
-        return int(op)
+        return ("x" if spec.channel.dimension == 1 else "r"), int(op)
     from .levels import parse_power
 
-    var, k = parse_power(spec, op)
-    if var == "x" and not isinstance(spec.basis, HermiteBasis) and k % 2:
-        raise InputError(f"op: {op!r} between 1D parity channels — use 'r**{k}' for |x|^{k} "
-                         "on the half line")
-    return k
+    return parse_power(spec, op)
 
 
 @dataclass(frozen=True)
