@@ -326,3 +326,18 @@ def test_parity_channel_dipole_matches_the_channel_without_symmetry():
     x_par = ob.transition_matrix(even, odd, "x")
     np.testing.assert_allclose(np.abs(x_par), np.abs(x_full[0::2, 1::2]), atol=1e-10)
     np.testing.assert_allclose(ob.transition_matrix(even, even, "x"), 0.0, atol=ATOL_ZERO)
+
+
+def test_oscillator_e1_reduced_element_1s_to_1p_closed_form():
+    # By hand: radial ⟨0p|r|0s⟩ = b√(3/2) (closed form above, n = l = 0) and
+    # ⟨1‖Y_1‖0⟩ = (−1)¹ √(3·3·1/4π) (1 1 0; 0 0 0) = √(3/4π), with (1 1 0; 0 0 0) = −1/√3
+    # (Edmonds eq. (5.4.5) and his 3j table; quoted from memory): ⟨1p‖rY_1‖1s⟩ = 3b/√(8π),
+    # B(E1; 1s → 1p) = 9b²/(8π) for 2l_i + 1 = 1.
+    w = oscillator(0.7)
+    s = ah.solve(w, dimension=3, l=0, size=8, levels=2)
+    p = ah.solve(w, dimension=3, l=1, size=8, levels=2)
+    b = s.basis.length
+    assert ob.reduced_multipole(p, s, 1) == pytest.approx(3 * b / math.sqrt(8 * math.pi),
+                                                         rel=RTOL_EXACT)
+    assert ob.transition_strength(s, p, 1) == pytest.approx(9 * b**2 / (8 * math.pi),
+                                                           rel=RTOL_EXACT)

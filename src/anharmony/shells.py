@@ -145,32 +145,31 @@ def fill_shells(spectra: Sequence, particles: int, spin_degeneracy: int = 2) -> 
                          "levels given; add channels (higher l) or levels per channel")
     scale = max((abs(r[0]) for r in rows), default=1.0) or 1.0
     shells = _group(rows, TIE_RTOL * scale)
+    sizes = np.array([sum(r[4] for r in shell) for shell in shells])
+    full = np.cumsum(sizes)  # particles held up to and including each shell
+    closures = tuple((int(full[k]), shells[k + 1][0][0] - shells[k][-1][0])
+                     for k in range(len(shells) - 1))
     left = particles
-    levels, closures = [], []
-    fermi, closed, gap = float("nan"), particles == 0, float("nan")
-    count = 0
-    for k, shell in enumerate(shells):
-        size = sum(r[4] for r in shell)
-        count += size
-        if k + 1 < len(shells):
-            closures.append((count, shells[k + 1][0][0] - shell[-1][0]))
+    levels = []
+    for shell in shells:
         for e, _, n, s, g, radius in shell:
             occ = min(g, left)
             left -= occ
-            if occ:
-                fermi = e
             levels.append(FilledLevel(s.channel.level_label(n), s.channel.label, n, e, g,
                                       float(occ), radius))
-        if particles and left == 0 and np.isnan(gap) and not closed and count >= particles:
-            closed = count == particles
-            if closed and k + 1 < len(shells):
-                gap = shells[k + 1][0][0] - shell[-1][0]
+    fermi, closed, gap = float("nan"), True, float("nan")
+    if particles:
+        k_f = int(np.searchsorted(full, particles))  # the shell holding the last particle
+        fermi = max(lv.energy for lv in levels if lv.occupancy)
+        closed = bool(full[k_f] == particles)
+        if closed and k_f + 1 < len(shells):
+            gap = closures[k_f][1]
     occ = np.array([lv.occupancy for lv in levels])
     r2 = np.array([lv.rms_radius for lv in levels]) ** 2
     radius = float(np.sqrt(occ @ r2 / particles)) if particles else float("nan")
     first = spectra[0].units
-    return ShellFilling(tuple(levels), int(particles), fermi, bool(closed), float(gap),
-                        tuple(closures), radius, first.energy, first.length)
+    return ShellFilling(tuple(levels), int(particles), fermi, closed, float(gap), closures,
+                        radius, first.energy, first.length)
 
 
 def _group(rows: list, tol: float) -> list[list]:
