@@ -6,8 +6,22 @@ from ._version import __version__
 from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
 from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
+from .molecular import dunham_fit, rovibrational, spectroscopic_constants
+from .observables import (
+    expectation,
+    fix_phases,
+    franck_condon,
+    matrix_element,
+    overlaps,
+    reduced_multipole,
+    rms_radius,
+    transition_matrix,
+    transition_strength,
+    wavefunction,
+)
 from .potentials import TERMS, TermError, Well
 from .series import Series, series
+from .shells import fill_shells
 from .spectrum import Reference, Spectrum, reference_oscillator, solve
 from .units import SYSTEMS, UnitSystem, get_units
 
@@ -31,15 +45,29 @@ __all__ = [
     "channel_hamiltonian",
     "converge",
     "cross_check",
+    "dunham_fit",
+    "expectation",
+    "fill_shells",
+    "fix_phases",
+    "franck_condon",
     "get_units",
     "load_cases",
+    "matrix_element",
+    "overlaps",
     "read_dataset",
+    "reduced_multipole",
     "reference_oscillator",
     "residual_bounds",
+    "rms_radius",
+    "rovibrational",
     "run_case",
     "scan_basis",
     "series",
     "solve",
+    "spectroscopic_constants",
+    "transition_matrix",
+    "transition_strength",
+    "wavefunction",
 ]
 
 
