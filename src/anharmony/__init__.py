@@ -4,7 +4,15 @@ from __future__ import annotations
 
 from ._version import __version__
 from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
-from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
+from .errors import (
+    AnharmonyError,
+    AnharmonyWarning,
+    ConvergenceWarning,
+    DegenerateLevelError,
+    InputError,
+    NumericalError,
+)
+from .fit import FitResult, FitWarning, fit
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import TERMS, TermError, Well
 from .series import Series, series
@@ -14,12 +22,16 @@ from .units import SYSTEMS, UnitSystem, get_units
 __all__ = [
     "SYSTEMS",
     "TERMS",
+    "AnharmonyError",
     "AnharmonyWarning",
     "CaseError",
     "Channel",
     "ConvergenceReport",
     "ConvergenceWarning",
     "DegenerateLevelError",
+    "FitResult",
+    "FitWarning",
+    "InputError",
     "NumericalError",
     "Reference",
     "Series",
@@ -31,6 +43,7 @@ __all__ = [
     "channel_hamiltonian",
     "converge",
     "cross_check",
+    "fit",
     "get_units",
     "load_cases",
     "read_dataset",
