@@ -17,8 +17,8 @@ QUARTIC = [{"harmonic": {"stiffness": 1.3}}, {"power": {"exponent": 4, "strength
 PATHS = ["well[0].stiffness", "well[1].strength"]
 
 
-def _levels(terms, n, size=40, dimension=1, l=None):
-    return ah.solve(ah.Well.from_terms(terms), dimension, l, size=size, length=1.0,
+def _levels(terms, n, size=40, dimension=1, l=None, length=1.0):
+    return ah.solve(ah.Well.from_terms(terms), dimension, l, size=size, length=length,
                     levels=n).energies
 
 
@@ -143,3 +143,28 @@ def test_radial_channels_from_the_data():
                   data=data, size=20)
     # 1e-9: exact data, exact matrices; limited by the least-squares tolerances
     assert res.values["well[0].frequency"] == pytest.approx(hw, rel=1e-9)
+
+
+def test_gaussian_trap_fit_agrees_with_the_harmonic_limit_inversion():
+    # V = −U₀ exp(−2x²/w²) ≈ −U₀ + 2U₀x²/w² − 2U₀x⁴/w⁴ (ħ = m = 1): ω = sqrt(4U₀/w²) (Grimm,
+    # Weidemüller & Ovchinnikov, Adv. At. Mol. Opt. Phys. 42, 95 (2000)); first-order shift of
+    # the quartic (⟨x⁴⟩_n = ¾(2n² + 2n + 1)/ω², textbook) gives the second difference
+    # (E₂ − E₁) − (E₁ − E₀) = −(3/8)ω²/U₀. Inverting: ω ≈ 2(E₁ − E₀) − (E₂ − E₁),
+    # U₀ = (3/8)ω²/|second difference|, w = 2 sqrt(U₀)/ω. Neglected terms (x⁶ at first order,
+    # x⁴ at second) are O(ω/U₀) relative.
+    depth, waist = 3000.0, 1.0
+    e = _levels([{"gaussian": {"depth": depth, "waist": waist}}], 3, size=60, length="auto")
+    d1, d2 = e[1] - e[0], e[2] - e[1]
+    omega = 2 * d1 - d2
+    u0 = 3 / 8 * omega**2 / (d1 - d2)
+    w = 2 * math.sqrt(u0) / omega
+    data = [{"quantity": "spacing", "levels": [0, 1], "value": d1, "uncertainty": 1e-6},
+            {"quantity": "spacing", "levels": [1, 2], "value": d2, "uncertainty": 1e-6}]
+    res = fit([{"gaussian": {"depth": u0, "waist": w}}], 1, None,
+              parameters=["well[0].depth", "well[0].waist"], data=data, size=60)
+    ratio = omega / depth  # size of the neglected terms, relative
+    assert res.values["well[0].depth"] == pytest.approx(depth, rel=1e-6)  # exact data
+    assert res.values["well[0].waist"] == pytest.approx(waist, rel=1e-6)
+    # the closed form is good to a few times ω/U₀ (≈ 0.036 here): allow 3·ω/U₀
+    assert u0 == pytest.approx(depth, rel=3 * ratio)
+    assert w == pytest.approx(waist, rel=3 * ratio)
