@@ -4,7 +4,15 @@ from __future__ import annotations
 
 from ._version import __version__
 from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
-from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
+from .errors import (
+    AnharmonyError,
+    AnharmonyWarning,
+    ConvergenceWarning,
+    DegenerateLevelError,
+    InputError,
+    NumericalError,
+)
+from .fit import FitResult, FitWarning, fit
 from .hamiltonian import Channel, channel_hamiltonian
 from .molecular import dunham_fit, rovibrational, spectroscopic_constants
 from .observables import (
@@ -28,12 +36,16 @@ from .units import SYSTEMS, UnitSystem, get_units
 __all__ = [
     "SYSTEMS",
     "TERMS",
+    "AnharmonyError",
     "AnharmonyWarning",
     "CaseError",
     "Channel",
     "ConvergenceReport",
     "ConvergenceWarning",
     "DegenerateLevelError",
+    "FitResult",
+    "FitWarning",
+    "InputError",
     "NumericalError",
     "Reference",
     "Series",
@@ -48,6 +60,7 @@ __all__ = [
     "dunham_fit",
     "expectation",
     "fill_shells",
+    "fit",
     "fix_phases",
     "franck_condon",
     "get_units",
