@@ -52,6 +52,16 @@ def _space_issues(model: CaseModel) -> Found:
         reach = {c.j for c in channels_of(space.model_copy(update={"j": None}))}
         for j in sorted({parse_half(j) for j in space.j} - reach):
             out.append((("space", "j"), f"j = {Fraction(j)} is not l ± 1/2 for any listed l"))
+    try:  # a formula must use the channel's coordinate (x in 1D, r in 2D/3D)
+        Well.from_terms(model.well, model.units, model.particle.mass).check_channel(
+            space.dimension)
+    except TermError as exc:  # exc.term is "well[i].<kind>": point at that term's line
+        index, _, kind = exc.term.partition("[")[2].partition("]")
+        at = (("well", int(index), kind.lstrip("."), exc.field) if index.isdigit() and exc.field
+              else ("well",))
+        out.append((at, exc.message))
+    except (ValueError, TypeError):
+        pass  # the schema reports a bad term
     if space.dimension == 1 and space.l is not None:
         try:
             symmetric = Well.from_terms(model.well, model.units,
