@@ -6,10 +6,11 @@ from ._version import __version__
 from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
 from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
-from .potentials import TERMS, TermError, Well
 from .series import Series, series
 from .spectrum import Reference, Spectrum, reference_oscillator, solve
+from .terms import TERMS, TermError
 from .units import SYSTEMS, UnitSystem, get_units
+from .well import Well
 
 __all__ = [
     "SYSTEMS",

@@ -36,8 +36,9 @@ from pydantic import (
 )
 
 from .errors import CaseError
-from .potentials import TERMS, TermError, Well
+from .terms import TERMS, TermError
 from .units import SYSTEMS, UnitSystem, get_units
+from .well import Well
 
 __all__ = [
     "CASE_SCHEMA",

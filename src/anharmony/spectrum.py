@@ -19,8 +19,8 @@ from scipy.optimize import minimize_scalar
 from .basis import HermiteBasis, RadialBasis
 from .errors import ConvergenceWarning
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
-from .potentials import Well
 from .units import UnitSystem, get_units
+from .well import Well
 
 __all__ = ["BANDED_MAX_RATIO", "Reference", "Spectrum", "diagonalize", "reference_oscillator",
            "resolve_channel", "solve", "upper_band"]

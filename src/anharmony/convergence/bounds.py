@@ -37,9 +37,9 @@ from typing import Any
 
 import numpy as np
 
-from ..potentials import Well
 from ..spectrum import diagonalize
 from ..units import UnitSystem
+from ..well import Well
 from ._problem import Problem, check_count, check_positive, make_problem
 
 __all__ = ["SIGMA_RTOL", "ResidualBounds", "residual_bounds"]

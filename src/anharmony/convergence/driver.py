@@ -42,9 +42,9 @@ import numpy as np
 
 from ..errors import ConvergenceWarning, NumericalError
 from ..hamiltonian import Channel
-from ..potentials import Well
 from ..spectrum import Reference
 from ..units import UnitSystem
+from ..well import Well
 from ._problem import Problem, check_count, check_positive, make_problem
 from .bounds import (
     KT_ASSUMPTION,

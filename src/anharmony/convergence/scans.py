@@ -30,9 +30,9 @@ from scipy.special import jv
 
 from ..basis import HermiteBasis, RadialBasis
 from ..errors import NumericalError
-from ..potentials import Well
 from ..spectrum import diagonalize
 from ..units import UnitSystem
+from ..well import Well
 from ._problem import Problem, check_count, check_positive, make_problem
 
 __all__ = [
