@@ -57,7 +57,7 @@ def test_tilt_is_refused_in_central_channels_and_off_the_x_axis():
         with pytest.raises(InputError, match="tilt: the term is not central"):
             ah.solve(well, dimension=d, l=0)
     along_y = W([{"harmonic": {"frequency": 1.0}}, {"tilt": {"force": 0.3, "axis": "y"}}])
-    with pytest.raises(InputError, match="tilt.axis"):
+    with pytest.raises(InputError, match=r"tilt\.axis"):
         ah.solve(along_y, dimension=1, l=None)
-    with pytest.raises(TermError, match="tilt.axis: must be one of x, y, z"):
+    with pytest.raises(TermError, match=r"tilt\.axis: must be one of x, y, z"):
         W([{"tilt": {"force": 0.3, "axis": "w"}}])

@@ -42,8 +42,8 @@ import numpy as np
 from ..errors import InputError, TermError
 from ..units import UnitSystem, get_units
 
-__all__ = ["QUADRATURE_KINDS", "Context", "Term", "TermError", "arr", "check_names", "number",
-           "radius", "require"]
+__all__ = ["QUADRATURE_KINDS", "Context", "Term", "TermError", "arr", "center", "check_names",
+           "number", "positive", "radius", "require"]
 
 QUADRATURE_KINDS = ("exact", "weight", "panels")
 _REGISTRY: dict[str, type[Term]] = {}  # filled by Term.__init_subclass__
@@ -84,6 +84,11 @@ def require(term: str, params: Mapping[str, Any], name: str) -> Any:
     if name not in params:
         raise TermError(term, name, "is required")
     return params[name]
+
+
+def positive(term: str, params: Mapping[str, Any], name: str) -> float:
+    """A required positive parameter."""
+    return number(term, name, require(term, params, name), positive=True)
 
 
 def radius(term: str, params: Mapping[str, Any], name: str = "radius") -> float:

@@ -8,7 +8,7 @@ from typing import ClassVar
 
 import numpy as np
 
-from .base import Term, TermError, arr, center, number, require
+from .base import Term, TermError, arr, center, number, positive
 
 __all__ = ["Gaussian"]
 
@@ -27,7 +27,7 @@ class Gaussian(Term):
 
     @classmethod
     def _build(cls, p, ctx):
-        depth = number(cls.kind, "depth", require(cls.kind, p, "depth"), positive=True)
+        depth = positive(cls.kind, p, "depth")
         if ("range" in p) == ("waist" in p):
             raise TermError(cls.kind, "range", "give exactly one of range or waist")
         if "range" in p:

@@ -8,7 +8,7 @@ from typing import ClassVar
 
 import numpy as np
 
-from .base import Term, arr, center, number, require
+from .base import Term, arr, center, positive
 
 __all__ = ["Morse"]
 
@@ -27,8 +27,8 @@ class Morse(Term):
 
     @classmethod
     def _build(cls, p, ctx):
-        d = number(cls.kind, "depth", require(cls.kind, p, "depth"), positive=True)
-        a = number(cls.kind, "width", require(cls.kind, p, "width"), positive=True)
+        d = positive(cls.kind, p, "depth")
+        a = positive(cls.kind, p, "width")
         return cls(center=center(cls.kind, p), depth=d, width=a)
 
     def _e(self, x):

@@ -13,7 +13,7 @@ import numpy as np
 from scipy.special import expit
 
 from ..errors import InputError
-from .base import Term, arr, number, radius, require
+from .base import Term, arr, number, positive, radius, require
 
 __all__ = ["SpinOrbit", "WoodsSaxon"]
 
@@ -32,8 +32,8 @@ class WoodsSaxon(Term):
 
     @classmethod
     def _build(cls, p, ctx):
-        depth = number(cls.kind, "depth", require(cls.kind, p, "depth"), positive=True)
-        a = number(cls.kind, "diffuseness", require(cls.kind, p, "diffuseness"), positive=True)
+        depth = positive(cls.kind, p, "depth")
+        a = positive(cls.kind, p, "diffuseness")
         return cls(depth=depth, radius=radius(cls.kind, p), diffuseness=a)
 
     def _f(self, r):
@@ -75,7 +75,7 @@ class SpinOrbit(Term):
     @classmethod
     def _build(cls, p, ctx):
         s = number(cls.kind, "strength", require(cls.kind, p, "strength"))
-        a = number(cls.kind, "diffuseness", require(cls.kind, p, "diffuseness"), positive=True)
+        a = positive(cls.kind, p, "diffuseness")
         ls = number(cls.kind, "length", p.get("length", 1.0), positive=True)
         return cls(strength=s, radius=radius(cls.kind, p), diffuseness=a, length=ls)
 
