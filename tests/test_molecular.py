@@ -106,7 +106,6 @@ def test_spectroscopic_constants_of_a_morse_formula_well():
     check_morse_constants(morse_expression())
 
 
-@pytest.mark.xfail(strict=True, reason="needs centred radial terms")
 def test_spectroscopic_constants_of_a_morse_term():
     check_morse_constants(W([{"morse": {"depth": D, "width": ALPHA, "center": RE}}],
                             units="molecular", mass=MU))

@@ -27,11 +27,12 @@ from .observables import (
     transition_strength,
     wavefunction,
 )
-from .potentials import TERMS, TermError, Well
 from .series import Series, series
 from .shells import fill_shells
 from .spectrum import Reference, Spectrum, reference_oscillator, solve
+from .terms import TERMS, TermError
 from .units import SYSTEMS, UnitSystem, get_units
+from .well import Well
 
 __all__ = [
     "SYSTEMS",

@@ -26,8 +26,9 @@ from scipy.optimize import least_squares
 
 from .errors import AnharmonyWarning, InputError
 from .hamiltonian import Channel, parse_j
-from .potentials import TERMS, Well
 from .spectrum import solve
+from .terms import TERMS
+from .well import Well
 
 __all__ = ["FitResult", "FitWarning", "Measurement", "fit", "parse_parameter_path"]
 
@@ -120,7 +121,7 @@ def parse_parameter_path(path: Any, specs: Sequence[Mapping[str, Any]]) -> tuple
     if i >= len(specs):
         raise InputError(f"parameters: {path!r} names term {i}, but the well has "
                          f"{len(specs)} term(s) (well[0] … well[{len(specs) - 1}])")
-    (kind, params), = specs[i].items()
+    (kind, _), = specs[i].items()
     allowed = TERMS[kind].parameters if kind in TERMS else ()
     if name not in allowed:
         near = difflib.get_close_matches(name, allowed, n=1)

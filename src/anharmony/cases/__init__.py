@@ -2,7 +2,7 @@
 
 A case file is read with :class:`StrictLoader` (``1e-3`` is a number, duplicate keys are
 errors), checked against the pydantic schema :class:`CaseModel` (unknown keys forbidden,
-numbers strict, each term built by the registry of :mod:`anharmony.potentials`) and then by the
+numbers strict, each term built by the registry of :mod:`anharmony.terms`) and then by the
 cross-field checks. Every problem of every file is raised at once as a :class:`CaseError`, one
 line per problem: ``file:line:col: field.path: message``.
 

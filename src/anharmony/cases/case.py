@@ -17,8 +17,10 @@ from pathlib import Path
 from typing import Any
 
 from ..convergence.driver import LADDER_RATIO
-from ..potentials import TERMS, Well
+from ..labels import channel_label
+from ..terms import TERMS, linear_parameters
 from ..units import UnitSystem, get_units
+from ..well import Well
 from .messages import suggest
 from .schema import CaseModel, Space, parse_half
 
@@ -42,14 +44,7 @@ class ChannelSpec:
     @property
     def label(self) -> str:
         """``s1/2``, ``d5/2``, ``p`` (3D), ``m=1`` (2D), ``even``/``odd``/``x`` (1D)."""
-        if self.dimension == 1:
-            return "x" if self.l is None else ("even", "odd")[self.l]
-        if self.dimension == 2:
-            return f"m={self.l}"
-        letter = _LETTERS[self.l] if self.l < len(_LETTERS) else f"[l={self.l}]"
-        if self.j is None:
-            return letter
-        return f"{letter}{round(2 * self.j)}/2"
+        return channel_label(self.dimension, self.l, self.j)
 
     @property
     def ls(self) -> float:
@@ -59,16 +54,10 @@ class ChannelSpec:
         return 0.5 * (self.j * (self.j + 1) - self.l * (self.l + 1) - 0.75)
 
 
-_LETTERS = "spdfghiklmnoqrtuvwxyz"  # spectroscopic letters, j skipped (trade convention)
-
 # Parameters that enter the Hamiltonian linearly (H = A + value · B), by term: the one table
 # of this fact on the case side (a scan over one of them is built once and solved per point).
 LINEAR_PARAMETERS: dict[str, frozenset[str]] = {
-    "harmonic": frozenset({"stiffness"}), "power": frozenset({"strength"}),
-    "gaussian": frozenset({"depth"}), "woods_saxon": frozenset({"depth"}),
-    "spin_orbit": frozenset({"strength"}), "coulomb": frozenset({"charge"}),
-    "morse": frozenset({"depth"}), "poschl_teller": frozenset({"depth"}),
-}
+    kind: frozenset({name}) for kind, name in linear_parameters().items()}
 
 
 @dataclass(frozen=True)

@@ -20,7 +20,7 @@ from typing import Any
 from pydantic import ValidationError
 
 from ..errors import InputError, TermError
-from ..potentials import Well
+from ..well import Well
 from .case import Case, ScanTarget, channels_of, parse_scan_path
 from .messages import Path_, message
 from .schema import CaseModel, parse_half

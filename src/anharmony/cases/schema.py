@@ -3,7 +3,7 @@
 Every model derives from :class:`_Strict`: unknown keys are forbidden, numbers are strict (no
 ``yes`` → 1, no ``"1e-3"`` → 0.001; PITFALLS §3), NaN and infinity are refused, and models are
 frozen. Checks of one field live on the field (``Field(gt=0)``, validators below); each term of
-``well:`` is checked by the term registry of :mod:`anharmony.potentials` from inside the schema,
+``well:`` is checked by the term registry of :mod:`anharmony.terms` from inside the schema,
 so that one validation pass reports every field. Checks that relate several fields are in
 :mod:`.crossfield`, and nowhere else.
 """
@@ -28,7 +28,7 @@ from pydantic import (
 from pydantic_core import PydanticCustomError
 
 from ..errors import TermError
-from ..potentials import TERMS
+from ..terms import TERMS
 from ..units import SYSTEMS
 from .messages import got, suggest
 

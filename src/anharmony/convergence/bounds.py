@@ -39,9 +39,9 @@ import numpy as np
 
 from .._checks import integer, positive
 from ..errors import InputError
-from ..potentials import Well
 from ..spectrum import diagonalize
 from ..units import UnitSystem
+from ..well import Well
 from ._problem import Problem, make_problem
 
 __all__ = ["SIGMA_RTOL", "ResidualBounds", "residual_bounds"]

@@ -31,9 +31,9 @@ from scipy.special import jv
 from .._checks import integer, integers, positives
 from ..basis import HermiteBasis, RadialBasis
 from ..errors import InputError, NumericalError
-from ..potentials import Well
 from ..spectrum import diagonalize
 from ..units import UnitSystem
+from ..well import Well
 from ._problem import Problem, make_problem
 
 __all__ = [
