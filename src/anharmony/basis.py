@@ -19,6 +19,7 @@ integrated by Gauss quadrature whose point count grows until the matrix stops ch
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 import math
 import warnings
@@ -512,25 +513,40 @@ def _next_points(m: int) -> int:
 def _cached_rule(basis, m, kind, breaks):
     """Quadrature rules are pure functions of (basis, m, kind, breaks): reuse them.
 
+    A rule is stored for the basis of unit length centred at 0, with the breaks scaled to it:
+    nodes in the scaled coordinate and U do not depend on b or x₀, so one rule serves every
+    length (a variational search over b, a length scan) and is only stretched here.
     Panel rules are made in pairs (this level and the next, which the sufficiency check asks
     for straight after) in one pass of the recurrence over both node sets.
     """
-    key = (basis, m, kind, breaks)
+    unit, scaled = _unit_basis(basis, breaks)
+    key = (unit, m, kind, scaled)
     rule = _RULES.get(key)
     if rule is None:
         while len(_RULES) >= _RULES_MAX:
             _RULES.pop(next(iter(_RULES)))
         if kind == "panels":
             m2 = _next_points(m)
-            x1, w1 = basis._panel_nodes(m, breaks)
-            x2, w2 = basis._panel_nodes(m2, breaks)
-            coords, u = basis._panel_u(np.concatenate([x1, x2]), np.concatenate([w1, w2]))
+            x1, w1 = unit._panel_nodes(m, scaled)
+            x2, w2 = unit._panel_nodes(m2, scaled)
+            coords, u = unit._panel_u(np.concatenate([x1, x2]), np.concatenate([w1, w2]))
             k = len(x1)
             rule = _RULES[key] = _with_live(coords[:k], u[:k])
-            _RULES[(basis, m2, kind, breaks)] = _with_live(coords[k:], u[k:])
+            _RULES[(unit, m2, kind, scaled)] = _with_live(coords[k:], u[k:])
         else:
-            rule = _RULES[key] = _with_live(*basis.quadrature(m, kind, breaks))
-    return rule
+            rule = _RULES[key] = _with_live(*unit.quadrature(m, kind, scaled))
+    xi, u, live = rule
+    return getattr(basis, "center", 0.0) + basis.length * xi, u, live
+
+
+def _unit_basis(basis, breaks):
+    """The same basis with b = 1 and x₀ = 0, and ``breaks`` in its scaled coordinate."""
+    center = getattr(basis, "center", 0.0)
+    scaled = tuple((c - center) / basis.length for c in breaks)
+    if basis.length == 1.0 and center == 0.0:
+        return basis, scaled
+    changes = {"length": 1.0, **({"center": 0.0} if hasattr(basis, "center") else {})}
+    return dataclasses.replace(basis, **changes), scaled
 
 
 def _with_live(coords: np.ndarray, u: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
