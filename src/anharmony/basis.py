@@ -34,7 +34,7 @@ from scipy.special import gammaln, roots_legendre
 
 from .errors import ConvergenceWarning, NumericalError
 
-__all__ = ["QUADRATURE_RTOL", "HermiteBasis", "OrthogonalFamily", "RadialBasis"]
+__all__ = ["QUADRATURE_RTOL", "HermiteBasis", "OrthogonalFamily", "RadialBasis", "panel_rule"]
 
 QUADRATURE_RTOL = 1e-13  # default: matrix elements stable to ~50 ulp of the largest element
 _RESCALE = 1e100  # rescale when a value exceeds this (squares stay below the double range)
@@ -196,9 +196,10 @@ class _Logs:
         return vals * factors[self.of]
 
 
-def _panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
-                ) -> tuple[np.ndarray, np.ndarray]:
-    """Composite Gauss–Legendre rule on [lo, hi] with panel edges at ``breaks``."""
+def panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """Composite Gauss–Legendre rule on [lo, hi]: panel edges at ``breaks``, each stretch
+    between them cut into equal panels no wider than ``width``, 24 points per panel."""
     edges = sorted({lo, hi, *(b for b in breaks if lo < b < hi)})
     t, w = roots_legendre(_PANEL_ORDER)
     xs, ws = [], []
@@ -366,7 +367,7 @@ class HermiteBasis(_Basis):
     def _panel_nodes(self, points, breaks):
         top = math.sqrt(2.0 * self.size + 1.0) + _PANEL_MARGIN
         scaled = [(c - self.center) / self.length for c in breaks]
-        return _panel_rule(-top, top, scaled, _panel_width(points, self.size))
+        return panel_rule(-top, top, scaled, _panel_width(points, self.size))
 
     def _panel_u(self, xi, w):
         vals, logs, _ = self.family.values(xi, self.size)
@@ -466,7 +467,7 @@ class RadialBasis(_Basis):
 
     def _panel_nodes(self, points, breaks):
         top = math.sqrt(4.0 * self.size + 2.0 * self.alpha + 2.0) + _PANEL_MARGIN
-        return _panel_rule(0.0, top, [c / self.length for c in breaks],
+        return panel_rule(0.0, top, [c / self.length for c in breaks],
                            _panel_width(points, self.size))
 
     def _panel_u(self, rho, w):

@@ -40,7 +40,7 @@ BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this �
 ROUNDING_WARN = 1e-9  # warn when eps·‖H‖₁ exceeds this fraction of the energy scale
 DEFAULT_TOLERANCE = 1e-8  # error bar allowed, relative to the level spacing (or ħω)
 ESTIMATE_WINDOW = 0.25  # nested sub-blocks N − q, N − 2q with q = N/4 (cost ≈ 0.55 eigvalsh)
-ESTIMATE_SAFETY = 10.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
+ESTIMATE_SAFETY = 12.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
 ESTIMATE_RATIO_CAP = 0.9  # convergence ratio per window assumed at most this
 ESTIMATE_FLOOR = 0.03  # remainder never taken below this fraction of the last difference
 WALL_FRACTION = 0.02  # auto length: V at the basis' reach ≤ this · the rounding-warning level
