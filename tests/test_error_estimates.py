@@ -64,7 +64,8 @@ def _shooting(well, l, j, energies, units_c):
 def cases():
     """(name, well, solve kwargs, sizes, exact-levels function of a spectrum)."""
     out = []
-    q = W([{"power": {"exponent": 2, "strength": 0.5}}, {"power": {"exponent": 4, "strength": 0.5}}])
+    q = W([{"power": {"exponent": 2, "strength": 0.5}},
+           {"power": {"exponent": 4, "strength": 0.5}}])
     out.append(("quartic 1D λ = 1", q, {"dimension": 1, "l": None, "levels": 3},
                 (10, 12, 16, 20, 24), lambda s: _hioe_montroll(1.0)))
     morse = W([{"morse": {"depth": 38000.0, "width": 2.1, "center": 0.93}}], units="molecular",

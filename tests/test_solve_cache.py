@@ -67,7 +67,7 @@ def test_the_reference_of_another_unit_system_is_not_reused():
 def test_cached_matrices_cannot_be_changed_by_a_caller():
     well = W(WS, units="nuclear")
     ah.solve(well, **KW)
-    (mats, total), = [v for k, v in spectrum._CACHES["matrices"].items()
+    (_mats, total), = [v for k, v in spectrum._CACHES["matrices"].items()
                       if k[1] == Channel(3, 1, 1.5) and k[2] == 30][-1:]
     with pytest.raises(ValueError, match="read-only"):
         total[0, 0] = 0.0
