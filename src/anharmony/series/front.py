@@ -25,7 +25,8 @@ from anharmony.units import UnitSystem
 
 from ._values import to_mpf
 from .growth import LargeOrder, large_order
-from .resum import BorelPade, PadeApproximant, borel_pade, pade, pade_approximant
+from .borel import BorelPade, borel_pade
+from .resum import PadeApproximant, Resummed, pade_approximant, pade_sum
 from .rs_exact import rs_exact_1d, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
 from .truncation import OptimalTruncation, optimal_truncation, partial_sums
@@ -102,15 +103,19 @@ class Series:
         """Padé [L/M] approximant in λ (numerator degree L, denominator M)."""
         return pade_approximant(self.precise, L, M, method=method)
 
-    def pade(self, L: int, M: int, lam: Any = 1.0, *, method: str = "auto") -> Any:
-        """Value of the Padé [L/M] approximant at λ (a singular [L/M] falls back to the
-        nearest lower approximant, see :func:`anharmony.series.resum.pade`)."""
-        return pade(self.precise, L, M, lam, method=method)
+    def pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None) -> Resummed:
+        """Padé sum at λ with its uncertainty (:func:`anharmony.series.pade_sum`).
 
-    def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None
-                   ) -> BorelPade:
-        """Borel–Padé sum at λ (see :func:`anharmony.series.resum.borel_pade`)."""
-        return borel_pade(self.precise, lam, L, M)
+        ``L``, ``M`` choose the top approximant (default near-diagonal); the value of one
+        single approximant is :meth:`pade_approximant` called at λ.
+        """
+        return pade_sum(self.precise, lam, L, M)
+
+    def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None, *,
+                   power: int | None = None) -> BorelPade:
+        """Borel(–Leroy)–Padé sum at λ with its uncertainty
+        (:func:`anharmony.series.borel_pade`)."""
+        return borel_pade(self.precise, lam, L, M, power=power)
 
     def optimal_truncation(self, lam: float = 1.0) -> OptimalTruncation:
         """Sum up to the smallest term at λ, with that term as the error estimate."""
