@@ -19,7 +19,7 @@ from .resum import PadeApproximant, Resummed, pade, pade_approximant, pade_sum
 from .rs_exact import rs_exact_1d, rs_exact_banded, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
 from .truncation import OptimalTruncation, optimal_truncation, partial_sums
-from .verdict import Verdict, lowest_order, verdict
+from .verdict import Verdict, lowest_order, partial_sum_verdict, verdict
 
 __all__ = [
     "BorelPade",
@@ -38,6 +38,7 @@ __all__ = [
     "pade",
     "pade_approximant",
     "pade_sum",
+    "partial_sum_verdict",
     "partial_sums",
     "rs_exact_1d",
     "rs_exact_banded",

@@ -19,7 +19,7 @@ from .borel import borel_pade
 from .resum import pade_sum
 from .truncation import partial_sums
 
-__all__ = ["Verdict", "lowest_order", "verdict"]
+__all__ = ["Verdict", "lowest_order", "partial_sum_verdict", "verdict"]
 
 COUPLING_MATCH_RTOL = 1e-12  # a requested coupling equals a grid value within this (relative)
 
@@ -202,3 +202,37 @@ def lowest_order(
     sums = partial_sums(values, float(coupling))
     hits = np.flatnonzero(np.abs(sums - float(energy)) <= tol)
     return int(hits[0]) if hits.size else None
+
+
+def partial_sum_verdict(differences: Sequence[float], allowed: float) -> str:
+    """One line on the partial sums S_0..S_K against the exact level, and what it rests on.
+
+    Parameters
+    ----------
+    differences
+        |S_k − E| for k = 0..K (NaN or inf where a sum is not finite).
+    allowed
+        The tolerance the level is held to.
+
+    Returns
+    -------
+    str
+        ``"order k within X (K orders)"`` for the lowest order within ``allowed``; else, from
+        where the best partial sum lies: at the last order (``"still improving at order K,
+        the last computed"`` — more orders may well do better, nothing says the series
+        fails), inside (``"asymptotic: best order k of K"`` — the terms turn round), or at
+        order 0 (``"poor: no order improves on E_0"``), each with how far off it is.
+    """
+    d = np.asarray(differences, dtype=float)
+    d = np.where(np.isfinite(d), d, np.inf)
+    big_k = d.size - 1
+    ok = np.flatnonzero(d <= allowed)
+    if ok.size:
+        return f"order {int(ok[0])} within {allowed:.1g} ({big_k} orders)"
+    best = int(np.argmin(d))
+    off = f"off by {d[best]:.2g}"
+    if best == big_k and big_k > 0:
+        return f"still improving at order {big_k}, the last computed: {off}; more orders needed"
+    if best > 0:
+        return f"asymptotic: best order {best} of {big_k}, {off}"
+    return f"poor: no order up to {big_k} improves on E_0, {off}"
