@@ -257,3 +257,40 @@ def test_borel_pade_leaves_out_an_approximant_with_a_pole_zero_pair_on_the_path(
     assert not bool(res.on_path) and bool(res.trusted)
     assert abs(float(res.value) - exact) <= float(res.uncertainty)
     assert float(res.value) == pytest.approx(exact, abs=ATOL_BOREL_PADE_DOUBLET)
+
+
+def test_series_signature_matches_solve():
+    # Project-wide pattern (the brief of the API issue): (well, dimension=3, l=0, j=None, *,
+    # ...) with solve's names and defaults where both have the parameter.
+    import inspect
+
+    sig = inspect.signature(series)
+    solve_sig = inspect.signature(ah.solve)
+    names = list(sig.parameters)
+    assert names[:4] == ["well", "dimension", "l", "j"]
+    assert all(sig.parameters[n].kind is inspect.Parameter.KEYWORD_ONLY for n in names[4:])
+    for name in set(names) & set(solve_sig.parameters):
+        assert sig.parameters[name].default == solve_sig.parameters[name].default, name
+
+
+def test_series_defaults_to_three_dimensions():
+    # 1s of the 3D oscillator with W = 0.01 r⁴: E_0 = 3/2, E_1 = 0.01·⟨r⁴⟩ = 0.01·15/4
+    # (Gaussian moments, as in test_nuclear_units_first_order_is_the_oscillator_moment).
+    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                               {"power": {"exponent": 4, "strength": 0.01}}])
+    ser = series(well, orders=2, reference=UNIT_REFERENCE)
+    assert ser.channel.dimension == 3
+    assert ser.coefficients[:2] == pytest.approx([1.5, 0.01 * 15 / 4], rel=RTOL_ROUNDING)
+    with pytest.raises(TypeError):
+        series(well, 3, 0, None, 0)  # level is keyword-only now
+
+
+def test_series_pade_and_borel_pade_return_values_with_uncertainties():
+    ser = series(quartic_well(0.1), dimension=1, l=0, orders=30, reference=UNIT_REFERENCE)
+    exact = ground_energy(quartic_well(0.1))
+    for res in (ser.pade(1.0), ser.borel_pade(1.0)):
+        assert bool(res.trusted)
+        assert abs(float(res.value) - exact) <= float(res.uncertainty)
+        assert float(res.error) == float(res.uncertainty)  # the older name
+    with pytest.raises(ValueError, match="M must be an integer"):
+        ser.pade(5, 5, 1.0)  # the old (L, M, λ) order fails loudly, not silently

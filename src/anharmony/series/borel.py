@@ -30,7 +30,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from anharmony.errors import NumericalError
+from anharmony.errors import InputError, NumericalError
 
 from ._family import combine
 from ._values import check_coefficients, to_mpf
@@ -357,12 +357,12 @@ def borel_pade(
     red, step = (list(coefficients), 1) if centre is not None else reduced_series(coefficients)
     order = len(red) - 1
     if centre is not None and sum(centre) > order:
-        raise ValueError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
+        raise InputError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
                          f"L + M = {sum(centre)}; got orders 0..{order}")
     if power is None:
         k = leroy_order(coefficients)
     elif isinstance(power, bool) or not isinstance(power, (int, np.integer)) or power < 1:
-        raise ValueError(f"power must be an integer >= 1; got {power!r}")
+        raise InputError(f"power must be an integer >= 1; got {power!r}")
     else:
         k = int(power)
     with mpmath.workdps(40 + 3 * order):

@@ -22,7 +22,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from anharmony.errors import NumericalError
+from anharmony.errors import InputError, NumericalError
 
 from ._values import as_float_array, check_coefficients, even_series, mpf_to_float, to_mpf
 
@@ -387,10 +387,10 @@ def _lm_checked(L: Any, M: Any) -> tuple[int, int] | None:
     if L is None and M is None:
         return None
     if L is None or M is None:
-        raise ValueError(f"give both L and M or neither; got L={L!r}, M={M!r}")
+        raise InputError(f"give both L and M or neither; got L={L!r}, M={M!r}")
     for name, v in (("L", L), ("M", M)):
         if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < 0:
-            raise ValueError(f"{name} must be an integer >= 0; got {v!r}")
+            raise InputError(f"{name} must be an integer >= 0; got {v!r}")
     return int(L), int(M)
 
 
@@ -431,7 +431,7 @@ def pade_sum(
     red, step = (list(coefficients), 1) if centre is not None else reduced_series(coefficients)
     order = len(red) - 1
     if centre is not None and sum(centre) > order:
-        raise ValueError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
+        raise InputError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
                          f"L + M = {sum(centre)}; got orders 0..{order}")
     lam_arr = np.asarray(lam, dtype=float)
     cache: dict[tuple[int, int], PadeApproximant | str] = {}
