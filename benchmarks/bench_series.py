@@ -120,7 +120,7 @@ def resummation_section() -> list[str]:
              "",
              "| W | method | value | U | err | U/err | trusted | CPU |",
              "|---|---|---|---|---|---|---|---|"]
-    for label, w, size in RESUM_CASES:
+    for _label, w, size in RESUM_CASES:
         exact = _diagonaliser(w, size)
         if len(w) == 1:
             (p, g), = w.items()

@@ -6,12 +6,12 @@ import warnings
 
 import numpy as np
 import pytest
-from refsolvers import line_richardson_levels
 from scipy.integrate import quad
 
 import anharmony as ah
 from anharmony.series import borel_pade, leroy_order, pade_sum, series
 from anharmony.series.rs_exact import rs_exact_1d
+from refsolvers import line_richardson_levels
 
 ORDERS = 80
 # Hioe & Montroll, J. Math. Phys. 16, 1945 (1975), ground state of p² + x² + λx⁴ (λ = 0.1 and
@@ -86,7 +86,7 @@ def test_diagonaliser_matches_independent_finite_differences(case):
 
 @pytest.mark.parametrize("method", ["borel_pade", "pade"])
 def test_resummed_interval_holds_the_diagonaliser_and_is_not_absurd(case, method):
-    name, _, _, exact, coeffs, lam = case
+    _, _, _, exact, coeffs, lam = case
     res = (borel_pade if method == "borel_pade" else pade_sum)(coeffs, lam)
     value, unc = float(res.value), float(res.uncertainty)
     if method == "borel_pade":

@@ -3,12 +3,11 @@
 import math
 
 import numpy as np
-import pytest
 from scipy.special import exp1, gammaln
 
 import anharmony as ah
 from anharmony.plots.series import large_order_curve
-from anharmony.series import large_order, partial_sum_verdict, series
+from anharmony.series import partial_sum_verdict, series
 
 
 def euler_terms(order: int) -> list[int]:
@@ -64,18 +63,6 @@ def test_no_radius_is_claimed_from_eight_orders_of_a_morse_series():
     lo = ser.large_order()
     assert not lo.supported and math.isnan(lo.radius)
     assert lo.orders == 8 and "0…8" in lo.note and "no radius" in lo.note
-
-
-def test_a_long_smooth_series_still_gets_its_radius():
-    # ½√(1 + 2λ): binomial series, radius ½ (closed form), 40 orders.
-    from fractions import Fraction
-
-    c, binom = [], Fraction(1)
-    for k in range(41):
-        c.append(binom * 2**k / 2)
-        binom = binom * (Fraction(1, 2) - k) / (k + 1)
-    lo = large_order(c)
-    assert lo.supported and lo.radius == pytest.approx(0.5, rel=1e-3)  # ratio fit, 2 corrections
 
 
 def test_fit_formula_uses_the_axis_variable_k():

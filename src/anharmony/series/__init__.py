@@ -12,9 +12,9 @@
 
 from __future__ import annotations
 
+from .borel import BorelPade, borel_pade, leroy_order
 from .front import Series, series
 from .growth import LargeOrder, large_order
-from .borel import BorelPade, borel_pade, leroy_order
 from .resum import PadeApproximant, Resummed, pade, pade_approximant, pade_sum
 from .rs_exact import rs_exact_1d, rs_exact_banded, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric

@@ -33,17 +33,15 @@ import numpy as np
 from anharmony.errors import InputError, NumericalError
 
 from ._family import combine
-from ._values import check_coefficients, to_mpf
+from ._values import to_mpf
 from .resum import (
     DOUBLET_RTOL,
     PATH_RTOL,
     PadeApproximant,
     Resummed,
-    _growth_scale,
-    _lm_checked,
     _polish,
+    _prepared,
     _reducing_pade,
-    reduced_series,
 )
 
 __all__ = ["BorelPade", "borel_pade", "leroy_order"]
@@ -323,13 +321,9 @@ def borel_pade(
 
     Parameters
     ----------
-    coefficients
-        c_0..c_K.
-    lam
-        Coupling(s) λ.
-    L, M
-        Degrees of the top Padé approximant of the transform; default the near-diagonal
-        L = K − ⌊K/2⌋, M = ⌊K/2⌋ (in z = λ² for K/2 orders when the odd orders vanish).
+    coefficients, lam, L, M
+        The series c_0..c_K, the coupling(s) and the top [L/M] of the transform's family, as
+        for :func:`~.resum.pade_sum`.
     power
         k of the Borel–Leroy transform; default :func:`leroy_order` of the coefficients
         (the measured factorial power of their growth).
@@ -352,13 +346,8 @@ def borel_pade(
     within 0.1 rad of the path s = λu^k (u ≤ 60) is left out, and where every one has a pole
     on the path the value is NaN (not Borel summable in that direction, or too few orders).
     """
-    check_coefficients(coefficients)
-    centre = _lm_checked(L, M)
-    red, step = (list(coefficients), 1) if centre is not None else reduced_series(coefficients)
+    centre, red, step = _prepared(coefficients, L, M)
     order = len(red) - 1
-    if centre is not None and sum(centre) > order:
-        raise InputError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
-                         f"L + M = {sum(centre)}; got orders 0..{order}")
     if power is None:
         k = leroy_order(coefficients)
     elif isinstance(power, bool) or not isinstance(power, (int, np.integer)) or power < 1:

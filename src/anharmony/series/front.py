@@ -24,8 +24,8 @@ from anharmony.spectrum import Reference, reference_oscillator, resolve_channel
 from anharmony.units import UnitSystem
 
 from ._values import to_mpf
-from .growth import LargeOrder, large_order
 from .borel import BorelPade, borel_pade
+from .growth import LargeOrder, large_order
 from .resum import PadeApproximant, Resummed, pade_approximant, pade_sum
 from .rs_exact import rs_exact_1d, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric

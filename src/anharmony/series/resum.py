@@ -394,6 +394,18 @@ def _lm_checked(L: Any, M: Any) -> tuple[int, int] | None:
     return int(L), int(M)
 
 
+def _prepared(coefficients: Sequence[Any], L: Any, M: Any
+              ) -> tuple[tuple[int, int] | None, list, int]:
+    """(top [L/M] or None, the coefficients the family uses, step) after the checks."""
+    check_coefficients(coefficients)
+    centre = _lm_checked(L, M)
+    red, step = (list(coefficients), 1) if centre is not None else reduced_series(coefficients)
+    if centre is not None and sum(centre) > len(red) - 1:
+        raise InputError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
+                         f"L + M = {sum(centre)}; got orders 0..{len(red) - 1}")
+    return centre, red, step
+
+
 def pade_sum(
     coefficients: Sequence[Any], lam: Any = 1.0, L: int | None = None, M: int | None = None
 ) -> Resummed:
@@ -426,13 +438,8 @@ def pade_sum(
     """
     from ._family import combine, near_point
 
-    check_coefficients(coefficients)
-    centre = _lm_checked(L, M)
-    red, step = (list(coefficients), 1) if centre is not None else reduced_series(coefficients)
+    centre, red, step = _prepared(coefficients, L, M)
     order = len(red) - 1
-    if centre is not None and sum(centre) > order:
-        raise InputError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
-                         f"L + M = {sum(centre)}; got orders 0..{order}")
     lam_arr = np.asarray(lam, dtype=float)
     cache: dict[tuple[int, int], PadeApproximant | str] = {}
 
