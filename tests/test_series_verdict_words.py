@@ -72,4 +72,4 @@ def test_fit_formula_uses_the_axis_variable_k():
     e = np.exp(k * math.log(3.0) + gammaln(k + 0.5)) * (-1.0) ** k
     _, _, formula = large_order_curve(k, e)
     assert "Γ(k+0.5" in formula and "1m" not in formula and "^m" not in formula
-    assert "from 20 orders" in formula
+    assert "(20 orders)" in formula

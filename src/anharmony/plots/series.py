@@ -97,7 +97,7 @@ def large_order_curve(k: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndar
             formula += f", radius {fit.radius:.3g}"
     if step > 1:
         formula += f", m = k/{step}"
-    formula += f"; from {fit.orders} orders" + ("" if fit.supported else ", not settled")
+    formula += f" ({fit.orders} orders" + (")" if fit.supported else ", not settled)")
     return m * step, y, formula
 
 
