@@ -24,12 +24,12 @@ from scipy.special import binom, eval_genlaguerre, gammaln
 
 os.environ.setdefault("MPLBACKEND", "Agg")
 
-xr = pytest.importorskip("xarray")
-matplotlib = pytest.importorskip("matplotlib")
+import matplotlib  # noqa: F401  # hard dependency: a broken install fails, not skips
+import xarray as xr
 
-from anharmony import plots  # noqa: E402
-from anharmony.plots import _style  # noqa: E402
-from anharmony.plots._common import level_label, pretty_units  # noqa: E402
+from anharmony import plots
+from anharmony.plots import _style
+from anharmony.plots._common import level_label, pretty_units
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"
@@ -174,8 +174,8 @@ def _run(name: str, **changes):
 
 
 def _need_demo(name: str) -> None:
-    if not (CASES / name).is_file():
-        pytest.skip(f"demo case {name} not present")
+    # the demo cases ship with the repository: a missing one is a failure, not a skip
+    assert (CASES / name).is_file(), f"demo case {name} missing from {CASES}"
 
 
 @pytest.fixture(scope="module")

@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import math
 import os
+import queue
 import shutil
 import signal
 import subprocess
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -307,18 +309,40 @@ def _start(paths, cwd, *extra):
                             stderr=subprocess.PIPE, stdout=subprocess.PIPE, text=True)
 
 
+WAIT_S = 120  # s: a hang guard, not a speed check; the whole batch takes ~5 s alone
+
+
 def _stop_after_first_file(proc, signum) -> str:
-    lines = []
-    deadline = time.monotonic() + 120
-    for line in proc.stderr:
-        lines.append(line)
-        if line.startswith("wrote "):
-            proc.send_signal(signum)
-            break
-        assert time.monotonic() < deadline, "no result written in time"
-    rest = proc.stderr.read()
-    proc.wait(timeout=60)
-    return "".join(lines) + rest
+    # stderr is read by a thread, so that a child that hangs without printing cannot block
+    # the test: the queue read times out, the child is killed and the test fails.
+    lines: queue.Queue[str | None] = queue.Queue()
+
+    def pump():
+        for line in proc.stderr:
+            lines.put(line)
+        lines.put(None)
+
+    reader = threading.Thread(target=pump, daemon=True)
+    reader.start()
+    seen, sent = [], False
+    deadline = time.monotonic() + WAIT_S
+    try:
+        while True:
+            line = lines.get(timeout=max(0.0, deadline - time.monotonic()))
+            if line is None:
+                break
+            seen.append(line)
+            if line.startswith("wrote ") and not sent:
+                proc.send_signal(signum)
+                sent = True
+                deadline = time.monotonic() + WAIT_S  # now wait for the clean stop
+        proc.wait(timeout=WAIT_S)
+    except (queue.Empty, subprocess.TimeoutExpired):
+        proc.kill()
+        proc.wait()
+        pytest.fail(f"the batch hung (no output for {WAIT_S} s):\n" + "".join(seen))
+    reader.join(timeout=WAIT_S)
+    return "".join(seen)
 
 
 @pytest.mark.parametrize(("signum", "code", "jobs"), [(signal.SIGINT, 130, "1"),
@@ -337,7 +361,12 @@ def test_interrupted_batch_leaves_whole_files_and_resume_finishes(tmp_path, sign
         assert read_dataset(p).sizes["scan"] in (2, 20)
     assert list(tmp_path.glob("*" + TEMP_SUFFIX)) == [] and list(tmp_path.glob(".*")) == []
     proc = _start(paths, tmp_path, "--resume")
-    _, err = proc.communicate(timeout=120)
+    try:
+        _, err = proc.communicate(timeout=WAIT_S)
+    except subprocess.TimeoutExpired:
+        proc.kill()
+        proc.communicate()
+        pytest.fail(f"the resumed batch hung for {WAIT_S} s")
     assert proc.returncode == 0, err
     assert err.count("up to date:") == len(done)
     assert len(list(tmp_path.glob("*.nc"))) == 5
