@@ -101,7 +101,7 @@ def test_quartic_ground_state_converges_exponentially_in_n():
     err = e - QUARTIC_E0
     assert np.all(np.diff(e) <= ATOL_ROUND)  # nested bases: never rising
     assert np.all(err > -ATOL_ROUND)  # Ritz values are upper bounds
-    use = err > 1e-13
+    use = err > ATOL_ROUND  # below that the error is rounding, not basis truncation
     slope, icpt = np.polyfit(n[use], np.log(err[use]), 1)
     z = np.log(err[use])
     r2 = 1.0 - np.sum((z - (slope * n[use] + icpt)) ** 2) / np.sum((z - z.mean()) ** 2)
@@ -158,7 +158,7 @@ def test_level_that_cannot_converge_within_the_limit_is_flagged():
         r = converge(well, 3, 0, levels=3, units="nuclear", tolerance=1e-6, max_size=28)
     assert "size limit 28" in r.stopped and r.size == 28
     assert r.converged[:2].all() and not r.converged[2]
-    assert r.error_estimate[2] > 1e-6
+    assert r.error_estimate[2] > 1e-6  # the tolerance asked for above: missed
     assert len(r.messages) == 1 and "3s" in r.messages[0]
 
 
@@ -192,6 +192,7 @@ def test_report_holds_the_scan_and_the_optimal_lengths(ws_report):
     assert all(m in models | {"kato_temple", "difference"} for m in r.method)
     assert any("upper bound" in n for n in r.notes)
     e = r.error_of(r.energies + 1e-3)
+    # atol 1e-14: adding 1e-3 to levels of up to ~50 MeV rounds by one ulp (7e-15)
     np.testing.assert_allclose(e, r.error_estimate + 1e-3, rtol=0, atol=1e-14)
 
 
@@ -274,14 +275,14 @@ def test_case_block_drives_a_run():
     s = ConvergenceSettings.from_mapping({"sizes": [10, 20, 40, 80], "tolerance": 1e-9})
     r = converge(W(QUARTIC), 1, 0, levels=2, warn=False, **s.keywords())
     assert r.converged.all() and r.size in (20, 40, 80)
-    assert abs(r.energies[0] - QUARTIC_E0) < 1e-9
+    assert abs(r.energies[0] - QUARTIC_E0) < 1e-9  # the block's tolerance: what the flag promises
 
 
 def test_without_growth_a_tolerance_only_sets_the_flags():
     r = converge(W(QUARTIC), 1, 0, levels=2, sizes=[6, 8, 10, 12], tolerance=1e-9, grow=False,
                  warn=False)
     assert not r.tolerance_driven and r.size == 12 and "fixed sizes" in r.stopped
-    np.testing.assert_array_equal(r.converged, r.error_estimate < 1e-9)
+    np.testing.assert_array_equal(r.converged, r.error_estimate < 1e-9)  # the run's tolerance
     with pytest.raises(ValueError, match="grow: growing the basis needs a tolerance"):
         converge(W(QUARTIC), 1, 0, grow=True)
 
@@ -289,6 +290,7 @@ def test_without_growth_a_tolerance_only_sets_the_flags():
 def test_scan_accepts_frequencies_in_place_of_lengths():
     # b = sqrt(ħ/(mω)) = 1/sqrt(ħω) with ħ = m = 1 (definition of the oscillator length).
     scan = scan_basis(W(QUARTIC), 1, None, sizes=[6, 8, 10], frequencies=[1.0, 4.0], levels=1)
+    # rtol 1e-14: one square root and one division, a few ulp
     np.testing.assert_allclose(scan.lengths, [0.5, 1.0], rtol=1e-14)
     np.testing.assert_allclose(scan.frequencies, [4.0, 1.0], rtol=1e-14)
 

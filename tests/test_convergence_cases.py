@@ -187,9 +187,11 @@ def test_cross_check_difference_is_below_a_bound_against_the_morse_levels(tmp_pa
     np.testing.assert_allclose(xc, exact, rtol=0, atol=ATOL_XCHECK)
     assert (ds.cross_check_uncertainty.values[0, 0] < ATOL_XCHECK).all()
     diff = ds.cross_check_difference.values[0, 0]
+    # exact: the file stores this very difference
     np.testing.assert_allclose(diff, ds.energy.values[0, 0] - xc, rtol=0, atol=0)
     # the difference is the basis error, so it lies within the level's error estimate
     assert (np.abs(diff) <= ds.error_estimate.values[0, 0] + ATOL_XCHECK).all()
+    # each level is within the run's own (largest) error estimate of the exact one
     np.testing.assert_allclose(ds.energy.values[0, 0], exact,
                                atol=float(ds.error_estimate.values[0, 0].max()))
 
@@ -235,11 +237,11 @@ def test_study_of_a_coupling_scan_follows_lambda(tmp_path):
                                rtol=RTOL_SAME_H)
     exact = morse_exact(np.arange(4))
     err = ds.error_estimate.values[2, 0]
-    assert (np.abs(ds.energy.values[2, 0] - exact) <= err + 1e-12).all()  # + rounding
+    assert (np.abs(ds.energy.values[2, 0] - exact) <= err + 1e-12).all()  # + rounding, O(1)
     ext, unc = ds.extrapolated_energy.values[2, 0], ds.extrapolation_uncertainty.values[2, 0]
     ok = np.isfinite(ext)
     assert ok.any()
-    assert (np.abs(ext[ok] - exact[ok]) <= unc[ok] + 1e-12).all()
+    assert (np.abs(ext[ok] - exact[ok]) <= unc[ok] + 1e-12).all()  # + rounding of O(1) levels
     quick = dict(data)
     del quick["convergence"]  # the same λ-scan on the linear path (A + λB built once)
     plain = run_case(case_from_dict(quick, folder=tmp_path))

@@ -103,6 +103,7 @@ def test_quartic_demo_at_zero_strength_is_the_3d_oscillator(demo_results):
         # 3D isotropic oscillator: E = 2n + l + 3/2 in units of ħω (any QM textbook)
         exact = 2 * np.arange(ds.sizes["level"]) + l + 1.5
         np.testing.assert_allclose(ds.energy.values[c], exact, rtol=RTOL_EXACT)
+        # the shift is zero: atol = RTOL_EXACT × levels of order 10
         np.testing.assert_allclose(ds["shift"].values[c], 0.0, atol=RTOL_EXACT * 10)
 
 
@@ -111,6 +112,7 @@ def test_quartic_series_starts_with_first_order_perturbation(demo_results):
     g = ds.scan_value.values
     # E_1 = g <n l|r^4|n l> for the 3D oscillator ground state: <r^4> = 15/4 b^4
     # (Gaussian moment, b = 1): the λ-series coefficient of order 1 in the s channel.
+    # atol 1e-15 for the g = 0 point, where the coefficient is zero
     np.testing.assert_allclose(ds.series_coefficient.values[:, 0, 0, 1], 3.75 * g,
                                rtol=RTOL_EXACT, atol=1e-15)
 
@@ -137,6 +139,8 @@ def test_morse_demo_matches_the_exact_morse_levels(demo_results):
     np.testing.assert_allclose(full.energy.values[0, :4], exact, rtol=0, atol=ATOL_MORSE)
     # at λ = 0 the Hamiltonian is the reference oscillator itself (harmonic at the minimum)
     start = ds.sel(scan=0)
+    # rtol 1e-9: ħω from the case's constants via scipy.constants vs the package's own
+    # CODATA products, and V'' at the Newton-polished minimum (~1e-10)
     np.testing.assert_allclose(start.energy.values[0, :4], hw * n, rtol=1e-9)
     assert abs(float(ds.frequency[0]) - hw) < 1e-9 * hw
 
@@ -152,6 +156,7 @@ def test_morse_demo_error_estimates_cover_the_exact_errors(demo_results):
     full = ds.isel(scan=-1)
     err = full.error_estimate.values[0]
     assert (np.abs(full.energy.values[0] - exact) <= err + ATOL_ROUND_CM).all()
+    # the flags follow the demo's tolerance, 1e-4 cm^-1
     np.testing.assert_array_equal(full.converged.values[0], (err < 1e-4).astype(np.int8))
     ext, unc = full.extrapolated_energy.values[0], full.extrapolation_uncertainty.values[0]
     ok = np.isfinite(ext)
@@ -224,11 +229,12 @@ def test_error_estimate_is_the_change_from_a_smaller_basis(tmp_path):
     b = float(ds.length.values[-1])  # one basis length per scan point, shared by the channels
     big = ah.solve(well, 3, 1, size=n, length=b, levels=3)
     small = ah.solve(well, 3, 1, size=m, length=b, levels=3)
-    # two eigenvalues of size ~5 differ by rounding (~1e-14) when the true change is smaller
+    # two eigenvalues of size ~5 differ by rounding (~1e-14) when the true change is smaller;
+    # rtol 1e-6: a difference of ~1e-8 of nearly equal levels keeps ~6 digits
     np.testing.assert_allclose(ds.error_estimate.values[-1, 1],
                                np.abs(big.energies - small.energies), rtol=1e-6, atol=1e-13)
     np.testing.assert_allclose(ds.energy.values[-1, 1], big.energies, rtol=RTOL_SAME)
-    assert (ds.converged.values == (ds.error_estimate.values < 1e-6)).all()
+    assert (ds.converged.values == (ds.error_estimate.values < 1e-6)).all()  # default tolerance
 
 
 def test_run_case_writes_nothing(tmp_path):
@@ -246,6 +252,7 @@ def test_nonlinear_scan_rebuilds_per_point(tmp_path):
     assert all(job.kind == "points" for job in plan_case(case))
     ds = run_case(case)
     # the harmonic part sets the reference: ħω follows the scanned frequency
+    # rtol 1e-12: ħω from V'' at the minimum, found to rounding
     np.testing.assert_allclose(ds.reference_frequency.values, [1.0, 2.0], rtol=1e-12)
 
 
@@ -399,7 +406,7 @@ def test_scans_of_settings_match_the_oscillator_formula(tmp_path, parameter, val
     exact = np.sqrt(1.0 / mass)[:, None] * (np.arange(3) + 0.5)
     # a basis length far from the well's own converges more slowly (N = 30): 1e-9 is ample
     np.testing.assert_allclose(ds.energy.values[:, 0, :], exact, rtol=1e-9)
-    if parameter == "reference.frequency":
+    if parameter == "reference.frequency":  # rtol 1e-14: b = 1/√(ħω) and back, a few ulp
         np.testing.assert_allclose(ds.frequency.values, values, rtol=1e-14)
     if parameter == "basis.length":
         np.testing.assert_allclose(ds.length.values, values, rtol=1e-14)
