@@ -274,7 +274,7 @@ def test_make_figure_uses_no_pyplot_state(synthetic):
 def test_importing_anharmony_plots_does_not_import_matplotlib():
     code = ("import sys, anharmony, anharmony.plots; "
             "assert 'matplotlib' not in sys.modules, 'matplotlib imported'")
-    subprocess.run([sys.executable, "-c", code], check=True, cwd=ROOT)
+    subprocess.run([sys.executable, "-c", code], check=True, cwd=ROOT, timeout=120)  # hang guard
 
 
 # =========================================================================== plotted data

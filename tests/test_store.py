@@ -211,10 +211,10 @@ def test_import_anharmony_leaves_io_libraries_out():
             "bad = [m for m in ('xarray', 'matplotlib', 'netCDF4', 'distributed', 'dask') "
             "if m in sys.modules]; print(bad)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                         check=True).stdout.strip()
+                         check=True, timeout=120).stdout.strip()  # a hang fails
     assert out == "[]"
     out = subprocess.run([sys.executable, "-c", "import sys, anharmony; print("
                           "[m for m in ('xarray', 'yaml', 'matplotlib', 'pydantic') "
                           "if m in sys.modules])"], capture_output=True, text=True,
-                         check=True).stdout.strip()
+                         check=True, timeout=120).stdout.strip()
     assert out == "[]"
