@@ -77,6 +77,7 @@ def _write(folder: Path, convergence: str, name: str = "ws") -> Path:
 
 
 # --------------------------------------------------------------------------- growth
+@pytest.mark.slow  # grows three channels and shoots six references: ~3 s alone
 def test_tolerance_driven_case_stops_growing_once_converged_and_records_the_size(tmp_path,
                                                                                 capsys):
     path = _write(tmp_path, f"{{tolerance: {TOL_GROW:.1e}, max_size: 80}}")

@@ -159,7 +159,6 @@ def _quartic_level_mp(lam: str, n: int, size: int = 40, scale: str = "0.75",
         return e
 
 
-@pytest.mark.slow
 @pytest.mark.parametrize(("lam", "n", "digits"), HIOE_MONTROLL_DIGITS)
 def test_quoted_quartic_digits_match_a_30_digit_diagonalisation(lam, n, digits):
     # Independent check of the quoted strings above. Convergence in the basis: 30 and 40

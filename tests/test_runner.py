@@ -86,6 +86,7 @@ def demo_results(tmp_path_factory):
     return {c.output.name: read_dataset(p) for c, p in report.written}
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_every_demo_case_runs_and_has_every_core_name(demo_results):
     expected = {c.output.name for c in load_cases(DEMOS)}
     assert set(demo_results) == expected
@@ -96,6 +97,7 @@ def test_every_demo_case_runs_and_has_every_core_name(demo_results):
         assert ds.attrs["case"], name
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_quartic_demo_at_zero_strength_is_the_3d_oscillator(demo_results):
     ds = demo_results["quartic-3d.nc"].isel(scan=0)
     assert float(ds.scan_value) == 0.0
@@ -107,6 +109,7 @@ def test_quartic_demo_at_zero_strength_is_the_3d_oscillator(demo_results):
         np.testing.assert_allclose(ds["shift"].values[c], 0.0, atol=RTOL_EXACT * 10)
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_quartic_series_starts_with_first_order_perturbation(demo_results):
     ds = demo_results["quartic-3d.nc"]
     g = ds.scan_value.values
@@ -129,6 +132,7 @@ def _morse_demo_constants() -> tuple[float, float]:
     return hw, depth
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_morse_demo_matches_the_exact_morse_levels(demo_results):
     ds = demo_results["diatomic-morse.nc"]
     hw, depth = _morse_demo_constants()
@@ -148,6 +152,7 @@ def test_morse_demo_matches_the_exact_morse_levels(demo_results):
 ATOL_ROUND_CM = 1e-10  # cm^-1: levels ~1e4 cm^-1 to eps (2e-12) and CODATA products (~1e-11)
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_morse_demo_error_estimates_cover_the_exact_errors(demo_results):
     ds = demo_results["diatomic-morse.nc"]
     hw, depth = _morse_demo_constants()  # Morse (1929), for all eight levels of the demo
@@ -164,6 +169,7 @@ def test_morse_demo_error_estimates_cover_the_exact_errors(demo_results):
     assert (np.abs(ext[ok] - exact[ok]) <= unc[ok] + ATOL_ROUND_CM).all()
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_quartic_demo_holds_a_size_scan_for_the_convergence_figure(demo_results):
     ds = demo_results["quartic-3d.nc"]
     assert list(ds.basis_size.values) == [10, 14, 20, 28, 40]
@@ -177,6 +183,7 @@ def test_quartic_demo_holds_a_size_scan_for_the_convergence_figure(demo_results)
                                    np.repeat(exact[:, None], 5, axis=1), rtol=RTOL_EXACT)
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_neutron_demo_grows_within_its_limit_and_names_what_is_not_converged(demo_results):
     from anharmony.hamiltonian import level_label
 
@@ -192,6 +199,7 @@ def test_neutron_demo_grows_within_its_limit_and_names_what_is_not_converged(dem
                     assert label in text, (name, label)
 
 
+@pytest.mark.slow  # shares the demo run (~9 s alone)
 def test_linear_scan_equals_a_solve_at_every_point(demo_results):
     ds = demo_results["proton-coulomb.nc"]
     case = load_cases([ROOT / "cases" / "proton-coulomb.yaml"])[0]
@@ -352,6 +360,7 @@ def _stop_after_first_file(proc, signum) -> str:
     return "".join(seen)
 
 
+@pytest.mark.slow  # two real batches of five cases each: 4–5 s per case alone
 @pytest.mark.parametrize(("signum", "code", "jobs"), [(signal.SIGINT, 130, "1"),
                                                       (signal.SIGTERM, 143, "2")])
 def test_interrupted_batch_leaves_whole_files_and_resume_finishes(tmp_path, signum, code, jobs):
