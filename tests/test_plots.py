@@ -444,6 +444,7 @@ def test_well_draws_the_exact_oscillator_and_its_densities(synthetic):
     assert_same(pot[:, 1], 0.5 * omega**2 * pot[:, 0] ** 2, rtol=1e-12)
     eff = got["effective_potential"]
     r = eff[1:, 0]
+    # V + l(l+1)/2r², recomputed: rtol 1e-12 for rounding of a few products
     assert_same(eff[1:, 1], 0.5 * omega**2 * r**2 + l * (l + 1) / (2 * r**2), rtol=1e-12)
     ratios = []
     for n in range(LEVELS):
