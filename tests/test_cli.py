@@ -153,7 +153,7 @@ def test_a_real_process_exits_2_without_traceback(tmp_path):
     path = tmp_path / "case.yaml"
     path.write_text(BASE.replace("strength: 0.1", "strength: O.1"))
     proc = subprocess.run([sys.executable, "-m", "anharmony.cli", "run", str(path)],
-                          capture_output=True, text=True)
+                          capture_output=True, text=True, timeout=120)  # a hang fails
     assert proc.returncode == 2
     assert proc.stderr.strip() == (f"{path}:8:36: well[1].strength: must be a number; "
                                    "got 'O.1'")
@@ -269,21 +269,17 @@ def test_show_rejects_files_that_are_not_results(tmp_path, capsys):
     assert code == 2 and str(bad) in err and len(err.strip().splitlines()) == 1
 
 
-def test_plot_hook_fails_cleanly_or_draws(tmp_path, capsys):
+def test_plot_hook_draws_and_refuses_a_bad_format(tmp_path, capsys):
     (tmp_path / "case.yaml").write_text(BASE)
     assert _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))[0] == 0
     code, _, err = _run(capsys, "plot", str(tmp_path / "base.nc"), "--kind", "shift", "-o",
                         str(tmp_path / "f.png"))
-    try:
-        import anharmony.plots  # noqa: F401
-    except ImportError:
-        assert code == 1 and err.startswith("plot:") and "Traceback" not in err
-    else:
-        assert code == 0, err
-        assert (tmp_path / "f.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG magic
-        code, _, err = _run(capsys, "plot", str(tmp_path / "base.nc"), "--kind", "shift",
-                            "-o", str(tmp_path / "f.bmp"))
-        assert code == 2 and err.startswith("plot:") and len(err.strip().splitlines()) == 1
+    # matplotlib is a hard dependency: the figure must be drawn (no branch for a missing one)
+    assert code == 0, err
+    assert (tmp_path / "f.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG magic
+    code, _, err = _run(capsys, "plot", str(tmp_path / "base.nc"), "--kind", "shift",
+                        "-o", str(tmp_path / "f.bmp"))
+    assert code == 2 and err.startswith("plot:") and len(err.strip().splitlines()) == 1
 
 
 def test_no_command_prints_help_and_exits_2(capsys):
