@@ -301,7 +301,7 @@ def resolve_lengths(problem: Problem, lengths: Any, frequencies: Any) -> tuple[f
     """Explicit lengths (from ``lengths`` or ``frequencies``), or None for ``"auto"``."""
     if frequencies is not None:
         if not (lengths is None or (isinstance(lengths, str) and lengths == "auto")):
-            raise InputError("lengths: give lengths or frequencies, not both")
+            raise InputError("frequencies: give lengths or frequencies, not both")
         hw = positives("frequencies", frequencies, what="hbar*omega values", noun="frequencies")
         return tuple(sorted(math.sqrt(2.0 * problem.hbar2_2m / w) for w in hw))
     if lengths is None or (isinstance(lengths, str) and lengths == "auto"):
