@@ -2,6 +2,7 @@
 
 import inspect
 import math
+import re
 
 import pytest
 
@@ -121,6 +122,17 @@ def test_convergence_functions_follow_the_signature_of_solve(func):
     for name in SHARED:
         if name in params:
             assert params[name].default == solve[name].default, name
+
+
+@pytest.mark.parametrize("func", [converge, cross_check, scan_basis, residual_bounds])
+def test_docstring_documents_every_argument_in_order(func):
+    # numpydoc "Parameters" section: one "name : type" entry per argument, in signature order
+    # (numpydoc format guide, doc/format.rst); common practice, no source
+    doc = inspect.getdoc(func)
+    section = doc.split("Parameters\n----------\n", 1)[1].split("\n\n", 1)[0]
+    documented = re.findall(r"^(\w+) : \S", section, flags=re.MULTILINE)
+    assert documented == list(inspect.signature(func).parameters)
+    assert "[" + "channel parameters]" not in doc
 
 
 @pytest.mark.parametrize(("terms", "fragment"), [

@@ -9,8 +9,10 @@ arguments the way :func:`anharmony.solve` does and returns a frozen :class:`Prob
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import re
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from typing import Any, TypeVar
 
 import numpy as np
 
@@ -28,7 +30,29 @@ from ..terms import Term
 from ..units import UnitSystem
 from ..well import Well
 
-__all__ = ["Problem", "make_problem"]
+F = TypeVar("F", bound=Callable[..., Any])
+
+__all__ = ["Problem", "make_problem", "shared_docs"]
+
+# Parameter entries every convergence front end shares with :func:`anharmony.solve` (numpydoc),
+# put into a docstring where a line holds only the marker ``[name]``
+SHARED_DOCS = {
+    "channel parameters": """\
+well : Well
+    The well (:meth:`anharmony.Well.from_terms`).
+dimension : {1, 2, 3}
+    Dimension of the space.
+l : int or None
+    Angular quantum number; in 1D ``None`` is the line without symmetry, 0/1 the even/odd
+    parity of a symmetric well.
+j : float, str or None
+    Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.""",
+    "units and mass": """\
+units : str or UnitSystem
+    Unit system of DESIGN §5.
+mass : float or None
+    Particle mass in the system's mass unit (default per system).""",
+}
 
 
 @dataclass(frozen=True)
@@ -106,6 +130,17 @@ class Problem:
     def breaks(self) -> tuple[float, ...]:
         """Coordinates where a term has a kink (Coulomb sphere radius, power-law centre)."""
         return tuple(sorted({x for t in self.rest for x in t.breaks(self.radial)}))
+
+
+def shared_docs(func: F) -> F:
+    """Put the :data:`SHARED_DOCS` entries into ``func``'s docstring at their markers."""
+    def put(match: re.Match[str]) -> str:
+        indent, key = match.group(1), match.group(2)
+        return "\n".join(indent + line for line in SHARED_DOCS[key].splitlines())
+
+    if func.__doc__:
+        func.__doc__ = re.sub(r"^( *)\[(.+?)\]$", put, func.__doc__, flags=re.MULTILINE)
+    return func
 
 
 def make_problem(well: Well, dimension: int, l: int | None, j: float | str | None,

@@ -42,7 +42,7 @@ from ..errors import InputError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 
 __all__ = ["SIGMA_RTOL", "ResidualBounds", "residual_bounds"]
 
@@ -174,6 +174,7 @@ def _variance(problem: Problem, size: int, length: float, e: np.ndarray, v: np.n
     return s2, False
 
 
+@shared_docs
 def residual_bounds(well: Well, dimension: int = 3, l: int | None = 0,
                     j: float | str | None = None, *, size: int = 60,
                     length: float | Literal["auto"] = "auto",
@@ -184,23 +185,12 @@ def residual_bounds(well: Well, dimension: int = 3, l: int | None = 0,
 
     Parameters
     ----------
-    well : Well
-        The well (:meth:`anharmony.Well.from_terms`).
-    dimension : {1, 2, 3}
-        Dimension of the space.
-    l : int or None
-        Angular quantum number; in 1D ``None`` is the line without symmetry, 0/1 the even/odd
-        parity of a symmetric well.
-    j : float, str or None
-        Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.
+    [channel parameters]
     size : int
         Number of basis states N.
     length : float or "auto"
         Oscillator length b of the basis, or ``"auto"`` for the reference oscillator's.
-    units : str or UnitSystem
-        Unit system of DESIGN §5.
-    mass : float or None
-        Particle mass in the system's mass unit (default per system).
+    [units and mass]
     levels : int
         Number of levels, counted from the lowest of the channel (at most ``size``).
     reference : "auto" or mapping

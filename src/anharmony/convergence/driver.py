@@ -45,7 +45,7 @@ from ..hamiltonian import Channel
 from ..spectrum import Reference
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 from .bounds import (
     KT_ASSUMPTION,
     UPPER_BOUND_NOTE,
@@ -656,6 +656,7 @@ def _ladder(sizes: tuple[int, ...] | None, max_size: int | None, tolerance: floa
     return sizes + more, max_size
 
 
+@shared_docs
 def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str | None = None,
              *, sizes: Sequence[int] | None = None,
              lengths: Sequence[float] | Literal["auto"] | None = "auto",
@@ -670,15 +671,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
 
     Parameters
     ----------
-    well : Well
-        The well (:meth:`anharmony.Well.from_terms`).
-    dimension : {1, 2, 3}
-        Dimension of the space.
-    l : int or None
-        Angular quantum number; in 1D ``None`` is the line without symmetry, 0/1 the even/odd
-        parity of a symmetric well.
-    j : float, str or None
-        Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.
+    [channel parameters]
     sizes : sequence of int, optional
         Basis sizes. Default: 10, 14, 20, 28, … (ratio √2) up to 80, or up to ``max_size``
         with a tolerance.
@@ -689,10 +682,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
         list of lengths (a fixed grid).
     frequencies : sequence of float, optional
         ħω values instead of ``lengths``.
-    units : str or UnitSystem
-        Unit system of DESIGN §5.
-    mass : float or None
-        Particle mass in the system's mass unit (default per system).
+    [units and mass]
     levels : int
         Number of levels, from the lowest of the channel.
     reference : "auto" or mapping

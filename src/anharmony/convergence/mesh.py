@@ -39,7 +39,7 @@ from ..errors import InputError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 
 __all__ = ["DECAY", "GROWTH", "CrossCheck", "cross_check", "laguerre_kinetic"]
 
@@ -291,6 +291,7 @@ def run_cross_check(problem: Problem, levels: int, energies: np.ndarray | None =
                       note=note)
 
 
+@shared_docs
 def cross_check(well: Well, dimension: int = 3, l: int | None = 0, j: float | str | None = None,
                 *, units: str | UnitSystem = "oscillator", mass: float | None = None,
                 levels: int = 5, reference: str | Mapping[str, float] = "auto",
@@ -300,19 +301,8 @@ def cross_check(well: Well, dimension: int = 3, l: int | None = 0, j: float | st
 
     Parameters
     ----------
-    well : Well
-        The well (:meth:`anharmony.Well.from_terms`).
-    dimension : {1, 2, 3}
-        Dimension of the space.
-    l : int or None
-        Angular quantum number; in 1D ``None`` is the line without symmetry, 0/1 the even/odd
-        parity of a symmetric well.
-    j : float, str or None
-        Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.
-    units : str or UnitSystem
-        Unit system of DESIGN §5.
-    mass : float or None
-        Particle mass in the system's mass unit (default per system).
+    [channel parameters]
+    [units and mass]
     levels : int
         Number of levels, from the lowest of the channel.
     reference : "auto" or mapping

@@ -34,7 +34,7 @@ from ..errors import InputError, NumericalError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 
 __all__ = [
     "BasisScan",
@@ -355,6 +355,7 @@ def merge_scans(a: BasisScan, b: BasisScan) -> BasisScan:
 
 
 # --------------------------------------------------------------------------- front end
+@shared_docs
 def scan_basis(well: Well, dimension: int = 3, l: int | None = 0, j: float | str | None = None,
                *, sizes: Sequence[int] = (10, 14, 20, 28, 40),
                lengths: Sequence[float] | Literal["auto"] | None = "auto",
@@ -365,15 +366,7 @@ def scan_basis(well: Well, dimension: int = 3, l: int | None = 0, j: float | str
 
     Parameters
     ----------
-    well : Well
-        The well (:meth:`anharmony.Well.from_terms`).
-    dimension : {1, 2, 3}
-        Dimension of the space.
-    l : int or None
-        Angular quantum number; in 1D ``None`` is the line without symmetry, 0/1 the even/odd
-        parity of a symmetric well.
-    j : float, str or None
-        Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.
+    [channel parameters]
     sizes : sequence of int
         Basis sizes N (distinct, each ≥ 1).
     lengths : sequence of float, "auto" or None
@@ -382,10 +375,7 @@ def scan_basis(well: Well, dimension: int = 3, l: int | None = 0, j: float | str
         each bound level's minimum at the largest size lies inside it.
     frequencies : sequence of float, optional
         ħω values instead of ``lengths``.
-    units : str or UnitSystem
-        Unit system of DESIGN §5.
-    mass : float or None
-        Particle mass in the system's mass unit (default per system).
+    [units and mass]
     levels : int
         Levels per basis, counted from the lowest of the channel.
     reference : "auto" or mapping
