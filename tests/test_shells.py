@@ -87,8 +87,8 @@ def test_woods_saxon_with_spin_orbit_gives_the_magic_numbers(magic, a, depth, vl
     # between the neighbouring magic numbers.
     w = nucleus(a, depth, vls)
     ref = {"frequency": 41.0 * a ** (-1.0 / 3.0)}
-    spectra = [ah.solve(w, dimension=3, l=l, j=j, units="nuclear", size=30, levels=4, tolerance=SHELL_TOL,
-                        reference=ref)
+    spectra = [ah.solve(w, dimension=3, l=l, j=j, units="nuclear", size=30, levels=4,
+                        tolerance=SHELL_TOL, reference=ref)
                for l in range(8) for j in ([l + 0.5, l - 0.5] if l else [0.5])]
     gaps = dict(fill_shells(spectra, particles=0).closures)
     for n in magic:
@@ -101,8 +101,8 @@ def test_woods_saxon_with_spin_orbit_gives_the_magic_numbers(magic, a, depth, vl
 def test_fill_shells_reports_rms_radius_of_occupied_orbitals():
     # Consistency with the per-level radii: √(Σ occ ⟨r²⟩ / N).
     w = nucleus(16, 51.5, 22.0)
-    spectra = [ah.solve(w, dimension=3, l=l, j=j, units="nuclear", size=30, levels=3, tolerance=SHELL_TOL,
-                        reference={"frequency": 16.3})
+    spectra = [ah.solve(w, dimension=3, l=l, j=j, units="nuclear", size=30, levels=3,
+                        tolerance=SHELL_TOL, reference={"frequency": 16.3})
                for l, j in [(0, 0.5), (1, 1.5), (1, 0.5), (2, 2.5)]]
     res = fill_shells(spectra, particles=8)
     occ = np.array([lv.occupancy for lv in res.levels])
