@@ -247,19 +247,9 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
 
 # --------------------------------------------------------------------------- check
-def _fmt(x: float) -> str:
-    return f"{x:.6g}"
-
-
-def _term_text(spec: dict) -> str:
-    (name, params), = spec.items()
-    inner = ", ".join(f"{k}: {v}" for k, v in (params or {}).items())
-    return f"{name}{{{inner}}}"
-
-
 def _cmd_check(args: argparse.Namespace) -> int:
     from .cases import CaseError, load_cases
-    from .runner import _linear_ok, _reference_at, output_path
+    from .runner import describe
 
     try:
         cases = load_cases(args.cases)
@@ -267,74 +257,13 @@ def _cmd_check(args: argparse.Namespace) -> int:
         return _problems(exc)
     status = EXIT_OK
     for case in cases:
-        m = case.model
-        u = case.units
-        chans = case.channels()
-        values = case.scan_values()
-        mass = case.mass if case.mass is not None else u.default_mass
-        print(f"{case.name}: {m.title or '(no title)'}")
-        print(f"  units      {u.name} (energy {u.energy_text}, length {u.length_text}); mass "
-              f"{mass:g} {u.mass_text}"
-              + ("" if case.mass is not None else f" ({u.default_mass_note})"))
-        print(f"  well       {' + '.join(_term_text(t) for t in m.well)}")
-        if not args.no_reference:
-            try:
-                ref = _reference_at(case, values[0])
-            except (ValueError, ArithmeticError) as exc:
-                print(f"  reference  cannot be resolved: {exc}")
-                _err(f"{case.name}: reference: {exc}")
-                status = EXIT_BAD_INPUT
-            else:
-                where = "" if len(values) == 1 else f" at {case.scan_parameter} = {values[0]:g}"
-                print(f"  reference  hbar*omega = {_fmt(ref.frequency)} {u.energy_text}, b = "
-                      f"{_fmt(ref.length)} {u.length_text}, centre {_fmt(ref.center)}, "
-                      f"V_min = {_fmt(ref.v_min)}{where}")
-                print(f"             {ref.method}: {ref.reason}")
-        print(f"  basis      {m.basis.size} states per channel, length {m.basis.length}")
-        print(f"  channels   {', '.join(c.label for c in chans)} ({len(chans)}); "
-              f"{m.levels.count} levels each")
-        if m.scan is not None:
-            how = ("per point and channel, for the convergence study" if m.convergence.study
-                   else "linear: matrices built once" if _linear_ok(case)
-                   else "rebuilt per point")
-            print(f"  scan       {case.scan_parameter}: {len(values)} values "
-                  f"{values[0]:g} … {values[-1]:g} ({how})")
-        if m.perturbation is not None:
-            p = m.perturbation
-            print(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
-                  f"{', '.join(p.resum) or 'none'}")
-        print(f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}")
-        print(f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
-              f"{len(chans)} channel(s))")
-        print(f"  output     {output_path(case, None)}")
+        text = describe(case, reference=not args.no_reference)
+        for line in text.lines:
+            print(line)
+        if text.problem is not None:
+            _err(f"{case.name}: reference: {text.problem}")
+            status = EXIT_BAD_INPUT
     return status
-
-
-def _study_text(case: Any) -> str:
-    """The convergence settings of a case in one line (``check``)."""
-    from .runner import _smaller_size
-
-    conv = case.model.convergence
-    unit = "hbar*omega" if case.units.energy == "1" else case.units.energy
-    tol = f"converged below {conv.tolerance:g} {unit}"
-    if not conv.study:
-        if conv.method == "none":
-            return "not estimated (convergence.estimate: none)"
-        return (f"change from {_smaller_size(case)} to {case.model.basis.size} states; {tol}")
-    s = case.study_settings()
-    sizes = s.size_axis(case.model.levels.count)
-    if not conv.scans_lengths:
-        where = "at the basis length"
-    elif s.lengths is not None:
-        where = f"lengths {', '.join(f'{b:g}' for b in s.lengths)} {case.units.length}"
-    elif s.frequencies is not None:
-        where = f"hbar*omega {', '.join(f'{w:g}' for w in s.frequencies)} {unit}"
-    else:
-        where = "lengths auto (re-optimised at each size)"
-    grow = (f"basis grows to the tolerance, sizes {sizes[0]} … {sizes[-1]}" if conv.grows
-            else f"sizes {', '.join(str(n) for n in sizes)}")
-    return (f"{grow}, {where}; error_estimate: {conv.method}; {tol}"
-            + ("; cross-check" if conv.cross_check else ""))
 
 
 # --------------------------------------------------------------------------- show

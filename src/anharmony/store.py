@@ -39,6 +39,7 @@ __all__ = [
     "ResultFileError",
     "build_dataset",
     "read_dataset",
+    "result_attrs",
     "sanitize_attrs",
     "scan_units",
     "write_dataset",
@@ -473,6 +474,17 @@ def read_dataset(path: str | Path) -> xr.Dataset:
         raise ResultFileError(f"{p}: written with result schema {int(version)}; this version "
                               f"of anharmony reads up to {RESULT_SCHEMA} (upgrade anharmony)")
     return ds
+
+
+def result_attrs(path: str | Path) -> dict[str, Any] | None:
+    """The global attributes of an existing result (no data read), or None if unreadable."""
+    try:
+        import netCDF4
+
+        with netCDF4.Dataset(path) as f:
+            return {k: f.getncattr(k) for k in f.ncattrs()}
+    except (OSError, RuntimeError, ValueError, ImportError):
+        return None
 
 
 def empty_like_series(s: int, c: int, n: int, orders: int, methods: int
