@@ -354,6 +354,9 @@ class ScanResult:
             w = self.well_at(k)
             return w.value(coords), (w.spin_orbit_value(coords) if w.has_spin_orbit else None)
         lam = float(self.values[k])
+        if lam == 1.0:
+            return self.well.value(coords), (self.well.spin_orbit_value(coords)
+                                             if self.well.has_spin_orbit else None)
         ref = _reference_well(self.well, self.references[k], self.channel.l is not None)
         v = (1.0 - lam) * ref.value(coords) + lam * self.well.value(coords)
         so = lam * self.well.spin_orbit_value(coords) if self.well.has_spin_orbit else None
