@@ -12,12 +12,9 @@ xarray and netCDF4 are imported inside the functions that need them, so that
 
 from __future__ import annotations
 
-import contextlib
 import datetime as _dt
 import json
 import math
-import os
-import tempfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -25,6 +22,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ._atomic import atomic_write
 from .errors import ResultFileError
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -411,12 +409,6 @@ def _encoding(ds: xr.Dataset) -> dict[str, dict[str, Any]]:
     return enc
 
 
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
 def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) -> Path:
     """Write ``ds`` to ``path`` atomically: a temporary file in the same folder, then a rename.
 
@@ -431,19 +423,9 @@ def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) 
     if target.exists() and not overwrite:
         raise FileExistsError(f"{target}: exists; pass overwrite=True (--overwrite) to "
                               "replace it")
-    fd, tmp = tempfile.mkstemp(dir=target.parent, prefix=f".{target.name}.",
-                               suffix=TEMP_SUFFIX)
-    os.close(fd)
-    try:
-        ds.drop_encoding().to_netcdf(tmp, engine="netcdf4", format="NETCDF4",
-                                     encoding=_encoding(ds))
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
-    return target
+    encoding = _encoding(ds)
+    return atomic_write(target, lambda tmp: ds.drop_encoding().to_netcdf(
+        tmp, engine="netcdf4", format="NETCDF4", encoding=encoding), TEMP_SUFFIX)
 
 
 def read_dataset(path: str | Path) -> xr.Dataset:

@@ -9,24 +9,17 @@ resummed values and the optimally truncated sum.
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from scipy.special import gammaln
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    finite_range,
-    method_name,
-    new_figure,
-    padded,
-    proxy,
-    style_legend,
-)
+from ._common import FigureRequest, ResultView, axis_label, fit_ylim, method_name, new_figure, proxy
 from .flow import chosen_methods
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["OPTIONS", "SIZE", "draw", "large_order_curve", "nonzero_mask"]
 
@@ -163,9 +156,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         right_vals.append([ex])
         level_handles.append(proxy(color=col, lw=1.6, label=name))
 
-    rng = finite_range(*right_vals)
-    if rng is not None:
-        right.set_ylim(*padded(*rng, frac=0.12))
+    fit_ylim(right, right_vals, 0.12)
     left.set_yscale("log")
     left.set_xlabel("order k")
     left.set_ylabel(axis_label("|E_k|", units))
@@ -184,7 +175,5 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     if has_opt:
         handles.append(proxy(ls="none", marker="*", ms=8, mec=_style.INK, mew=0.5,
                              label="optimal truncation"))
-    style_legend(fig, handles, ncols=4)
     left.legend(handles=level_handles, loc="best", fontsize=6.5, handlelength=1.6)
-    view.decorate(fig, req.title)
-    return fig
+    return view.finish(fig, handles, req.title, ncols=4)

@@ -15,21 +15,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    direct_labels,
-    finite_range,
-    new_figure,
-    proxy,
-    style_legend,
-)
+from ._common import axis_label, direct_labels, finite_range, new_figure, proxy
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["OPTIONS", "SIZE", "WellPicture", "draw", "rebuild"]
 
@@ -174,8 +168,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     p = view.scan_position(req.scan_index)
     c = view.one_channel(req.channel, "well")
     energy = view.values("energy").astype(float)[p, c]
-    bound = view.values("bound").astype(bool)[p, c] if view.has("bound") else \
-        np.isfinite(energy)
+    bound = view.bound_mask(view.values("energy"))[p, c]
     default = [n for n in range(energy.size) if bound[n] and math.isfinite(energy[n])]
     levels = view.level_indices(req.levels, default=default)
     levels = [n for n in levels if math.isfinite(energy[n])]
@@ -259,9 +252,5 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     length_units = view.units("length", "length") if view.has("length") else None
     ax.set_xlabel(axis_label("r" if radial else "x", length_units))
     ax.set_ylabel(axis_label("energy E", e_units))
-    where = view.scan_text(p)
-    ax.set_title(f"well and levels · {view.labels[c]}" + (f" at {where}" if where else ""),
-                 loc="left")
-    style_legend(fig, handles, ncols=3)
-    view.decorate(fig, req.title)
-    return fig
+    ax.set_title(view.at_scan(f"well and levels · {view.labels[c]}", p), loc="left")
+    return view.finish(fig, handles, req.title, ncols=3)
