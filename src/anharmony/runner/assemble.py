@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from ..cases import Case
+from ..hamiltonian import level_label
 from ..store import CaseResult
 from .compute import empty
 from .plan import smaller_size
@@ -107,7 +108,8 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         convergence_sizes=sizes,
         convergence=study_vars,
         reference_frequency=out["ref_frequency"], reference_length=out["ref_length"],
-        notes=notes, warnings=_study_warnings(case, out["study"]),
+        notes=notes, warnings=(_study_warnings(case, out["study"]) if out["study"] else
+                               _quick_warnings(case, out, err, converged)),
     )
 
 
@@ -209,3 +211,49 @@ def _study_warnings(case: Case, study: dict[tuple[int, int], dict[str, Any]]) ->
     return lines
 
 
+
+
+def _label(case: Case, c: int, n: int) -> str:
+    ch = case.channels()[c]
+    return level_label(case.dimension, -1 if ch.l is None else ch.l, ch.j, n)
+
+
+def _points(ks: Sequence[int], total: int) -> str:
+    return f", {len(ks)} of {total} scan points" if total > 1 else ""
+
+
+def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged: np.ndarray
+                    ) -> list[str]:
+    """Without a study: one line naming every bound level whose quick estimate exceeds the
+    tolerance, and one for the levels above the threshold (discretised-continuum states)."""
+    m = smaller_size(case)
+    if m is None:  # convergence.estimate: none: nothing is estimated, nothing is claimed
+        return []
+    values = case.scan_values()
+    energy, bound = out["energy"], out["bound"]
+    unit = "" if case.units.energy == "1" else f" {case.units.energy}"
+    lines = []
+    slow = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])
+            if (bound[:, c, n] & ~converged[:, c, n]).any()]
+    if slow:
+        names = []
+        for c, n in slow:
+            ks = np.flatnonzero(bound[:, c, n] & ~converged[:, c, n])
+            worst = np.nanmax(err[ks, c, n]) if np.isfinite(err[ks, c, n]).any() else np.nan
+            names.append(f"{_label(case, c, n)} (error estimate up to {worst:.2g}{unit}"
+                         f"{_points(ks, len(values))})")
+        tol = case.model.convergence.tolerance
+        lines.append(f"{len(slow)} bound level(s) not converged: the change from {m} to "
+                     f"{case.model.basis.size} basis states exceeds the tolerance {tol:g}{unit}"
+                     f": {', '.join(names)}; raise basis.size (or set basis.length), or run a "
+                     "convergence study (convergence: {max_size: ...})")
+    above = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])
+             if (np.isfinite(energy[:, c, n]) & ~bound[:, c, n]).any()]
+    if above:
+        names = [_label(case, c, n) + (
+            f" ({np.count_nonzero(np.isfinite(energy[:, c, n]) & ~bound[:, c, n])} of "
+            f"{len(values)} scan points)" if len(values) > 1 else "") for c, n in above]
+        lines.append(f"{len(above)} level(s) lie above the threshold, discretised-continuum "
+                     f"states flagged bound = 0 and converged = 0: {', '.join(names)}; request "
+                     "fewer levels (levels.count), or raise basis.size if one should be bound")
+    return lines
