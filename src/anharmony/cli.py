@@ -286,6 +286,15 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     return f"{kind}: best order {best}, off by {d[best]:.2g}"
 
 
+def _rows(ds: Any, k: int, chans: list[int], ladder: bool) -> list[tuple[int, int]]:
+    """(channel, level) of the finite levels at scan point k: per channel, or one ladder."""
+    rows = [(c, n) for c in chans for n in range(ds.sizes["level"])
+            if math.isfinite(float(ds.energy.values[k, c, n]))]
+    if ladder:
+        rows.sort(key=lambda cn: float(ds.energy.values[k, cn[0], cn[1]]))
+    return rows
+
+
 def _cmd_show(args: argparse.Namespace) -> int:
     from .store import ResultFileError, read_dataset
 
@@ -333,7 +342,10 @@ def _cmd_show(args: argparse.Namespace) -> int:
     xdiff = ds["cross_check_difference"].values if "cross_check_difference" in ds else None
     xcheck = xdiff is not None and bool(np.isfinite(xdiff).any())
     grown = "convergence_size" in ds and "grown" in str(a.get("convergence", ""))
-    head = (f"  {'level':>12} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
+    # a symmetric 1D well: one ladder in energy order, the parity beside each level
+    ladder = dim == 1 and len(chans) > 1 and all(int(ds.l.values[c]) >= 0 for c in chans)
+    head = (f"  {'level':>12}" + (f" {'parity':>6}" if ladder else "")
+            + f" {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
             f"{'error':>9} {'conv':>5}" + (f" {'x-check':>9}" if xcheck else "")
             + "  perturbation")
     for k in points:
@@ -345,26 +357,24 @@ def _cmd_show(args: argparse.Namespace) -> int:
                                 for c in chans)
             print(f"  basis grown per channel to: {reached}")
         print(head)
-        for c in chans:
-            for n in range(ds.sizes["level"]):
-                e = float(ds.energy.values[k, c, n])
-                if not math.isfinite(e):
-                    continue
-                ref = float(ds.reference_energy.values[k, c, n])
-                bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
-                err = float(ds.error_estimate.values[k, c, n])
-                errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
-                conv = ("yes" if int(ds.converged.values[k, c, n])
-                        else "NO" if bound == "yes" else "-")  # continuum: no level to converge
-                extra = ""
-                if xcheck:
-                    x = float(xdiff[k, c, n])
-                    extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
-                jc = float(ds.j.values[c]) if "j" in ds else None
-                name = level_label(dim, int(ds.l.values[c]), jc, n)
-                print(f"  {name:>12} {e:14.8g} {ref:14.8g} "
-                      f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
-                      f"{_verdict(ds, k, c, n, tol)}")
+        for c, n in _rows(ds, k, chans, ladder):
+            e = float(ds.energy.values[k, c, n])
+            ref = float(ds.reference_energy.values[k, c, n])
+            bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
+            err = float(ds.error_estimate.values[k, c, n])
+            errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
+            conv = ("yes" if int(ds.converged.values[k, c, n])
+                    else "NO" if bound == "yes" else "-")  # continuum: no level to converge
+            extra = ""
+            if xcheck:
+                x = float(xdiff[k, c, n])
+                extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
+            jc = float(ds.j.values[c]) if "j" in ds else None
+            name = level_label(dim, int(ds.l.values[c]), jc, n)
+            parity = f" {('even', 'odd')[int(ds.l.values[c])]:>6}" if ladder else ""
+            print(f"  {name:>12}{parity} {e:14.8g} {ref:14.8g} "
+                  f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
+                  f"{_verdict(ds, k, c, n, tol)}")
     notes = [w for w in str(a.get("convergence_warnings", "")).splitlines() if w]
     if xcheck:
         print("\nx-check: energy minus the level of the cross-check solver "
