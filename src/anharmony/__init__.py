@@ -7,6 +7,7 @@ from .convergence import ConvergenceReport, converge, cross_check, residual_boun
 from .errors import AnharmonyWarning, ConvergenceWarning, DegenerateLevelError, NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
 from .potentials import TERMS, TermError, Well
+from .scan import ScanResult, scan
 from .series import Series, series
 from .spectrum import Reference, Spectrum, reference_oscillator, solve
 from .units import SYSTEMS, UnitSystem, get_units
@@ -22,6 +23,7 @@ __all__ = [
     "DegenerateLevelError",
     "NumericalError",
     "Reference",
+    "ScanResult",
     "Series",
     "Spectrum",
     "TermError",
@@ -37,6 +39,7 @@ __all__ = [
     "reference_oscillator",
     "residual_bounds",
     "run_case",
+    "scan",
     "scan_basis",
     "series",
     "solve",
