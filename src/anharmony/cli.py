@@ -13,10 +13,7 @@ import sys
 from collections.abc import Sequence
 from typing import Any, NoReturn, TextIO
 
-import numpy as np
-
 from ._version import __version__
-from .hamiltonian import level_label
 
 __all__ = ["main"]
 
@@ -268,6 +265,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
 # --------------------------------------------------------------------------- show
 def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
+    import numpy as np
+
     if ds.sizes.get("order", 0) == 0:
         return "-"
     e = float(ds.energy.values[k, c, n])
@@ -286,6 +285,16 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     return f"{kind}: best order {best}, off by {d[best]:.2g}"
 
 
+def _level_name(ds: Any, dim: int, c: int, n: int) -> str:
+    """The stored spectroscopic label; for files without ``level_label``, made here."""
+    if "level_label" in ds:
+        return str(ds.level_label.values[c, n])
+    from .hamiltonian import level_label
+
+    jc = float(ds.j.values[c]) if "j" in ds else None
+    return level_label(dim, int(ds.l.values[c]), jc, n)
+
+
 def _rows(ds: Any, k: int, chans: list[int], ladder: bool) -> list[tuple[int, int]]:
     """(channel, level) of the finite levels at scan point k: per channel, or one ladder."""
     rows = [(c, n) for c in chans for n in range(ds.sizes["level"])
@@ -296,6 +305,8 @@ def _rows(ds: Any, k: int, chans: list[int], ladder: bool) -> list[tuple[int, in
 
 
 def _cmd_show(args: argparse.Namespace) -> int:
+    import numpy as np
+
     from .store import ResultFileError, read_dataset
 
     try:
@@ -369,8 +380,7 @@ def _cmd_show(args: argparse.Namespace) -> int:
             if xcheck:
                 x = float(xdiff[k, c, n])
                 extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
-            jc = float(ds.j.values[c]) if "j" in ds else None
-            name = level_label(dim, int(ds.l.values[c]), jc, n)
+            name = _level_name(ds, dim, c, n)
             parity = f" {('even', 'odd')[int(ds.l.values[c])]:>6}" if ladder else ""
             print(f"  {name:>12}{parity} {e:14.8g} {ref:14.8g} "
                   f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "

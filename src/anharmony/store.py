@@ -69,6 +69,8 @@ class CaseResult:
     j : ndarray (C,) or None
         Only with spin.
     label : list of str (C,)
+    level_labels : list of list of str (C, L) or None
+        Spectroscopic label of every level (``1d5/2``, ``v=3``); stored as ``level_label``.
     energy, reference_energy, error_estimate : ndarray (S, C, L)
     bound, converged : ndarray of bool (S, C, L)
     frequency, length : ndarray (S,)
@@ -125,6 +127,7 @@ class CaseResult:
         default_factory=dict)
     notes: Sequence[str] = ()
     warnings: Sequence[str] = ()
+    level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
 
 
 # --------------------------------------------------------------------------- attributes
@@ -316,6 +319,12 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "threshold": (("scan", "channel"), result.threshold,
                       _float_attrs(e_units, "threshold of the continuum, lim V at infinity")),
     }
+    if result.level_labels is not None:
+        data["level_label"] = (("channel", "level"),
+                               np.asarray([[str(t) for t in row] for row in result.level_labels],
+                                          dtype=str),
+                               {"units": "1", "long_name": "spectroscopic label of the level "
+                                "(1D: v, the oscillator quantum number)"})
     for name, (dims, values, var_attrs) in result.convergence.items():
         if name in data or name in coords:
             raise ValueError(f"{name}: a convergence variable may not replace a core variable")

@@ -14,7 +14,6 @@ from typing import Any
 
 import numpy as np
 
-from ..hamiltonian import level_label
 from . import _style
 
 __all__ = [
@@ -79,6 +78,16 @@ class FigureRequest:
     basis_size: int | None = None
     size: tuple[float, float] | None = None
     title: str | None = None
+
+
+def level_label(dimension: int, l: int, j: float | None, n: int) -> str:
+    """Spectroscopic label of level n (:func:`anharmony.hamiltonian.level_label`).
+
+    Imported on first use: the figures of a result file need no Hamiltonian.
+    """
+    from ..hamiltonian import level_label as label
+
+    return label(dimension, l, j, n)
 
 
 def pretty_units(units: Any, system: str | None = None, quantity: str | None = None
@@ -242,6 +251,8 @@ class ResultView:
         return j if math.isfinite(j) else None
 
     def level_label(self, c: int, n: int) -> str:
+        if self.has("level_label"):  # stored by the run
+            return str(self.values("level_label")[c, n])
         return level_label(self.dimension, self.l_of(c), self.j_of(c), n)
 
     def one_channel(self, channel: Any, figure: str) -> int:

@@ -12,7 +12,6 @@ import math
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
-from scipy.special import gammaln
 
 from . import _style
 from ._common import FigureRequest, ResultView, axis_label, fit_ylim, method_name, new_figure, proxy
@@ -69,6 +68,8 @@ def large_order_curve(k: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndar
         arg = fit.power * m + fit.shift
         if np.any(arg <= 0):
             return None
+        from scipy.special import gammaln
+
         log_shape = m * math.log(fit.rate) + gammaln(arg)
     else:
         log_shape = m * math.log(fit.rate) + fit.shift * np.log(m)

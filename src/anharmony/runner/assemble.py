@@ -108,6 +108,8 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         convergence_sizes=sizes,
         convergence=study_vars,
         reference_frequency=out["ref_frequency"], reference_length=out["ref_length"],
+        level_labels=[[_label(case, c, n) for n in range(case.model.levels.count)]
+                      for c in range(len(chans))],
         notes=notes, warnings=(_study_warnings(case, out["study"]) if out["study"] else
                                _quick_warnings(case, out, err, converged)),
     )
