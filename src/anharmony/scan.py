@@ -1,10 +1,9 @@
 """Scans of one channel over a parameter of the well: the coupling λ or one term parameter.
 
-:func:`scan` is the core function a coupling or parameter scan goes through (the runner calls
-it for every case). When the parameter enters the Hamiltonian linearly and the basis is the
-same at every value, the channel matrices are split once as H(s) = A + s B and each value costs
-one eigensolve of the pencil; otherwise the Hamiltonian is rebuilt per value. Both give the
-levels a :func:`~anharmony.spectrum.solve` call at that value gives, to rounding.
+:func:`scan` is the core function every coupling or parameter scan goes through. When the
+parameter enters H linearly and the basis is the same at every value, the channel matrices are
+split once as H(s) = A + s B (:mod:`anharmony.pencil`) and each value costs one eigensolve;
+otherwise H is rebuilt per value. Both give the levels of :func:`~anharmony.spectrum.solve`.
 
 Parameters are named as in a case file: ``"coupling"`` (H = H_ref + λ (H − H_ref)),
 ``"well[i].name"`` or one polynomial coefficient ``"well[i].coefficients[k]"``.
@@ -20,13 +19,12 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy.linalg import eig_banded
 
 from .errors import InputError
 from .hamiltonian import Channel, channel_hamiltonian
+from .pencil import Pencil, coupling_pencil, coupling_threshold, linear_threshold, term_pencil
 from .potentials import Power, Well
 from .spectrum import (
-    BANDED_MAX_RATIO,
     Reference,
     Spectrum,
     _check_levels,
@@ -35,7 +33,6 @@ from .spectrum import (
     diagonalize,
     reference_oscillator,
     resolve_channel,
-    upper_band,
 )
 from .units import UnitSystem
 
@@ -44,12 +41,11 @@ __all__ = ["SAME_BASIS_RTOL", "SCALED", "ScanResult", "coupled_well", "linear_in
 
 SAME_BASIS_RTOL = 1e-12  # references this close at every value share one basis (one pencil)
 
-# λ V of each term as a term of the same kind: the parameter V is proportional to.
-# (To be replaced by the terms' own declarations.)
+# λ V of each term as a term of the same kind: the parameter V is proportional to
+# (to be replaced by the terms' own declarations)
 SCALED = {"power": "strength", "gaussian": "depth", "woods_saxon": "depth",
           "spin_orbit": "strength", "coulomb": "charge", "morse": "depth",
           "poschl_teller": "depth"}
-_ALSO_LINEAR = {("harmonic", "stiffness")}  # besides SCALED and polynomial coefficients
 
 _PATH = re.compile(r"well\[(\d+)\]\.([A-Za-z_][A-Za-z0-9_]*)"
                    r"(?:\[(-?\d+)\]|\.([A-Za-z_][A-Za-z0-9_]*))?")
@@ -67,10 +63,7 @@ class _Target:
 
 
 def _target(well: Well, parameter: Any) -> _Target:
-    if not isinstance(parameter, str):
-        raise InputError(f"parameter: expected 'coupling' or 'well[i].<name>'; got "
-                         f"{parameter!r}")
-    text = parameter.strip()
+    text = parameter.strip() if isinstance(parameter, str) else ""
     if text in ("coupling", "lambda"):
         return _Target(True)
     m = _PATH.fullmatch(text)
@@ -81,10 +74,8 @@ def _target(well: Well, parameter: Any) -> _Target:
     if i >= len(well.specs):
         raise InputError(f"parameter: {text!r}: the well has {len(well.specs)} term(s)")
     kind = well.specs[i][0]
-    if m[3] is not None or m[4] is not None:
-        key: Any = int(m[3]) if m[3] is not None else m[4]
-        return _Target(False, i, kind, (m[2], key))
-    return _Target(False, i, kind, (m[2],))
+    sub = (int(m[3]),) if m[3] is not None else (m[4],) if m[4] is not None else ()
+    return _Target(False, i, kind, (m[2], *sub))
 
 
 def _inverse_square(well: Well) -> bool:
@@ -101,7 +92,7 @@ def linear_in(well: Well, parameter: str) -> bool:
         return True
     if len(t.keys) == 2:
         return t.keys[0] == "coefficients"
-    return SCALED.get(t.kind) == t.keys[0] or (t.kind, t.keys[0]) in _ALSO_LINEAR
+    return SCALED.get(t.kind) == t.keys[0] or (t.kind, t.keys[0]) == ("harmonic", "stiffness")
 
 
 def _spec_dicts(well: Well) -> list[Any]:
@@ -180,79 +171,16 @@ def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> 
     return Well.from_terms(terms, units, mass)
 
 
-def _coupling_threshold(thr: float, lam: float) -> float:
-    """Threshold of λ V + (1 − λ) V_ref from that of V (V_ref confines)."""
-    if lam == 1.0:
-        return thr
-    if lam < 1.0:
-        return math.inf  # (1 − λ) V_ref confines
-    # λ > 1: −(λ − 1) V_ref wins at large r unless V itself grows without bound
-    return math.inf if thr == math.inf else -math.inf
-
-
-def _linear_threshold(thr_rest: float, thr_unit: float, s: float) -> float:
-    """lim V of A + s B at infinity from the limits of its two parts (NaN if undecided)."""
-    if s == 0.0 or thr_unit == 0.0:
-        return thr_rest
-    return float(thr_rest) + float(s) * float(thr_unit)  # Python floats: inf - inf is nan
-
-
 # =========================================================================== the pencil
-class _Pencil:
-    """H(s) = A + s B of one channel, kept banded where the core's solver would be."""
-
-    def __init__(self, a: np.ndarray, b: np.ndarray, bandwidth: int | None) -> None:
-        n = a.shape[0]
-        self.banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * n
-        if self.banded:
-            self.a, self.b = upper_band(a, bandwidth), upper_band(b, bandwidth)
-        else:
-            self.a, self.b = a, b
-
-    def at(self, s: float) -> np.ndarray:
-        return self.a + s * self.b
-
-    def levels(self, h: np.ndarray, size: int, count: int, vectors: bool = False
-               ) -> tuple[np.ndarray, np.ndarray | None]:
-        """Lowest ``count`` eigenvalues (NaN-padded) of the leading size×size block."""
-        out = np.full(count, np.nan)
-        k = min(count, size)
-        if not self.banded:
-            e, v = diagonalize(np.ascontiguousarray(h[:size, :size]), k, None)
-            out[:k] = e[:k]
-            return out, (v if vectors else None)
-        # the leading block of an upper-banded matrix is its first `size` columns;
-        # A and B are finite by construction: skip scipy's finiteness scan per value
-        if vectors:
-            e, v = eig_banded(h[:, :size], lower=False, select="i", select_range=(0, k - 1),
-                              check_finite=False)
-            out[:k] = e[:k]
-            return out, v
-        out[:k] = eig_banded(h[:, :size], lower=False, eigvals_only=True, select="i",
-                             select_range=(0, k - 1), check_finite=False)[:k]
-        return out, None
-
-
-def _bandwidth(*bws: int | None) -> int | None:
-    return None if any(b is None for b in bws) else max(bws)  # type: ignore[type-var]
-
-
 def _split(well: Well, t: _Target, channel: Channel, ref: Reference, size: int, b: float,
-           center: float) -> tuple[_Pencil, float, float, Any]:
+           center: float) -> tuple[Pencil, float, float, Any]:
     """The pencil A + s B, the thresholds of its two parts and the basis.
 
     For ``coupling`` the first threshold is the physical well's and the second NaN.
     """
-    radial = channel.l is not None
-    symmetric = radial
     if t.coupling:
-        full = channel_hamiltonian(well, channel, size, b, center)
-        href = channel_hamiltonian(_reference_well(well, ref, radial), channel, size, b, center)
-        a = full.kinetic + href.potential
-        bmat = full.potential + full.spin_orbit - href.potential
-        thr = float(well.threshold(channel.dimension, symmetric=symmetric))
-        return (_Pencil(a, bmat, _bandwidth(full.bandwidth, href.bandwidth)), thr, math.nan,
-                full.basis)
+        return coupling_pencil(well, _reference_well(well, ref, channel.l is not None),
+                               channel, size, b, center)
     terms = _spec_dicts(well)
     kind, (name, *sub) = t.kind, t.keys
     scanned = terms[t.index][kind]
@@ -267,18 +195,8 @@ def _split(well: Well, t: _Target, channel: Channel, ref: Reference, size: int, 
         unit = {kind: {**scanned, name: 1.0}}
         rest_terms = [*terms[:t.index], *terms[t.index + 1:]]
     unit_well = Well.from_terms([unit], well.units, well.mass)
-    mb = channel_hamiltonian(unit_well, channel, size, b, center)
-    if rest_terms:
-        rest_well = Well.from_terms(rest_terms, well.units, well.mass)
-        rest = channel_hamiltonian(rest_well, channel, size, b, center)
-        a, bw_a = rest.total, rest.bandwidth
-        thr_rest = float(rest_well.threshold(channel.dimension, symmetric=symmetric))
-    else:
-        a, bw_a = mb.kinetic, (1 if radial else 2)
-        thr_rest = 0.0
-    bmat = mb.potential + mb.spin_orbit
-    thr_unit = float(unit_well.threshold(channel.dimension, symmetric=symmetric))
-    return _Pencil(a, bmat, _bandwidth(bw_a, mb.bandwidth)), thr_rest, thr_unit, mb.basis
+    rest_well = Well.from_terms(rest_terms, well.units, well.mass) if rest_terms else None
+    return term_pencil(unit_well, rest_well, channel, size, b, center)
 
 
 # =========================================================================== results
@@ -289,7 +207,6 @@ class ScanResult:
     Attributes
     ----------
     parameter : str
-        The scanned parameter.
     values : ndarray (S,)
     energies, bound, reference_energies : ndarray (S, L)
         As in :class:`~anharmony.spectrum.Spectrum`, one row per value.
@@ -304,7 +221,6 @@ class ScanResult:
     method : str
         ``"pencil"`` (A + s B built once) or ``"rebuild"`` (the Hamiltonian per value).
     vectors : ndarray (S, N, L) or None
-        Eigenvectors, only when asked for.
     """
 
     parameter: str
@@ -354,26 +270,23 @@ class ScanResult:
             w = self.well_at(k)
             return w.value(coords), (w.spin_orbit_value(coords) if w.has_spin_orbit else None)
         lam = float(self.values[k])
-        if lam == 1.0:
-            return self.well.value(coords), (self.well.spin_orbit_value(coords)
-                                             if self.well.has_spin_orbit else None)
-        ref = _reference_well(self.well, self.references[k], self.channel.l is not None)
-        v = (1.0 - lam) * ref.value(coords) + lam * self.well.value(coords)
-        so = lam * self.well.spin_orbit_value(coords) if self.well.has_spin_orbit else None
+        v = self.well.value(coords)
+        so = self.well.spin_orbit_value(coords) if self.well.has_spin_orbit else None
+        if lam != 1.0:
+            ref = _reference_well(self.well, self.references[k], self.channel.l is not None)
+            v = (1.0 - lam) * ref.value(coords) + lam * v
+            so = None if so is None else lam * so
         return v, so
 
     def wavefunctions(self, k: int, coords: np.ndarray) -> np.ndarray:
         """ψ of each level at value k (needs ``vectors=True``), shape (L, len(coords))."""
         if self.vectors is None:
-            raise InputError("wavefunctions: the scan was run without vectors; pass "
-                             "vectors=True to scan()")
+            raise InputError("wavefunctions: the scan ran without vectors; pass vectors=True")
         return self.vectors[k].T @ self.bases[k].functions(coords)
 
     def spectrum(self, k: int) -> Spectrum:
-        """The levels of value k as a :class:`~anharmony.spectrum.Spectrum`.
-
-        Without ``vectors=True`` its ``vectors`` have no columns.
-        """
+        """Value k as a :class:`~anharmony.spectrum.Spectrum` (no vector columns without
+        ``vectors=True``)."""
         vec = self.vectors[k] if self.vectors is not None else np.zeros((self.size, 0))
         return Spectrum(energies=self.energies[k], bound=self.bound[k], vectors=vec,
                         channel=self.channel, basis=self.bases[k], reference=self.references[k],
@@ -391,7 +304,7 @@ def _values(values: Any) -> np.ndarray:
     try:
         arr = np.asarray(values, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"values: expected a list of numbers; got {values!r}") from None
+        arr = np.zeros((0, 0))  # not numbers: refused below
     if arr.ndim != 1 or arr.size == 0 or not np.isfinite(arr).all():
         raise InputError(f"values: expected a non-empty list of finite numbers; got {values!r}")
     return arr
@@ -463,7 +376,7 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
             h = pen.at(v)
             e, vec = pen.levels(h, size, count, vectors)
             small = None if truncated is None else pen.levels(h, truncated, count)[0]
-            return e, vec, small, _coupling_threshold(thr, v), basis_obj
+            return e, vec, small, coupling_threshold(thr, v), basis_obj
     else:
         w = set_parameter(well, _path(t), v)
     mats = channel_hamiltonian(w, channel, size, b, center)
@@ -471,10 +384,9 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
     e = np.full(count, np.nan)
     found, vec = diagonalize(h, count, mats.bandwidth)
     e[:len(found)] = found[:count]
-    small = None
-    if truncated is not None:
+    small = None if truncated is None else np.full(count, np.nan)
+    if small is not None:
         m = min(count, truncated)
-        small = np.full(count, np.nan)
         small[:m] = diagonalize(np.ascontiguousarray(h[:truncated, :truncated]), m,
                                 mats.bandwidth)[0][:m]
     thr = float(w.threshold(channel.dimension, symmetric=radial))
@@ -558,9 +470,9 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
             if out_small is not None:
                 out_small[k] = pen.levels(h, truncated, count)[0]
             if t.coupling:
-                out_thr[k] = _coupling_threshold(thr_a, v)
+                out_thr[k] = coupling_threshold(thr_a, v)
                 continue
-            thr = _linear_threshold(thr_a, thr_b, v)
+            thr = linear_threshold(thr_a, thr_b, v)
             out_thr[k] = thr if not math.isnan(thr) else float(
                 set_parameter(well, _path(t), float(v)).threshold(channel.dimension,
                                                                   symmetric=radial))
