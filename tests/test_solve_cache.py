@@ -89,3 +89,20 @@ def test_quadrature_rules_shared_across_lengths_give_the_same_matrix():
     basis_mod._RULES.clear()
     cold = channel_hamiltonian(well, ch, 24, 2.3).total
     np.testing.assert_array_equal(warm, cold)
+
+
+def test_default_length_does_not_depend_on_earlier_calls():
+    # Regression: the semiclassical phase space of a channel is cached, and it used to widen
+    # its grid in place when one call needed a larger orbit, so the default length of a later
+    # solve depended on what had been asked before (jobs=1 and jobs=2 wrote different files).
+    from anharmony import spectrum as sp
+    from anharmony.hamiltonian import Channel
+
+    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                               {"power": {"exponent": 4, "strength": 0.1}}])
+    sp.clear_caches()
+    fresh = ah.solve(well, 3, 0, size=16, levels=3).basis.length
+    sp.clear_caches()
+    sp._phase_space(well, Channel(3, 0), 0.0).quanta(1e6)  # an orbit far beyond the base grid
+    later = ah.solve(well, 3, 0, size=16, levels=3).basis.length
+    assert later == fresh  # exactly: the same arithmetic on the same grid

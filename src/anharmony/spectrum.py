@@ -487,9 +487,15 @@ class _PhaseSpace:
         self.ls = channel.ls
         self.well = well
         self.span = 30.0 * well.scale
-        self._grid(self.span)
+        self._grids: dict[float, tuple[np.ndarray, np.ndarray, float]] = {}
+        self.x, self.v, self.dx = self._grid(self.span)
+        self.v_min = float(np.min(self.v))
 
-    def _grid(self, span: float) -> None:
+    def _grid(self, span: float) -> tuple[np.ndarray, np.ndarray, float]:
+        """Nodes, V and spacing over ``span`` (cached: every answer depends only on its
+        arguments, never on the order of earlier calls)."""
+        if span in self._grids:
+            return self._grids[span]
         if self.radial:
             x = np.linspace(0.0, span, self._POINTS + 1)[1:]
         elif self.parity is not None:
@@ -502,24 +508,30 @@ class _PhaseSpace:
                 v = v + self.ls * np.asarray(self.well.spin_orbit_value(x), dtype=float)
             if self.radial:
                 v = v + self.c * self.nu2 / x**2
-        self.x, self.v = x, np.where(np.isnan(v), np.inf, v)
-        self.dx = float(x[1] - x[0])
-        self.v_min = float(np.min(self.v))
+        self._grids[span] = (x, np.where(np.isnan(v), np.inf, v), float(x[1] - x[0]))
+        return self._grids[span]
+
+    def _orbit(self, e: float) -> tuple[np.ndarray, np.ndarray, float]:
+        """(x, k, dx) on the narrowest grid (the base span × 2^i) that holds the orbit at e."""
+        span = self.span
+        for _ in range(7):  # an orbit that reaches the grid's edge: a grid twice as wide
+            x, v, dx = self._grid(span)
+            with np.errstate(invalid="ignore"):
+                k = np.sqrt(np.maximum(e - v, 0.0) / self.c)
+            if k[-1] == 0.0 and (self.radial or self.parity is not None or k[0] == 0.0):
+                break
+            span *= 2.0
+        return x, k, dx
 
     def k(self, e: float) -> np.ndarray:
+        """Local wave number on the base grid."""
         with np.errstate(invalid="ignore"):
             return np.sqrt(np.maximum(e - self.v, 0.0) / self.c)
 
     def quanta(self, e: float) -> float:
         """I(E)/π: the semiclassical count of levels below E is floor(I/π + ½) (full line)."""
-        k = self.k(e)
-        for _ in range(6):  # an orbit that reaches the grid's edge: widen the grid
-            if k[-1] == 0.0 and (self.radial or self.parity is not None or k[0] == 0.0):
-                break
-            self.span *= 2.0
-            self._grid(self.span)
-            k = self.k(e)
-        total = float(np.sum(k) - 0.5 * (k[0] + k[-1])) * self.dx / math.pi
+        _, k, dx = self._orbit(e)
+        total = float(np.sum(k) - 0.5 * (k[0] + k[-1])) * dx / math.pi
         return 2.0 * total if self.parity is not None else total  # parity: half the line
 
     def line_count(self) -> float:
@@ -555,11 +567,11 @@ class _PhaseSpace:
         """(b, q): the oscillator length whose phase-space disk of radius² q — the smallest
         possible — holds the classical orbit of energy ``e``:
         q = min_b max_orbit [(x − x₀)²/b² + k² b²]."""
-        k = self.k(e)
+        x, k, _ = self._orbit(e)
         on = k > 0
         if not on.any():
             return math.nan, math.nan
-        r2 = (self.x[on] - self.center) ** 2
+        r2 = (x[on] - self.center) ** 2
         k2 = k[on] ** 2
         guess = math.sqrt(math.sqrt(float(np.max(r2)) / float(np.max(k2))))
         logs = math.log(guess) + np.linspace(-3.0, 3.0, 121)
@@ -699,6 +711,14 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
 
 
 # =========================================================================== default length
+def default_length(well: Well, channel: Channel, levels: int, size: int, ref: Reference
+                   ) -> tuple[float, str]:
+    """The basis length b of ``length="auto"`` and the reason, as :func:`solve` uses it
+    (cached by value); :func:`~anharmony.scan.scan` takes the same b."""
+    return _cached("reference", (_well_key(well), channel, levels, size, "length", ref),
+                   lambda: _auto_length(well, channel, levels, size, ref))
+
+
 def _auto_length(well: Well, channel: Channel, levels: int, size: int, ref: Reference
                  ) -> tuple[float, str]:
     """Basis length for ``length="auto"`` and the reason (see :func:`solve`, Notes)."""
@@ -810,8 +830,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     tolerance = _check_tolerance(tolerance)
     ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
     if isinstance(length, str) and length == "auto":
-        b, why = _cached("reference", (_well_key(well), channel, levels, size, "length", ref),
-                         lambda: _auto_length(well, channel, levels, size, ref))
+        b, why = default_length(well, channel, levels, size, ref)
     else:
         b, why = _positive("length", length), "given"
     center = ref.center if channel.l is None else 0.0
