@@ -17,7 +17,7 @@ from __future__ import annotations
 import math
 import warnings
 from collections.abc import Callable, Sequence
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 import numpy as np
 
@@ -172,35 +172,43 @@ class CartesianBasis:
                       rtol, "Cartesian")
 
     def _quad(self, f, idx, points):
-        rules = self.rules(points)
-        d = self.dimension
+        rules = [_rule(ax, int(m)) for ax, m in zip(self.axes, points, strict=True)]
         grids = np.meshgrid(*(r[0] for r in rules), indexing="ij", sparse=True)
         with np.errstate(over="ignore", invalid="ignore"):
             v = np.asarray(f(*grids), dtype=float)
-        v = np.broadcast_to(v, tuple(len(r[0]) for r in rules))
+        shape = tuple(len(r[0]) for r in rules)
+        v = np.broadcast_to(v, shape)
         fmax = float(np.max(np.abs(v[np.isfinite(v)]), initial=0.0))
         s = self.states[idx]
-        ux = rules[0][1]
-        # the last axis: W[qx, (qy,) a, b] = Σ_q V[..., q] U[q, a] U[q, b]  (one matrix product)
-        ul = rules[-1][1]
+        # only the quanta present in the block (half of them per conserved parity)
+        loc, us = [], []
+        for axis in range(self.dimension):
+            vals, inv = np.unique(s[:, axis], return_inverse=True)
+            us.append(rules[axis][1][:, vals])
+            loc.append(inv)
+        # last axis: one matrix product over the grid, W[qx(, qy), a, b]
+        ul = us[-1]
         nl = ul.shape[1]
-        ull = (ul[:, :, None] * ul[:, None, :]).reshape(len(ul), nl * nl)
-        w = (v.reshape(-1, v.shape[-1]) @ ull).reshape(*v.shape[:-1], nl, nl)
-        if d == 2:
-            pair = s[:, 1]
-            g = w  # G[qx, p, p'] with p = n_y
-            uniq = np.arange(nl)
-        else:
-            # middle axis on the distinct (n_y, n_z) pairs of the block
-            keys = s[:, 1] * nl + s[:, 2]
-            uniq, pair = np.unique(keys, return_inverse=True)
-            ny, nz = uniq // nl, uniq % nl
-            uy = rules[1][1]
-            uyy = uy[:, ny, None] * uy[:, None, ny]  # (Qy, P, P)
-            g = np.empty((len(ux), len(uniq), len(uniq)))
-            for q in range(len(ux)):
-                np.einsum("yab,yab->ab", uyy, w[q][:, nz[:, None], nz[None, :]], out=g[q])
-        return contract_first_axis(ux, g, s[:, 0], pair), fmax
+        ull = (ul[:, :, None] * ul[:, None, :]).reshape(shape[-1], nl * nl)
+        w = v.reshape(-1, shape[-1]) @ ull
+        if self.dimension == 2:
+            return contract_first_axis(us[0], w.reshape(shape[0], nl, nl), loc[0], loc[1]), fmax
+        # middle axis: a batched matrix product, then the distinct (n_y, n_z) pairs
+        uy = us[1]
+        ny = uy.shape[1]
+        uyy = (uy[:, :, None] * uy[:, None, :]).reshape(shape[1], ny * ny)
+        w2 = np.matmul(uyy.T[None], w.reshape(shape[0], shape[1], nl * nl))
+        w2 = w2.reshape(shape[0], ny, ny, nl, nl)
+        uniq, pair = np.unique(loc[1] * nl + loc[2], return_inverse=True)
+        py, pz = uniq // nl, uniq % nl
+        g = w2[:, py[:, None], py[None, :], pz[:, None], pz[None, :]]
+        return contract_first_axis(us[0], g, loc[0], pair), fmax
+
+
+@lru_cache(maxsize=64)
+def _rule(axis: HermiteBasis, points: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss–Hermite rule of one axis basis (a pure function of the basis and point count)."""
+    return axis.quadrature(points, "weight")
 
 
 def contract_first_axis(u: np.ndarray, g: np.ndarray, first: np.ndarray, pair: np.ndarray

@@ -208,9 +208,9 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
     freqs = [2.0 * c / v**2 for v in b]
     weights = quanta_weights(freqs, truncation)
     solver = _cartesian if geometry == "cartesian" else _axial
-    main = solver(well, dimension, b, x0, shells, weights, parity, omega, c)
+    main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
     if error_estimate:
-        small = solver(well, dimension, b, x0, shells - 2, weights, parity, omega, c) \
+        small = solver(well, dimension, b, x0, shells - 2, weights, parity, omega, c, levels) \
             if shells >= 2 else {}
     energies, where = [], []
     for key, (e, _, _) in main.items():
@@ -251,11 +251,11 @@ def _label(geometry, key, quanta):
     return f"{key[0]}{sign}[{big_n}{n_z}{abs(lam)}]"
 
 
-def _diagonalise(h):
-    return eigh(h, driver="evd")
+def _diagonalise(h, levels):
+    return eigh(h, subset_by_index=(0, min(levels, len(h)) - 1), driver="evr")
 
 
-def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c):
+def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
     states = cartesian_states(shells, weights)
     basis = CartesianBasis(states, b, x0)
     extent = [max(v, 1e-3 * well.scale) for v in b]
@@ -278,7 +278,7 @@ def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c):
         h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
         if rest_well is not None:
             h = h + basis.quadrature(lambda *xs: cartesian_value(rest_well, xs), idx)
-        e, v = _diagonalise(h)
+        e, v = _diagonalise(h, levels)
         out[key] = (e, v, states[idx])
     return out
 
@@ -304,7 +304,7 @@ def _cartesian_parity(parity, symmetric, dimension):
     return tuple(out)
 
 
-def _axial(well, dimension, b, x0, shells, weights, parity, omega, c):
+def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
     cz = x0[0]
     rng = np.random.default_rng(2024)  # fixed sample points: reproducible symmetry test
     rho = b[0] * rng.uniform(0.0, 3.0, 300)
@@ -344,7 +344,7 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c):
             h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
             if rest_well is not None:
                 h = h + basis.quadrature(lambda r, z: axial_value(rest_well, r, z), idx)
-            e, v = _diagonalise(h)
+            e, v = _diagonalise(h, levels)
             full = np.column_stack([st[idx, 0], np.full(len(idx), lam), st[idx, 1]])
             signs = [lam] if lam == 0 or omega is not None else [lam, -lam]
             for s in signs:
