@@ -20,7 +20,7 @@ from functools import cached_property
 import numpy as np
 
 from ..basis import HermiteBasis, RadialBasis
-from .cartesian import QUADRATURE_RTOL, contract_first_axis, settle
+from .cartesian import PANEL_RTOL, QUADRATURE_RTOL, contract_first_axis, settle
 
 __all__ = ["AxialBasis"]
 
@@ -101,14 +101,26 @@ class AxialBasis:
         return out
 
     def quadrature(self, f: Callable[[np.ndarray, np.ndarray], np.ndarray], idx: np.ndarray,
-                   rtol: float = QUADRATURE_RTOL) -> np.ndarray:
-        """⟨s|f(ρ, z)|s′⟩ on the states ``idx``, grown until settled (see ``settle``)."""
-        return settle(lambda m: self._quad(f, idx, m),
-                      [self.radial.size + 16, self.axis.size + 16], rtol, "axial")
+                   rtol: float | None = None, kind: str = "weight") -> np.ndarray:
+        """⟨s|f(ρ, z)|s′⟩ on the states ``idx``, grown until settled (see ``settle``).
 
-    def _quad(self, f, idx, points):
-        rho, ur = self.radial.quadrature(int(points[0]), "weight")
-        z, uz = self.axis.quadrature(int(points[1]), "weight")
+        ``kind="weight"``: Gauss–Laguerre in ρ²/b_⊥² times Gauss–Hermite in z (exponential
+        convergence for f analytic in ρ² and z); ``"panels"``: the bases' composite
+        Gauss–Legendre rules, with a panel edge at z = 0 (a central term with a cusp at r = 0).
+        """
+        if rtol is None:
+            rtol = QUADRATURE_RTOL if kind == "weight" else PANEL_RTOL
+        if kind == "weight":
+            return settle(lambda m: self._quad(f, idx, m, kind),
+                          [self.radial.size + 16, self.axis.size + 16], rtol, "axial")
+        start = [self.radial.size + 24, self.axis.size + 24]  # the bases' first panel level
+        return settle(lambda m: self._quad(f, idx, m, kind), start, rtol, "axial",
+                      lambda m: int(1.35 * m) + 8)  # basis.py's counter: a new level each step
+
+    def _quad(self, f, idx, points, kind="weight"):
+        breaks = (0.0,) if kind == "panels" else ()
+        rho, ur = self.radial.quadrature(int(points[0]), kind)
+        z, uz = self.axis.quadrature(int(points[1]), kind, breaks)
         with np.errstate(over="ignore", invalid="ignore"):
             v = np.broadcast_to(np.asarray(f(rho[:, None], z[None, :]), dtype=float),
                                 (len(rho), len(z)))

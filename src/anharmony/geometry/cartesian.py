@@ -21,13 +21,17 @@ from functools import cached_property, lru_cache
 
 import numpy as np
 
+from scipy.special import roots_legendre
+
 from ..basis import HermiteBasis
 from ..errors import ConvergenceWarning, NumericalError
 
-__all__ = ["QUADRATURE_RTOL", "CartesianBasis", "contract_first_axis", "settle"]
+__all__ = ["PANEL_RTOL", "QUADRATURE_RTOL", "CartesianBasis", "contract_first_axis", "settle"]
 
 QUADRATURE_RTOL = 1e-11  # block matrices settle to this fraction of their largest element
+PANEL_RTOL = 1e-9  # panels around a cusp at r = 0 converge algebraically: settle to this
 _MAX_POINTS = 400  # per axis; the grid holds up to 400³ values only for tiny blocks
+_PANEL_ORDER = 16  # Gauss–Legendre points per panel of the "panels" rule
 _NOISE_ULPS = 1e4  # rounding floor of a quadrature element, in ulp of max |V| (as basis.py)
 
 
@@ -35,9 +39,17 @@ def _grow(m: int) -> int:
     return int(1.3 * m) + 6
 
 
+def _grow_panels(m: int) -> int:
+    """About 1.5 times the panels per side (at least one more)."""
+    per_side = m // (2 * _PANEL_ORDER)
+    return 2 * _PANEL_ORDER * (per_side + max(1, per_side // 2))
+
+
 def settle(evaluate: Callable[[list[int]], tuple[np.ndarray, float]], start: Sequence[int],
-           rtol: float, what: str) -> np.ndarray:
+           rtol: float, what: str, grow: Callable[[int], int] = _grow) -> np.ndarray:
     """Grow the per-axis point counts until ``evaluate(points)`` stops changing.
+
+    ``grow`` must change the rule at every step (else a repeated rule would look settled).
 
     ``evaluate`` returns the matrix and max |V| on the grid. Settled means the largest change
     is at most ``rtol`` of the largest element, beyond a rounding floor of 10⁴ ulp of max |V|.
@@ -46,7 +58,7 @@ def settle(evaluate: Callable[[list[int]], tuple[np.ndarray, float]], start: Seq
     m = list(start)
     prev, _ = evaluate(m)
     while True:
-        m = [_grow(k) for k in m]
+        m = [grow(k) for k in m]
         cur, fmax = evaluate(m)
         if not np.all(np.isfinite(cur)):
             raise NumericalError(f"a term of the well is not finite at some quadrature points "
@@ -158,8 +170,8 @@ class CartesianBasis:
         return [ax.quadrature(int(m), "weight") for ax, m in zip(self.axes, points, strict=True)]
 
     def quadrature(self, f: Callable[..., np.ndarray], idx: np.ndarray,
-                   rtol: float = QUADRATURE_RTOL, points: Sequence[int] | None = None
-                   ) -> np.ndarray:
+                   rtol: float | None = None, points: Sequence[int] | None = None,
+                   kind: str = "weight") -> np.ndarray:
         """⟨s|f|s′⟩ on the states ``idx`` by tensor Gauss–Hermite quadrature.
 
         The per-axis point count starts at N_i + 16 and grows by ~1.3 until the matrix
@@ -167,12 +179,15 @@ class CartesianBasis:
         :class:`NumericalError` when it has not settled at 400 points per axis.
         """
         if points is not None:
-            return self._quad(f, idx, points)[0]
-        return settle(lambda m: self._quad(f, idx, m), [ax.size + 16 for ax in self.axes],
-                      rtol, "Cartesian")
+            return self._quad(f, idx, points, kind)[0]
+        if rtol is None:
+            rtol = QUADRATURE_RTOL if kind == "weight" else PANEL_RTOL
+        start = [ax.size + 16 if kind == "weight" else 4 * _PANEL_ORDER for ax in self.axes]
+        return settle(lambda m: self._quad(f, idx, m, kind), start, rtol, "Cartesian",
+                      _grow if kind == "weight" else _grow_panels)
 
-    def _quad(self, f, idx, points):
-        rules = [_rule(ax, int(m)) for ax, m in zip(self.axes, points, strict=True)]
+    def _quad(self, f, idx, points, kind="weight"):
+        rules = [_rule(ax, int(m), kind) for ax, m in zip(self.axes, points, strict=True)]
         grids = np.meshgrid(*(r[0] for r in rules), indexing="ij", sparse=True)
         with np.errstate(over="ignore", invalid="ignore"):
             v = np.asarray(f(*grids), dtype=float)
@@ -206,9 +221,29 @@ class CartesianBasis:
 
 
 @lru_cache(maxsize=64)
-def _rule(axis: HermiteBasis, points: int) -> tuple[np.ndarray, np.ndarray]:
-    """Gauss–Hermite rule of one axis basis (a pure function of the basis and point count)."""
-    return axis.quadrature(points, "weight")
+def _rule(axis: HermiteBasis, points: int, kind: str = "weight"
+          ) -> tuple[np.ndarray, np.ndarray]:
+    """Rule of one axis basis: nodes and U[q, n] = √w_q φ_n(x_q) (pure: cached).
+
+    ``"weight"``: the m-point Gauss–Hermite rule. ``"panels"``: composite Gauss–Legendre of
+    order 16 with a panel edge at the axis centre (where a central term with a cusp at r = 0,
+    such as Woods–Saxon, has its kink), reaching √(2N + 1) + 6 oscillator lengths out on each
+    side (φ_n is below 1e-8 of its maximum beyond that for n < N); m points in all.
+    """
+    if kind == "weight":
+        return axis.quadrature(points, "weight")
+    per_side = max(1, points // (2 * _PANEL_ORDER))
+    top = math.sqrt(2.0 * axis.size + 1.0) + 6.0
+    t, w = roots_legendre(_PANEL_ORDER)
+    edges = np.linspace(0.0, top, per_side + 1)
+    half = 0.5 * np.diff(edges)
+    mid = 0.5 * (edges[:-1] + edges[1:])
+    xi = (mid[:, None] + half[:, None] * t[None, :]).ravel()
+    wi = (half[:, None] * w[None, :]).ravel()
+    xi, wi = np.concatenate([-xi[::-1], xi]), np.concatenate([wi[::-1], wi])
+    x = axis.center + axis.length * xi
+    u = axis.functions(x) * np.sqrt(wi * axis.length)[None, :]
+    return x, u.T
 
 
 def contract_first_axis(u: np.ndarray, g: np.ndarray, first: np.ndarray, pair: np.ndarray

@@ -36,7 +36,7 @@ import numpy as np
 from ..errors import InputError
 
 __all__ = ["axial_value", "cartesian_polynomial", "cartesian_value", "check_terms",
-           "axial_polynomial", "geometry_threshold", "is_central", "reflection_symmetric"]
+           "axial_polynomial", "geometry_threshold", "is_central", "needs_panels", "reflection_symmetric"]
 
 
 def is_central(term) -> bool:
@@ -140,6 +140,24 @@ def axial_polynomial(term) -> dict[tuple[int, int], float] | None:
             key = (2 * j, 2 * (k - j))
             out[key] = out.get(key, 0.0) + c * math.comb(k, j)
     return out
+
+
+_SMOOTH_CENTRAL = ("gaussian", "poschl_teller")  # analytic in r², hence in x, y, z
+
+
+def needs_panels(term) -> bool:
+    """True if the term has a kink the Gauss–Hermite rules would converge on only slowly.
+
+    A term off the line declares ``quadrature_geometry = "panels"`` for that (default
+    ``"weight"``); a central term is smooth in x, y, z only when it is analytic in r²
+    (declared ``quadrature_radial = "weight"``, or one of the smooth kinds).
+    """
+    if not is_central(term):
+        return getattr(term, "quadrature_geometry", "weight") == "panels"
+    declared = getattr(term, "quadrature_radial", None)
+    if declared is not None:
+        return declared != "weight"
+    return term.kind not in _SMOOTH_CENTRAL
 
 
 def geometry_threshold(well) -> float:

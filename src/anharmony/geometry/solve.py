@@ -24,7 +24,8 @@ from .blocks import axial_parity, axial_states, cartesian_states, parity_blocks,
 from .cartesian import CartesianBasis
 from .frequencies import TrapFrequencies, trap_frequencies_of
 from .potential import (axial_polynomial, axial_value, cartesian_polynomial, cartesian_value,
-                        check_terms, geometry_threshold, is_central, reflection_symmetric)
+                        check_terms, geometry_threshold, is_central, needs_panels,
+                        reflection_symmetric)
 
 __all__ = ["GEOMETRIES", "GeometrySpectrum", "solve_geometry", "trap_frequencies"]
 
@@ -271,13 +272,15 @@ def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels
             for k, v in poly.items():
                 exact[k] = exact.get(k, 0.0) + v
     rest_well = Well(terms=tuple(rest), units=well.units, mass=well.mass) if rest else None
+    kind = "panels" if any(needs_panels(t) for t in rest) else "weight"
     out = {}
     for key, idx in parity_blocks(states, symmetric).items():
         if not all(w is None or w == p for w, p in zip(wanted, key, strict=True)):
             continue
         h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
         if rest_well is not None:
-            h = h + basis.quadrature(lambda *xs: cartesian_value(rest_well, xs), idx)
+            h = h + basis.quadrature(lambda *xs: cartesian_value(rest_well, xs), idx,
+                                     kind=kind)
         e, v = _diagonalise(h, levels)
         out[key] = (e, v, states[idx])
     return out
@@ -330,6 +333,7 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
             for k, v in poly.items():
                 exact[k] = exact.get(k, 0.0) + v
     rest_well = Well(terms=tuple(rest), units=well.units, mass=well.mass) if rest else None
+    kind = "panels" if any(needs_panels(t) for t in rest) else "weight"
     out = {}
     for lam in lams:
         st = axial_states(shells, lam, weights)
@@ -343,7 +347,8 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
                 continue
             h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
             if rest_well is not None:
-                h = h + basis.quadrature(lambda r, z: axial_value(rest_well, r, z), idx)
+                h = h + basis.quadrature(lambda r, z: axial_value(rest_well, r, z), idx,
+                                         kind=kind)
             e, v = _diagonalise(h, levels)
             full = np.column_stack([st[idx, 0], np.full(len(idx), lam), st[idx, 1]])
             signs = [lam] if lam == 0 or omega is not None else [lam, -lam]
