@@ -130,7 +130,50 @@ def table_tolerance() -> None:
                   f"{np.max(r.error_estimate):.2e} | {dt:.2f} |")
 
 
+def morse25() -> None:
+    """25 Morse levels (λ = sqrt(2mD)/(αħ) = 25.3) to 1e-4 cm⁻¹, and a well without bound states.
+
+    Exact levels: P. M. Morse, Phys. Rev. 34, 57 (1929), E_v = ħω(v+½) − [ħω(v+½)]²/(4D) with
+    ħω = 2D/λ; bound for v < λ − ½, so v = 0 … 24. No bound state of −e^{−r²} (ħ = m = 1) in
+    any channel: V. Bargmann, Proc. Natl. Acad. Sci. USA 38, 961 (1952).
+    """
+    units = ah.units.get_units("molecular")
+    mu, depth, lam = 0.96, 38000.0, 25.3
+    alpha = math.sqrt(depth / units.hbar2_over_2m(mu)) / lam
+    well = ah.Well.from_terms([{"morse": {"depth": depth, "width": alpha}}], units="molecular",
+                              mass=mu)
+    hw = 2.0 * depth / lam
+    v = np.arange(25)
+    exact = hw * (v + 0.5) - (hw * (v + 0.5)) ** 2 / (4.0 * depth)
+    t = time.perf_counter()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = converge(well, 1, None, levels=25, units="molecular", mass=mu, tolerance=1e-4)
+    dt = time.perf_counter() - t
+    err = r.energies - exact
+    print(f"- Morse D = {depth} cm-1, alpha = {alpha:.6f} 1/A, mu = {mu} u: {dt:.1f} s, "
+          f"{r.stopped}, sizes tried {[h[0] for h in r.history]}")
+    print("\n| v | E − E_exact (cm⁻¹) | error_estimate | method | converged |")
+    print("|---:|---:|---:|---|---|")
+    for k in range(25):
+        print(f"| {k} | {err[k]:.2e} | {r.error_estimate[k]:.2e} | {r.method[k]} | "
+              f"{bool(r.converged[k])} |")
+    shallow = ah.Well.from_terms([{"gaussian": {"depth": 1.0, "range": 1.0}}])
+    t = time.perf_counter()
+    tried = []
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        for l in (0, 1, 2):
+            rep = converge(shallow, 3, l, levels=3, tolerance=1e-7, max_size=60)
+            tried.append([h[0] for h in rep.history])
+    print(f"\n- 3D Gaussian V0 = 1, a = 1 (no bound state), l = 0, 1, 2, tolerance 1e-7, "
+          f"max_size 60: {time.perf_counter() - t:.1f} s, sizes tried {tried}")
+
+
 def main() -> None:
+    if "morse25" in sys.argv[1:]:
+        morse25()
+        return
     print(f"machine: {platform.processor() or platform.machine()}, "
           f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}")
     print(f"date: {time.strftime('%Y-%m-%d')}")
@@ -146,6 +189,8 @@ def main() -> None:
     table_extrapolated(w, 2, ref)
     print("\n## Tolerance-driven runs\n")
     table_tolerance()
+    print("\n## 25 Morse levels; a channel without bound states\n")
+    morse25()
     print("\n## Cross-check cost\n")
     for depth, lev in ((51.0, 2), (57.7, 3)):
         t = time.perf_counter()

@@ -96,3 +96,15 @@ def test_a_formula_without_the_coordinate_fits_every_channel(dimension):
     s = ah.solve(well, dimension=dimension, l=l, size=8, levels=2)
     v = np.arange(2) if dimension == 1 else 2 * np.arange(2)
     np.testing.assert_allclose(s.energies, v + dimension / 2 + 0.25, rtol=RTOL_EIGH)
+
+
+def test_case_check_names_the_formula_coordinate_with_file_and_line(tmp_path):
+    # A case file is refused at validation (exit 2 contract, DESIGN §7), with the term's line.
+    from anharmony.cases import load_cases
+
+    path = tmp_path / "bad.yaml"
+    path.write_text("schema: 1\nspace: {dimension: 3, l: 0}\nwell:\n"
+                    "  - harmonic: {frequency: 1.0}\n"
+                    "  - expression: {formula: \"0.1*x**4\"}\n")
+    with pytest.raises(ah.CaseError, match=r"bad\.yaml:5:.*well\[1\].*write the formula in 'r'"):
+        load_cases([path])

@@ -1,11 +1,13 @@
 """Channel matrices: kinetic (with centrifugal), central well and spin–orbit.
 
 A channel is one block of the Hamiltonian: the 1D basis without symmetry, a 1D parity, or an
-(l) / (l, j) channel of a central well in d = 2, 3 (DESIGN §2). Polynomial terms enter exactly
-through the basis' coordinate powers; other terms by adaptive Gauss quadrature. An
-inverse-square term g/r² (a ``power`` term with exponent −2) is absorbed exactly into the
-centrifugal term by an effective angular momentum λ with
-λ(λ + d − 2) = l(l + d − 2) + g / (ħ²/2m).
+(l) / (l, j) channel of a central well in d = 2, 3 (DESIGN §2). Each term says how its matrix
+is made (:meth:`Term.quadrature`): polynomials exactly through the basis' coordinate powers,
+others by adaptive Gauss quadrature on the basis' weight or on panels with edges at the
+term's kinks (:meth:`Term.breaks`). An inverse-square term g/r² (:attr:`Term.inverse_square`)
+is absorbed exactly into the centrifugal term by an effective angular momentum λ with
+λ(λ + d − 2) = l(l + d − 2) + g / (ħ²/2m). A term that cannot be solved in a channel says so
+(:meth:`Term.check_channel`); no term is ever left out of a channel silently.
 """
 
 from __future__ import annotations
@@ -17,15 +19,15 @@ from fractions import Fraction
 import numpy as np
 
 from .basis import HermiteBasis, RadialBasis
+from .errors import InputError
 from .labels import L_LETTERS, channel_label, level_label
-from .potentials import Coulomb, Power, Term, Well
+from .terms import Term
 from .units import UnitSystem
+from .well import Well
 
 __all__ = ["L_LETTERS", "Channel", "ChannelMatrices", "channel_hamiltonian", "level_label",
            "make_basis", "parse_j"]
 
-_WEIGHT_1D = {"harmonic", "power", "polynomial", "gaussian", "morse", "poschl_teller"}
-_WEIGHT_RADIAL = {"gaussian", "poschl_teller"}  # analytic functions of r² when centred at 0
 
 
 def parse_j(j: float | str | None) -> float | None:
@@ -111,28 +113,41 @@ class ChannelMatrices:
 
 
 def effective_lambda(well: Well, channel: Channel) -> tuple[float | None, tuple[Term, ...]]:
-    """λ absorbing the inverse-square terms, and the terms left for the potential matrix."""
-    inv_sq = [t for t in well.central_terms if isinstance(t, Power) and t.exponent == -2]
-    rest = tuple(t for t in well.central_terms if t not in inv_sq)
-    if channel.l is None or not inv_sq:
-        return None, rest
-    g = sum(t.strength for t in inv_sq)
-    d, l = channel.dimension, channel.l
-    c = well.units.hbar2_over_2m(well.mass)
-    disc = 0.25 * (d - 2) ** 2 + l * (l + d - 2) + g / c
-    if disc < 0:
-        raise ValueError(f"power: an attractive inverse-square strength {g} is below the "
-                         "critical value (the particle falls to the centre)")
-    lam = -0.5 * (d - 2) + math.sqrt(disc)
+    """λ absorbing the inverse-square terms, and the terms left for the potential matrix.
+
+    Raises
+    ------
+    InputError
+        If a term of the well cannot be solved in this channel (:meth:`Term.check_channel`),
+        e.g. an inverse-square barrier on the line without symmetry, a term that is not
+        central in a radial channel, or spin–orbit without j.
+    """
+    inv_sq = [t for t in well.central_terms if t.inverse_square is not None]
+    rest = tuple(t for t in well.central_terms if t.inverse_square is None)
+    lam = None
+    if channel.l is not None and inv_sq:
+        g = sum(t.inverse_square for t in inv_sq)
+        d, l = channel.dimension, channel.l
+        c = well.units.hbar2_over_2m(well.mass)
+        disc = 0.25 * (d - 2) ** 2 + l * (l + d - 2) + g / c
+        if disc < 0:
+            raise InputError(f"power: an attractive inverse-square strength {g} is below the "
+                             "critical value (the particle falls to the centre)")
+        lam = -0.5 * (d - 2) + math.sqrt(disc)
+    for t in well.terms:
+        t.check_channel(channel.dimension, channel.l, channel.j, lam)
+    if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
+        raise InputError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
+                         "for the basis without symmetry")
     return lam, rest
 
 
 def make_basis(well: Well, channel: Channel, size: int, length: float, center: float = 0.0
                ) -> HermiteBasis | RadialBasis:
     """The oscillator basis of a channel (with λ from inverse-square terms)."""
+    lam, _ = effective_lambda(well, channel)
     if channel.l is None:
         return HermiteBasis(size, length, center)
-    lam, _ = effective_lambda(well, channel)
     return RadialBasis(size, length, channel.l, channel.dimension, lam)
 
 
@@ -151,7 +166,8 @@ def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
     length
         Oscillator length b of the basis.
     center
-        Basis centre x₀ (1D without symmetry only; central wells are centred at 0).
+        Basis centre x₀ (1D without symmetry only; radial bases are centred at r = 0, and a
+        term's centre there is a radius).
     mass
         Particle mass; defaults to the well's.
     """
@@ -160,13 +176,10 @@ def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
     well.check_channel(channel.dimension)
     radial = channel.l is not None
     if radial:
-        for t in well.central_terms:
-            if t.center != 0.0:
-                raise ValueError(f"{t.kind}.center: a central well (or a 1D parity channel) "
-                                 f"needs every term centred at 0; got {t.center}")
         center = 0.0
-    basis = make_basis(well, channel, size, length, center)
-    _, terms = effective_lambda(well, channel)
+    lam, terms = effective_lambda(well, channel)
+    basis = (HermiteBasis(size, length, center) if not radial
+             else RadialBasis(size, length, channel.l, channel.dimension, lam))
     c = well.units.hbar2_over_2m(well.mass)
     hw = 2.0 * c / length**2
     kinetic = hw * basis.kinetic()
@@ -174,38 +187,33 @@ def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
 
     exact = np.zeros((n, n))
     band = 2 if not radial else 1
-    weight_terms: list[Term] = []
-    panel_terms: list[Term] = []
+    by_kind: dict[str, list[Term]] = {"weight": [], "panels": []}
     for t in terms:
-        poly = t.polynomial()
-        if poly is not None and (not radial or all(p % 2 == 0 for p in poly)):
-            shift = t.center - center
-            for p, coef in poly.items():
-                # (x - c_t)^p = (ξ b − shift)^p expanded in ξ = (x − x0)/b
-                for k in range(p + 1):
-                    w = coef * math.comb(p, k) * (-shift) ** (p - k) * length**k
-                    if w == 0.0:
-                        continue
-                    exact += w * basis.coordinate_power(k) if k else w * np.eye(n)
-                    band = max(band, k if not radial else k // 2)
-        elif (t.kind in _WEIGHT_1D and not radial
-              and not (isinstance(t, Power) and t.exponent != int(t.exponent))) or \
-                (radial and t.kind in _WEIGHT_RADIAL):
-            weight_terms.append(t)
-        else:
-            panel_terms.append(t)
+        kind = t.quadrature(radial)
+        if kind != "exact":
+            by_kind[kind].append(t)
+            continue
+        shift = t.center - center
+        for p, coef in t.polynomial().items():
+            # (x - c_t)^p = (ξ b − shift)^p expanded in ξ = (x − x0)/b
+            for k in range(p + 1):
+                w = coef * math.comb(p, k) * (-shift) ** (p - k) * length**k
+                if w == 0.0:
+                    continue
+                exact += w * basis.coordinate_power(k) if k else w * np.eye(n)
+                band = max(band, k if not radial else k // 2)
     potential = exact
-    if weight_terms:
-        potential = potential + basis.matrix(_summed(weight_terms), kind="weight")
-    if panel_terms:
-        potential = potential + basis.matrix(_summed(panel_terms), kind="panels",
-                                             breaks=_breaks(panel_terms, radial))
+    if by_kind["weight"]:
+        potential = potential + basis.matrix(_summed(by_kind["weight"]), kind="weight")
+    if by_kind["panels"]:
+        breaks = sorted({x for t in by_kind["panels"] for x in t.breaks(radial)})
+        potential = potential + basis.matrix(_summed(by_kind["panels"]), kind="panels",
+                                             breaks=breaks)
     so = np.zeros((n, n))
     if well.has_spin_orbit and channel.ls != 0.0:
-        if not radial or channel.dimension != 3:
-            raise ValueError("spin_orbit: needs a 3D central channel with j")
         so = channel.ls * basis.matrix(well.spin_orbit_value, kind="panels")
-    bandwidth = band if not (weight_terms or panel_terms or np.any(so)) else None
+    quadrature = by_kind["weight"] or by_kind["panels"]
+    bandwidth = band if not (quadrature or np.any(so)) else None
     return ChannelMatrices(kinetic, potential, so, basis, bandwidth, hw)
 
 
@@ -217,13 +225,3 @@ def _summed(terms):
         return out
 
     return f
-
-
-def _breaks(terms, radial):
-    out = []
-    for t in terms:
-        if isinstance(t, Coulomb):
-            out += [t.radius] if radial else [-t.radius, t.radius]
-        elif isinstance(t, Power) and not radial:
-            out.append(t.center)
-    return out

@@ -45,9 +45,10 @@ from .cases import (
 )
 from .errors import NumericalError
 from .hamiltonian import Channel, channel_hamiltonian
-from .potentials import Power, Well
 from .spectrum import BANDED_MAX_RATIO, Reference, diagonalize, upper_band
 from .store import CaseResult, build_dataset, empty_like_series, write_dataset
+from .terms import Power
+from .well import Well
 
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr

@@ -19,8 +19,8 @@ from scipy.optimize import minimize_scalar
 from .basis import HermiteBasis, RadialBasis
 from .errors import ConvergenceWarning
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
-from .potentials import Well
 from .units import UnitSystem, get_units
+from .well import Well
 
 __all__ = ["BANDED_MAX_RATIO", "Reference", "Spectrum", "diagonalize", "reference_oscillator",
            "resolve_channel", "solve", "upper_band"]
@@ -237,20 +237,47 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
 def _auto_reference(well: Well, channel: Channel, levels: int, c: float, radial: bool
                     ) -> Reference:
     dimension = channel.dimension
+    threshold = well.threshold(dimension, symmetric=radial)
 
     if radial:
         x0, vmin, v2 = well.minimum(radial=True)
+        why = ""
         if x0 != 0.0:
-            v2 = 0.0  # a central well's oscillator sits at r = 0
-            vmin = float(well.value(np.array([0.0]))[0])
-            x0 = 0.0
-            why = "the minimum is not at r = 0"
-        else:
-            why = ""
+            # The radial basis sits at r = 0 and the well at r_m = x0 > 0 (a bond length, a
+            # shell). N states of length b reach out to about b·s and resolve momenta up to
+            # ħ s/b (s² ≈ 4N); the lowest levels need r up to r_m + k b_m and momenta up to
+            # ħ k/b_m, b_m the harmonic length at r_m. The b meeting both with the fewest
+            # states is b² = b_m (r_m + k b_m)/k; it needs N ≈ k (r_m/b_m + k)/4. Measured on
+            # Morse wells (r_m/b_m = 12…54, lowest 5 levels, k = 6): error ≤ 1e-10 ħω once N
+            # reaches that, near the best b of a scan; b = b_m needs 1.5–2× the states, and a
+            # b chosen variationally in a 16-state basis stalls at 1e-2…1 ħω for r_m/b_m ≳ 30.
+            if v2 > 0:
+                hw_m = math.sqrt(2.0 * c * v2)
+                b_m = math.sqrt(2.0 * c / hw_m)
+                extent = _well_extent(well, x0, vmin, threshold, radial)
+                if vmin + 0.5 * hw_m >= threshold:
+                    why = ("the lowest level of the harmonic approximation at the radial "
+                           f"minimum r = {x0:.6g} lies above the threshold")
+                elif b_m > extent:
+                    why = (f"the harmonic length {b_m:.4g} at the radial minimum r = {x0:.6g} "
+                           f"exceeds the well's half-depth extent {extent:.4g}")
+                else:
+                    k = 3.0 + math.sqrt(2.0 * levels + 1.0)
+                    b = math.sqrt(b_m * (x0 + k * b_m) / k)
+                    need = math.ceil(k * (x0 / b_m + k) / 4.0)
+                    return Reference(
+                        2.0 * c / b**2, b, 0.0, vmin, "off-centre",
+                        f"the minimum is at r = {x0:.6g}, not at r = 0 where the basis sits: "
+                        f"b = sqrt(b_m (r_m + k b_m)/k) = {b:.4g} with the harmonic length "
+                        f"b_m = {b_m:.4g} there (V'' = {v2:.6g}) and k = {k:.3g}, so that the "
+                        f"basis reaches r_m + k b_m and resolves the well; needs about "
+                        f"N >= {need} states")
+            else:
+                why = f"V'' <= 0 at the radial minimum r = {x0:.6g}"
+            v2, x0 = 0.0, 0.0  # the radial basis is centred at r = 0; vmin stays V(r_m)
     else:
         x0, vmin, v2 = well.minimum()
         why = ""
-    threshold = well.threshold(dimension, symmetric=radial)
     e_low = _lowest_oscillator_level(channel)
     s = well.scale
     rise = abs(float(well.value(np.array([x0 + s]))[0]) - vmin) / s**2
@@ -294,20 +321,26 @@ def _auto_reference(well: Well, channel: Channel, levels: int, c: float, radial:
 def _well_extent(well: Well, x0: float, vmin: float, threshold: float, radial: bool) -> float:
     """Distance from x₀ at which V first climbs half-way to the threshold (the nearer side).
 
-    ``inf`` for wells that confine (threshold +∞) or are unbounded below (−∞), and on a side
-    where V never gets there within 20 length scales of the terms.
+    Radial wells: outward from r = 0, or both ways from a radial minimum r_m > 0, inward at
+    most r_m (where the channel ends). ``inf`` for wells that confine (threshold +∞) or are
+    unbounded below (−∞), and on a side where V never gets there within 20 length scales of
+    the terms.
     """
     if not math.isfinite(threshold):
         return math.inf
     level = vmin + HALF_DEPTH * (threshold - vmin)
     t = np.linspace(0.0, 20.0 * well.scale, 4001)[1:]
     out = math.inf
-    for side in ((1.0,) if radial else (-1.0, 1.0)):
+    for side in ((1.0,) if radial and x0 == 0.0 else (-1.0, 1.0)):
+        # inward from a radial minimum r_m > 0 the channel ends at r = 0: at most r_m
+        ts = t[t <= x0] if radial and side < 0 else t
         with np.errstate(all="ignore"):
-            v = well.value(x0 + side * t)
+            v = well.value(x0 + side * ts)
         hit = np.flatnonzero(~(v < level))  # NaN or +inf count as climbed
         if hit.size:
-            out = min(out, float(t[hit[0]]))
+            out = min(out, float(ts[hit[0]]))
+        elif radial and side < 0:
+            out = min(out, x0)
     return out
 
 

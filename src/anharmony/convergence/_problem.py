@@ -24,16 +24,12 @@ from ..hamiltonian import (
     effective_lambda,
     make_basis,
 )
-from ..potentials import Term, Well
 from ..spectrum import Reference, reference_oscillator, resolve_channel
+from ..terms import Term
 from ..units import UnitSystem
+from ..well import Well
 
 __all__ = ["Problem", "make_problem"]
-
-# Terms that are analytic functions of the basis variable (x in 1D, r² for radial bases), so
-# that the oscillator basis converges faster than any power of N (common practice, no source).
-_SMOOTH_1D = {"harmonic", "power", "polynomial", "gaussian", "morse", "poschl_teller"}
-_SMOOTH_RADIAL = {"harmonic", "gaussian", "poschl_teller"}
 
 
 @dataclass(frozen=True)
@@ -93,39 +89,24 @@ class Problem:
         """True when every matrix of the channel is exact and banded (a polynomial well)."""
         if self.well.has_spin_orbit and self.channel.ls != 0.0:
             return False
-        for t in self.rest:
-            poly = t.polynomial()
-            if poly is None or (self.radial and any(p % 2 for p in poly)):
-                return False
-        return True
+        return all(t.quadrature(self.radial) == "exact" for t in self.rest)
 
     @property
     def smooth(self) -> bool:
-        """True when the well is analytic in the basis variable (fast, super-algebraic UV)."""
-        if self.polynomial:
-            return True
+        """True when the well is analytic in the basis variable (fast, super-algebraic UV).
+
+        Terms exact or integrated on the basis' own weight are analytic in x (1D) or r²
+        (radial), so the oscillator basis converges faster than any power of N (common
+        practice, no source); terms that need panels are not.
+        """
         if self.well.has_spin_orbit and self.channel.ls != 0.0:
             return False
-        allowed = _SMOOTH_RADIAL if self.radial else _SMOOTH_1D
-        for t in self.rest:
-            if t.kind not in allowed:
-                if t.polynomial() is not None and not self.radial:
-                    continue
-                return False
-            if t.kind == "power" and (self.radial or t.exponent != int(t.exponent)):
-                return False
-        return True
+        return all(t.quadrature(self.radial) != "panels" for t in self.rest)
 
     @property
     def breaks(self) -> tuple[float, ...]:
         """Coordinates where a term has a kink (Coulomb sphere radius, power-law centre)."""
-        out: list[float] = []
-        for t in self.rest:
-            if t.kind == "coulomb":
-                out += [t.radius] if self.radial else [-t.radius, t.radius]
-            elif t.kind == "power" and not self.radial:
-                out.append(t.center)
-        return tuple(out)
+        return tuple(sorted({x for t in self.rest for x in t.breaks(self.radial)}))
 
 
 def make_problem(well: Well, dimension: int, l: int | None, j: Any,

@@ -37,15 +37,20 @@ from typing import Any
 
 import numpy as np
 
-from ..potentials import Well
+from .._checks import integer, positive
+from ..errors import InputError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
-from ._problem import Problem, check_count, check_positive, make_problem
+from ..well import Well
+from ._problem import Problem, make_problem
 
 __all__ = ["SIGMA_RTOL", "ResidualBounds", "residual_bounds"]
 
 SIGMA_RTOL = 1e-6  # σ² stable to this relative change between quadrature refinements
 _MAX_REFINE = 14  # quadrature refinements before giving up (points grow ×1.35 each)
+_EPS = float(np.finfo(float).eps)
+ROUNDING_FACTOR = 4.0  # σ² changes below (4 eps)² · N · ||terms||² are rounding: each residual
+#                        value is a sum of N products, rounded to ~sqrt(N) eps of its terms
 UPPER_BOUND_NOTE = ("each Ritz value is an upper bound on its exact level "
                     "(Hylleraas-Undheim-MacDonald theorem)")
 KT_ASSUMPTION = ("Kato-Temple: assumes the next exact level lies at or above the gap estimate "
@@ -153,9 +158,16 @@ def _variance(problem: Problem, size: int, length: float, e: np.ndarray, v: np.n
         psi = u[:, :size] @ v
         pot = problem.potential(coords)
         pot = np.where(np.isfinite(pot), pot, 0.0)  # infinite only where ψ vanishes to 0
-        res = u @ tv + (pot[:, None] - e[None, :]) * psi
+        t_psi = u @ tv
+        v_psi = (pot[:, None] - e[None, :]) * psi
+        res = t_psi + v_psi
         s2 = np.sum(res * res, axis=0)
-        if prev is not None and np.all(np.abs(s2 - prev) <= SIGMA_RTOL * np.abs(s2) + 1e-300):
+        # σ² = ||Tψ + (V − E)ψ||² cancels terms of size ||Tψ||, ||(V − E)ψ||: below
+        # (ROUNDING_FACTOR · eps · that size)² it is rounding and cannot settle any further
+        size2 = np.sum(t_psi * t_psi, axis=0) + np.sum(v_psi * v_psi, axis=0)
+        floor = (ROUNDING_FACTOR * _EPS) ** 2 * size2 * (size + extra)
+        if prev is not None and np.all(np.abs(s2 - prev) <= SIGMA_RTOL * np.abs(s2) + floor
+                                       + 1e-300):
             break
         prev = s2
         points = int(1.35 * points) + 8
@@ -181,13 +193,13 @@ def residual_bounds(well: Well, dimension: int = 3, l: int | None = 0, j: Any = 
     -------
     ResidualBounds
     """
-    size = check_count("size", size)
-    levels = check_count("levels", levels)
+    size = integer("size", size, 1)
+    levels = integer("levels", levels, 1)
     if levels > size:
-        raise ValueError(f"levels: {levels} levels need a basis of at least that size; "
+        raise InputError(f"levels: {levels} levels need a basis of at least that size; "
                          f"got size={size}")
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
-    b = problem.reference.length if length == "auto" else check_positive("length", length)
+    b = problem.reference.length if length == "auto" else positive("length", length)
     return compute_bounds(problem, size, b, levels)
 
 

@@ -31,7 +31,6 @@ discretised-continuum states and are never converged.
 
 from __future__ import annotations
 
-import difflib
 import math
 import warnings
 from collections.abc import Mapping, Sequence
@@ -40,12 +39,13 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import ConvergenceWarning, NumericalError
+from .._checks import choice, flag, integer, integers, known_keys, positive, positives
+from ..errors import ConvergenceWarning, InputError, NumericalError
 from ..hamiltonian import Channel
-from ..potentials import Well
 from ..spectrum import Reference
 from ..units import UnitSystem
-from ._problem import Problem, check_count, check_positive, make_problem
+from ..well import Well
+from ._problem import Problem, make_problem
 from .bounds import (
     KT_ASSUMPTION,
     UPPER_BOUND_NOTE,
@@ -62,7 +62,7 @@ from .extrapolate import (
     infrared_tail,
 )
 from .mesh import CrossCheck, run_cross_check
-from .scans import MAX_LENGTHS, BasisScan, auto_scan, check_sizes, resolve_lengths, run_scan
+from .scans import GRID_HALF_WIDTH, MAX_LENGTHS, BasisScan, auto_scan, resolve_lengths, run_scan
 
 __all__ = [
     "DEFAULT_MAX_SIZE",
@@ -81,7 +81,11 @@ DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explici
 DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
 DEFAULT_RTOL = 1e-8  # without a tolerance, "converged" means error < DEFAULT_RTOL · ħω_ref
 LADDER_RATIO = math.sqrt(2.0)  # successive sizes of the default ladder
-_IR_LENGTHS = ("eigenvalue", "closed_form")
+# A tolerance-driven run stops growing after this many successive sizes with no bound level:
+# Ritz values only fall as the basis grows, so a level can still become bound, but a basis
+# growing by 2x (three √2 steps) without binding any is taken to show a channel with none.
+NO_BOUND_STEPS = 3
+IR_LENGTHS = ("eigenvalue", "closed_form")
 
 
 def size_ladder(start: int, stop: int, ratio: float = LADDER_RATIO) -> tuple[int, ...]:
@@ -144,56 +148,55 @@ class ConvergenceSettings:
     ir_length: str = "eigenvalue"
     estimate: str = "extrapolate"
 
+    def __post_init__(self) -> None:
+        # the study's own argument checks (case files are checked by their schema first)
+        fix = object.__setattr__
+        if self.sizes is not None:
+            fix(self, "sizes", integers("sizes", self.sizes, 1, what="basis sizes",
+                                        noun="sizes"))
+        if isinstance(self.lengths, str) and self.lengths == "auto":
+            fix(self, "lengths", None)
+        if self.lengths is not None:
+            fix(self, "lengths", positives("lengths", self.lengths, noun="lengths",
+                                           what="oscillator lengths"))
+        if self.frequencies is not None:
+            if self.lengths is not None:
+                raise InputError("frequencies: give lengths or frequencies, not both")
+            fix(self, "frequencies", positives("frequencies", self.frequencies,
+                                               noun="frequencies", what="hbar*omega values"))
+        if self.tolerance is not None:
+            fix(self, "tolerance", positive("tolerance", self.tolerance))
+        if self.grow is not None:
+            flag("grow", self.grow)
+        if self.max_size is not None:
+            fix(self, "max_size", integer("max_size", self.max_size, 2))
+        flag("cross_check", self.cross_check)
+        flag("bounds", self.bounds)
+        choice("ir_length", self.ir_length, IR_LENGTHS)
+        choice("estimate", self.estimate, ESTIMATES)
+
     @classmethod
     def from_mapping(cls, block: Mapping[str, Any] | None, path: str = "convergence"
                      ) -> ConvergenceSettings:
-        """Validate a case-file mapping; errors name ``path.key`` and what was expected."""
+        """Settings from a mapping of the keys above; errors name ``path.key``.
+
+        A convenience for Python users: case files are validated by their schema
+        (:class:`anharmony.cases.Convergence`), which builds the settings directly.
+        """
         if block is None:
             return cls()
-        if not isinstance(block, Mapping):
-            raise ValueError(f"{path}: must be a mapping; got {block!r}")
-        for key in block:
-            if key not in _KEYS:
-                near = difflib.get_close_matches(str(key), _KEYS, n=1)
-                hint = f" (did you mean {near[0]!r}?)" if near else ""
-                raise ValueError(f"{path}.{key}: unknown key{hint}; valid keys: "
-                                 f"{', '.join(_KEYS)}")
-        kw: dict[str, Any] = {}
-        if block.get("sizes") is not None:
-            kw["sizes"] = check_sizes(block["sizes"], f"{path}.sizes")
-        lengths = block.get("lengths")
-        if lengths is not None and lengths != "auto":
-            kw["lengths"] = _positive_list(lengths, f"{path}.lengths")
-        if block.get("frequencies") is not None:
-            if "lengths" in kw:
-                raise ValueError(f"{path}.frequencies: give lengths or frequencies, not both")
-            kw["frequencies"] = _positive_list(block["frequencies"], f"{path}.frequencies")
-        if block.get("tolerance") is not None:
-            kw["tolerance"] = check_positive(f"{path}.tolerance", block["tolerance"])
-        if block.get("max_size") is not None:
-            kw["max_size"] = check_count(f"{path}.max_size", block["max_size"], 2)
-        for key in ("cross_check", "bounds", "grow"):
-            if key in block and not (key == "grow" and block[key] is None):
-                if not isinstance(block[key], bool):
-                    raise ValueError(f"{path}.{key}: must be true or false; got {block[key]!r}")
-                kw[key] = block[key]
-        if "ir_length" in block:
-            if block["ir_length"] not in _IR_LENGTHS:
-                raise ValueError(f"{path}.ir_length: must be one of {', '.join(_IR_LENGTHS)}; "
-                                 f"got {block['ir_length']!r}")
-            kw["ir_length"] = block["ir_length"]
-        if "estimate" in block:
-            if block["estimate"] not in ESTIMATES:
-                raise ValueError(f"{path}.estimate: must be one of {', '.join(ESTIMATES)}; "
-                                 f"got {block['estimate']!r}")
-            kw["estimate"] = block["estimate"]
-        return cls(**kw)
+        known_keys(path, block, _KEYS)
+        given = {k: v for k, v in block.items() if not (k == "grow" and v is None)}
+        try:
+            return cls(**given)
+        except InputError as exc:
+            raise InputError(f"{path}.{exc}") from None
 
     def size_axis(self, levels: int) -> tuple[int, ...]:
         """Every basis size a run with these settings can use (the ``basis_size`` axis)."""
         grow = self.grow if self.grow is not None else self.tolerance is not None
         return _ladder(self.sizes, self.max_size, self.tolerance if grow else None,
-                       check_count("levels", levels))[0]
+                       integer("levels", levels, 1))[0]
 
     def length_slots(self) -> int:
         """Most lengths a run can hold (the ``basis_length`` axis of the result file)."""
@@ -203,6 +206,31 @@ class ConvergenceSettings:
             return len(self.frequencies)
         return MAX_LENGTHS
 
+    def work(self, levels: int, lengths: int | None = None
+             ) -> tuple[tuple[int, int, int], ...]:
+        """The work of one :func:`converge` run: ``(size, diagonalisations, builds)`` per size.
+
+        A growing run rescans every size so far at each step (one Hamiltonian per length at
+        the step's largest size); the count is that of a run that reaches its size limit, an
+        upper bound. ``lengths`` is the number of lengths per step (default: the given grid,
+        or the automatic grid of 2·GRID_HALF_WIDTH + 1 lengths, which may widen to
+        MAX_LENGTHS).
+        """
+        grow = self.grow if self.grow is not None else self.tolerance is not None
+        axis = [n for n in self.size_axis(levels) if n >= levels]
+        nl = lengths if lengths is not None else (
+            len(self.lengths) if self.lengths is not None else
+            len(self.frequencies) if self.frequencies is not None else 2 * GRID_HALF_WIDTH + 1)
+        solves = dict.fromkeys(axis, 0)
+        builds = dict.fromkeys(axis, 0)
+        for k in range(len(axis)) if grow else [len(axis) - 1]:
+            for n in axis[: k + 1]:
+                solves[n] += nl
+            extra = 1 if self.bounds else 0  # the residual bounds: one more at the step's size
+            solves[axis[k]] += extra
+            builds[axis[k]] += nl + extra
+        return tuple((n, solves[n], builds[n]) for n in axis if solves[n])
+
     def keywords(self) -> dict[str, Any]:
         """Keyword arguments of :func:`converge`."""
         return {"sizes": self.sizes, "lengths": self.lengths or "auto",
@@ -211,14 +239,9 @@ class ConvergenceSettings:
                 "bounds": self.bounds, "ir_length": self.ir_length}
 
 
-def _positive_list(values: Any, name: str) -> tuple[float, ...]:
-    if isinstance(values, (str, bytes)) or not isinstance(values, Sequence) or not values:
-        raise ValueError(f"{name}: must be 'auto' or a non-empty list of positive numbers; "
-                         f"got {values!r}")
-    out = tuple(check_positive(f"{name}[{i}]", v) for i, v in enumerate(values))
-    if len(set(out)) != len(out):
-        raise ValueError(f"{name}: values must be distinct; got {list(values)!r}")
-    return out
+def _as_tuple(values: Any) -> Any:
+    """Lists as tuples (the settings are frozen); anything else as given, for the checks."""
+    return tuple(values) if isinstance(values, (list, tuple, np.ndarray)) else values
 
 
 # --------------------------------------------------------------------------- report
@@ -363,7 +386,7 @@ class ConvergenceReport:
         sizes = np.asarray(self.sizes if basis_sizes is None else basis_sizes, dtype=int)
         nb = self.lengths.size if length_slots is None else int(length_slots)
         if nb < self.lengths.size:
-            raise ValueError(f"length_slots: {nb} is fewer than the {self.lengths.size} "
+            raise InputError(f"length_slots: {nb} is fewer than the {self.lengths.size} "
                              "lengths of this report")
         e_unit, l_unit = self.units.energy, self.units.length
         lev = self.levels
@@ -661,7 +684,9 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     tolerance
         With a tolerance the sizes are tried in order and the run stops at the first size
         (from the second on) where every bound level's error estimate is below it;
-        ``converged`` compares with it.
+        ``converged`` compares with it. Only bound levels drive the growth: levels above the
+        threshold are discretised-continuum states, reported as unbound (never converged),
+        and a channel with no bound level at NO_BOUND_STEPS successive sizes stops growing.
     grow
         Whether a tolerance drives the size (default True when a tolerance is given); with
         ``grow=False`` every size is scanned and the tolerance only sets ``converged``.
@@ -682,28 +707,21 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     -------
     ConvergenceReport
     """
-    levels = check_count("levels", levels)
-    if tolerance is not None:
-        tolerance = check_positive("tolerance", tolerance)
-    if grow is None:
-        grow = tolerance is not None
-    elif not isinstance(grow, bool):
-        raise ValueError(f"grow: must be True, False or None; got {grow!r}")
+    levels = integer("levels", levels, 1)
+    flag("warn", warn)
+    s = ConvergenceSettings(sizes=_as_tuple(sizes), lengths=_as_tuple(lengths),
+                            frequencies=_as_tuple(frequencies), tolerance=tolerance, grow=grow,
+                            max_size=max_size, cross_check=cross_check, bounds=bounds,
+                            ir_length=ir_length)
+    tolerance, max_size, sizes_t = s.tolerance, s.max_size, s.sizes
+    grow = s.tolerance is not None if s.grow is None else s.grow
     if grow and tolerance is None:
-        raise ValueError("grow: growing the basis needs a tolerance")
-    if max_size is not None:
-        max_size = check_count("max_size", max_size, 2)
-    sizes_t = check_sizes(sizes) if sizes is not None else None
-    if ir_length not in _IR_LENGTHS:
-        raise ValueError(f"ir_length: must be one of {', '.join(_IR_LENGTHS)}; got {ir_length!r}")
-    for name, flag in (("cross_check", cross_check), ("bounds", bounds), ("warn", warn)):
-        if not isinstance(flag, bool):
-            raise ValueError(f"{name}: must be True or False; got {flag!r}")
+        raise InputError("grow: growing the basis needs a tolerance")
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
     explicit = resolve_lengths(problem, lengths, frequencies)
     ladder, limit = _ladder(sizes_t, max_size, tolerance if grow else None, levels)
     if ladder[-1] < levels:
-        raise ValueError(f"sizes: {levels} levels need a basis of at least that size; "
+        raise InputError(f"sizes: {levels} levels need a basis of at least that size; "
                          f"the largest size is {ladder[-1]}")
     tol = tolerance if tolerance is not None else DEFAULT_RTOL * problem.reference.frequency
     nlev = levels + 1  # one more level: the gap estimate of the highest requested one
@@ -713,6 +731,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     scan = bnd = None
     est: list[_LevelEstimate] = []
     first = 0 if grow else len(ladder) - 1
+    unbound_run = 0  # successive sizes at which no requested level was bound
     for k in range(first, len(ladder)):
         now = ladder[: k + 1]
         if now[-1] < levels:
@@ -729,9 +748,15 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         est = [_estimate(problem, scan, i, ir_length, bnd) for i in range(levels)]
         errs = np.array([e.error for e in est])
         history.append((int(now[-1]), tuple(float(x) for x in errs)))
-        if grow and len(history) >= 2 and bound.any() \
-                and np.all(errs[bound] < tol):
+        unbound_run = unbound_run + 1 if not bound.any() else 0
+        # grow for bound levels only: continuum states of a finite basis never converge
+        if grow and len(history) >= 2 and bound.any() and np.all(errs[bound] < tol):
             stopped = f"converged at size {now[-1]} (tolerance {tol:.3g})"
+            break
+        if grow and unbound_run >= NO_BOUND_STEPS:
+            stopped = (f"no bound level at sizes {[h[0] for h in history[-unbound_run:]]}: "
+                       "every requested level lies above the threshold (discretised "
+                       "continuum), so the basis does not grow")
             break
     else:
         stopped = (f"size limit {ladder[-1]} reached" if grow

@@ -43,6 +43,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import brentq, minimize_scalar
 
+from ..errors import InputError
+
 __all__ = [
     "IR_CONSISTENCY",
     "WINDOW",
@@ -147,24 +149,29 @@ def _log_linear(x: np.ndarray, y: np.ndarray, noise: float) -> tuple[float, floa
         return None
     floor = max(noise, 1e-300)
 
-    def fit(t: float) -> tuple[float, float]:
-        z = np.log(y - y[-1] + math.exp(t))
-        a = np.polyfit(x, z, 1)
-        res = z - np.polyval(a, x)
-        sst = float(np.sum((z - z.mean()) ** 2))
-        r2 = 1.0 - float(np.sum(res**2)) / sst if sst else 1.0
-        return r2, -float(a[0])
+    xc = x - x.mean()
+    sxx = float(np.sum(xc * xc))
+
+    def fit(t: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        # closed-form straight line z = a0 + a1 x for every shift t at once:
+        # a1 = Σ xc z / Σ xc², R² = (Σ xc z)² / (Σ xc² · Σ (z − z̄)²)
+        z = np.log(y[None, :] - y[-1] + np.exp(np.atleast_1d(t))[:, None])
+        sxz = z @ xc
+        zc = z - z.mean(axis=1, keepdims=True)
+        szz = np.sum(zc * zc, axis=1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            r2 = np.where(szz > 0, sxz * sxz / (sxx * szz), 1.0)
+        return r2, -sxz / sxx
 
     lo, hi = math.log(floor), math.log(1e4 * span)
     if not hi > lo:
         return None
     grid = np.linspace(lo, hi, 81)
-    vals = [fit(t)[0] for t in grid]
-    i = int(np.argmax(vals))
+    i = int(np.argmax(fit(grid)[0]))
     a, b = grid[max(i - 1, 0)], grid[min(i + 1, len(grid) - 1)]
-    t = float(minimize_scalar(lambda s: -fit(s)[0], bounds=(a, b), method="bounded",
+    t = float(minimize_scalar(lambda s: -float(fit(s)[0][0]), bounds=(a, b), method="bounded",
                               options={"xatol": 1e-6}).x)
-    r2, k = fit(t)
+    r2, k = (float(v[0]) for v in fit(t))
     if not k > 0:
         return None
     return y[-1] - math.exp(t), k, r2
@@ -223,11 +230,11 @@ def _check(sizes: Sequence[float], energies: Sequence[float]) -> tuple[np.ndarra
     x = np.asarray(sizes, dtype=float)
     y = np.asarray(energies, dtype=float)
     if x.shape != y.shape or x.ndim != 1:
-        raise ValueError(f"energies: need one energy per size; got {y.shape} for {x.shape}")
+        raise InputError(f"energies: need one energy per size; got {y.shape} for {x.shape}")
     if np.any(np.diff(x) <= 0):
-        raise ValueError("sizes: must be strictly increasing")
+        raise InputError("sizes: must be strictly increasing")
     if not np.all(np.isfinite(y)):
-        raise ValueError("energies: must be finite")
+        raise InputError("energies: must be finite")
     return x, y
 
 
@@ -255,7 +262,7 @@ def extrapolate_power(sizes: Sequence[int], energies: Sequence[float], noise: fl
     """E(N) = E∞ + A N^{−p} at fixed b (an exponential in ln N), fitted to the last sizes."""
     x, y = _check(sizes, energies)
     if np.any(x <= 0):
-        raise ValueError("sizes: must be positive")
+        raise InputError("sizes: must be positive")
     fit = fit_decay(np.log(x), y, noise)
     return _result("power", fit, length, sizes)
 

@@ -35,9 +35,9 @@ from scipy.linalg import eigh, toeplitz
 from scipy.special import gammaln, roots_legendre
 
 from ..basis import OrthogonalFamily
-from ..potentials import Well
 from ..spectrum import diagonalize
 from ..units import UnitSystem
+from ..well import Well
 from ._problem import Problem, check_count, check_positive, make_problem
 
 __all__ = ["DECAY", "GROWTH", "CrossCheck", "cross_check", "laguerre_kinetic"]

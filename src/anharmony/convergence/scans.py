@@ -28,12 +28,13 @@ from scipy.linalg import eigh, eigh_tridiagonal
 from scipy.optimize import brentq
 from scipy.special import jv
 
+from .._checks import integer, integers, positives
 from ..basis import HermiteBasis, RadialBasis
-from ..errors import NumericalError
-from ..potentials import Well
+from ..errors import InputError, NumericalError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
-from ._problem import Problem, check_count, check_positive, make_problem
+from ..well import Well
+from ._problem import Problem, make_problem
 
 __all__ = [
     "BasisScan",
@@ -162,7 +163,7 @@ class BasisScan:
             return len(self.sizes) - 1
         hits = np.flatnonzero(self.sizes == size)
         if not hits.size:
-            raise ValueError(f"size: {size!r} is not one of the scanned sizes "
+            raise InputError(f"size: {size!r} is not one of the scanned sizes "
                              f"{self.sizes.tolist()}")
         return int(hits[0])
 
@@ -210,7 +211,7 @@ def bessel_zero(nu: float) -> float:
     """
     nu = float(nu)
     if not nu > -1.0:
-        raise ValueError(f"nu: the Bessel order must exceed -1; got {nu!r}")
+        raise InputError(f"nu: the Bessel order must exceed -1; got {nu!r}")
     if nu == -0.5:
         return 0.5 * math.pi
     if nu == 0.5:
@@ -296,36 +297,16 @@ def run_scan(problem: Problem, sizes: Sequence[int], lengths: Sequence[float], l
                      skipped=tuple(skipped))
 
 
-def check_sizes(sizes: Any, name: str = "sizes") -> tuple[int, ...]:
-    """A non-empty list of distinct integers ≥ 1, sorted."""
-    if isinstance(sizes, (str, bytes)) or not isinstance(sizes, Sequence) or not sizes:
-        raise ValueError(f"{name}: must be a non-empty list of basis sizes; got {sizes!r}")
-    out = [check_count(f"{name}[{i}]", s) for i, s in enumerate(sizes)]
-    if len(set(out)) != len(out):
-        raise ValueError(f"{name}: sizes must be distinct; got {list(sizes)!r}")
-    return tuple(sorted(out))
-
-
 def resolve_lengths(problem: Problem, lengths: Any, frequencies: Any) -> tuple[float, ...] | None:
     """Explicit lengths (from ``lengths`` or ``frequencies``), or None for ``"auto"``."""
     if frequencies is not None:
-        if not (lengths is None or lengths == "auto"):
-            raise ValueError("lengths: give lengths or frequencies, not both")
-        if isinstance(frequencies, (str, bytes)) or not isinstance(frequencies, Sequence) \
-                or not frequencies:
-            raise ValueError(f"frequencies: must be a non-empty list of hbar*omega values; "
-                             f"got {frequencies!r}")
-        hw = [check_positive(f"frequencies[{i}]", f) for i, f in enumerate(frequencies)]
+        if not (lengths is None or (isinstance(lengths, str) and lengths == "auto")):
+            raise InputError("lengths: give lengths or frequencies, not both")
+        hw = positives("frequencies", frequencies, what="hbar*omega values", noun="frequencies")
         return tuple(sorted(math.sqrt(2.0 * problem.hbar2_2m / w) for w in hw))
     if lengths is None or (isinstance(lengths, str) and lengths == "auto"):
         return None
-    if isinstance(lengths, (str, bytes)) or not isinstance(lengths, Sequence) or not lengths:
-        raise ValueError(f"lengths: must be 'auto' or a non-empty list of oscillator lengths; "
-                         f"got {lengths!r}")
-    out = [check_positive(f"lengths[{i}]", b) for i, b in enumerate(lengths)]
-    if len(set(out)) != len(out):
-        raise ValueError(f"lengths: lengths must be distinct; got {list(lengths)!r}")
-    return tuple(sorted(out))
+    return positives("lengths", lengths, what="oscillator lengths (or 'auto')", noun="lengths")
 
 
 def auto_scan(problem: Problem, sizes: Sequence[int], levels: int, center: float
@@ -400,8 +381,8 @@ def scan_basis(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     -------
     BasisScan
     """
-    levels = check_count("levels", levels)
-    sizes_t = check_sizes(sizes)
+    levels = integer("levels", levels, 1)
+    sizes_t = integers("sizes", sizes, 1, what="basis sizes", noun="sizes")
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
     explicit = resolve_lengths(problem, lengths, frequencies)
     if explicit is None:

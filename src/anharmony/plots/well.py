@@ -95,7 +95,7 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
     from scipy.linalg import eigh
 
     from ..hamiltonian import Channel, channel_hamiltonian
-    from ..potentials import Well
+    from ..well import Well
 
     case = _case(view)
     d = view.dimension

@@ -19,9 +19,9 @@ import numpy as np
 
 from anharmony.errors import ConvergenceWarning
 from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda
-from anharmony.potentials import Well
 from anharmony.spectrum import Reference, reference_oscillator, resolve_channel
 from anharmony.units import UnitSystem
+from anharmony.well import Well
 
 from ._values import to_mpf
 from .growth import LargeOrder, large_order

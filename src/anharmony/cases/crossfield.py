@@ -1,0 +1,154 @@
+"""Checks that relate several fields of a case: the one place for them.
+
+The schema (:mod:`.schema`) checks each field by itself. What is left needs two or more
+fields at once — spin and dimension, ``levels.count`` and ``basis.size``, the scan path and
+the well, the convergence study and the size limit, every scan point of the well — and lives
+here, in two stages:
+
+- :func:`model_issues` on a validated :class:`~.schema.CaseModel` (also resolves the scan
+  target, which the :class:`~.case.Case` needs);
+- :func:`case_issues` on the built :class:`~.case.Case` (the study's sizes, scan points).
+
+Both return ``(data path, message)`` pairs; :mod:`.files` gives them positions.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+from typing import Any
+
+from pydantic import ValidationError
+
+from ..errors import InputError, TermError
+from ..well import Well
+from .case import Case, ScanTarget, channels_of, parse_scan_path
+from .messages import Path_, message
+from .schema import CaseModel, parse_half
+
+__all__ = ["case_issues", "model_issues"]
+
+Found = list[tuple[Path_, str]]
+
+
+def _space_issues(model: CaseModel) -> Found:
+    space = model.space
+    out: Found = []
+    if space.spin is not None and space.dimension != 3:
+        out.append((("space", "spin"), "spin applies in 3 dimensions only; dimension is "
+                    f"{space.dimension}"))
+    if space.j is not None and space.spin is None:
+        out.append((("space", "j"), "j needs spin: 1/2"))
+    if any(next(iter(t)) == "spin_orbit" for t in model.well) and space.spin is None:
+        out.append((("space",), "the well has a spin_orbit term: add spin: 1/2 to space"))
+    if space.dimension == 1 and space.l is not None:
+        bad = [l for l in (space.l if isinstance(space.l, list) else [space.l]) if l > 1]
+        if bad:
+            out.append((("space", "l"), f"in 1D, l is the parity (0 even, 1 odd); got {bad[0]}"))
+    if out:
+        return out
+    if not channels_of(space):
+        out.append((("space", "j"), "no channel has these j for the listed l"))
+    elif space.j is not None:
+        reach = {c.j for c in channels_of(space.model_copy(update={"j": None}))}
+        for j in sorted({parse_half(j) for j in space.j} - reach):
+            out.append((("space", "j"), f"j = {Fraction(j)} is not l ± 1/2 for any listed l"))
+    try:  # a formula must use the channel's coordinate (x in 1D, r in 2D/3D)
+        Well.from_terms(model.well, model.units, model.particle.mass).check_channel(
+            space.dimension)
+    except TermError as exc:  # exc.term is "well[i].<kind>": point at that term's line
+        index, _, kind = exc.term.partition("[")[2].partition("]")
+        at = (("well", int(index), kind.lstrip("."), exc.field) if index.isdigit() and exc.field
+              else ("well",))
+        out.append((at, exc.message))
+    except (ValueError, TypeError):
+        pass  # the schema reports a bad term
+    if space.dimension == 1 and space.l is not None:
+        try:
+            symmetric = Well.from_terms(model.well, model.units,
+                                        model.particle.mass).is_symmetric(0.0)
+        except (ValueError, TypeError):
+            symmetric = True  # the schema reports a bad term
+        if not symmetric:
+            out.append((("space", "l"), "1D parity channels need a well symmetric about x = 0; "
+                        "leave l out for the basis without symmetry"))
+    return out
+
+
+def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
+    """Cross-field problems of a schema-valid case, and its scan target."""
+    out = _space_issues(model)
+    if model.levels.count > model.basis.size:
+        out.append((("levels", "count"), f"asks for {model.levels.count} levels from a basis of "
+                    f"{model.basis.size} states; raise basis.size or lower levels.count"))
+    ref = model.reference
+    if ref.frequency is not None and ref.length is not None:
+        out.append((("reference", "length"), "give frequency or length, not both"))
+    if ref.center is not None and model.space.dimension != 1:
+        out.append((("reference", "center"), "a centre applies to 1D wells only"))
+    conv = model.convergence
+    for key in ("sizes", "lengths", "frequencies"):  # the study's grids, checked after types
+        values = getattr(conv, key)
+        if isinstance(values, list) and len(set(values)) != len(values):
+            out.append((("convergence", key), f"{key} must be distinct; got {values}"))
+    if conv.lengths is not None and conv.frequencies is not None:
+        out.append((("convergence", "frequencies"), "give lengths or frequencies, not both"))
+    if conv.grow and conv.method != "extrapolate":
+        out.append((("convergence", "grow"), "growing the basis needs the study's error "
+                    f"estimate (estimate: extrapolate); got estimate: {conv.method}"))
+    target = ScanTarget("coupling", linear=True)
+    if model.scan is not None:
+        try:
+            target = parse_scan_path(model.scan.parameter, model.well)
+        except ValueError as exc:
+            out.append((("scan", "parameter"), str(exc)))
+    return out, target
+
+
+def _study_issues(case: Case) -> Found:
+    """The convergence study: what it needs of the scan, and its largest size."""
+    conv = case.model.convergence
+    if not conv.study:
+        return []
+    if case.scan_target.kind == "coupling" and case.model.scan is not None:
+        for i, spec in enumerate(case.model.well):
+            if next(iter(spec)) == "expression":
+                return [(("convergence",), "a study of a coupling scan needs the well at each "
+                         f"lambda, and the expression term well[{i}] cannot be scaled by "
+                         "lambda; scan a parameter of its formula instead")]
+    try:
+        settings = case.study_settings()
+    except InputError as exc:  # the schema covers the study's checks; this is a safety net
+        return [(("convergence",), str(exc))]
+    count = case.model.levels.count
+    top = max(settings.size_axis(count))
+    if top < count:
+        key = "max_size" if "max_size" in conv.written else "sizes"
+        return [(("convergence", key), f"the largest basis size of the study is {top}, fewer "
+                 f"than the {count} levels asked for (levels.count)")]
+    return []
+
+
+def _scan_point_issues(case: Case) -> Found:
+    """Every scan point must give a valid case; the first that does not is reported."""
+    scan = case.model.scan
+    if scan is None or case.scan_target.kind == "coupling":
+        return []
+    for k, value in enumerate(scan.points()):
+        at = f"at {scan.parameter} = {value:g}: "
+        where = "" if k == 0 else f" (scan point {k})"
+        try:
+            CaseModel.model_validate(case.settings_at(value))  # terms are built by the schema
+            case.well_at(value)
+        except ValidationError as exc:
+            err: Any = exc.errors(include_url=False)[0]
+            return [(("scan", "values"), at + message(err, CaseModel) + where)]
+        except TermError as exc:
+            return [(("scan", "values"), at + exc.message + where)]
+        except (ValueError, TypeError) as exc:
+            return [(("scan", "values"), at + str(exc) + where)]
+    return []
+
+
+def case_issues(case: Case) -> Found:
+    """Cross-field problems that need the built case: the study, then the scan points."""
+    return _study_issues(case) or _scan_point_issues(case)

@@ -1,0 +1,172 @@
+"""Reading and validating case files: every problem of every file, in one message style.
+
+:func:`load_cases` reads each file (:mod:`.loader`), validates each case with the schema
+(:mod:`.schema`, one pydantic pass that also builds the terms), then the cross-field checks
+(:mod:`.crossfield`), and raises one :class:`~anharmony.errors.CaseError` listing every
+:class:`~.messages.Issue` as ``file:line:col: field.path: message``.
+"""
+
+from __future__ import annotations
+
+import copy
+import textwrap
+from collections.abc import Mapping, Sequence
+from pathlib import Path
+from typing import Any
+
+import yaml
+from pydantic import ValidationError
+
+from ..errors import CaseError
+from .case import Case
+from .crossfield import case_issues, model_issues
+from .loader import Marks, parse_yaml
+from .messages import Issue, Path_, got, issue_at, schema_issues
+from .schema import CaseModel
+
+__all__ = ["case_from_dict", "load_case", "load_cases"]
+
+
+def _validate(data: Any, name: str, marks: Marks, prefix: Path_, folder: Path,
+              index: int | None, text: str) -> tuple[Case | None, list[Issue]]:
+    """One case: the schema, then the cross-field checks once the fields are right."""
+    if not isinstance(data, Mapping):
+        return None, [issue_at(marks, name, prefix, (), "a case must be a mapping of settings "
+                               f"(schema, units, well, …); {got(data)}")]
+    try:
+        model = CaseModel.model_validate(data)
+    except ValidationError as exc:
+        return None, [issue_at(marks, name, prefix, s.path, s.message, key=s.at_key,
+                               shown=s.shown) for s in schema_issues(exc, data, CaseModel)]
+    found, target = model_issues(model)
+    if not found:
+        out_name = model.output or (Path(name).stem + ("" if index is None else f"-{index + 1}")
+                                    + ".nc")
+        output = Path(out_name) if Path(out_name).is_absolute() else folder / out_name
+        case = Case(model, name, index, text, output, target)
+        found = case_issues(case)
+        if not found:
+            return case, []
+    return None, [issue_at(marks, name, prefix, path, msg) for path, msg in found]
+
+
+def _case_text(text: str, node: yaml.Node | None) -> str:
+    """The YAML text of one entry of a ``cases:`` list, dedented into a document of its own."""
+    if node is None:
+        return text
+    start, end = node.start_mark, node.end_mark
+    chunk = " " * start.column + text[start.index:end.index]
+    return textwrap.dedent(chunk).rstrip() + "\n"
+
+
+def _from_text(text: str, name: str, folder: Path) -> tuple[list[Case], list[Issue]]:
+    data, marks, problems = parse_yaml(text, name)
+    if data is None:
+        if not problems:
+            problems = [Issue(name, 1, 1, "", "the file is empty; expected a case "
+                                "(schema, units, well, …) or a list under cases:")]
+        return [], problems
+    cases: list[Case] = []
+    if isinstance(data, Mapping) and "cases" in data:
+        extra = [k for k in data if k != "cases"]
+        for k in extra:
+            problems.append(issue_at(marks, name, (), (k,), "with cases:, put every setting "
+                                     "inside each case", key=True))
+        items = data["cases"]
+        if not isinstance(items, list) or not items:
+            problems.append(issue_at(marks, name, (), ("cases",),
+                                     f"must be a non-empty list of cases; {got(items)}"))
+            return [], problems
+        for i, item in enumerate(items):
+            case, found = _validate(item, name, marks, ("cases", i), folder, i,
+                                    _case_text(text, marks.nodes.get(("cases", i))))
+            problems += found
+            if case is not None:
+                cases.append(case)
+    else:
+        case, found = _validate(data, name, marks, (), folder, None, text)
+        problems += found
+        if case is not None:
+            cases.append(case)
+    problems.sort(key=lambda p: (p.line or 0, p.column or 0))
+    return ([] if problems else cases), problems
+
+
+def load_cases(paths: str | Path | Sequence[str | Path]) -> list[Case]:
+    """Load and validate one or more case files.
+
+    Parameters
+    ----------
+    paths
+        A case file or a list of them; each holds one case or a list under ``cases:``.
+
+    Returns
+    -------
+    list of Case
+        Every case of every file, in order.
+
+    Raises
+    ------
+    CaseError
+        With every problem of every file (``.problems``), including two cases that would
+        write the same result file.
+    """
+    if isinstance(paths, (str, Path)):
+        paths = [paths]
+    cases: list[Case] = []
+    problems: list[Issue] = []
+    for p in paths:
+        name = str(p)
+        try:
+            text = Path(p).read_text(encoding="utf-8")
+        except FileNotFoundError:
+            problems.append(Issue(name, None, None, "", "no such case file"))
+            continue
+        except (OSError, UnicodeDecodeError) as exc:
+            problems.append(Issue(name, None, None, "", f"cannot read the case file: "
+                                    f"{getattr(exc, 'strerror', None) or exc}"))
+            continue
+        found, bad = _from_text(text, name, Path(p).resolve().parent)
+        cases += found
+        problems += bad
+    seen: dict[Path, Case] = {}
+    for c in cases:
+        key = c.output.resolve()
+        if key in seen:
+            problems.append(Issue(c.file, None, None, "output" if c.index is None
+                                    else f"cases[{c.index}].output",
+                                    f"{c.name} and {seen[key].name} would both write {c.output}"))
+        seen.setdefault(key, c)
+    if problems:
+        raise CaseError(problems)
+    return cases
+
+
+def load_case(path: str | Path) -> Case:
+    """Load a file holding exactly one case; raise :class:`CaseError` otherwise."""
+    cases = load_cases([path])
+    if len(cases) != 1:
+        raise CaseError([Issue(str(path), None, None, "cases",
+                                 f"holds {len(cases)} cases; use load_cases")])
+    return cases[0]
+
+
+def case_from_dict(data: Mapping[str, Any], name: str = "<dict>",
+                   folder: str | Path = ".") -> Case:
+    """Validate a case given as data (the same keys as a case file)."""
+    text = yaml.safe_dump(_plain(data), sort_keys=False, allow_unicode=True)
+    _, marks, _ = parse_yaml(text, name)
+    case, problems = _validate(copy.deepcopy(dict(data)), name, marks, (), Path(folder), None,
+                               text)
+    if problems or case is None:
+        raise CaseError(problems)
+    return case
+
+
+def _plain(obj: Any) -> Any:
+    if isinstance(obj, Mapping):
+        return {k: _plain(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_plain(v) for v in obj]
+    return obj
+

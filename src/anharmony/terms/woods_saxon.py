@@ -1,0 +1,118 @@
+"""The nuclear mean field: ``woods_saxon`` and its ``spin_orbit`` companion.
+
+Both use the Woods–Saxon form factor f(r) = 1/(1 + e^{(r−R)/a}) (R. D. Woods and D. S. Saxon,
+Phys. Rev. 95, 577 (1954)); neither is analytic in r² (f′(0) ≠ 0), so both use panels.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import ClassVar
+
+import numpy as np
+from scipy.special import expit
+
+from ..errors import InputError
+from .base import Term, arr, number, positive, radius, require
+
+__all__ = ["SpinOrbit", "WoodsSaxon"]
+
+
+@dataclass(frozen=True)
+class WoodsSaxon(Term):
+    """−V₀ / (1 + exp((r − R)/a)), R given or R = r₀ A^(1/3)."""
+
+    kind: ClassVar[str] = "woods_saxon"
+    parameters: ClassVar[tuple[str, ...]] = ("depth", "radius", "r0", "mass_number",
+                                             "diffuseness")
+    linear_parameter: ClassVar[str | None] = "depth"
+    depth: float = 50.0
+    radius: float = 4.0
+    diffuseness: float = 0.65
+
+    @classmethod
+    def _build(cls, p, ctx):
+        depth = positive(cls.kind, p, "depth")
+        a = positive(cls.kind, p, "diffuseness")
+        return cls(depth=depth, radius=radius(cls.kind, p), diffuseness=a)
+
+    def _f(self, r):
+        return expit(-(arr(r) - self.radius) / self.diffuseness)  # stable 1/(1+e^{(r-R)/a})
+
+    def value(self, r):
+        return -self.depth * self._f(r)
+
+    def d1(self, r):
+        f = self._f(r)
+        return self.depth * f * (1.0 - f) / self.diffuseness
+
+    def d2(self, r):
+        f = self._f(r)
+        return -self.depth * f * (1.0 - f) * (1.0 - 2.0 * f) / self.diffuseness**2
+
+    @property
+    def scale(self):
+        return self.radius
+
+
+@dataclass(frozen=True)
+class SpinOrbit(Term):
+    """Radial form V_ls r_ls² (1/r) df/dr of the spin–orbit term; multiplied by ⟨l·s⟩.
+
+    f is the Woods–Saxon form 1/(1 + e^{(r−R)/a}); V_ls > 0 lowers j = l + ½.
+    """
+
+    kind: ClassVar[str] = "spin_orbit"
+    parameters: ClassVar[tuple[str, ...]] = ("strength", "radius", "r0", "mass_number",
+                                             "diffuseness", "length")
+    linear_parameter: ClassVar[str | None] = "strength"
+    spin_orbit: ClassVar[bool] = True
+    strength: float = 0.0
+    radius: float = 4.0
+    diffuseness: float = 0.65
+    length: float = 1.0
+
+    @classmethod
+    def _build(cls, p, ctx):
+        s = number(cls.kind, "strength", require(cls.kind, p, "strength"))
+        a = positive(cls.kind, p, "diffuseness")
+        ls = number(cls.kind, "length", p.get("length", 1.0), positive=True)
+        return cls(strength=s, radius=radius(cls.kind, p), diffuseness=a, length=ls)
+
+    def _form(self, r):
+        """r, the prefactor V_ls r_ls², and f′, f″, f‴ of the Woods–Saxon form."""
+        r = arr(r)
+        a = self.diffuseness
+        f = expit(-(r - self.radius) / a)
+        g = f * (1.0 - f)
+        return (r, self.strength * self.length**2, -g / a, g * (1.0 - 2.0 * f) / a**2,
+                -g * (1.0 - 6.0 * g) / a**3)
+
+    def value(self, r):
+        r, c, f1, _, _ = self._form(r)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return c * f1 / r
+
+    def d1(self, r):
+        r, c, f1, f2, _ = self._form(r)  # d/dr (f′/r) = f″/r − f′/r²
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return c * (f2 / r - f1 / r**2)
+
+    def d2(self, r):
+        r, c, f1, f2, f3 = self._form(r)  # d²/dr² (f′/r) = f‴/r − 2f″/r² + 2f′/r³
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return c * (f3 / r - 2.0 * f2 / r**2 + 2.0 * f1 / r**3)
+
+    @property
+    def scale(self):
+        return self.radius
+
+    def check_channel(self, dimension, l, j, lam):
+        super().check_channel(dimension, l, j, lam)
+        if dimension != 3 or l is None:
+            raise InputError("spin_orbit: the spin-orbit term needs the 3D central channels "
+                             "(l, j) of a spin-1/2 particle; it would be dropped in "
+                             f"dimension={dimension}{' without symmetry' if l is None else ''}")
+        if l > 0 and j is None:
+            raise InputError(f"j: required with spin_orbit terms (l = {l}: j = {l - 0.5} or "
+                             f"{l + 0.5}); without j the term would be dropped")
