@@ -17,7 +17,7 @@ import numpy as np
 from scipy.linalg import eigh
 
 from ..errors import InputError
-from ..potentials import Well
+from ..well import Well
 from ..units import UnitSystem, get_units
 from .axial import AxialBasis
 from .blocks import axial_parity, axial_states, cartesian_states, parity_blocks, quanta_weights

@@ -2,7 +2,8 @@
 
 ``frequencies`` are ħω values: [ħω_x, ħω_y, ħω_z] (3D), [ħω_x, ħω_y] (2D), or [ħω_⊥, ħω_z]
 (3D, symmetric about z). Not central; a polynomial, so it enters both the Cartesian and the
-axial basis exactly. (Staged here until the term registry lives in ``anharmony.terms``.)
+axial basis exactly (:mod:`anharmony.geometry`). It has no channel on the line or in a
+central well: those are refused.
 """
 
 from __future__ import annotations
@@ -13,9 +14,8 @@ from typing import ClassVar
 
 import numpy as np
 
-from ..errors import InputError, TermError
-from ..potentials import Term, _check_names, _number, _require
-from ..units import get_units
+from ..errors import InputError
+from .base import Term, TermError, number, require
 
 __all__ = ["AnisotropicHarmonic"]
 
@@ -31,27 +31,21 @@ class AnisotropicHarmonic(Term):
     centers: tuple[float, ...] = (0.0, 0.0, 0.0)
 
     @classmethod
-    def from_params(cls, params, units="oscillator", mass=None):
-        _check_names(cls.kind, params, cls.parameters)
-        hbar2_2m = get_units(units).hbar2_over_2m(mass)
-        freqs = _require(cls.kind, params, "frequencies")
+    def _build(cls, params, ctx):
+        freqs = require(cls.kind, params, "frequencies")
         if isinstance(freqs, (str, bytes)) or not hasattr(freqs, "__len__") \
                 or len(freqs) not in (2, 3):
             raise TermError(cls.kind, "frequencies", "must be a list of 2 or 3 hbar*omega "
                             f"values ([x, y, z], [x, y] or [perp, z]); got {freqs!r}")
-        hw = [_number(cls.kind, "frequencies", f, positive=True) for f in freqs]
-        k = tuple(h * h / (2.0 * hbar2_2m) for h in hw)  # mω² = (ħω)²/(2 ħ²/2m)
+        hw = [number(cls.kind, "frequencies", f, positive=True) for f in freqs]
+        k = tuple(h * h / (2.0 * ctx.hbar2_2m) for h in hw)  # mω² = (ħω)²/(2 ħ²/2m)
         centers = params.get("centers", [0.0] * len(k))
         if isinstance(centers, (str, bytes)) or not hasattr(centers, "__len__") \
                 or len(centers) != len(k):
             raise TermError(cls.kind, "centers", f"must be a list of {len(k)} numbers (one per "
                             f"frequency); got {centers!r}")
-        c = tuple(_number(cls.kind, "centers", v) for v in centers)
+        c = tuple(number(cls.kind, "centers", v) for v in centers)
         return cls(stiffness=k, centers=c)
-
-    @classmethod
-    def _build(cls, params, ctx):  # from_params does the work (it needs the list checks)
-        return cls.from_params(params, ctx.units, ctx.mass)
 
     def _axes(self, dimension: int) -> tuple[tuple[float, ...], tuple[float, ...]]:
         """Stiffness and centre per Cartesian axis in ``dimension``."""
@@ -115,5 +109,7 @@ class AnisotropicHarmonic(Term):
 
     d1 = d2 = value
 
-    def check_channel(self, dimension):
-        self.value(None)
+    def check_channel(self, dimension, l, j, lam):
+        raise InputError(f"{self.kind}: the term is not central and has no {dimension}D line "
+                         "or radial channel; solve it with anharmony.geometry.solve_geometry "
+                         "(geometry='cartesian' or 'axial')")

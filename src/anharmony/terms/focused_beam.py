@@ -3,7 +3,8 @@
 V(ρ, z) = −U₀ / (1 + z²/z_R²) · exp(−2ρ² / (w₀² (1 + z²/z_R²))), with the Rayleigh length
 z_R given or z_R = π w₀²/λ (Grimm, Weidemüller & Ovchinnikov, Adv. At. Mol. Opt. Phys. 42, 95
 (2000), eqs. for a red-detuned focused-beam trap). Symmetric about z and even in z; not central.
-(Staged here until the term registry lives in ``anharmony.terms``.)
+It has no channel on the line or in a central well: those are refused; solve it with
+:func:`anharmony.geometry.solve_geometry`.
 """
 
 from __future__ import annotations
@@ -14,8 +15,8 @@ from typing import ClassVar
 
 import numpy as np
 
-from ..errors import TermError
-from ..potentials import Term, _number, _require
+from ..errors import InputError
+from .base import Term, TermError, number, require
 
 __all__ = ["FocusedBeam"]
 
@@ -27,6 +28,7 @@ class FocusedBeam(Term):
     kind: ClassVar[str] = "focused_beam"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "waist", "rayleigh_length", "wavelength")
     central: ClassVar[bool] = False
+    linear_parameter: ClassVar[str | None] = "depth"
     dimensions: ClassVar[tuple[int, ...]] = (3,)
     depth: float = 1.0
     waist: float = 1.0
@@ -34,15 +36,15 @@ class FocusedBeam(Term):
 
     @classmethod
     def _build(cls, p, ctx):
-        depth = _number(cls.kind, "depth", _require(cls.kind, p, "depth"), positive=True)
-        w0 = _number(cls.kind, "waist", _require(cls.kind, p, "waist"), positive=True)
+        depth = number(cls.kind, "depth", require(cls.kind, p, "depth"), positive=True)
+        w0 = number(cls.kind, "waist", require(cls.kind, p, "waist"), positive=True)
         if ("rayleigh_length" in p) == ("wavelength" in p):
             raise TermError(cls.kind, "rayleigh_length",
                             "give exactly one of rayleigh_length or wavelength")
         if "rayleigh_length" in p:
-            zr = _number(cls.kind, "rayleigh_length", p["rayleigh_length"], positive=True)
+            zr = number(cls.kind, "rayleigh_length", p["rayleigh_length"], positive=True)
         else:
-            lam = _number(cls.kind, "wavelength", p["wavelength"], positive=True)
+            lam = number(cls.kind, "wavelength", p["wavelength"], positive=True)
             zr = math.pi * w0 * w0 / lam
         return cls(depth=depth, waist=w0, rayleigh_length=zr)
 
@@ -71,5 +73,7 @@ class FocusedBeam(Term):
 
     d1 = d2 = value
 
-    def check_channel(self, dimension):
-        self.value(None)
+    def check_channel(self, dimension, l, j, lam):
+        raise InputError(f"{self.kind}: the term is not central and has no {dimension}D line "
+                         "or radial channel; solve it with anharmony.geometry.solve_geometry "
+                         "(geometry='cartesian' or 'axial')")
