@@ -27,7 +27,7 @@ import anharmony as ah
 from anharmony.geometry import solve_geometry
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from _machine import describe  # noqa: E402
+from _machine import describe
 
 
 def _best(f, repeat=3):

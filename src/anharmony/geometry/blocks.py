@@ -58,7 +58,7 @@ def cartesian_states(shells: int, weights: Sequence[float], count: int | None = 
             if len(s) >= count:
                 return s[:count]
             top += 1
-    ranges = [range(int(math.floor(shells / wi + _SLACK)) + 1) for wi in w]
+    ranges = [range(math.floor(shells / wi + _SLACK) + 1) for wi in w]
     states = [n for n in itertools.product(*ranges) if np.dot(w, n) <= shells + _SLACK]
     arr = np.array(states, dtype=np.intp).reshape(-1, len(w))
     order = np.lexsort((*arr.T[::-1], arr @ w))
@@ -73,7 +73,7 @@ def axial_states(shells: int, lam: int, weights: Sequence[float]) -> np.ndarray:
     n_rho = 0
     while w_perp * (2 * n_rho + lam) <= shells + _SLACK:
         rest = shells - w_perp * (2 * n_rho + lam)
-        for n_z in range(int(math.floor(rest / w_z + _SLACK)) + 1):
+        for n_z in range(math.floor(rest / w_z + _SLACK) + 1):
             out.append((n_rho, n_z))
         n_rho += 1
     return np.array(out, dtype=np.intp).reshape(-1, 2)

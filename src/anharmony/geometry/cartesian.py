@@ -20,7 +20,6 @@ from collections.abc import Callable, Sequence
 from functools import cached_property, lru_cache
 
 import numpy as np
-
 from scipy.special import roots_legendre
 
 from ..basis import HermiteBasis

@@ -35,8 +35,17 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["axial_value", "cartesian_polynomial", "cartesian_value", "check_terms",
-           "axial_polynomial", "geometry_threshold", "is_central", "needs_panels", "reflection_symmetric"]
+__all__ = [
+    "axial_polynomial",
+    "axial_value",
+    "cartesian_polynomial",
+    "cartesian_value",
+    "check_terms",
+    "geometry_threshold",
+    "is_central",
+    "needs_panels",
+    "reflection_symmetric",
+]
 
 
 def is_central(term) -> bool:

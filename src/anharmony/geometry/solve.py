@@ -17,15 +17,23 @@ import numpy as np
 from scipy.linalg import eigh
 
 from ..errors import InputError
-from ..well import Well
 from ..units import UnitSystem, get_units
+from ..well import Well
 from .axial import AxialBasis
 from .blocks import axial_parity, axial_states, cartesian_states, parity_blocks, quanta_weights
 from .cartesian import CartesianBasis
 from .frequencies import TrapFrequencies, trap_frequencies_of
-from .potential import (axial_polynomial, axial_value, cartesian_polynomial, cartesian_value,
-                        check_terms, geometry_threshold, is_central, needs_panels,
-                        reflection_symmetric)
+from .potential import (
+    axial_polynomial,
+    axial_value,
+    cartesian_polynomial,
+    cartesian_value,
+    check_terms,
+    geometry_threshold,
+    is_central,
+    needs_panels,
+    reflection_symmetric,
+)
 
 __all__ = ["GEOMETRIES", "GeometrySpectrum", "solve_geometry", "trap_frequencies"]
 
@@ -256,16 +264,11 @@ def _diagonalise(h, levels):
     return eigh(h, subset_by_index=(0, min(levels, len(h)) - 1), driver="evr")
 
 
-def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
-    states = cartesian_states(shells, weights)
-    basis = CartesianBasis(states, b, x0)
-    extent = [max(v, 1e-3 * well.scale) for v in b]
-    symmetric = [reflection_symmetric(well, i, x0, extent, _SYMMETRY_RTOL)
-                 for i in range(dimension)]
-    wanted = _cartesian_parity(parity, symmetric, dimension)
+def _split(well, polynomial_of):
+    """The polynomial terms summed (exact matrices), a well of the rest, and its rule kind."""
     exact, rest = {}, []
     for t in well.terms:
-        poly = cartesian_polynomial(t, dimension)
+        poly = polynomial_of(t)
         if poly is None:
             rest.append(t)
         else:
@@ -273,6 +276,17 @@ def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels
                 exact[k] = exact.get(k, 0.0) + v
     rest_well = Well(terms=tuple(rest), units=well.units, mass=well.mass) if rest else None
     kind = "panels" if any(needs_panels(t) for t in rest) else "weight"
+    return exact, rest_well, kind
+
+
+def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
+    states = cartesian_states(shells, weights)
+    basis = CartesianBasis(states, b, x0)
+    extent = [max(v, 1e-3 * well.scale) for v in b]
+    symmetric = [reflection_symmetric(well, i, x0, extent, _SYMMETRY_RTOL)
+                 for i in range(dimension)]
+    wanted = _cartesian_parity(parity, symmetric, dimension)
+    exact, rest_well, kind = _split(well, lambda t: cartesian_polynomial(t, dimension))
     out = {}
     for key, idx in parity_blocks(states, symmetric).items():
         if not all(w is None or w == p for w, p in zip(wanted, key, strict=True)):
@@ -324,16 +338,7 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
     if omega is not None and (isinstance(omega, bool) or not isinstance(omega, (int, np.integer))):
         raise InputError(f"omega: without spin terms Ω = Λ, an integer; got {omega!r}")
     lams = [int(omega)] if omega is not None else list(range(int(shells // weights[0]) + 1))
-    exact, rest = {}, []
-    for term in well.terms:
-        poly = axial_polynomial(term)
-        if poly is None:
-            rest.append(term)
-        else:
-            for k, v in poly.items():
-                exact[k] = exact.get(k, 0.0) + v
-    rest_well = Well(terms=tuple(rest), units=well.units, mass=well.mass) if rest else None
-    kind = "panels" if any(needs_panels(t) for t in rest) else "weight"
+    exact, rest_well, kind = _split(well, axial_polynomial)
     out = {}
     for lam in lams:
         st = axial_states(shells, lam, weights)
@@ -341,7 +346,8 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
             continue
         basis = AxialBasis(st, lam, b, cz)
         pis = axial_parity(lam, st[:, 1])
-        groups = {p: np.flatnonzero(pis == p) for p in (1, -1)} if even else {None: np.arange(len(st))}
+        groups = ({p: np.flatnonzero(pis == p) for p in (1, -1)} if even
+                  else {None: np.arange(len(st))})
         for pi, idx in groups.items():
             if len(idx) == 0 or (parity is not None and pi != parity):
                 continue

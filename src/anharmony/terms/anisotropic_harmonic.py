@@ -15,18 +15,18 @@ from typing import ClassVar
 import numpy as np
 
 from ..errors import InputError
-from .base import Term, TermError, number, require
+from .base import TermError, number, require
+from .noncentral import GeometryTerm
 
 __all__ = ["AnisotropicHarmonic"]
 
 
 @dataclass(frozen=True)
-class AnisotropicHarmonic(Term):
+class AnisotropicHarmonic(GeometryTerm):
     """Σ ½ k_i (x_i − c_i)², k_i = mω_i² from ``frequencies`` (ħω_i), optional ``centers``."""
 
     kind: ClassVar[str] = "anisotropic_harmonic"
     parameters: ClassVar[tuple[str, ...]] = ("frequencies", "centers")
-    central: ClassVar[bool] = False
     stiffness: tuple[float, ...] = (1.0, 1.0, 1.0)
     centers: tuple[float, ...] = (0.0, 0.0, 0.0)
 
@@ -102,14 +102,3 @@ class AnisotropicHarmonic(Term):
     def scale(self):
         return 1.0 / math.sqrt(min(self.stiffness))
 
-    # not central: no value on the line or in a radial channel
-    def value(self, x):
-        raise TermError(self.kind, None, "is not central; solve it with "
-                        "anharmony.geometry.solve_geometry (geometry='cartesian' or 'axial')")
-
-    d1 = d2 = value
-
-    def check_channel(self, dimension, l, j, lam):
-        raise InputError(f"{self.kind}: the term is not central and has no {dimension}D line "
-                         "or radial channel; solve it with anharmony.geometry.solve_geometry "
-                         "(geometry='cartesian' or 'axial')")

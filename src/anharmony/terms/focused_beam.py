@@ -15,19 +15,18 @@ from typing import ClassVar
 
 import numpy as np
 
-from ..errors import InputError
-from .base import Term, TermError, number, require
+from .base import TermError, number, require
+from .noncentral import GeometryTerm
 
 __all__ = ["FocusedBeam"]
 
 
 @dataclass(frozen=True)
-class FocusedBeam(Term):
+class FocusedBeam(GeometryTerm):
     """``depth`` U₀ > 0, ``waist`` w₀, and ``rayleigh_length`` z_R or ``wavelength`` λ."""
 
     kind: ClassVar[str] = "focused_beam"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "waist", "rayleigh_length", "wavelength")
-    central: ClassVar[bool] = False
     linear_parameter: ClassVar[str | None] = "depth"
     dimensions: ClassVar[tuple[int, ...]] = (3,)
     depth: float = 1.0
@@ -66,14 +65,3 @@ class FocusedBeam(Term):
     @property
     def scale(self):
         return max(self.waist, self.rayleigh_length)
-
-    def value(self, x):
-        raise TermError(self.kind, None, "is not central; solve it with "
-                        "anharmony.geometry.solve_geometry (geometry='cartesian' or 'axial')")
-
-    d1 = d2 = value
-
-    def check_channel(self, dimension, l, j, lam):
-        raise InputError(f"{self.kind}: the term is not central and has no {dimension}D line "
-                         "or radial channel; solve it with anharmony.geometry.solve_geometry "
-                         "(geometry='cartesian' or 'axial')")
