@@ -22,6 +22,10 @@ method                                      meaning
 
 A non-central term declares ``central = False``; its ``limits()[1]`` is read as the lowest value
 it tends to far from the centre in any direction (its share of the continuum threshold).
+A non-central term with an ``axis`` attribute (``"x"``, ``"y"`` or ``"z"``, like ``tilt``) is a
+function of that coordinate alone: ``value(x_axis)``, its ``polynomial()`` in that coordinate,
+and ``min(limits())`` as its share of the threshold; it is axial when the axis is z. When the
+shares add up to ∞ − ∞ the threshold is found by probing V far out in 26 directions.
 Spin–orbit terms are refused here (the deformed spin–orbit term is not implemented yet).
 """
 
@@ -48,6 +52,17 @@ __all__ = [
 ]
 
 
+_AXES = ("x", "y", "z")
+
+
+def axis_of(term) -> int | None:
+    """The index of the one Cartesian coordinate a non-central term depends on, or ``None``."""
+    if getattr(term, "central", True) or hasattr(term, "value_cartesian"):
+        return None
+    axis = getattr(term, "axis", None)
+    return _AXES.index(axis) if axis in _AXES else None
+
+
 def is_central(term) -> bool:
     """True for a term that is a function of r alone (the fallback of the protocol)."""
     return bool(getattr(term, "central", True)) and not hasattr(term, "value_cartesian")
@@ -64,6 +79,14 @@ def check_terms(well, dimension: int, geometry: str) -> None:
             if getattr(t, "center", 0.0) != 0.0:
                 raise InputError(f"{where}.center: a central term in {dimension}D must be "
                                  f"centred at r = 0; got {t.center}")
+            continue
+        axis = axis_of(t)
+        if axis is not None:
+            if axis >= dimension:
+                raise InputError(f"{where}.axis: {_AXES[axis]} is not an axis in {dimension}D")
+            if geometry == "axial" and axis != 2:
+                raise InputError(f"{where}.axis: only a term along z keeps the symmetry about "
+                                 "the z axis; use geometry='cartesian'")
             continue
         axial = hasattr(t, "value_axial") and getattr(t, "is_axial", lambda: True)()
         if geometry == "axial" and not axial:
@@ -85,6 +108,8 @@ def cartesian_value(well, coords: Sequence[np.ndarray]) -> np.ndarray:
     for t in well.terms:
         if hasattr(t, "value_cartesian"):
             out = out + t.value_cartesian(*coords)
+        elif axis_of(t) is not None:
+            out = out + t.value(coords[axis_of(t)])
         else:
             if r is None:
                 r = np.sqrt(sum(c * c for c in coords))
@@ -99,6 +124,8 @@ def axial_value(well, rho: np.ndarray, z: np.ndarray) -> np.ndarray:
     for t in well.terms:
         if hasattr(t, "value_axial"):
             out = out + t.value_axial(rho, z)
+        elif axis_of(t) is not None:
+            out = out + t.value(z)
         else:
             out = out + t.value(np.sqrt(rho * rho + z * z))
     return out
@@ -113,6 +140,9 @@ def cartesian_polynomial(term, dimension: int) -> dict[tuple[int, ...], float] |
     f = getattr(term, "polynomial_cartesian", None)
     if f is not None:
         return f(dimension)
+    axis = axis_of(term)
+    if axis is not None:
+        return _shifted(term, lambda p: tuple(p if a == axis else 0 for a in range(dimension)))
     if not is_central(term):
         return None
     poly = term.polynomial()
@@ -137,6 +167,8 @@ def axial_polynomial(term) -> dict[tuple[int, int], float] | None:
     f = getattr(term, "polynomial_axial", None)
     if f is not None:
         return f()
+    if axis_of(term) is not None:
+        return _shifted(term, lambda p: (0, p))
     if not is_central(term):
         return None
     poly = term.polynomial()
@@ -169,12 +201,37 @@ def needs_panels(term) -> bool:
     return term.kind not in _SMOOTH_CENTRAL
 
 
-def geometry_threshold(well) -> float:
-    """Continuum threshold: the sum of each term's far limit (``limits()[1]``)."""
+def _shifted(term, key):
+    """A one-axis polynomial Σ c (x − x₀)^p expanded in powers of x, keyed by ``key(p)``."""
+    poly = term.polynomial()
+    if poly is None:
+        return None
+    x0 = getattr(term, "center", 0.0)
+    out: dict = {}
+    for p, c in poly.items():
+        for k in range(p + 1):
+            out[key(k)] = out.get(key(k), 0.0) + c * math.comb(p, k) * (-x0) ** (p - k)
+    return out
+
+
+def geometry_threshold(well, dimension: int = 3) -> float:
+    """Continuum threshold: the sum of the terms' far limits (probed when that is ∞ − ∞)."""
     total = 0.0
     for t in well.terms:
-        total += t.limits()[1]
-    return total
+        lo, hi = t.limits()
+        total += min(lo, hi) if axis_of(t) is not None else hi
+    if not math.isnan(total):
+        return total
+    dirs = np.array([d for d in product((-1.0, 0.0, 1.0), repeat=dimension) if any(d)])
+    dirs /= np.linalg.norm(dirs, axis=1)[:, None]
+    far = 1e3 * well.scale
+    with np.errstate(all="ignore"):
+        v1 = cartesian_value(well, list((far * dirs).T))
+        v2 = cartesian_value(well, list((2.0 * far * dirs).T))
+    grow = v2 > 2.0 * np.abs(v1)  # still growing: unbounded that way (common practice)
+    fall = v2 < -2.0 * np.abs(v1)
+    lim = np.where(grow, np.inf, np.where(fall, -np.inf, v2))
+    return float(np.min(lim))
 
 
 def reflection_symmetric(well, axis: int, centers: Sequence[float], extent: Sequence[float],

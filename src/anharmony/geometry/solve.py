@@ -242,7 +242,7 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
             es = small.get(key, ((), None, None))[0]
             err[col] = abs(e[k] - es[k]) if k < len(es) else math.inf
     e_out = np.asarray(energies)[order]
-    threshold = geometry_threshold(well)
+    threshold = geometry_threshold(well, dimension)
     return GeometrySpectrum(
         energies=e_out, bound=e_out < threshold, labels=labels, blocks=blocks,
         error_estimate=err, vectors=vectors, states=states, geometry=geometry,
