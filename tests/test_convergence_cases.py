@@ -9,6 +9,7 @@ that come out are checked against outside references: a shooting solver written 
 
 from __future__ import annotations
 
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -103,8 +104,12 @@ def test_tolerance_driven_case_stops_growing_once_converged_and_records_the_size
             assert e >= ref - ATOL_SHOOT  # Ritz values are upper bounds (Rayleigh–Ritz)
             # the stored energy is the study's Ritz value at the stopping size
             b = float(ds.energy_basis_length.values[0, c, n])
-            spec = ah.solve(ah.Well.from_terms(WS_TERMS, units="nuclear"), 3, l, j=j, size=size,
-                            length=b, units="nuclear", levels=n + 1)
+            # the study converged this size to the case's tolerance TOL_GROW, looser than
+            # solve()'s default (1e-8 of the spacing): its warning is expected, not checked here
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", ah.ConvergenceWarning)
+                spec = ah.solve(ah.Well.from_terms(WS_TERMS, units="nuclear"), 3, l, j=j,
+                                size=size, length=b, units="nuclear", levels=n + 1)
             assert e == pytest.approx(spec.energies[n], rel=RTOL_SAME_H)
 
 

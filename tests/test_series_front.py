@@ -8,7 +8,7 @@ import pytest
 
 import anharmony as ah
 from anharmony.errors import ConvergenceWarning
-from anharmony.series import Series, lowest_order, series, verdict
+from anharmony.series import Series, lowest_order, pade_approximant, series, verdict
 
 # Bender & Wu, Phys. Rev. 184, 1231 (1969): ground state of p²/2 + x²/2 + λx⁴.
 BENDER_WU = [Fraction(1, 2), Fraction(3, 4), Fraction(-21, 8), Fraction(333, 16),
@@ -23,7 +23,7 @@ RTOL_FD_E2 = 1e-5
 # (N = 120, converged to 1e-14); 1e-6 leaves a margin, while the best plain partial sum is
 # off by more than 1e-2 there.
 ATOL_BOREL_PADE = 1e-6
-ATOL_BOREL_PADE_DOUBLET = 1e-6  # [5/5] from 11 orders: measured error 4e-7
+ATOL_BOREL_PADE_DOUBLET = 1e-6  # the family from 11 orders: measured error 7e-7
 RTOL_ROUNDING = 1e-12  # products of a few doubles
 RTOL_DENSE = 1e-9  # non-polynomial W: coefficients settle to 1e-10 (relative) in N
 
@@ -239,16 +239,58 @@ def test_well_must_be_a_well():
         series([{"harmonic": {"frequency": 1.0}}], orders=4)
 
 
-def test_borel_pade_cancels_a_froissart_doublet_on_the_path():
+def test_borel_pade_leaves_out_an_approximant_with_a_pole_zero_pair_on_the_path():
     # 2D, |m| = 1, W = 0.05 r⁴: the [5/5] Borel-plane approximant of 11 exact coefficients has
     # a pole–zero pair at s ≈ 1.11 on the positive axis (a Froissart doublet: Baker &
-    # Graves-Morris, Padé Approximants, §2.2). Cancelled, the sum agrees with the
-    # diagonaliser to the approximant's own accuracy (measured 4e-7 at this order).
+    # Graves-Morris, Padé Approximants, §2.2). It is left out of the family rather than
+    # cancelled (cancelling changes B by r/(s − p), here more than 1e-10 of E_0), and the
+    # sum of the others holds the diagonaliser's value within its uncertainty.
     well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
                                {"power": {"exponent": 4, "strength": 0.05}}])
     ser = series(well, dimension=2, l=1, orders=10)
+    borel = [c / math.factorial(k) for k, c in enumerate(ser.precise)]
+    top = pade_approximant(borel, 5, 5, method="mpmath")
+    assert top.doublets.size == 1 and abs(top.doublets[0] - 1.11) < 0.01
     res = ser.borel_pade(1.0)
     exact = float(ah.solve(well, dimension=2, l=1, size=60, levels=1).energies[0])
-    assert res.doublets.size == 1 and abs(res.doublets[0].imag) < 1e-12
-    assert not bool(res.on_path)
+    assert (5, 5) in res.rejected[0] and (5, 5) not in res.members[0]
+    assert not bool(res.on_path) and bool(res.trusted)
+    assert abs(float(res.value) - exact) <= float(res.uncertainty)
     assert float(res.value) == pytest.approx(exact, abs=ATOL_BOREL_PADE_DOUBLET)
+
+
+def test_series_signature_matches_solve():
+    # Project-wide pattern (the brief of the API issue): (well, dimension=3, l=0, j=None, *,
+    # ...) with solve's names and defaults where both have the parameter.
+    import inspect
+
+    sig = inspect.signature(series)
+    solve_sig = inspect.signature(ah.solve)
+    names = list(sig.parameters)
+    assert names[:4] == ["well", "dimension", "l", "j"]
+    assert all(sig.parameters[n].kind is inspect.Parameter.KEYWORD_ONLY for n in names[4:])
+    for name in set(names) & set(solve_sig.parameters):
+        assert sig.parameters[name].default == solve_sig.parameters[name].default, name
+
+
+def test_series_defaults_to_three_dimensions():
+    # 1s of the 3D oscillator with W = 0.01 r⁴: E_0 = 3/2, E_1 = 0.01·⟨r⁴⟩ = 0.01·15/4
+    # (Gaussian moments, as in test_nuclear_units_first_order_is_the_oscillator_moment).
+    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                               {"power": {"exponent": 4, "strength": 0.01}}])
+    ser = series(well, orders=2, reference=UNIT_REFERENCE)
+    assert ser.channel.dimension == 3
+    assert ser.coefficients[:2] == pytest.approx([1.5, 0.01 * 15 / 4], rel=RTOL_ROUNDING)
+    with pytest.raises(TypeError):
+        series(well, 3, 0, None, 0)  # level is keyword-only now
+
+
+def test_series_pade_and_borel_pade_return_values_with_uncertainties():
+    ser = series(quartic_well(0.1), dimension=1, l=0, orders=30, reference=UNIT_REFERENCE)
+    exact = ground_energy(quartic_well(0.1))
+    for res in (ser.pade(1.0), ser.borel_pade(1.0)):
+        assert bool(res.trusted)
+        assert abs(float(res.value) - exact) <= float(res.uncertainty)
+        assert float(res.error) == float(res.uncertainty)  # the older name
+    with pytest.raises(ValueError, match="M must be an integer"):
+        ser.pade(5, 5, 1.0)  # the old (L, M, λ) order fails loudly, not silently

@@ -349,12 +349,9 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     d = np.where(np.isfinite(d), d, np.inf)
     err = float(ds.error_estimate.values[k, c, n])
     allowed = max(tol, err if math.isfinite(err) else 0.0)
-    ok = np.flatnonzero(d <= allowed)
-    if ok.size:
-        return f"order {int(ok[0])} within {allowed:.1g}"
-    best = int(np.argmin(d))
-    kind = "asymptotic" if 0 < best < d.size - 1 else "poor"
-    return f"{kind}: best order {best}, off by {d[best]:.2g}"
+    from .series import partial_sum_verdict
+
+    return partial_sum_verdict(d, allowed)
 
 
 def _cmd_show(args: argparse.Namespace) -> int:

@@ -206,8 +206,8 @@ def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass:
                 # stays NaN where this approximant does not exist
                 with contextlib.suppress(ValueError, ArithmeticError, np.linalg.LinAlgError,
                                          NumericalError):
-                    value = (ser.pade(lo, hi, 1.0) if method == "pade"
-                             else ser.borel_pade(1.0).value)
+                    value = (ser.pade(1.0, L=lo, M=hi) if method == "pade"
+                             else ser.borel_pade(1.0)).value
                     out["series_resummed"][k, c, n, m] = float(np.asarray(value, dtype=float))
             if order >= 1:
                 best = ser.optimal_truncation(1.0)

@@ -51,7 +51,7 @@ def resolve_reference(case: Case, value: float | None) -> Any:
     first = min(case.channels(), key=lambda c: (-1 if c.l is None else c.l, c.j or 0.0))
     return reference_oscillator(case.well_at(value), case.dimension, l=first.l,
                                 mass=case.mass_at(value), levels=case.model.levels.count,
-                                spec=case.reference_spec(value), j=first.j)
+                                reference=case.reference_spec(value), j=first.j)
 
 
 def expand(case: Case, *, resolve: bool = True) -> list[Task]:

@@ -32,9 +32,9 @@ from typing import Any
 
 import numpy as np
 from scipy.linalg import eigh, toeplitz
-from scipy.special import gammaln, roots_legendre
+from scipy.special import gammaln
 
-from ..basis import OrthogonalFamily
+from ..basis import OrthogonalFamily, panel_rule
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
@@ -44,7 +44,6 @@ __all__ = ["DECAY", "GROWTH", "CrossCheck", "cross_check", "laguerre_kinetic"]
 
 DECAY = 22.0  # ∫κ dr beyond the turning point: |ψ|² falls by e^{−44} ≈ 1e-19 at the edge
 GROWTH = 1.4  # ratio of successive mesh sizes
-_PANEL_ORDER = 24  # Gauss–Legendre points per panel
 _QUAD_RTOL = 1e-13  # potential matrix stable to this fraction of its largest element
 _ESTIMATE_SIZE = 60  # oscillator basis used to estimate the levels when none are given
 
@@ -120,14 +119,9 @@ def laguerre_kinetic(size: int, alpha: float) -> np.ndarray:
 def _laguerre_rule(size: int, alpha: float, top: float, breaks: Sequence[float], panels: int
                    ) -> tuple[np.ndarray, np.ndarray]:
     """Nodes x and U[q, k] = sqrt(w_q) ℓ_k(x_q), panels uniform in s = sqrt(x)."""
-    edges = np.linspace(0.0, math.sqrt(top), panels + 1)
-    cuts = sorted(math.sqrt(b) for b in breaks if 0.0 < b < top)
-    edges = np.unique(np.concatenate([edges, cuts]))
-    t, w = roots_legendre(_PANEL_ORDER)
-    half = 0.5 * np.diff(edges)
-    mid = 0.5 * (edges[:-1] + edges[1:])
-    s = (mid[:, None] + half[:, None] * t[None, :]).ravel()
-    ws = (half[:, None] * w[None, :]).ravel() * 2.0 * s  # dx = 2 s ds
+    cuts = [math.sqrt(b) for b in breaks if 0.0 < b < top]
+    s, w = panel_rule(0.0, math.sqrt(top), cuts, math.sqrt(top) / panels)
+    ws = w * 2.0 * s  # dx = 2 s ds
     x = s * s
     fam = OrthogonalFamily("laguerre", alpha)
     vals, logs, _ = fam.values(x, size)

@@ -86,14 +86,18 @@ def large_order_curve(k: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndar
         return None
     log_c = float(np.mean(np.log(data[use]) - log_shape[use]))
     y = np.exp(log_c + log_shape)
+    var = "k" if step == 1 else "m"  # the axis is k; m = k/step only for a series in λ²
     if fit.kind == "factorial":
-        formula = (f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^m·Γ({fit.power}m"
+        lead = var if fit.power == 1 else f"{fit.power}{var}"
+        formula = (f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^{var}·Γ({lead}"
                    f"{fit.shift:+.2f})")
     else:
-        formula = (f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^m·m^{fit.shift:.2f}, "
-                   f"radius {fit.radius:.3g}")
+        formula = f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^{var}·{var}^{fit.shift:.2f}"
+        if fit.supported:
+            formula += f", radius {fit.radius:.3g}"
     if step > 1:
         formula += f", m = k/{step}"
+    formula += f" ({fit.orders} orders" + (")" if fit.supported else ", not settled)")
     return m * step, y, formula
 
 
