@@ -349,6 +349,12 @@ def _bases(refs: Sequence[Reference], length: float | str, radial: bool,
            levels: int = 0, size: int = 0) -> list[tuple[float, float]]:
     """(b, x₀) of the basis at each value: the b :func:`~anharmony.spectrum.solve` would take
     for that value's well (``length="auto"``), or the given length."""
+    if isinstance(length, Sequence) and not isinstance(length, str):
+        if len(length) != len(refs):
+            raise InputError(f"length: {len(length)} lengths for {len(refs)} values; give "
+                             "one, 'auto', or one per value")
+        return [(_positive("length", b), r.center if not radial else 0.0)
+                for b, r in zip(length, refs, strict=True)]
     if length != "auto":
         fixed = _positive("length", length)
         return [(fixed, r.center if not radial else 0.0) for r in refs]
@@ -401,8 +407,8 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
 
 def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
          parameter: str = "coupling", values: Sequence[float] = (1.0,), size: int = 60,
-         length: float | str = "auto", units: str | UnitSystem = "oscillator",
-         mass: float | None = None, levels: int = 5,
+         length: float | str | Sequence[float] = "auto",
+         units: str | UnitSystem = "oscillator", mass: float | None = None, levels: int = 5,
          reference: str | Mapping[str, float] | Reference | Sequence[Any] = "auto",
          truncated: int | None = None, vectors: bool = False) -> ScanResult:
     """Lowest levels of one channel at every value of a scanned parameter.
@@ -417,8 +423,9 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     values
         The values of the parameter.
     length
-        Oscillator length b of the basis, or ``"auto"`` for the reference oscillator's at each
-        value.
+        Oscillator length b of the basis, one per value, or ``"auto"``: at each value the b
+        :func:`~anharmony.spectrum.solve` would choose (for ``coupling``: the physical well's,
+        so that every λ shares one basis).
     reference
         ``"auto"`` or a mapping as in :func:`~anharmony.spectrum.solve` (resolved per value;
         for ``coupling`` once, for the physical well), a resolved

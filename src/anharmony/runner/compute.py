@@ -17,7 +17,7 @@ from typing import Any
 
 import numpy as np
 
-from ..cases import Case, ChannelSpec, resolve_reference
+from ..cases import Case, ChannelSpec, resolve_length, resolve_reference
 from ..errors import NumericalError
 from ..scan import ScanResult, scan
 from ..spectrum import Reference
@@ -70,8 +70,10 @@ def _scan_call(case: Case, ch: ChannelSpec, points: tuple[int, ...],
         well, parameter = case.well_at(None), case.scan_parameter
         at, mass = [values[k] for k in points], case.mass
         value = at[0]
+    # one b per scan point for every channel (DESIGN §6), as the reference
+    lengths = [resolve_length(case, values[k], ref) for k, ref in zip(points, refs, strict=True)]
     return scan(well, ch.dimension, ch.l, ch.j, parameter=parameter, values=at,
-                size=case.model.basis.size, length=case.basis_length_at(value),
+                size=case.model.basis.size, length=lengths,
                 units=case.units, mass=mass, levels=case.model.levels.count,
                 reference=list(refs), truncated=smaller_size(case))
 
