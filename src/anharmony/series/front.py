@@ -23,7 +23,7 @@ from anharmony.spectrum import Reference, reference_oscillator, resolve_channel
 from anharmony.units import UnitSystem
 from anharmony.well import Well
 
-from ._values import to_mpf
+from ._values import as_float_array
 from .borel import BorelPade, borel_pade
 from .growth import LargeOrder, large_order
 from .resum import PadeApproximant, Resummed, pade_approximant, pade_sum
@@ -345,12 +345,7 @@ def series(
 def _make(precise: tuple, exact_values: list[Fraction] | None, ref: Reference,
           channel: Channel, level: int, method: str, size: int, precision: float,
           system: UnitSystem) -> Series:
-    coeffs = np.empty(len(precise))
-    for k, v in enumerate(precise):
-        try:
-            coeffs[k] = float(v)
-        except OverflowError:
-            coeffs[k] = math.copysign(math.inf, float(mpmath.sign(to_mpf(v))))
+    coeffs = as_float_array(precise)
     return Series(
         coefficients=coeffs, exact=None if exact_values is None else list(exact_values),
         precise=precise, reference=ref, channel=channel, level=int(level), method=method,

@@ -254,5 +254,28 @@ class Term(ABC):
                              f"and must be >= 0; got {self.center}")
 
 
+@dataclass(frozen=True)
+class ExactTerm(Term):
+    """Base of the polynomial terms: exact banded matrices in the 1D and radial bases."""
+
+    quadrature_1d: ClassVar[str] = "exact"
+    quadrature_radial: ClassVar[str] = "exact"
+
+
+@dataclass(frozen=True)
+class DepthTerm(Term):
+    """Base of wells proportional to a depth V₀ > 0 (a depth scan reuses one pencil)."""
+
+    linear_parameter: ClassVar[str | None] = "depth"
+    depth: float = 1.0
+
+
+@dataclass(frozen=True)
+class AnalyticDepthTerm(DepthTerm):
+    """A depth well analytic in x and, centred at 0, in r²: the basis' own Gauss rule."""
+
+    quadrature_1d: ClassVar[str] = "weight"
+    quadrature_radial: ClassVar[str] = "weight"  # analytic in r² when centred at 0
+
 def _channel_name(dimension: int) -> str:
     return "parity" if dimension == 1 else f"{dimension}D central"

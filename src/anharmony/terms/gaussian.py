@@ -8,21 +8,17 @@ from typing import ClassVar
 
 import numpy as np
 
-from .base import Term, TermError, arr, center, number, positive
+from .base import AnalyticDepthTerm, TermError, arr, center, number, positive
 
 __all__ = ["Gaussian"]
 
 
 @dataclass(frozen=True)
-class Gaussian(Term):
+class Gaussian(AnalyticDepthTerm):
     """−V₀ exp(−(x − x₀)²/a²); ``waist`` w means a = w/√2 (V = −V₀ e^{−2r²/w²})."""
 
     kind: ClassVar[str] = "gaussian"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "range", "waist", "center")
-    quadrature_1d: ClassVar[str] = "weight"
-    quadrature_radial: ClassVar[str] = "weight"  # analytic in r² when centred at 0
-    linear_parameter: ClassVar[str | None] = "depth"
-    depth: float = 1.0
     range: float = 1.0
 
     @classmethod

@@ -8,21 +8,19 @@ from typing import ClassVar
 
 import numpy as np
 
-from .base import Term, arr, center, positive
+from .base import DepthTerm, arr, center, positive
 
 __all__ = ["Morse"]
 
 
 @dataclass(frozen=True)
-class Morse(Term):
+class Morse(DepthTerm):
     """D (1 − e^{−α(x − x₀)})²; in a radial channel the centre is the bond length r_e."""
 
     kind: ClassVar[str] = "morse"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "width", "center")
     quadrature_1d: ClassVar[str] = "weight"  # analytic in x
     quadrature_radial: ClassVar[str] = "panels"  # e^{−αr} is not analytic in r²
-    linear_parameter: ClassVar[str | None] = "depth"
-    depth: float = 1.0
     width: float = 1.0
 
     @classmethod

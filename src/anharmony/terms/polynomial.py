@@ -15,7 +15,7 @@ from typing import ClassVar
 import numpy as np
 
 from ..errors import InputError
-from .base import Term, TermError, arr, center, number, require
+from .base import ExactTerm, TermError, arr, center, number, require
 
 __all__ = ["Harmonic", "Polynomial", "Power"]
 
@@ -32,13 +32,11 @@ def _polynomial_limits(p: int, c: float) -> tuple[float, float]:
 
 
 @dataclass(frozen=True)
-class Harmonic(Term):
+class Harmonic(ExactTerm):
     """½ k (x − x₀)², with k = mω² given as ``stiffness`` or from ``frequency`` ħω."""
 
     kind: ClassVar[str] = "harmonic"
     parameters: ClassVar[tuple[str, ...]] = ("frequency", "stiffness", "center")
-    quadrature_1d: ClassVar[str] = "exact"
-    quadrature_radial: ClassVar[str] = "exact"
     linear_parameter: ClassVar[str | None] = "stiffness"
     stiffness: float = 1.0
 
@@ -74,13 +72,11 @@ class Harmonic(Term):
 
 
 @dataclass(frozen=True)
-class Power(Term):
+class Power(ExactTerm):
     """g (x − x₀)^p; a non-integer p uses |x − x₀|^p."""
 
     kind: ClassVar[str] = "power"
     parameters: ClassVar[tuple[str, ...]] = ("exponent", "strength", "center")
-    quadrature_1d: ClassVar[str] = "exact"
-    quadrature_radial: ClassVar[str] = "exact"
     linear_parameter: ClassVar[str | None] = "strength"
     exponent: float = 4.0
     strength: float = 0.0
@@ -194,13 +190,11 @@ class Power(Term):
 
 
 @dataclass(frozen=True)
-class Polynomial(Term):
+class Polynomial(ExactTerm):
     """Σ c_p (x − x₀)^p with non-negative integer powers p."""
 
     kind: ClassVar[str] = "polynomial"
     parameters: ClassVar[tuple[str, ...]] = ("coefficients", "center")
-    quadrature_1d: ClassVar[str] = "exact"
-    quadrature_radial: ClassVar[str] = "exact"
     coefficients: tuple[tuple[int, float], ...] = ()
 
     @classmethod

@@ -8,21 +8,17 @@ from typing import ClassVar
 
 import numpy as np
 
-from .base import Term, arr, center, positive
+from .base import AnalyticDepthTerm, arr, center, positive
 
 __all__ = ["PoschlTeller"]
 
 
 @dataclass(frozen=True)
-class PoschlTeller(Term):
+class PoschlTeller(AnalyticDepthTerm):
     """−V₀ / cosh²((x − x₀)/a)."""
 
     kind: ClassVar[str] = "poschl_teller"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "range", "center")
-    quadrature_1d: ClassVar[str] = "weight"
-    quadrature_radial: ClassVar[str] = "weight"  # analytic in r² when centred at 0
-    linear_parameter: ClassVar[str | None] = "depth"
-    depth: float = 1.0
     range: float = 1.0
 
     @classmethod
