@@ -341,3 +341,13 @@ def test_oscillator_e1_reduced_element_1s_to_1p_closed_form():
                                                          rel=RTOL_EXACT)
     assert ob.transition_strength(s, p, 1) == pytest.approx(9 * b**2 / (8 * math.pi),
                                                            rel=RTOL_EXACT)
+
+
+def test_spectrum_methods_are_the_observables_functions():
+    # ⟨n|x|n+1⟩ = ∓ b sqrt((n+1)/2) for the oscillator (Sakurai; the sign is the phase
+    # convention of docs/observables.md); the methods must give the module's numbers exactly.
+    s = ah.solve(W([{"harmonic": {"frequency": 1.0}}]), 1, None, size=20, levels=3)
+    assert s.matrix_element("x", 0, 1) == ob.matrix_element(s, "x", 0, 1)
+    assert abs(abs(s.matrix_element("x", 0, 1)) - math.sqrt(0.5)) < 1e-12  # exact operators
+    grid = np.linspace(-3.0, 3.0, 7)
+    np.testing.assert_array_equal(s.wavefunction(1, grid), ob.wavefunction(s, 1, grid))

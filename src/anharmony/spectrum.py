@@ -138,6 +138,22 @@ class Spectrum:
         """Anharmonic shifts: energy − reference oscillator level."""
         return self.energies - self.reference_energies
 
+    def matrix_element(self, op: str | Callable[[np.ndarray], np.ndarray], i: int, j: int
+                       ) -> float:
+        """⟨i|op|j⟩ between levels i and j: ``op`` a power (``"x**2"``, ``"r**2"``; exact
+        from the banded operators) or a function of the coordinate (quadrature), in the phase
+        convention of :mod:`anharmony.observables` (docs/observables.md)."""
+        from .observables import matrix_element
+
+        return matrix_element(self, op, i, j)
+
+    def wavefunction(self, k: int, grid: np.ndarray) -> np.ndarray:
+        """ψ_k on ``grid`` (1D), or the radial function R_k(r) normalised with r^{d−1} dr, in
+        the phase convention of :mod:`anharmony.observables`."""
+        from .observables import wavefunction
+
+        return wavefunction(self, k, grid)
+
     def wavefunctions(self, coords: np.ndarray) -> np.ndarray:
         """ψ of each level at ``coords``, shape (levels, len(coords)); radial: R(r)."""
         return self.vectors.T @ self.basis.functions(coords)
