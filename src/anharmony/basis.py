@@ -32,7 +32,7 @@ import numpy as np
 from scipy.linalg import eigh_tridiagonal
 from scipy.special import gammaln, roots_legendre
 
-from .errors import ConvergenceWarning, NumericalError
+from .errors import ConvergenceWarning, InputError, NumericalError
 
 __all__ = ["QUADRATURE_RTOL", "HermiteBasis", "OrthogonalFamily", "RadialBasis", "panel_rule"]
 
@@ -413,13 +413,13 @@ class RadialBasis(_Basis):
     def __post_init__(self) -> None:
         _check_size_length(self.size, self.length)
         if self.dimension not in (1, 2, 3):
-            raise ValueError(f"dimension: must be 1, 2 or 3; got {self.dimension!r}")
+            raise InputError(f"dimension: must be 1, 2 or 3; got {self.dimension!r}")
         if isinstance(self.l, bool) or not isinstance(self.l, (int, np.integer)) or self.l < 0:
-            raise ValueError(f"l: must be a non-negative integer; got {self.l!r}")
+            raise InputError(f"l: must be a non-negative integer; got {self.l!r}")
         if self.dimension == 1 and self.l > 1:
-            raise ValueError(f"l: in 1D must be 0 (even) or 1 (odd); got {self.l!r}")
+            raise InputError(f"l: in 1D must be 0 (even) or 1 (odd); got {self.l!r}")
         if self.alpha <= -1.0:
-            raise ValueError(f"lam: effective angular momentum {self.lam!r} gives alpha <= -1")
+            raise InputError(f"lam: effective angular momentum {self.lam!r} gives alpha <= -1")
 
     @property
     def lam_eff(self) -> float:
@@ -441,7 +441,7 @@ class RadialBasis(_Basis):
         """Exact matrix of (r/b)^k for even k, half-bandwidth k/2."""
         k = _check_power(k)
         if k % 2:
-            raise ValueError(f"k: exact radial powers must be even; got {k}")
+            raise InputError(f"k: exact radial powers must be even; got {k}")
         t = self.family.jacobi(self.size + k // 2)
         return np.linalg.matrix_power(t, k // 2)[: self.size, : self.size].copy()
 
@@ -557,13 +557,13 @@ def _with_live(coords: np.ndarray, u: np.ndarray) -> tuple[np.ndarray, np.ndarra
 
 def _check_size_length(size: int, length: float) -> None:
     if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
-        raise ValueError(f"size: must be an integer >= 1; got {size!r}")
+        raise InputError(f"size: must be an integer >= 1; got {size!r}")
     if isinstance(length, bool) or not isinstance(length, (int, float, np.floating)) \
             or not math.isfinite(length) or length <= 0:
-        raise ValueError(f"length: must be a positive number; got {length!r}")
+        raise InputError(f"length: must be a positive number; got {length!r}")
 
 
 def _check_power(k: int) -> int:
     if isinstance(k, bool) or not isinstance(k, (int, np.integer)) or k < 0:
-        raise ValueError(f"k: must be a non-negative integer; got {k!r}")
+        raise InputError(f"k: must be a non-negative integer; got {k!r}")
     return int(k)

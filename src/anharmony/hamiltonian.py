@@ -38,13 +38,13 @@ def parse_j(j: float | str | None) -> float | None:
         try:
             value = float(Fraction(j.strip()))
         except (ValueError, ZeroDivisionError):
-            raise ValueError(f"j: expected a half-integer like 2.5 or '5/2'; got {j!r}") from None
+            raise InputError(f"j: expected a half-integer like 2.5 or '5/2'; got {j!r}") from None
     elif isinstance(j, bool) or not isinstance(j, (int, float, np.integer, np.floating)):
         raise TypeError(f"j: expected a half-integer like 2.5 or '5/2'; got {j!r}")
     else:
         value = float(j)
     if not (value > 0 and (2 * value) % 2 == 1):
-        raise ValueError(f"j: must be a positive half-integer; got {j!r}")
+        raise InputError(f"j: must be a positive half-integer; got {j!r}")
     return value
 
 
@@ -61,19 +61,19 @@ class Channel:
 
     def __post_init__(self) -> None:
         if self.dimension not in (1, 2, 3):
-            raise ValueError(f"dimension: must be 1, 2 or 3; got {self.dimension!r}")
+            raise InputError(f"dimension: must be 1, 2 or 3; got {self.dimension!r}")
         if self.l is None:
             if self.dimension != 1:
-                raise ValueError("l: required for a central well in 2 or 3 dimensions")
+                raise InputError("l: required for a central well in 2 or 3 dimensions")
         elif isinstance(self.l, bool) or not isinstance(self.l, (int, np.integer)) or self.l < 0:
-            raise ValueError(f"l: must be a non-negative integer; got {self.l!r}")
+            raise InputError(f"l: must be a non-negative integer; got {self.l!r}")
         elif self.dimension == 1 and self.l > 1:
-            raise ValueError(f"l: in 1D must be 0 (even), 1 (odd) or None; got {self.l!r}")
+            raise InputError(f"l: in 1D must be 0 (even), 1 (odd) or None; got {self.l!r}")
         if self.j is not None:
             if self.dimension != 3 or self.l is None:
-                raise ValueError("j: only 3D channels carry spin 1/2")
+                raise InputError("j: only 3D channels carry spin 1/2")
             if abs(self.j - self.l) != 0.5:
-                raise ValueError(f"j: must be l ± 1/2 = {self.l - 0.5 if self.l else 0.5}"
+                raise InputError(f"j: must be l ± 1/2 = {self.l - 0.5 if self.l else 0.5}"
                                  f"{'' if not self.l else f' or {self.l + 0.5}'}; got {self.j}")
 
     @property

@@ -23,7 +23,7 @@ import numpy as np
 from scipy.special import roots_legendre
 
 from ..basis import HermiteBasis
-from ..errors import ConvergenceWarning, NumericalError
+from ..errors import ConvergenceWarning, InputError, NumericalError
 
 __all__ = ["PANEL_RTOL", "QUADRATURE_RTOL", "CartesianBasis", "contract_first_axis", "settle"]
 
@@ -100,7 +100,7 @@ class CartesianBasis:
         self.centers = tuple(0.0 for _ in lengths) if centers is None else tuple(
             float(c) for c in centers)
         if len(self.lengths) != self.dimension or len(self.centers) != self.dimension:
-            raise ValueError("lengths and centers need one value per axis")
+            raise InputError("lengths and centers need one value per axis")
 
     @property
     def size(self) -> int:

@@ -10,6 +10,8 @@ from typing import Any
 import mpmath
 import numpy as np
 
+from ..errors import InputError
+
 __all__ = ["as_float_array", "check_coefficients", "even_series", "mpf_to_float", "to_mpf"]
 
 
@@ -39,7 +41,7 @@ def as_float_array(coefficients: Sequence[Any]) -> np.ndarray:
 
 def check_coefficients(coefficients: Sequence[Any]) -> None:
     if len(coefficients) == 0:
-        raise ValueError("coefficients must hold at least c_0; got an empty sequence")
+        raise InputError("coefficients must hold at least c_0; got an empty sequence")
 
 
 def mpf_to_float(x: mpmath.mpf) -> float:

@@ -10,6 +10,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
+from ..errors import InputError
 from ._values import check_coefficients, even_series, to_mpf
 
 __all__ = ["LargeOrder", "large_order"]
@@ -106,7 +107,7 @@ def large_order(
         seq = c[::step]
         n = len(seq) - 1
         if n < 4:
-            raise ValueError(
+            raise InputError(
                 f"large-order analysis needs at least 4 ratios; got {n} nonzero-order "
                 f"coefficients beyond c_0 (step {step})"
             )
@@ -120,7 +121,7 @@ def large_order(
         good = np.isfinite(r) & (r > 0)
         ks, r = ks[good], r[good]
         if ks.size < 3:
-            raise ValueError("large-order analysis: too few nonzero ratios in the tail")
+            raise InputError("large-order analysis: too few nonzero ratios in the tail")
         slope = np.polyfit(np.log(ks), np.log(r), 1)[0]
         p = max(0, round(slope))
         signs = [mpmath.sign(x) for x in seq[n // 2 :] if x != 0]
@@ -128,7 +129,7 @@ def large_order(
         sign = ("alternating" if prods and all(s < 0 for s in prods)
                 else "fixed" if prods and all(s > 0 for s in prods) else "mixed")
         if ks.size < corrections + 2:
-            raise ValueError(
+            raise InputError(
                 f"large-order analysis: {ks.size} ratios in the tail cannot fit "
                 f"{corrections} corrections; give more orders or fewer corrections"
             )

@@ -162,14 +162,14 @@ def pade_approximant(
     check_coefficients(coefficients)
     for name, v in (("L", L), ("M", M)):
         if not isinstance(v, (int, np.integer)) or v < 0:
-            raise ValueError(f"{name} must be an integer >= 0; got {v!r}")
+            raise InputError(f"{name} must be an integer >= 0; got {v!r}")
     if len(coefficients) - 1 < L + M:
-        raise ValueError(
+        raise InputError(
             f"Padé [{L}/{M}] needs coefficients up to order L + M = {L + M}; "
             f"got orders 0..{len(coefficients) - 1}"
         )
     if method not in ("auto", "scipy", "mpmath"):
-        raise ValueError(f"method must be 'auto', 'scipy' or 'mpmath'; got {method!r}")
+        raise InputError(f"method must be 'auto', 'scipy' or 'mpmath'; got {method!r}")
     n = L + M + 1
     floats = as_float_array(coefficients[:n])
     if method == "auto":

@@ -33,6 +33,8 @@ import numpy as np
 
 from anharmony.errors import DegenerateLevelError
 
+from ..errors import InputError
+
 __all__ = [
     "exact_field",
     "hermite_bands",
@@ -64,7 +66,7 @@ def exact_field(
         if _gmpy2 is None:
             raise ImportError("field='gmpy2' needs the optional package gmpy2 (pip install gmpy2)")
         return _gmpy2.mpz, _gmpy2.gcd, _gmpy2.lcm
-    raise ValueError(f"field must be 'auto', 'gmpy2' or 'fraction'; got {name!r}")
+    raise InputError(f"field must be 'auto', 'gmpy2' or 'fraction'; got {name!r}")
 
 
 def _as_rational(value: Any, name: str) -> Fraction:
@@ -328,7 +330,7 @@ def _restrict_parity(
     sub_bands = {}
     for off, vals in bands.items():
         if off % 2:
-            raise ValueError("internal: odd band in a parity restriction")
+            raise InputError("internal: odd band in a parity restriction")
         sub_bands[off // 2] = [vals[i] for i in idx]
     return sub_diag, sub_bands
 
@@ -395,16 +397,16 @@ def rs_exact_radial(
     """
     _check_level_order(level, order)
     if dimension not in (1, 2, 3):
-        raise ValueError(f"dimension must be 1, 2 or 3; got {dimension!r}")
+        raise InputError(f"dimension must be 1, 2 or 3; got {dimension!r}")
     if not isinstance(l, int) or l < 0 or (dimension == 1 and l > 1):
-        raise ValueError(
+        raise InputError(
             f"l must be an integer >= 0 (0 or 1 in dimension 1); got {l!r} in dimension "
             f"{dimension}"
         )
     coeffs = _clean(coefficients)
     odd = sorted(q for q in coeffs if q % 2)
     if odd:
-        raise ValueError(
+        raise InputError(
             f"coefficients: radial channels need even powers of r for exact matrix elements; "
             f"got odd power(s) {odd}"
         )
@@ -421,7 +423,7 @@ def _clean(coefficients: Mapping[int, Any]) -> dict[int, Fraction]:
     out = {}
     for q, c in coefficients.items():
         if not isinstance(q, (int, np.integer)) or q < 0:
-            raise ValueError(f"coefficients: powers must be integers >= 0; got {q!r}")
+            raise InputError(f"coefficients: powers must be integers >= 0; got {q!r}")
         value = _as_rational(c, f"coefficients[{q}]")
         if value:
             out[int(q)] = value
@@ -430,6 +432,6 @@ def _clean(coefficients: Mapping[int, Any]) -> dict[int, Fraction]:
 
 def _check_level_order(level: int, order: int) -> None:
     if not isinstance(level, (int, np.integer)) or level < 0:
-        raise ValueError(f"level must be an integer >= 0; got {level!r}")
+        raise InputError(f"level must be an integer >= 0; got {level!r}")
     if not isinstance(order, (int, np.integer)) or order < 0:
-        raise ValueError(f"order must be an integer >= 0; got {order!r}")
+        raise InputError(f"order must be an integer >= 0; got {order!r}")

@@ -13,6 +13,7 @@ from typing import Any
 import mpmath
 import numpy as np
 
+from ..errors import InputError
 from ._values import as_float_array, check_coefficients, even_series, mpf_to_float, to_mpf
 
 __all__ = ["OptimalTruncation", "optimal_truncation", "partial_sums"]
@@ -91,7 +92,7 @@ def optimal_truncation(coefficients: Sequence[Any], lam: float) -> OptimalTrunca
     check_coefficients(coefficients)
     x = float(lam)
     if len(coefficients) < 2:
-        raise ValueError("optimal truncation needs coefficients up to order >= 1")
+        raise InputError("optimal truncation needs coefficients up to order >= 1")
     with mpmath.workdps(30):
         even = even_series(coefficients)
         used = coefficients if even is None else even

@@ -15,6 +15,7 @@ import numpy as np
 
 from anharmony.errors import NumericalError
 
+from ..errors import InputError
 from .borel import borel_pade
 from .resum import pade_sum
 from .truncation import partial_sums
@@ -33,9 +34,9 @@ def _values(source: Any) -> Sequence[Any]:
 def _tolerances(energies: np.ndarray, atol: float, rtol: float) -> np.ndarray:
     for name, v in (("atol", atol), ("rtol", rtol)):
         if not (isinstance(v, (int, float)) and math.isfinite(v) and v >= 0):
-            raise ValueError(f"{name} must be a finite number >= 0; got {v!r}")
+            raise InputError(f"{name} must be a finite number >= 0; got {v!r}")
     if atol == 0 and rtol == 0:
-        raise ValueError("give a tolerance: atol > 0 (energy units) or rtol > 0 (relative)")
+        raise InputError("give a tolerance: atol > 0 (energy units) or rtol > 0 (relative)")
     return atol + rtol * np.abs(energies)
 
 
@@ -102,7 +103,7 @@ def _grid_index(grid: np.ndarray, coupling: float) -> int:
     x = float(coupling)
     match = np.flatnonzero(np.abs(grid - x) <= COUPLING_MATCH_RTOL * max(1.0, abs(x)))
     if not match.size:
-        raise ValueError(
+        raise InputError(
             f"coupling {coupling!r} is not on the grid; the exact energy is known only at "
             f"{np.array2string(np.sort(grid), precision=6, threshold=8)}"
         )
@@ -146,12 +147,12 @@ def verdict(
     lam = np.asarray(couplings, dtype=float)
     e = np.asarray(energies, dtype=float)
     if lam.ndim != 1 or e.shape != lam.shape:
-        raise ValueError(
+        raise InputError(
             f"couplings and energies must be 1D arrays of the same length; got shapes "
             f"{lam.shape} and {e.shape}"
         )
     if lam.size == 0:
-        raise ValueError("couplings must hold at least one value; got an empty grid")
+        raise InputError("couplings must hold at least one value; got an empty grid")
     order = np.argsort(np.abs(lam), kind="stable")
     lam, e = lam[order], e[order]
     tol = _tolerances(e, atol, rtol)
