@@ -296,8 +296,10 @@ def display_energy_factor(system: str | UnitSystem, unit: str | None) -> tuple[f
     if unit is None or unit == u.energy:
         return 1.0, stored
     table = DISPLAY_ENERGY.get(u.name, {})
+    if not table:
+        raise InputError(f"--units: {u.name} units have no other energy unit than "
+                         f"{u.energy_text}; got {unit!r} (leave out --units)")
     if unit not in table:
-        valid = ", ".join(table) or "none (energies are in hbar*omega)"
         raise InputError(f"--units: {unit!r} is not a display unit of {u.name} units; "
-                         f"expected one of {valid}")
-    return _si(u)[0] / table[unit], UNIT_SYMBOLS.get(unit, unit)
+                         f"expected one of {', '.join(table)}")
+    return _si(u)[0] / table[unit], units_symbol(unit, u) or unit
