@@ -260,7 +260,9 @@ def test_axis_units_come_from_the_units_attributes(trap):
     fig = plots.make_figure(trap, "flow")
     ax = fig.axes[0]
     assert ax.get_ylabel() == "energy E (h·kHz)"  # trap energies are E/h in kHz
-    assert ax.get_xlabel() == f"well[0].depth ({pretty_units(trap.scan_value.units)})"
+    # the scanned parameter in the trade's words, its unit from the same table
+    assert ax.get_xlabel() == "Gaussian depth V₀ (h·kHz)"
+    assert trap.scan_value.units == "kHz"  # CF/UDUNITS spelling in the file
 
 
 def test_make_figure_uses_no_pyplot_state(synthetic):
@@ -552,7 +554,7 @@ def test_spectroscopic_labels_follow_the_trade_convention(dimension, l, j, n, la
 
 @pytest.mark.parametrize(("units", "quantity", "shown"), [
     ("cm-1", "energy", "cm⁻¹"),
-    ("MeV fm-4", None, "MeV fm⁻⁴"),
+    ("MeV fm-4", None, "MeV/fm⁴"),
     ("angstrom", "length", "Å"),
     ("um", "length", "µm"),
     ("kHz", "energy", "h·kHz"),

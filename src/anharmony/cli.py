@@ -78,6 +78,11 @@ def _parser() -> argparse.ArgumentParser:
                            f"{_SHOW_ALL_UP_TO}, else first, middle and last)")
     show.add_argument("--channel", metavar="LABEL", action="append",
                       help="only this channel (repeatable), e.g. s1/2")
+    show.add_argument("--units", metavar="UNIT",
+                      help="energy unit of the table (the file keeps its own): trap kHz, Hz, "
+                           "MHz (E/h; for hbar*omega that is omega/2pi), uK, nK (E/k_B); "
+                           "nuclear MeV, keV; molecular cm-1, THz, GHz, meV; dot meV, ueV, "
+                           "THz; atomic hartree, eV, cm-1")
 
     plot = sub.add_parser("plot", help="draw a figure from a result file",
                           description="Draw a figure from a result file (needs anharmony.plots).")
@@ -301,6 +306,63 @@ def _rows(ds: Any, k: int, chans: list[int], ladder: bool) -> list[tuple[int, in
     return rows
 
 
+ROUNDING_TEXT = "<rounding"  # an error estimate at or below the rounding floor
+ROUNDING_ULPS = 4.0  # floor of a file without `rounding_floor`: a few ulp of the energy scale
+
+
+def _rounding_floor(ds: Any, k: int, c: int, energy: float) -> float:
+    """The accuracy floor of a level at scan point k in channel c.
+
+    The file's ``rounding_floor`` (scan, channel) where it stores one; else a few ulp of
+    max(|E|, N ħω), N the basis size and ħω the basis': the oscillator part of H has
+    diagonal elements up to about N ħω, so this is a lower estimate of the eigensolver's
+    floor eps·‖H‖ that the error estimates include. An estimate at or below it is rounding,
+    not a measured error.
+    """
+    import numpy as np
+
+    if "rounding_floor" in ds:
+        value = ds["rounding_floor"].values
+        value = float(value[k, c] if np.ndim(value) == 2 else value)
+        if math.isfinite(value):
+            return value
+    size = float(ds.attrs.get("basis_size", 0))
+    if "convergence_size" in ds and ds["convergence_size"].ndim == 2:
+        size = max(size, float(ds["convergence_size"].values[k, c]))
+    scale = max(abs(energy), size * abs(float(ds.frequency.values[k])))
+    if not math.isfinite(scale):
+        return 0.0
+    return ROUNDING_ULPS * float(np.finfo(float).eps) * scale
+
+
+def _display_units(attrs: Any, unit: str | None) -> tuple[float, str]:
+    """(factor, symbol) of the table's energies: stored × factor; symbol from the unit table."""
+    from .units import display_energy_factor, get_units, units_symbol
+
+    name = str(attrs.get("unit_system", "oscillator"))
+    try:
+        system = get_units(name)
+    except ValueError:  # a file from another version: keep the stored numbers
+        if unit is not None:
+            raise
+        stored = str(attrs.get("energy_units", ""))
+        return 1.0, units_symbol(stored, name, "energy") or stored
+    return display_energy_factor(system, unit)
+
+
+def _unit_suffix(symbol: str) -> str:
+    return "" if symbol in ("", "ħω", "b") else f" {symbol}"
+
+
+def _symbol(attrs: Any, system: Any, quantity: str | None = None) -> str:
+    """Screen symbol of a variable's unit: its ``display_units``, else from the unit table."""
+    from .units import units_symbol
+
+    if "display_units" in attrs:
+        return str(attrs["display_units"])
+    return units_symbol(str(attrs.get("units", "")), system, quantity) or ""
+
+
 def _cmd_show(args: argparse.Namespace) -> int:
     import numpy as np
 
@@ -312,10 +374,12 @@ def _cmd_show(args: argparse.Namespace) -> int:
         _err(str(exc))
         return EXIT_BAD_INPUT
     s = ds.sizes["scan"]
+    hidden = 0
     if args.scan == "all":
         points = list(range(s))
     elif args.scan == "auto":
         points = list(range(s)) if s <= _SHOW_ALL_UP_TO else sorted({0, s // 2, s - 1})
+        hidden = s - len(points)
     else:
         try:
             k = int(args.scan)
@@ -335,10 +399,14 @@ def _cmd_show(args: argparse.Namespace) -> int:
             return EXIT_BAD_INPUT
         chans = [labels.index(c) for c in args.channel]
     a = ds.attrs
-    e_units = a.get("energy_units", "")
     dim = int(a.get("dimension", 3))
     tol = float(a.get("tolerance", 0.0))
-    shown_units = "units of hbar*omega" if e_units == "1" else e_units
+    try:
+        scale, symbol = _display_units(a, args.units)
+    except ValueError as exc:
+        _err(str(exc))
+        return EXIT_BAD_INPUT
+    shown_units = "units of hbar*omega" if symbol == "ħω" else symbol
     print(f"{a.get('title', '')}  [{a.get('unit_system', '')}; energies in {shown_units}]")
     if a.get("unit_system") in ("trap", "dot"):
         print("  note: model results for an idealised potential, not a basis for building or "
@@ -347,6 +415,8 @@ def _cmd_show(args: argparse.Namespace) -> int:
     if "convergence" in a:
         print(f"  convergence: {a['convergence']}; converged = error below {tol:g}")
     param = ds.scan_value.attrs.get("parameter", "coupling")
+    p_symbol = _symbol(ds.scan_value.attrs, a.get("unit_system"))
+    b_symbol = _symbol(ds.length.attrs, a.get("unit_system"), "length")
     xdiff = ds["cross_check_difference"].values if "cross_check_difference" in ds else None
     xcheck = xdiff is not None and bool(np.isfinite(xdiff).any())
     grown = "convergence_size" in ds and "grown" in str(a.get("convergence", ""))
@@ -356,10 +426,13 @@ def _cmd_show(args: argparse.Namespace) -> int:
             + f" {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
             f"{'error':>9} {'conv':>5}" + (f" {'x-check':>9}" if xcheck else "")
             + "  perturbation")
+    floored = False
     for k in points:
         sv = float(ds.scan_value.values[k])
-        print(f"\n{param} = {sv:g}: hbar*omega = {float(ds.frequency.values[k]):.6g}, "
-              f"b = {float(ds.length.values[k]):.6g} ({ds.reference_method.values[k]})")
+        hw = scale * float(ds.frequency.values[k])
+        print(f"\n{param} = {sv:g}{_unit_suffix(p_symbol)}: hbar*omega = "
+              f"{hw:.6g}{_unit_suffix(symbol)}, b = {float(ds.length.values[k]):.6g}"
+              f"{_unit_suffix(b_symbol)} ({ds.reference_method.values[k]})")
         if grown:
             reached = ", ".join(f"{labels[c]} {int(ds.convergence_size.values[k, c])}"
                                 for c in chans)
@@ -370,12 +443,16 @@ def _cmd_show(args: argparse.Namespace) -> int:
             ref = float(ds.reference_energy.values[k, c, n])
             bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
             err = float(ds.error_estimate.values[k, c, n])
-            errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
+            below = err <= _rounding_floor(ds, k, c, e)
+            floored |= below
+            errs = (f"{ROUNDING_TEXT:>9}" if below else f"{scale * err:9.1e}"
+                    if math.isfinite(err) else f"{'-':>9}")
+            e, ref = scale * e, scale * ref
             conv = ("yes" if int(ds.converged.values[k, c, n])
                     else "NO" if bound == "yes" else "-")  # continuum: no level to converge
             extra = ""
             if xcheck:
-                x = float(xdiff[k, c, n])
+                x = scale * float(xdiff[k, c, n])
                 extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
             name = _level_name(ds, dim, c, n)
             parity = f" {('even', 'odd')[int(ds.l.values[c])]:>6}" if ladder else ""
@@ -383,6 +460,12 @@ def _cmd_show(args: argparse.Namespace) -> int:
                   f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
                   f"{_verdict(ds, k, c, n, tol)}")
     notes = [w for w in str(a.get("convergence_warnings", "")).splitlines() if w]
+    if hidden:
+        print(f"\n{hidden} of {s} scan points not shown (first, middle and last are); "
+              "--scan all shows every point, --scan K one point")
+    if floored:
+        print(f"\nerror {ROUNDING_TEXT}: the error estimate is at the rounding floor of the "
+              "eigenvalues (nothing above rounding is left to estimate)")
     if xcheck:
         print("\nx-check: energy minus the level of the cross-check solver "
               "(cross_check_difference)")

@@ -39,6 +39,9 @@ __all__ = [
     "read_dataset",
     "result_attrs",
     "sanitize_attrs",
+    "ScanAxis",
+    "energy_attrs",
+    "scan_axis",
     "scan_units",
     "write_dataset",
 ]
@@ -164,55 +167,130 @@ def sanitize_attrs(attrs: Mapping[Any, Any]) -> dict[str, Any]:
     return out
 
 
-def _power(unit: str, p: float) -> str:
-    if p == 0:
-        return ""
-    q = int(p) if float(p).is_integer() else p
-    return unit if q == 1 else f"{unit}{q}"
+# Trade words of the parameters, for axis labels: "quartic strength g" (``display_name``).
+_PARAMETER_WORDS = {
+    "strength": "strength g", "frequency": "frequency ħω", "stiffness": "stiffness k",
+    "depth": "depth V₀", "radius": "radius R", "diffuseness": "diffuseness a",
+    "range": "range a", "waist": "waist w", "center": "centre x₀", "r0": "radius constant r₀",
+    "length": "length", "width": "width α", "mass_number": "mass number A",
+    "charge": "charge Z", "exponent": "exponent p", "rayleigh_length": "Rayleigh length z_R",
+    "wavelength": "wavelength λ", "force": "force F",
+}
+_TERM_WORDS = {
+    "woods_saxon": "Woods–Saxon", "gaussian": "Gaussian", "morse": "Morse",
+    "poschl_teller": "Pöschl–Teller", "spin_orbit": "spin–orbit", "coulomb": "Coulomb",
+    "focused_beam": "beam", "harmonic": "harmonic", "tilt": "tilt", "polynomial": "polynomial",
+    "anisotropic_harmonic": "harmonic", "expression": "formula",
+}
+_POWER_WORDS = {1: "linear", 2: "quadratic", 3: "cubic", 4: "quartic", 5: "quintic",
+                6: "sextic", 8: "octic"}
+_SETTING_WORDS = {("particle", "mass"): ("particle mass m", (0, 0)),
+                  ("reference", "frequency"): ("reference ħω", (1, 0)),
+                  ("reference", "length"): ("reference length b", (0, 1)),
+                  ("reference", "center"): ("reference centre x₀", (0, 1)),
+                  ("basis", "length"): ("basis length b", (0, 1))}
+# (energy power, length power) of each parameter
+_PARAMETER_DIMS = {
+    "depth": (1, 0), "frequency": (1, 0), "stiffness": (1, -2), "radius": (0, 1),
+    "diffuseness": (0, 1), "range": (0, 1), "waist": (0, 1), "center": (0, 1), "r0": (0, 1),
+    "length": (0, 1), "width": (0, -1), "mass_number": (0, 0), "charge": (0, 0),
+    "exponent": (0, 0), "rayleigh_length": (0, 1), "wavelength": (0, 1), "force": (1, -1),
+}
 
 
-def _compose(energy: str, length: str, e: float, l_pow: float) -> str:
-    if energy == "1" and length == "1":
-        return "1"
-    parts = [s for s in (_power(energy, e), _power(length, l_pow)) if s]
-    return " ".join(parts) or "1"
+@dataclass(frozen=True)
+class ScanAxis:
+    """The scanned parameter in a file and on screen.
+
+    Attributes
+    ----------
+    units, long_name
+        CF ``units`` (from :func:`anharmony.units.units_string`) and long name.
+    display_name, display_units
+        Its trade name (``"quartic strength g"``) and screen symbol (``"ħω/b⁴"``, from the
+        same table, :func:`anharmony.units.dimension_symbol`); ``display_units`` is ``""``
+        for a pure number.
+    """
+
+    units: str
+    long_name: str
+    display_name: str
+    display_units: str
+
+
+def scan_axis(case: Case) -> ScanAxis:
+    """Units, long name and trade name of the scanned parameter of ``case``."""
+    from .units import dimension_symbol, units_string
+
+    u = case.units
+    t = case.scan_target
+    path = case.scan_parameter
+
+    def axis(dims: tuple[float, float], long_name: str, name: str, mass: bool = False
+             ) -> ScanAxis:
+        if mass:
+            units = "1" if u.energy == "1" else u.mass
+            shown = _symbol(units, u, "mass")
+        else:
+            units = units_string(u, *dims)
+            shown = dimension_symbol(u, *dims) or ""
+        return ScanAxis(units, long_name, name, shown)
+
+    if t.kind == "coupling":
+        return axis((0, 0), "coupling lambda of H = H_ref + lambda (V - V_ref)", "coupling λ")
+    if t.kind == "setting":
+        long_name = {("particle", "mass"): "particle mass",
+                     ("reference", "frequency"): "hbar*omega of the reference oscillator",
+                     ("reference", "length"): "length of the reference oscillator",
+                     ("reference", "center"): "centre of the reference oscillator",
+                     ("basis", "length"): "oscillator length of the basis"}[t.keys]
+        name, dims = _SETTING_WORDS[t.keys]
+        return axis(dims, long_name, name, mass=t.keys == ("particle", "mass"))
+    term, name, *sub = t.keys
+    params = case.model.well[t.term][term] or {}
+    long_name = f"{name} of the {term} term {path.split('.')[0]}"
+    words = _PARAMETER_WORDS.get(name, name.replace("_", " "))
+    if name == "strength" and term == "power":
+        exponent = float(params.get("exponent", 0))
+        power = _POWER_WORDS.get(int(exponent)) if exponent.is_integer() else None
+        return axis((1, -exponent), long_name,
+                    f"{power or f'x^{exponent:g}'} {words}")
+    if name == "strength":
+        return axis((1, 0), long_name, f"{_TERM_WORDS.get(term, term)} {words}")
+    if name == "coefficients":
+        k = float(sub[0])
+        return axis((1, -k), long_name, f"{_TERM_WORDS.get(term, term)} coefficient "
+                    f"c_{int(k) if k.is_integer() else k}")
+    if name == "parameters":
+        return axis((0, 0), f"parameter {sub[0]} of the formula of {path.split('.')[0]}",
+                    f"formula parameter {sub[0]}")
+    return axis(_PARAMETER_DIMS.get(name, (0, 0)), long_name,
+                f"{_TERM_WORDS.get(term, term)} {words}")
+
+
+def _symbol(units: str, system: Any, quantity: str) -> str:
+    from .units import units_symbol
+
+    return units_symbol(units, system, quantity) or ""
 
 
 def scan_units(case: Case) -> tuple[str, str]:
     """CF units and a long name of the scanned parameter."""
-    u = case.units
-    t = case.scan_target
-    path = case.scan_parameter
-    if t.kind == "coupling":
-        return "1", "coupling lambda of H = H_ref + lambda (V - V_ref)"
-    if t.kind == "setting":
-        table = {("particle", "mass"): (u.mass, "particle mass"),
-                 ("reference", "frequency"): (u.energy, "hbar*omega of the reference oscillator"),
-                 ("reference", "length"): (u.length, "length of the reference oscillator"),
-                 ("reference", "center"): (u.length, "centre of the reference oscillator"),
-                 ("basis", "length"): (u.length, "oscillator length of the basis")}
-        unit, name = table[t.keys]
-        return ("1" if u.energy == "1" else unit), name
-    term, name, *sub = t.keys
-    params = case.model.well[t.term][term] or {}
-    dims = {"depth": (1, 0), "frequency": (1, 0), "stiffness": (1, -2), "radius": (0, 1),
-            "diffuseness": (0, 1), "range": (0, 1), "waist": (0, 1), "center": (0, 1),
-            "r0": (0, 1), "length": (0, 1), "width": (0, -1), "mass_number": (0, 0),
-            "charge": (0, 0), "exponent": (0, 0)}
-    if name == "strength":
-        dim = (1, 0) if term == "spin_orbit" else (1, -float(params.get("exponent", 0)))
-    elif name == "coefficients":
-        dim = (1, -float(sub[0]))
-    elif name == "parameters":
-        return "1", f"parameter {sub[0]} of the formula of {path.split('.')[0]}"
-    else:
-        dim = dims.get(name, (0, 0))
-    return _compose(u.energy, u.length, *dim), f"{name} of the {term} term {path.split('.')[0]}"
+    ax = scan_axis(case)
+    return ax.units, ax.long_name
+
+
+def energy_attrs(system: Any, units: str, long_name: str, **extra: Any) -> dict[str, Any]:
+    """CF ``units`` and ``long_name``; where the stored unit is not an energy unit (E/h in
+    kHz, E/(hc) in cm-1) the long name says what the number is (``energy_note``)."""
+    note = getattr(system, "energy_note", "")
+    tokens = {t.rstrip("-0123456789.") for t in str(units).split()}
+    if note and system.energy in tokens:
+        long_name = f"{long_name} ({note})"
+    return {"units": units, "long_name": long_name, **extra}
 
 
 # --------------------------------------------------------------------------- dataset
-def _float_attrs(units: str, long_name: str, **extra: Any) -> dict[str, Any]:
-    return {"units": units, "long_name": long_name, **extra}
 
 
 def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
@@ -239,11 +317,16 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
     n = result.energy.shape[2]
     k = result.series_coefficient.shape[-1]
     methods = list(result.resum_methods)
-    s_units, s_long = scan_units(case)
+    scan = scan_axis(case)
+
+    def _float_attrs(units: str, long_name: str, **extra: Any) -> dict[str, Any]:
+        return energy_attrs(u, units, long_name, **extra)
 
     coords: dict[str, Any] = {
         "scan_value": ("scan", np.asarray(result.scan_value, dtype=float),
-                       _float_attrs(s_units, s_long, parameter=case.scan_parameter)),
+                       _float_attrs(scan.units, scan.long_name, parameter=case.scan_parameter,
+                                    display_name=scan.display_name,
+                                    display_units=scan.display_units)),
         "l": ("channel", np.asarray(result.l, dtype=np.int64),
               {"units": "1", "long_name": "angular quantum number l (1D: parity 0 even, "
                "1 odd; -1 the basis without symmetry; 2D: |m|)"}),

@@ -22,14 +22,11 @@ __all__ = [
     "axis_label",
     "level_label",
     "new_figure",
+    "parameter_label",
     "pretty_units",
     "spread_labels",
 ]
 
-# Spectroscopic letters of l = 0, 1, 2, …; j is skipped (trade convention).
-_SUPERSCRIPT = str.maketrans("-0123456789.", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹·")
-_UNIT_NAMES = {"angstrom": "Å", "um": "µm", "micrometre": "µm", "MeV/c2": "MeV/c²",
-               "hartree": "Eₕ", "bohr": "a₀", "m_e": "mₑ"}
 
 
 # What to put in the case to get a missing variable, by name prefix.
@@ -94,29 +91,18 @@ def pretty_units(units: Any, system: str | None = None, quantity: str | None = N
                  ) -> str | None:
     """Units for an axis label: ``"cm-1"`` → ``"cm⁻¹"``; ``None`` for a pure number.
 
-    In the dimensionless ``oscillator`` system energies are in ħω and lengths in b; ``trap``
-    energies are E/h in kHz, written ``h·kHz``.
+    The symbols come from the one table :data:`anharmony.units.UNIT_SYMBOLS` (``show`` uses
+    it too): in the dimensionless ``oscillator`` system energies are in ħω and lengths in b;
+    ``trap`` energies are stored as E/h in kHz and written ``h·kHz``.
     """
-    text = "" if units is None else str(units).strip()
-    if text in ("", "1"):
-        if system == "oscillator" and quantity in ("energy", "length"):
-            return "ħω" if quantity == "energy" else "b"
-        return None
-    if quantity == "energy" and text == "kHz":
-        return "h·kHz"
-    out = []
-    for token in text.split():
-        if token in _UNIT_NAMES:
-            out.append(_UNIT_NAMES[token])
-            continue
-        m = re.fullmatch(r"(.*?[A-Za-z/_])(-?\d+(?:\.\d+)?)?", token)
-        if not m:
-            out.append(token)
-            continue
-        base, power = m[1], m[2]
-        base = _UNIT_NAMES.get(base, base)
-        out.append(base + (power.translate(_SUPERSCRIPT) if power else ""))
-    return " ".join(out)
+    from ..units import units_symbol
+
+    return units_symbol(None if units is None else str(units), system, quantity)
+
+
+def parameter_label(view: ResultView) -> str:
+    """``"quartic strength g (ħω/b⁴)"``: the scanned parameter's name and unit for an axis."""
+    return axis_label(view.scan_name, view.scan_units)
 
 
 def axis_label(name: str, units: str | None) -> str:
@@ -359,18 +345,26 @@ class ResultView:
 
     @property
     def scan_units(self) -> str | None:
+        """Screen symbol of the scanned parameter's unit (``ħω/b⁴``, ``h·kHz``)."""
         if not self.has("scan_value"):
             return None
-        return pretty_units(self.var("scan_value").attrs.get("units"), None, None)
+        attrs = self.var("scan_value").attrs
+        if "display_units" in attrs:  # written by the run from the unit table
+            return str(attrs["display_units"]) or None
+        return pretty_units(attrs.get("units"), self.unit_system, None)
 
     @property
     def scan_name(self) -> str:
+        """The parameter in the trade's words (``quartic strength g``); older files: its path."""
+        if self.has("scan_value") and self.var("scan_value").attrs.get("display_name"):
+            return str(self.var("scan_value").attrs["display_name"])
         p = self.scan_parameter
         return "coupling λ" if p in ("coupling", "lambda") else p
 
     @property
     def scan_label(self) -> str:
-        return axis_label(self.scan_name, self.scan_units)
+        """The axis label of the scanned parameter, used by every kind of figure."""
+        return parameter_label(self)
 
     def scan_text(self, i: int) -> str:
         """``"well[1].strength = 0.5 MeV"`` for scan point i."""
