@@ -393,3 +393,15 @@ def test_run_names_every_level_whose_quick_estimate_misses_the_tolerance(tmp_pat
             elif change < 0.9e-6:
                 assert label not in warnings[0], label
     assert named >= 2  # the strong quartic leaves several levels unconverged at N = 12
+
+
+def test_check_states_the_estimated_work_of_a_case(capsys):
+    # The contract: `check` says how much a case will cost before it runs (counts
+    # from cases.estimate_work, which tests/test_cases_fields.py checks against a counted run).
+    from anharmony.cases import estimate_work, load_cases
+
+    path = Path(__file__).parent.parent / "cases" / "quartic-3d.yaml"
+    code, out, _ = _run(capsys, "check", str(path))
+    assert code == 0
+    expected = estimate_work(load_cases([path])[0]).summary()
+    assert f"estimated work: {expected}" in out

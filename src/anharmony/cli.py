@@ -250,7 +250,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
 # --------------------------------------------------------------------------- check
 def _cmd_check(args: argparse.Namespace) -> int:
-    from .cases import CaseError, load_cases
+    from .cases import CaseError, estimate_work, load_cases
     from .runner import describe
 
     try:
@@ -262,6 +262,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
         text = describe(case, reference=not args.no_reference)
         for line in text.lines:
             print(line)
+        print(f"  estimated work: {estimate_work(case).summary()}")
         if text.problem is not None:
             _err(f"{case.name}: reference: {text.problem}")
             status = EXIT_BAD_INPUT
