@@ -73,6 +73,11 @@ BAD = [
     (None, {"level": -1}, "level"),
     (None, {"orders": 0}, "orders"),
     (None, {"exact": "maybe"}, "exact"),
+    (("solve",), {"geometry": "spherical"}, "geometry"),
+    (("solve",), {"omega": 1}, "omega"),  # the central geometry has no Ω blocks
+    (("solve",), {"parity": (1, 1, 1)}, "parity"),
+    (("solve",), {"shells": 8}, "shells"),
+    (("solve",), {"truncation": "energy"}, "truncation"),
 ]
 
 

@@ -19,7 +19,7 @@ schema: 1
 title: Every field
 units: oscillator
 particle: {mass: 1.0, name: test}
-space: {dimension: 3, l: [0, 1], spin: 1/2, j: [0.5, 1.5]}
+space: {geometry: central, dimension: 3, l: [0, 1], spin: 1/2, j: [0.5, 1.5]}
 well:
   - harmonic: {frequency: 1.0}
   - power: {exponent: 4, strength: 0.1}
@@ -49,6 +49,10 @@ BAD = [
     ("units", "units: oscillator", "units: imperial"),
     ("particle.mass", "mass: 1.0", "mass: -1.0"),
     ("particle.name", "name: test", "name: no"),
+    ("space.geometry", "geometry: central", "geometry: round"),
+    # shells and truncation belong to the other geometries: written here with a bad value
+    ("space.shells", "geometry: central", "geometry: central, shells: -1"),
+    ("space.truncation", "geometry: central", "geometry: central, truncation: states"),
     ("space.dimension", "dimension: 3", "dimension: 4"),
     ("space.l[1]", "l: [0, 1]", "l: [0, -1]"),
     ("space.spin", "spin: 1/2", "spin: 3/2"),

@@ -38,6 +38,7 @@ __all__ = [
     "FitResult",
     "FitWarning",
     "FormulaError",
+    "GeometrySpectrum",
     "InputError",
     "NumericalError",
     "Reference",
@@ -74,9 +75,11 @@ __all__ = [
     "scan_basis",
     "series",
     "solve",
+    "solve_geometry",
     "spectroscopic_constants",
     "transition_matrix",
     "transition_strength",
+    "trap_frequencies",
     "wavefunction",
 ]
 
@@ -97,6 +100,7 @@ _LAZY = {  # public name → the module that defines it, imported on first use
                      "reduced_multipole", "rms_radius", "transition_matrix",
                      "transition_strength", "wavefunction"), "observables"),
     "fill_shells": "shells",
+    **dict.fromkeys(("GeometrySpectrum", "solve_geometry", "trap_frequencies"), "geometry"),
     "run_case": "runner",
     "load_cases": "cases",
     "read_dataset": "store",

@@ -18,17 +18,21 @@ import warnings
 from collections import OrderedDict
 from collections.abc import Callable, Hashable, Mapping
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from scipy.linalg import eig_banded, eigh
 from scipy.optimize import minimize_scalar
 
+from ._defaults import plain, unset
 from .basis import HermiteBasis, RadialBasis
 from .errors import ConvergenceWarning, InputError
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
 from .units import UnitSystem, get_units
 from .well import Well
+
+if TYPE_CHECKING:
+    from .geometry import GeometrySpectrum
 
 __all__ = ["BANDED_MAX_RATIO", "DEFAULT_TOLERANCE", "Reference", "Spectrum",
            "bound_count_estimate", "clear_caches", "diagonalize", "nested_error_estimate",
@@ -782,11 +786,13 @@ def _check_tolerance(tolerance: Any) -> float:
     return float(tolerance)
 
 
-def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
-          size: int = 60, length: float | str = "auto", units: str | UnitSystem = "oscillator",
-          mass: float | None = None, levels: int = 5,
+def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = None, *,
+          size: int = unset(60), length: float | str = "auto",
+          units: str | UnitSystem = "oscillator", mass: float | None = None, levels: int = 5,
           reference: str | Mapping[str, float] = "auto",
-          tolerance: float = DEFAULT_TOLERANCE) -> Spectrum:
+          tolerance: float = unset(DEFAULT_TOLERANCE), geometry: str = "central",
+          omega: int | None = None, parity: Any = None, shells: int | None = None,
+          truncation: str | None = None) -> Spectrum | GeometrySpectrum:
     """Lowest levels of one channel of a well in an oscillator basis, each with an error bar.
 
     Parameters
@@ -817,10 +823,26 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         levels (ħω of the basis when one level is asked for). Bound levels whose
         :attr:`Spectrum.error_estimate` exceeds it are not ``converged`` and raise one
         :class:`~anharmony.errors.ConvergenceWarning` naming them.
+    geometry
+        ``"central"`` (one (l) or (l, j) channel, the default), ``"cartesian"`` or ``"axial"``
+        (wells without spherical symmetry, DESIGN §10): the call goes to
+        :func:`anharmony.geometry.solve_geometry` with the same well, units, mass and levels;
+        ``l``, ``j``, ``size``, ``reference`` and ``tolerance`` are refused there when
+        written, and ``length`` is ``"auto"`` or one length for every axis
+        (:mod:`anharmony.geometry.dispatch`).
+    omega
+        Axial geometry: the Ω (= Λ) block, ``None`` for all.
+    parity
+        Cartesian: one entry per axis (+1, −1 or ``None``); axial: +1, −1 or ``None``.
+    shells
+        Cartesian and axial: N_max of the basis (default 12).
+    truncation
+        Cartesian and axial: ``"shells"`` (default) or ``"energy"``.
 
     Returns
     -------
     Spectrum
+        For the central geometry; a :class:`~anharmony.geometry.GeometrySpectrum` otherwise.
 
     Notes
     -----
@@ -838,6 +860,15 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     channel matrices of a (well value, channel, size, length, centre) are kept in a small LRU
     cache, so a repeated solve costs about one eigensolve.
     """
+    if not (isinstance(geometry, str) and geometry == "central") or \
+            any(v is not None for v in (omega, parity, shells, truncation)):
+        from .geometry.dispatch import solve_in_geometry
+
+        return solve_in_geometry(well, dimension, l, j, geometry=geometry, omega=omega,
+                                 parity=parity, shells=shells, truncation=truncation,
+                                 size=size, length=length, units=units, mass=mass,
+                                 levels=levels, reference=reference, tolerance=tolerance)
+    l, size, tolerance = plain(l), plain(size), plain(tolerance)
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
     if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:

@@ -30,8 +30,55 @@ __all__ = ["case_issues", "model_issues"]
 Found = list[tuple[Path_, str]]
 
 
+def _geometry_issues(model: CaseModel) -> Found:
+    """``space.geometry`` against the other fields (DESIGN §10)."""
+    space = model.space
+    geometry = space.geometry
+    if geometry == "central":
+        return [(("space", key), f"applies to geometry cartesian or axial; this space is "
+                 "central (add geometry: cartesian or axial, or leave "
+                 f"{key} out)") for key in ("shells", "truncation")
+                if getattr(space, key) is not None]
+    out: Found = []
+    need = (3,) if geometry == "axial" else (2, 3)
+    if space.dimension not in need:
+        out.append((("space", "dimension"), f"the {geometry} geometry needs dimension "
+                    f"{' or '.join(map(str, need))}; got {space.dimension}"))
+    blocks = "parity triples" if geometry == "cartesian" else "Λ^π"
+    for key in ("l", "spin", "j"):
+        if getattr(space, key) is not None:
+            out.append((("space", key), f"the {geometry} geometry has no (l, j) channels (its "
+                        f"blocks are {blocks}); leave {key} out"))
+    if "size" in model.basis.model_fields_set:
+        out.append((("basis", "size"), f"the {geometry} basis is cut by space.shells (N_max), "
+                    "not by a count of states; use shells instead"))
+    if model.reference.model_fields_set:
+        out.append((("reference",), f"the {geometry} geometry takes its basis lengths from the "
+                    "Hessian at the minimum (or a central well's reference oscillator); leave "
+                    "reference out (basis.length sets one length for every axis)"))
+    if out:
+        return out
+    try:
+        from ..geometry.potential import check_terms
+
+        check_terms(Well.from_terms(model.well, model.units, model.particle.mass),
+                    space.dimension, geometry)
+    except InputError as exc:  # "well[i].<kind>[.field]: message"
+        head, _, text = str(exc).partition(": ")
+        parts = head.replace("[", ".").replace("]", "").split(".")
+        at = ("well", int(parts[1]), *parts[2:]) if len(parts) > 2 and parts[1].isdigit() \
+            else ("well",)
+        out.append((at, text or str(exc)))
+    except (ValueError, TypeError):
+        pass  # the schema reports a bad term
+    return out
+
+
 def _space_issues(model: CaseModel) -> Found:
     space = model.space
+    if space.geometry != "central" or space.shells is not None or \
+            space.truncation is not None:
+        return _geometry_issues(model)
     out: Found = []
     if space.spin is not None and space.dimension != 3:
         out.append((("space", "spin"), "spin applies in 3 dimensions only; dimension is "
@@ -77,7 +124,7 @@ def _space_issues(model: CaseModel) -> Found:
 def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
     """Cross-field problems of a schema-valid case, and its scan target."""
     out = _space_issues(model)
-    if model.levels.count > model.basis.size:
+    if model.levels.count > model.basis.size and model.space.geometry == "central":
         out.append((("levels", "count"), f"asks for {model.levels.count} levels from a basis of "
                     f"{model.basis.size} states; raise basis.size or lower levels.count"))
     ref = model.reference

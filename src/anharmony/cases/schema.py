@@ -35,6 +35,7 @@ from .messages import got, suggest
 __all__ = [
     "MAX_ORDERS",
     "MAX_SCAN",
+    "MAX_SHELLS",
     "MAX_SIZE",
     "Basis",
     "CaseModel",
@@ -125,9 +126,20 @@ class Particle(_Strict):
     name: str | None = None
 
 
-class Space(_Strict):
-    """``space:`` dimension, angular quantum numbers, spin and an optional list of j."""
+MAX_SHELLS = 60  # largest N_max accepted (a 3D Cartesian basis of 60 shells is ~40 000 states)
 
+
+class Space(_Strict):
+    """``space:`` dimension, angular quantum numbers, spin and an optional list of j.
+
+    ``geometry`` is ``central`` (channels l or (l, j)), ``cartesian`` or ``axial`` (DESIGN
+    §10); the last two are cut by ``shells`` (N_max) with ``truncation`` and take no l, spin
+    or j (the cross-field checks say so).
+    """
+
+    geometry: Literal["central", "cartesian", "axial"] = "central"
+    shells: Annotated[int, Field(ge=0, le=MAX_SHELLS)] | None = None
+    truncation: Literal["shells", "energy"] | None = None
     dimension: Literal[1, 2, 3] = 3
     l: Annotated[int, Field(ge=0)] | list[Annotated[int, Field(ge=0)]] | None = None
     spin: Literal["1/2", 0.5] | None = None

@@ -24,8 +24,8 @@ from .plan import Job, output_path, plan_case
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr
 
-__all__ = ["BatchReport", "Interrupted", "check_outputs", "compute_case", "run_batch",
-           "run_case"]
+__all__ = ["BatchReport", "Interrupted", "check_outputs", "compute_case", "refuse_geometries",
+           "run_batch", "run_case"]
 
 
 class Interrupted(BaseException):
@@ -36,8 +36,42 @@ class Interrupted(BaseException):
         self.signal = signum
 
 
+def refuse_geometries(cases: Sequence[Case]) -> None:
+    """Refuse cases with ``space.geometry`` cartesian or axial: not run from files yet.
+
+    Their levels sit in blocks (parity triples, Λ^π), not in the (l, j) channels of the result
+    file (DESIGN §6), so they are never run as central cases: the Python API solves them.
+
+    Raises
+    ------
+    CaseError
+        One line per such case, naming ``space.geometry``.
+    """
+    problems = []
+    for case in cases:
+        geometry = case.model.space.geometry
+        if geometry == "central":
+            continue
+        line = col = None
+        if case.index is None:  # a file of one case: its text is the file
+            from ..cases.loader import parse_yaml
+
+            line, col = parse_yaml(case.text, case.name)[1].position(("space", "geometry"))
+        where = "space.geometry" if case.index is None else f"cases[{case.index}].space.geometry"
+        shells = case.model.space.shells
+        problems.append(Problem(
+            case.file, line, col, where,
+            f"{geometry} cases are checked but not run from case files yet (result files hold "
+            f"central channels); solve it from Python: anharmony.solve(well, "
+            f"{case.dimension}, geometry={geometry!r}"
+            + (f", shells={shells}" if shells is not None else "") + ")"))
+    if problems:
+        raise CaseError(problems)
+
+
 def compute_case(case: Case) -> CaseResult:
     """All numbers of one case, computed serially in this process."""
+    refuse_geometries([case])
     return assemble(case, [run_job(case, job) for job in plan_case(case)])
 
 
@@ -206,6 +240,7 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         cases = load_cases(list(cases))
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
         raise ValueError(f"jobs: must be an integer >= 1; got {jobs!r}")
+    refuse_geometries(cases)
     if cross_check:
         cases = [c.with_cross_check() for c in cases]
     todo, skipped = check_outputs(cases, out_dir, resume=resume, overwrite=overwrite)

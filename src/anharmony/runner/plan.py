@@ -125,6 +125,16 @@ def describe(case: Case, *, reference: bool = True) -> Description:
              + ("" if case.mass is not None else f" ({u.default_mass_note})"),
              f"  well       {' + '.join(_term_text(t) for t in m.well)}"]
     problem = None
+    geometry = m.space.geometry
+    if geometry != "central":  # blocks instead of channels; `run` refuses these (batch.py)
+        shells = m.space.shells if m.space.shells is not None else 12
+        lines += [f"  geometry   {geometry}, dimension {m.space.dimension}: blocks are "
+                  + ("parity triples" if geometry == "cartesian" else "Λ^π")
+                  + f"; N_max = {shells} ({m.space.truncation or 'shells'} truncation), "
+                  f"length {m.basis.length}; {m.levels.count} levels",
+                  "  run        not from case files yet: use anharmony.solve(well, "
+                  f"geometry={geometry!r}, shells={shells}) in Python"]
+        return Description(lines, None)
     if reference:
         try:
             ref = resolve_reference(case, values[0])
