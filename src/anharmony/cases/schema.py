@@ -39,6 +39,8 @@ __all__ = [
     "Basis",
     "CaseModel",
     "Convergence",
+    "Fit",
+    "FitParameter",
     "Levels",
     "Particle",
     "Perturbation",
@@ -311,6 +313,34 @@ class Convergence(_Strict):
         return ConvergenceSettings(**given, estimate=self.method)
 
 
+class FitParameter(_Strict):
+    """One fitted parameter: its start value (default: the well's) and optional bounds."""
+
+    start: float | None = None
+    bounds: Annotated[list[float | None], Field(min_length=2, max_length=2)] | None = None
+
+
+def _csv_name(name: str) -> str:
+    if not name.strip().lower().endswith(".csv"):
+        raise ValueError(f"must be a list of data or a CSV file name ending in .csv; got {name!r}")
+    return name
+
+
+class Fit(_Strict):
+    """``fit:`` parameters of the well fitted to measured levels and spacings.
+
+    ``parameters`` maps a path (``well[0].depth``) to a start value or ``{start, bounds}``;
+    ``data`` is a list of mappings with the keys :func:`anharmony.fit` reads (quantity, level,
+    levels, value, uncertainty, l, j, name) or a CSV file with those columns. The data's own
+    checks are :func:`anharmony.fit`'s, called from :mod:`.crossfield`.
+    """
+
+    parameters: Annotated[dict[str, float | FitParameter | None], Field(min_length=1)]
+    data: (Annotated[list[dict[str, Any]], Field(min_length=1)]
+           | Annotated[str, AfterValidator(_csv_name)])
+    scale_covariance: bool = False
+
+
 class CaseModel(_Strict):
     """The schema of one case (DESIGN §4)."""
 
@@ -326,6 +356,7 @@ class CaseModel(_Strict):
     scan: Scan | None = None
     perturbation: Perturbation | None = None
     convergence: Convergence = Field(default_factory=Convergence)
+    fit: Fit | None = None
     output: Annotated[str, AfterValidator(_netcdf_name)] | None = None
 
     def to_dict(self) -> dict[str, Any]:
