@@ -204,9 +204,9 @@ fit:
 @pytest.mark.parametrize(("csv", "where", "field"), [
     ("level,value\n0,0.65\n1,1.95\n", "levels.csv:1:1", "fit.data: missing column(s) uncertainty"),
     ("level,value,sigma\n0,0.65,0.01\n", "levels.csv:1:13", "fit.data: unknown column 'sigma'"),
-    ("level,value,uncertainty\n0,0.65,0.01\n1,abc,0.01\n", "levels.csv:3:1",
+    ("level,value,uncertainty\n0,0.65,0.01\n1,abc,0.01\n", "levels.csv:3:3",
      "fit.data[1].value: must be a finite number; got 'abc'"),
-    ("level,value,uncertainty\n0,0.65,0.01\n1,1.95,-0.01\n", "levels.csv:3:1",
+    ("level,value,uncertainty\n0,0.65,0.01\n1,1.95,-0.01\n", "levels.csv:3:8",
      "fit.data[1].uncertainty: must be a positive number"),
     ("level,value,uncertainty\n0,0.65,0.01\n1,1.95\n", "levels.csv:3:1",
      "fit.data[1]: row has 2 cell(s)"),

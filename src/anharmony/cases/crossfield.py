@@ -178,9 +178,8 @@ def _parameter_issue(path: str, exc: InputError) -> tuple[Path_, str]:
     at: Path_ = ("fit", "parameters", path)
     if head.endswith(".bounds"):
         at = (*at, "bounds")
-    for lead in (f"{path!r}: ", f"{path!r} "):
-        if text.startswith(lead):
-            text = text[len(lead):] if lead.endswith(": ") else text
+    if text.startswith(f"{path!r}: "):  # the path is the field already
+        text = text[len(f"{path!r}: "):]
     return at, text
 
 

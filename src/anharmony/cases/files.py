@@ -87,8 +87,9 @@ def _position(marks: Marks, name: str, prefix: Path_, path: Path_, msg: str,
     row = path[2] if len(path) > 2 and path[:2] == ("fit", "data") else None
     if fit_data is None or fit_data.source is None or not isinstance(row, int):
         return issue_at(marks, name, prefix, path, msg)
-    return Issue(_csv_name(name, fit_data.name), fit_data.lines[row], 1,
-                 display((*prefix, *path)), msg)
+    key = path[3] if len(path) > 3 else None
+    return Issue(_csv_name(name, fit_data.name), fit_data.lines[row],
+                 fit_data.columns[row].get(key, 1), display((*prefix, *path)), msg)
 
 
 def _case_text(text: str, node: yaml.Node | None) -> str:

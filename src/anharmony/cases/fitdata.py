@@ -41,6 +41,8 @@ class FitData:
         The CSV file, or ``None`` for data written in the case file.
     lines : tuple of int
         The CSV line of each row (empty for data in the case file).
+    columns : tuple of dict
+        The 1-based character column of each cell of each row, by key.
     name : str
         The CSV file as the case names it (for messages).
     """
@@ -49,6 +51,7 @@ class FitData:
     source: Path | None = None
     lines: tuple[int, ...] = ()
     name: str = ""
+    columns: tuple[dict[str, int], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -123,7 +126,7 @@ def read_fit_csv(path: Path, name: str) -> tuple[FitData | None, list[CsvProblem
                                    f"{', '.join(header) or 'no names'}"))
     if problems:
         return None, problems
-    rows, at = [], []
+    rows, at, where = [], [], []
     for line, raw in lines[1:]:
         cells = next(csv.reader([raw]))
         k = len(rows)
@@ -133,7 +136,9 @@ def read_fit_csv(path: Path, name: str) -> tuple[FitData | None, list[CsvProblem
             rows.append({})
             continue
         row: dict[str, Any] = {}
-        for h, c, col in zip(header, cells, _columns_of(raw, cells), strict=True):
+        cols = dict(zip(header, _columns_of(raw, cells), strict=True))
+        for h, c in zip(header, cells, strict=True):
+            col = cols[h]
             if not c.strip():
                 if h in _REQUIRED:
                     problems.append(CsvProblem(line, col, f"fit.data[{k}].{h}", "is empty"))
@@ -146,12 +151,13 @@ def read_fit_csv(path: Path, name: str) -> tuple[FitData | None, list[CsvProblem
                 row[h] = _cell(c)
         rows.append(row)
         at.append(line)
+        where.append(cols)
     if not rows and not problems:
         problems.append(CsvProblem(head_line, 1, "fit.data", f"the data file {name!r} has a "
                                    "header but no rows"))
     if problems:
         return None, problems
-    return FitData(tuple(rows), path, tuple(at), name), []
+    return FitData(tuple(rows), path, tuple(at), name, tuple(where)), []
 
 
 def datum_channel(d: Mapping[str, Any], channels: Sequence[Any]) -> tuple[Any, Any]:
@@ -168,6 +174,9 @@ def datum_channel(d: Mapping[str, Any], channels: Sequence[Any]) -> tuple[Any, A
         l = d["l"]
         if isinstance(l, bool) or not isinstance(l, int) or l < 0:
             raise ValueError(("l", f"must be an integer >= 0; got {l!r}"))
+        if ls == [None]:
+            raise ValueError(("l", f"the case uses the 1D basis without symmetry (channel x); "
+                              f"leave l out, or give space.l for parity channels; got {l}"))
         if l not in ls:
             raise ValueError(("l", f"the case has no channel with l = {l}; its channels: {have}"
                               " (add it to space.l)"))
