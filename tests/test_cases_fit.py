@@ -113,6 +113,32 @@ def test_fit_demos_validate(demo):
 
 
 # --------------------------------------------------------------------------- refusals
+# (field path, text in HEAD + FIT, bad replacement): a bad value of every key of fit: (the
+# schema-coverage test of test_cases_fields.py counts these)
+BAD_FIT = [
+    ("fit.parameters", "parameters:\n    well[0].frequency: {start: 1.0, bounds: [0.1, 10.0]}",
+     "parameters: {}"),
+    ("fit.parameters.well[0].frequency.start", "start: 1.0", "start: one"),
+    ("fit.data", "  data:\n    - {level: 0, value: 0.65, uncertainty: 0.01}",
+     "  data: 3\n  other:\n    - {level: 0, value: 0.65, uncertainty: 0.01}"),
+    ("fit.scale_covariance", "  data:", "  scale_covariance: maybe\n  data:"),
+]
+
+
+@pytest.mark.parametrize(("path", "good", "bad"), BAD_FIT, ids=[b[0] for b in BAD_FIT])
+def test_a_bad_fit_key_names_file_line_and_field(tmp_path, path, good, bad):
+    assert good in HEAD + FIT
+    text = (HEAD + FIT).replace(good, bad, 1)
+    p = _write(tmp_path, text)
+    with pytest.raises(CaseError) as info:
+        load_cases([p])
+    problems = [q for q in info.value.problems if q.path == path]
+    assert problems, [str(q) for q in info.value.problems]
+    first = bad.splitlines()[0].strip()
+    assert problems[0].line == next(i for i, line in enumerate(text.splitlines(), 1)
+                                    if first in line)
+
+
 @pytest.mark.parametrize(("edit", "field"), [
     (("well[0].frequency: {start: 1.0, bounds: [0.1, 10.0]}", "well[3].frequency: 1.0"),
      "fit.parameters.well[3].frequency"),
