@@ -320,10 +320,21 @@ class FitParameter(_Strict):
     bounds: Annotated[list[float | None], Field(min_length=2, max_length=2)] | None = None
 
 
-def _csv_name(name: str) -> str:
-    if not name.strip().lower().endswith(".csv"):
-        raise ValueError(f"must be a list of data or a CSV file name ending in .csv; got {name!r}")
-    return name
+def _fit_data(data: Any) -> list[dict[str, Any]] | str:
+    """``fit.data``: a non-empty list of mappings, or the name of a CSV file."""
+    need = ("must be a list of data (mappings with level or levels, value, uncertainty) or "
+            "the name of a CSV file ending in .csv")
+    if isinstance(data, str):
+        if not data.strip().lower().endswith(".csv"):
+            raise ValueError(f"{need}; {got(data)}")
+        return data
+    if not isinstance(data, list) or not data:
+        raise ValueError(f"{need}; {got(data)}")
+    for k, d in enumerate(data):
+        if not isinstance(d, Mapping):
+            raise ValueError(f"entry {k} must be a mapping such as {{level: 0, value: 1.5, "
+                             f"uncertainty: 0.01}}; {got(d)}")
+    return [dict(d) for d in data]
 
 
 class Fit(_Strict):
@@ -336,8 +347,7 @@ class Fit(_Strict):
     """
 
     parameters: Annotated[dict[str, float | FitParameter | None], Field(min_length=1)]
-    data: (Annotated[list[dict[str, Any]], Field(min_length=1)]
-           | Annotated[str, AfterValidator(_csv_name)])
+    data: Annotated[Any, AfterValidator(_fit_data)]
     scale_covariance: bool = False
 
 
