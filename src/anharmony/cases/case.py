@@ -289,6 +289,21 @@ class Case:
             return float(resolve_reference(self, None).length)
         return "auto"
 
+    def fitted(self, values: Mapping[str, float]) -> Case:
+        """The same case with the well's parameters set to fitted ``values`` (path → value),
+        so that the levels of the fitted well are computed as any case's (the text is kept)."""
+        well = [{k: dict(v or {})} for t in self.model.well for k, v in t.items()]
+        for path, value in values.items():
+            m = re.fullmatch(r"well\[(\d+)\]\.([A-Za-z_][A-Za-z0-9_]*)", path)
+            if m is None:
+                raise ValueError(f"{path!r} is not a parameter path well[i].name")
+            (kind, params), = well[int(m[1])].items()
+            params[m[2]] = float(value)
+            if kind == "gaussian" and m[2] in ("range", "waist"):  # exactly one of the two
+                params.pop("waist" if m[2] == "range" else "range", None)
+        model = self.model.model_copy(update={"well": well})
+        return dataclasses.replace(self, model=model)
+
     def fit_arguments(self) -> dict[str, Any]:
         """Keyword arguments of :func:`anharmony.fit` for this case's ``fit:`` block."""
         if self.model.fit is None:
