@@ -76,8 +76,8 @@ def test_csv_data_give_the_same_fit_arguments_as_data_in_the_file(tmp_path):
            ",0 2,2.6,0.01,second\n")
     _write(tmp_path, csv, "levels.csv")
     inline = load_case(_write(tmp_path, HEAD + FIT, "inline.yaml")).fit_arguments()
-    text = HEAD + "fit:\n  parameters:\n    well[0].frequency: {start: 1.0, bounds: [0.1, 10.0]}\n" \
-                  "  data: levels.csv\n"
+    text = (HEAD + "fit:\n  parameters:\n"
+            "    well[0].frequency: {start: 1.0, bounds: [0.1, 10.0]}\n  data: levels.csv\n")
     from_csv = load_case(_write(tmp_path, text, "csv.yaml")).fit_arguments()
     strip = [{k: v for k, v in d.items() if k != "name"} for d in from_csv["data"]]
     assert strip == [{k: v for k, v in d.items() if k != "name"} for d in inline["data"]]
