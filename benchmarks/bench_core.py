@@ -21,7 +21,7 @@ import scipy.sparse.linalg as spl
 import anharmony as ah
 import anharmony.basis as basis_mod
 from anharmony.hamiltonian import Channel, channel_hamiltonian
-from anharmony.spectrum import diagonalize
+from anharmony.spectrum import clear_caches, diagonalize, upper_band
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
 from refsolvers import shooting_level
@@ -71,6 +71,65 @@ def bench_build():
           f"{t_cold / t_eigh:.1f} |")
     print(f"| build with cached quadrature rules (a scan) + diagonalise | {1e3 * t_warm:.2f} | "
           f"{t_warm / t_eigh:.1f} |")
+
+
+def bench_solve_paths():
+    """The four figures of the fast default path: repeated, cold, per scan point."""
+    call = {"dimension": 3, "l": 2, "j": 2.5, "size": 100, "length": 2.0, "units": "nuclear",
+            "levels": 10}
+    user_well = ah.Well.from_terms(WS)  # as a user would: units given to solve(), not here
+    h = channel_hamiltonian(ah.Well.from_terms(WS, units="nuclear"), Channel(3, 2, 2.5), 100,
+                            2.0).total
+    t_eigh = best(lambda: sl.eigh(h), 30)
+    ah.solve(user_well, **call)
+    t_rep = best(lambda: ah.solve(user_well, **call), 30)
+    depth = iter(51.0 + 1e-6 * np.arange(1, 10**6))
+
+    def new_well():
+        terms = [{"woods_saxon": {**WS[0]["woods_saxon"], "depth": next(depth)}}, WS[1]]
+        return ah.Well.from_terms(terms)
+
+    t_cold = best(lambda: ah.solve(new_well(), **call), 15)
+
+    def cold_empty():
+        clear_caches()
+        basis_mod._RULES.clear()
+        ah.solve(new_well(), **call)
+
+    t_empty = best(cold_empty, 10)
+    # coupling scan of a banded (polynomial) channel: 3D ½r² + g r⁴, N = 100, 5 levels
+    gs = np.linspace(0.0, 1.0, 41)
+    kw = {"dimension": 3, "l": 0, "size": 100, "levels": 5, "length": 0.8,
+          "reference": {"frequency": 1.0}}
+
+    def quartic(g):
+        return ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                                   {"power": {"exponent": 4, "strength": float(g)}}])
+
+    wells = [quartic(g) for g in gs]
+    t_scan = best(lambda: [ah.solve(w, **kw) for w in wells], 5) / gs.size
+    t_scan_auto = best(lambda: [ah.solve(w, dimension=3, l=0, size=100, levels=5)
+                                for w in wells], 3) / gs.size
+    mats = channel_hamiltonian(wells[-1], Channel(3, 0), 100, 0.8)
+    band = upper_band(mats.total, mats.bandwidth)
+    t_band = best(lambda: sl.eig_banded(band, lower=False, select="i", select_range=(0, 4)), 30)
+    print("\n### The default path of `solve()` (Woods–Saxon + spin–orbit, d5/2, N = 100, "
+          "10 levels, length 2 fm, error estimate on)\n")
+    print("| what | time (ms) | ratio | target |")
+    print("|---|---|---|---|")
+    print(f"| bare `scipy.linalg.eigh`, 100 × 100, all pairs | {1e3 * t_eigh:.2f} | 1 | |")
+    print(f"| repeated `solve()` (well built without units; `units=\"nuclear\"` in the call) | "
+          f"{1e3 * t_rep:.2f} | {t_rep / t_eigh:.2f} × eigh | ≤ 1.5 |")
+    print(f"| first `solve()` on a new well (cold; quadrature rules of earlier wells kept) | "
+          f"{1e3 * t_cold:.2f} | {t_cold / t_eigh:.2f} × eigh | ≤ 3 |")
+    print(f"| first `solve()`, every cache emptied (rules made from scratch) | "
+          f"{1e3 * t_empty:.2f} | {t_empty / t_eigh:.2f} × eigh | — |")
+    print(f"| bare `eig_banded`, 3D ½r² + g r⁴, N = 100, 5 levels | {1e3 * t_band:.3f} | 1 | |")
+    print(f"| loop of `solve()` over 41 couplings g (new well per point; given length and "
+          f"reference), per point | {1e3 * t_scan:.3f} | {t_scan / t_band:.2f} × banded | "
+          f"≤ 1.5 |")
+    print(f"| the same loop with `length` and `reference` automatic, per point | "
+          f"{1e3 * t_scan_auto:.3f} | {t_scan_auto / t_band:.2f} × banded | — |")
 
 
 def quartic_accuracy():
@@ -169,6 +228,7 @@ if __name__ == "__main__":
     print(f"## Core (`benchmarks/bench_core.py`), {time.strftime('%Y-%m-%d')}\n")
     print(f"Machine: {machine()}")
     bench_build()
+    bench_solve_paths()
     quartic_accuracy()
     woods_saxon_accuracy()
     basis_vs_grid()

@@ -83,6 +83,74 @@ def max_rel(numeric: list, exact: list) -> float:
     return worst
 
 
+RESUM_ORDERS = 80
+# (label, W = Σ c_q x^q beside x²/2, diagonaliser size); H = p²/2 + x²/2 + W
+RESUM_CASES = [
+    ("x⁴", {4: 0.05}, 200), ("x⁴", {4: 0.5}, 200), ("x⁴", {4: 5.0}, 200),
+    ("x⁴", {4: 50.0}, 200), ("x⁴", {4: 100.0}, 200),
+    ("x⁶", {6: 0.05}, 100), ("x⁶", {6: 0.5}, 100), ("x⁶", {6: 5.0}, 100),
+    ("x³+x⁴", {3: 0.05, 4: 0.01}, 200), ("x³+x⁴", {3: 0.5, 4: 1.0}, 200),
+    ("x³+x⁴", {3: 5.0, 4: 100.0}, 200),
+]
+
+
+def _diagonaliser(w: dict, size: int) -> float:
+    import warnings
+
+    top = max(w)
+    b = (1 + 4 * w[top]) ** (-1 / (top + 2))
+    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                               {"polynomial": {"coefficients": dict(w)}}])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        spec = ah.solve(well, dimension=1, l=None, size=size, length=b, levels=1,
+                        reference={"frequency": 1.0})
+    return float(spec.energies[0])
+
+
+def resummation_section() -> list[str]:
+    from anharmony.series import borel_pade, pade_sum
+
+    lines = [f"## Resummation from {RESUM_ORDERS} exact orders: speed and honest uncertainty",
+             "",
+             "H = p²/2 + x²/2 + W. Diagonaliser: `solve` (1D, N = 100–200, b tuned; the quartic "
+             "agrees with Hioe & Montroll 1975 to < 1e-15, all with finite differences, see "
+             "tests/test_series_uncertainty.py). U = the claimed uncertainty, err = |value − "
+             "diagonaliser|; the ratio U/err is shown where err is above 1e3 ulp.",
+             "",
+             "| W | method | value | U | err | U/err | trusted | CPU |",
+             "|---|---|---|---|---|---|---|---|"]
+    for _label, w, size in RESUM_CASES:
+        exact = _diagonaliser(w, size)
+        if len(w) == 1:
+            (p, g), = w.items()
+            coeffs, lam = rs_exact_1d({p: 1}, 0, RESUM_ORDERS), g
+        else:
+            from fractions import Fraction
+
+            coeffs = rs_exact_1d({q: Fraction(c).limit_denominator(1000) for q, c in w.items()},
+                                 0, RESUM_ORDERS)
+            lam = 1.0
+        name = " + ".join(f"{c:g}x^{q}" for q, c in w.items())
+        for method, fn in (("Borel–Padé", borel_pade), ("Padé", pade_sum)):
+            t, res = best_of(lambda fn=fn, coeffs=coeffs, lam=lam: fn(coeffs, lam), 1)
+            v, u = float(res.value), float(res.uncertainty)
+            err = abs(v - exact)
+            ratio = f"{u / err:.3g}" if err > 1e3 * np.spacing(exact) else "(rounding)"
+            kk = f", k = {res.power}" if getattr(res, "power", 1) != 1 else ""
+            lines.append(f"| {name} | {method}{kk} | {v:.12g} | {u:.2g} | {err:.2g} | {ratio} "
+                         f"| {'yes' if bool(res.trusted) else 'no'} | {t:.2f} s |")
+    lines += ["",
+              "Before (commit 31faef9) the Borel–Padé of the x⁴ series at g = 100 from 80 orders "
+              f"took {OLD_BOREL_SECONDS} and reported only the quadrature error (1.8e-12) while "
+              "being 2e-2 away from the diagonaliser.", ""]
+    return lines
+
+
+OLD_BOREL_SECONDS = ("40 s CPU in this session (112 s reported earlier; mpmath.polyroots at 280 "
+                     "digits was 99 % of it)")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser()
     parser.add_argument("--quick", action="store_true")
@@ -159,18 +227,9 @@ def main() -> None:
     front_dev = max_rel(list(ser.precise[:201]), e200)
     lines += [f"- front end (core's matrices) vs exact over E_1..E_200: {front_dev:.2e}", ""]
 
-    # 4. resummation cost
-    ex = series(well, dimension=1, l=0, orders=40, reference={"frequency": 1.0})
-    t_bp, bp = best_of(lambda: ex.borel_pade(1.0), 3)
-    spec = ah.solve(well, dimension=1, l=0, size=120, length=1.0, levels=1,
-                    reference={"frequency": 1.0})
-    lines += [
-        "## Borel–Padé of the quartic ground state at λ = 1 (40 exact orders, [20/20])",
-        "",
-        f"- CPU time {t_bp:.2f} s; |Borel–Padé − diagonaliser (N = 120)| = "
-        f"{abs(float(bp.value) - float(spec.energies[0])):.1e}",
-        "",
-    ]
+    # 4. resummation: speed, and the uncertainty against the diagonaliser (issue: honest
+    # uncertainties; target: Borel–Padé from 80 orders under 2 s)
+    lines += resummation_section()
     out = HERE / "RESULTS_series.md"
     out.write_text("\n".join(lines) + "\n", encoding="utf-8")
     print("\n".join(lines))

@@ -9,9 +9,6 @@ import os
 os.environ.setdefault("MPLBACKEND", "Agg")
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
-try:
-    from threadpoolctl import threadpool_limits
+from threadpoolctl import threadpool_limits  # a declared dependency: no fallback
 
-    threadpool_limits(limits=1, user_api="blas")
-except ImportError:  # threadpoolctl is a dependency, but the env var above already helps
-    pass
+threadpool_limits(limits=1, user_api="blas")

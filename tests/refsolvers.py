@@ -5,7 +5,8 @@ They check the oscillator-basis results of the package by a different method:
 - finite differences on a uniform grid, second order, solved as a symmetric tridiagonal
   eigenproblem with :func:`scipy.linalg.eigh_tridiagonal` (``select="i"``);
 - Richardson extrapolation in h² over three grids, with an error estimate;
-- a shooting solver (:func:`scipy.integrate.solve_ivp` + :func:`scipy.optimize.brentq`) for
+- a shooting solver (:func:`scipy.integrate.solve_ivp` + :func:`scipy.optimize.brentq`) that
+  finds level k of a channel by counting nodes (Prüfer angle), with no energy guess, for
   levels near threshold, where a grid would need a very large box.
 
 Problems
@@ -377,28 +378,25 @@ def shooting_level(
     V: Potential,
     l: int,
     hbar2_2m: float,
-    bracket: tuple[float, float],
+    level: int,
     r_max: float,
     dimension: int = 3,
-    r_match: float | None = None,
     r_start: float = 1e-6,
     rtol: float = 1e-12,
 ) -> float:
-    """One level of the radial problem by shooting from both ends and matching.
+    """Level number ``level`` of the radial problem, found on its own by counting nodes.
 
     Parameters
     ----------
     V, l, hbar2_2m, dimension
         As for :func:`radial_fd_levels`.
-    bracket
-        ``(E_lo, E_hi)`` enclosing exactly one level (the matching function must change sign).
+    level
+        Which level of the channel: 0 is the lowest; level k is the one whose ``u`` has k
+        nodes in ``(0, ∞)``. No energy guess is needed.
     r_max
         Outer end, where the inward solution starts on the decaying WKB branch
         ``u'/u = -κ``, ``κ² = l_eff(l_eff+1)/r² + (V - E)/c``; it can be far out, which is
-        what near-threshold levels need.
-    r_match
-        Matching radius; default: the outermost classical turning point of the bracket's
-        midpoint energy (or ``r_max / 2`` if there is none).
+        what near-threshold levels need. Levels at or above ``V(r_max)`` are refused.
     r_start
         Inner start of the outward solution, ``u ~ r^(l_eff+1)``; the error it leaves is
         of order ``r_start²`` relative. The 1D even channel starts at 0 with ``u' = 0``.
@@ -410,40 +408,111 @@ def shooting_level(
     float
         The level, to about ``rtol`` relative.
 
+    Raises
+    ------
+    ValueError
+        If the channel has at most ``level`` levels below ``V(r_max)``.
+
     Notes
     -----
-    The state ``(u, u')`` is carried as a unit vector ``v`` (``v' = A v - (vᵀ A v) v``,
-    ``A = [[0, 1], [q, 0]]``), so neither end overflows. The matching function is the
-    normalised Wronskian ``u_out u_in' - u_out' u_in`` at ``r_match``; it vanishes exactly at
-    the levels and changes sign there. Common practice, no source (see e.g. Numerical Recipes,
-    3rd ed., §18.1, shooting to a fitting point).
+    Counting: the Prüfer angle θ, ``u = ρ sin θ``, ``u' = ρ cos θ``, of the outward solution
+    of ``u'' = q u`` obeys ``θ' = cos²θ − q sin²θ``; θ rises through every multiple of π
+    (θ' = 1 there), so ``floor(θ/π)`` is the number of nodes so far. Beyond the outermost
+    classical turning point (q > 0) a θ with ``sin 2θ > 0`` stays in its π-interval, so the
+    count is final there. By the Sturm oscillation theorem the count is the number of levels
+    below E; bisection on it, from ``min V`` (below the whole spectrum) to ``V(r_max)``,
+    isolates level ``level`` between two energies. Matching: in that interval the level is
+    the unique zero of the Wronskian ``u_out u_in' − u_out' u_in`` at the turning point of
+    outward and inward unit-vector solutions (``v' = A v − (vᵀ A v) v``,
+    ``A = [[0, 1], [q, 0]]``, so neither end overflows), found by
+    :func:`scipy.optimize.brentq`. Sturm oscillation theorem and the Prüfer angle: E. A.
+    Coddington & N. Levinson, *Theory of Ordinary Differential Equations* (McGraw-Hill 1955),
+    ch. 8; shooting to a fitting point: W. H. Press et al., *Numerical Recipes*, 3rd ed.,
+    §18.1.
     """
     l, dimension = _channel(l, dimension)
     c = _positive("hbar2_2m", hbar2_2m)
     r_max = _positive("r_max", r_max)
-    lo, hi = (float(b) for b in bracket)
-    if not hi > lo:
-        raise ValueError(f"bracket must be (E_lo, E_hi) with E_hi > E_lo; got {bracket!r}")
+    level = _count("level", level, 0)
     le = l + (dimension - 3) / 2
     cent = le * (le + 1.0)
 
+    def vat(r: float) -> float:
+        return float(np.asarray(V(np.array([r])), dtype=float)[0])
+
     def q(r: float, e: float) -> float:
-        barrier = cent / r**2 if cent else 0.0
-        return barrier + (float(np.asarray(V(np.array([r])))[0]) - e) / c
+        return (cent / r**2 if cent else 0.0) + (vat(r) - e) / c
 
-    if r_match is None:
-        rs = np.linspace(r_max * 1e-3, r_max, 4000)
-        mid = 0.5 * (lo + hi)
-        inside = cent / rs**2 + (np.asarray(V(rs), dtype=float) - mid) / c < 0
-        r_match = float(rs[np.nonzero(inside)[0][-1]]) if inside.any() else 0.5 * r_max
-    r_match = float(r_match)
-
-    if le == -1.0:  # 1D even parity: regular start at the origin, u'(0) = 0
+    if le == -1.0:  # 1D even parity: regular start at the origin, u(0) = 1, u'(0) = 0
         r0, start = 0.0, np.array([1.0, 0.0])
     else:
         r0 = float(r_start)
         start = np.array([r0, le + 1.0])  # (u, u') ∝ (r, s) for u = r^s, s = l_eff + 1
         start /= np.linalg.norm(start)
+    theta0 = math.atan2(start[0], start[1])
+
+    rs = np.linspace(r_max * 1e-5, r_max, 20001)
+    barrier = cent / rs**2 if cent else np.zeros_like(rs)
+    v_grid = _potential_values(V, rs)
+    lo = float(np.min(v_grid + c * np.minimum(barrier, 0.0)))
+    lo -= 1.0 + 1e-3 * abs(lo)  # below the whole spectrum (the kinetic energy is >= 0)
+    top = vat(r_max)
+
+    def turning_point(e: float) -> float | None:
+        """Outermost grid radius with q <= 0 (classically allowed), None if there is none."""
+        allowed = np.nonzero(barrier + (v_grid - e) / c <= 0.0)[0]
+        return float(rs[allowed[-1]]) if allowed.size else None
+
+    def theta_rhs(e: float):
+        def rhs(r, y):
+            sn, cs = math.sin(y[0]), math.cos(y[0])
+            return [cs * cs - q(r, e) * sn * sn]
+
+        return rhs
+
+    def nodes(e: float) -> int:
+        """Nodes of the outward solution on (0, r_max) (= levels below e, Sturm)."""
+        r_t = turning_point(e)
+        if r_t is None or e <= lo:
+            return 0
+        r_t = min(max(r_t, r0), r_max)
+        rhs = theta_rhs(e)
+        sol = solve_ivp(rhs, (r0, r_t), [theta0], method="DOP853", rtol=rtol, atol=rtol * 1e-2)
+        th = float(sol.y[0, -1])
+        if math.sin(2.0 * th) <= 0.0 and r_t < r_max:  # not settled: follow until it is
+
+            def settled(r, y):
+                return math.sin(2.0 * y[0])
+
+            settled.terminal, settled.direction = True, 1.0
+            sol = solve_ivp(rhs, (r_t, r_max), [th], method="DOP853", rtol=rtol,
+                            atol=rtol * 1e-2, events=settled)
+            th = float(sol.y[0, -1])
+        if not sol.success:
+            raise RuntimeError(f"solve_ivp failed at E = {e!r}: {sol.message}")
+        # a stop on the event leaves θ at a multiple of π/2 to rounding: at mπ (a node just
+        # passed) the count is m, at (m − ½)π it is m − 1; both are floor(θ/π + tiny)
+        return math.floor(th / math.pi + 1e-9)
+
+    if nodes(top) <= level:
+        raise ValueError(
+            f"level {level} is not bound below V(r_max) = {top:.6g}: the channel has only "
+            f"{nodes(top)} level(s) there (raise r_max, or ask for a lower level)"
+        )
+    hi = top
+    n_lo, n_hi = 0, nodes(hi)
+    # isolate level `level` in (lo, hi), with hi below the top: a threshold state at V(r_max)
+    # (a half-bound state, as in Pöschl–Teller wells of integer s) zeroes the matching there
+    while not (n_lo == level and n_hi == level + 1) or hi == top:
+        mid = 0.5 * (lo + hi)
+        n_mid = nodes(mid)
+        if n_mid <= level:
+            lo, n_lo = mid, n_mid
+        else:
+            hi, n_hi = mid, n_mid
+
+    r_match = turning_point(0.5 * (lo + hi)) or 0.5 * r_max
+    r_match = min(max(r_match, r0 + 1e-3 * r_max), 0.999 * r_max)
 
     def direction(e: float, r_from: float, r_to: float, v0: np.ndarray) -> np.ndarray:
         def rhs(r, v):
@@ -465,8 +534,8 @@ def shooting_level(
 
     f_lo, f_hi = mismatch(lo), mismatch(hi)
     if f_lo * f_hi > 0:
-        raise ValueError(
-            f"bracket {bracket!r} must enclose one level: the matching function has the same "
-            f"sign at both ends ({f_lo:.3g}, {f_hi:.3g})"
+        raise RuntimeError(
+            f"level {level} lies in ({lo!r}, {hi!r}) by its node count, but the matching "
+            f"function has the same sign at both ends ({f_lo:.3g}, {f_hi:.3g})"
         )
     return float(brentq(mismatch, lo, hi, xtol=1e-15 * max(1.0, abs(lo), abs(hi)), rtol=1e-15))

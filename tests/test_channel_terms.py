@@ -76,6 +76,9 @@ def test_an_integrable_negative_power_is_still_solved():
     # −g/r in 3D, l = 0 (R(0) finite, r² dr removes the singularity): the Ritz values
     # decrease towards the limit as the basis grows (Rayleigh–Ritz; common practice).
     well = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": -1, "strength": -0.5}}])
-    e = [ah.solve(well, dimension=3, l=0, size=n, levels=1).energies[0] for n in (10, 20, 40)]
+    # the 1/r cusp converges slowly: small bases are deliberately unconverged here (the test is
+    # about the Ritz order), so the tolerance is opened instead of ignoring the warning
+    e = [ah.solve(well, dimension=3, l=0, size=n, levels=1, tolerance=1.0).energies[0]
+         for n in (10, 20, 40)]
     assert e[0] >= e[1] >= e[2]
     assert e[2] < 1.5  # below the bare oscillator's 3/2: an attractive term was added

@@ -9,6 +9,7 @@ that come out are checked against outside references: a shooting solver written 
 
 from __future__ import annotations
 
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -57,8 +58,9 @@ def morse_exact(n: np.ndarray) -> np.ndarray:
     return w * x - (w * x) ** 2 / (4.0 * MORSE_D)
 
 
-def shooting(l: int, j: float, guess: float) -> float:
-    """The Woods–Saxon level near ``guess`` from the independent shooting solver."""
+def shooting(l: int, j: float, level: int) -> float:
+    """Woods–Saxon level number ``level`` of channel (l, j) from the independent shooting
+    solver (it finds the level by counting nodes; nothing is taken from anharmony)."""
     well = ah.Well.from_terms(WS_TERMS, units="nuclear")
     ls = 0.5 * (j * (j + 1) - l * (l + 1) - 0.75)
 
@@ -66,7 +68,7 @@ def shooting(l: int, j: float, guess: float) -> float:
         return well.value(r) + ls * well.spin_orbit_value(r)
 
     c = ah.get_units("nuclear").hbar2_over_2m()
-    return shooting_level(v, l, c, (guess - 0.05, guess + 0.05), r_max=30.0)
+    return shooting_level(v, l, c, level, r_max=30.0)
 
 
 def _write(folder: Path, convergence: str, name: str = "ws") -> Path:
@@ -76,6 +78,7 @@ def _write(folder: Path, convergence: str, name: str = "ws") -> Path:
 
 
 # --------------------------------------------------------------------------- growth
+@pytest.mark.slow  # grows three channels and shoots six references: ~3 s alone
 def test_tolerance_driven_case_stops_growing_once_converged_and_records_the_size(tmp_path,
                                                                                 capsys):
     path = _write(tmp_path, f"{{tolerance: {TOL_GROW:.1e}, max_size: 80}}")
@@ -95,7 +98,7 @@ def test_tolerance_driven_case_stops_growing_once_converged_and_records_the_size
         for n in range(2):
             e = float(ds.energy.values[0, c, n])
             err = float(ds.error_estimate.values[0, c, n])
-            ref = shooting(l, j, e)
+            ref = shooting(l, j, n)
             assert int(ds.bound.values[0, c, n]) == 1 and int(ds.converged.values[0, c, n]) == 1
             assert err < TOL_GROW
             # what a converged flag promises: the level is within the tolerance
@@ -103,8 +106,12 @@ def test_tolerance_driven_case_stops_growing_once_converged_and_records_the_size
             assert e >= ref - ATOL_SHOOT  # Ritz values are upper bounds (Rayleigh–Ritz)
             # the stored energy is the study's Ritz value at the stopping size
             b = float(ds.energy_basis_length.values[0, c, n])
-            spec = ah.solve(ah.Well.from_terms(WS_TERMS, units="nuclear"), 3, l, j=j, size=size,
-                            length=b, units="nuclear", levels=n + 1)
+            # the study converged this size to the case's tolerance TOL_GROW, looser than
+            # solve()'s default (1e-8 of the spacing): its warning is expected, not checked here
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", ah.ConvergenceWarning)
+                spec = ah.solve(ah.Well.from_terms(WS_TERMS, units="nuclear"), 3, l, j=j,
+                                size=size, length=b, units="nuclear", levels=n + 1)
             assert e == pytest.approx(spec.energies[n], rel=RTOL_SAME_H)
 
 
@@ -114,7 +121,7 @@ def test_a_tighter_tolerance_grows_the_basis_further(tmp_path):
     s_loose = loose.convergence_size.values[0, 0]
     s_tight = tight.convergence_size.values[0, 0]
     assert s_tight > s_loose
-    ref = shooting(0, 0.5, float(tight.energy.values[0, 0, 1]))
+    ref = shooting(0, 0.5, 1)
     # the 2s1/2 level: each run is within its own tolerance of the shooting value
     assert abs(loose.energy.values[0, 0, 1] - ref) < 1e-4 + ATOL_SHOOT
     assert abs(tight.energy.values[0, 0, 1] - ref) < 1e-7 + ATOL_SHOOT
@@ -129,7 +136,7 @@ def test_level_that_cannot_converge_is_flagged_and_named_by_the_cli(tmp_path, ca
     assert int(ds.convergence_size.values[0, 0]) == 14
     assert str(ds.convergence_stopped.values[0, 0]) == "size limit 14 reached"
     e = float(ds.energy.values[0, 0, 0])
-    ref = shooting(0, 0.5, e)
+    ref = shooting(0, 0.5, 0)
     assert abs(e - ref) > 1e-9  # the 1s1/2 level really is off by more than the tolerance
     assert int(ds.converged.values[0, 0, 0]) == 0 and int(ds.bound.values[0, 0, 0]) == 1
     warning = [ln for ln in err.splitlines()
@@ -186,11 +193,15 @@ def test_cross_check_difference_is_below_a_bound_against_the_morse_levels(tmp_pa
     np.testing.assert_allclose(xc, exact, rtol=0, atol=ATOL_XCHECK)
     assert (ds.cross_check_uncertainty.values[0, 0] < ATOL_XCHECK).all()
     diff = ds.cross_check_difference.values[0, 0]
+    # exact: the file stores this very difference
     np.testing.assert_allclose(diff, ds.energy.values[0, 0] - xc, rtol=0, atol=0)
     # the difference is the basis error, so it lies within the level's error estimate
     assert (np.abs(diff) <= ds.error_estimate.values[0, 0] + ATOL_XCHECK).all()
-    np.testing.assert_allclose(ds.energy.values[0, 0], exact,
-                               atol=float(ds.error_estimate.values[0, 0].max()))
+    # each level is within its own error estimate of the exact one, and the estimates are
+    # informative (measured 1e-12 … 2.7e-4 for n = 0 … 3, levels of order 1)
+    err = ds.error_estimate.values[0, 0]
+    assert (np.abs(ds.energy.values[0, 0] - exact) <= err + ATOL_XCHECK).all()
+    assert (err < 1e-3).all()
 
 
 def test_cross_check_flag_of_run_against_the_3d_oscillator(tmp_path, capsys):
@@ -234,11 +245,13 @@ def test_study_of_a_coupling_scan_follows_lambda(tmp_path):
                                rtol=RTOL_SAME_H)
     exact = morse_exact(np.arange(4))
     err = ds.error_estimate.values[2, 0]
-    assert (np.abs(ds.energy.values[2, 0] - exact) <= err + 1e-12).all()  # + rounding
+    assert (np.abs(ds.energy.values[2, 0] - exact) <= err + 1e-12).all()  # + rounding, O(1)
+    assert (err < 1e-3).all()  # informative: measured ≤ 7.5e-5
     ext, unc = ds.extrapolated_energy.values[2, 0], ds.extrapolation_uncertainty.values[2, 0]
     ok = np.isfinite(ext)
     assert ok.any()
-    assert (np.abs(ext[ok] - exact[ok]) <= unc[ok] + 1e-12).all()
+    assert (np.abs(ext[ok] - exact[ok]) <= unc[ok] + 1e-12).all()  # + rounding of O(1) levels
+    assert (unc[ok] < 1e-3).all()  # informative: measured ≤ 3.8e-5
     quick = dict(data)
     del quick["convergence"]  # the same λ-scan on the linear path (A + λB built once)
     plain = run_case(case_from_dict(quick, folder=tmp_path))

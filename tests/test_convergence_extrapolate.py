@@ -26,7 +26,8 @@ from anharmony.convergence.scans import bessel_zero
 
 ATOL_MODEL = 1e-10  # an exact model sequence is reproduced to rounding (values O(1))
 RTOL_ZERO = 1e-12  # brentq polishes Bessel zeros to ~1e-15
-RTOL_L2 = 0.01  # L2 is the large-N form of the eigenvalue L (More et al. 2013): 1% at N ≥ 40
+RTOL_L2 = 1e-3  # L2 is the large-N form of the eigenvalue L (More et al. 2013): ≤ 1.2e-4 at N = 60
+RTOL_FIT = 1e-10  # fitted rates/consistencies of exact model sequences: measured ≤ 1.5e-12
 
 
 def test_exponential_model_sequence_is_extrapolated_to_its_limit():
@@ -37,8 +38,8 @@ def test_exponential_model_sequence_is_extrapolated_to_its_limit():
     assert fit.valid
     assert abs(fit.value - 2.0) < ATOL_MODEL
     assert fit.uncertainty < ATOL_MODEL
-    assert fit.rate == pytest.approx(0.7, rel=1e-8)
-    assert fit.quality == pytest.approx(1.0, abs=1e-10)  # log-linear by construction
+    assert fit.rate == pytest.approx(0.7, rel=RTOL_FIT)
+    assert fit.quality == pytest.approx(1.0, abs=RTOL_FIT)  # log-linear by construction
 
 
 def test_power_law_model_sequence_is_extrapolated_to_its_limit():
@@ -48,7 +49,7 @@ def test_power_law_model_sequence_is_extrapolated_to_its_limit():
     fit = extrapolate_power(n, e)
     assert fit.valid
     assert abs(fit.value + 1.0) < ATOL_MODEL
-    assert fit.rate == pytest.approx(2.5, rel=1e-8)
+    assert fit.rate == pytest.approx(2.5, rel=RTOL_FIT)
     exp_fit = extrapolate_exponential(n, e)
     # the exponential model underestimates the slow tail; its uncertainty must say so
     assert not exp_fit.valid or abs(exp_fit.value + 1.0) <= exp_fit.uncertainty
@@ -62,7 +63,7 @@ def test_infrared_fit_accepts_the_predicted_decay_and_rejects_another():
     fit = extrapolate_infrared(big_l, good, threshold=0.0, hbar2_2m=0.5)
     assert fit.valid
     assert abs(fit.value + 0.125) < ATOL_MODEL
-    assert fit.consistency == pytest.approx(1.0, abs=1e-6)
+    assert fit.consistency == pytest.approx(1.0, abs=RTOL_FIT)
     wrong = -0.125 + 3.0 * np.exp(-0.5 * big_l)  # decays at half the predicted rate
     bad = extrapolate_infrared(big_l, wrong, threshold=0.0, hbar2_2m=0.5)
     assert not bad.valid
@@ -79,8 +80,8 @@ def test_infrared_binding_fit_recovers_the_limit_with_the_theoretical_decay():
     fit = extrapolate_infrared_binding(big_l, good, threshold=0.0, hbar2_2m=0.5)
     assert fit.valid
     assert abs(fit.value + 0.125) < ATOL_MODEL
-    assert fit.rate == pytest.approx(1.0, rel=1e-9)
-    assert fit.consistency == pytest.approx(1.0, rel=1e-6)
+    assert fit.rate == pytest.approx(1.0, rel=RTOL_FIT)
+    assert fit.consistency == pytest.approx(1.0, rel=RTOL_FIT)
     wrong = -0.125 + 3.0 * np.exp(-0.4 * big_l)
     assert not extrapolate_infrared_binding(big_l, wrong, threshold=0.0, hbar2_2m=0.5).valid
 
@@ -97,7 +98,7 @@ def test_three_sizes_give_the_whole_correction_as_uncertainty():
     e = 1.0 + np.exp(-n)
     fit = extrapolate_exponential(n, e)
     assert fit.valid
-    assert fit.uncertainty == pytest.approx(e[-1] - fit.value, rel=1e-10)
+    assert fit.uncertainty == pytest.approx(e[-1] - fit.value, rel=RTOL_FIT)
 
 
 @pytest.mark.parametrize("nu", [0.0, 1.0, 2.0, 5.0])
@@ -125,9 +126,10 @@ def test_infrared_length_approaches_the_closed_form_at_large_size(l, dimension):
 def test_infrared_length_grows_with_size_and_scales_with_b():
     # L ∝ b at fixed size (dimensional analysis), and the box grows with the basis.
     a, b = RadialBasis(20, 1.0, 0, 3), RadialBasis(20, 2.5, 0, 3)
-    assert infrared_length(b) == pytest.approx(2.5 * infrared_length(a), rel=1e-12)
+    assert infrared_length(b) == pytest.approx(2.5 * infrared_length(a), rel=1e-12)  # rounding
     assert infrared_length(RadialBasis(40, 1.0, 0, 3)) > infrared_length(a)
     h = HermiteBasis(30, 1.0)
+    # 1D, N = 30 is not yet large: the closed form is 1.6 % off the eigenvalue form (measured)
     assert infrared_length(h) == pytest.approx(closed_form_length(h), rel=0.03)
 
 
@@ -136,6 +138,7 @@ def test_size_ladder_is_geometric_and_ends_at_the_limit():
     assert ladder[0] == 10 and ladder[-1] == 100
     assert list(ladder) == sorted(set(ladder))
     ratios = np.array(ladder[1:-1]) / np.array(ladder[:-2])
+    # sizes are integers: rounding moves a ratio by ≤ 0.5/10 = 5 % at the bottom (measured 1 %)
     assert np.allclose(ratios, math.sqrt(2.0), rtol=0.06)
 
 

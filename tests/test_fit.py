@@ -84,13 +84,13 @@ def test_one_sigma_intervals_cover_the_truth_about_68_percent_of_the_time():
     # Coverage of Gaussian 1σ intervals: 68.27 % (normal distribution); with 200 trials the
     # binomial standard deviation is sqrt(0.68·0.32/200) = 3.3 %, so accept 58 %–78 % (3σ).
     rng = np.random.default_rng(20261203)
-    true = _levels(QUARTIC, 6, size=30)
+    true = _levels(QUARTIC, 6, size=40)
     sigma = 1e-3
     hits = np.zeros(2)
     trials = 200
     for _ in range(trials):
         noisy = true + sigma * rng.standard_normal(true.size)
-        res = fit(QUARTIC, 1, None, parameters=PATHS, data=_data(noisy, sigma), size=30,
+        res = fit(QUARTIC, 1, None, parameters=PATHS, data=_data(noisy, sigma), size=40,
                   length=1.0)
         for k, (path, value) in enumerate((("well[0].stiffness", 1.3),
                                            ("well[1].strength", 0.07))):

@@ -141,7 +141,7 @@ def test_fix_phases_is_idempotent_and_keeps_energies():
 def test_matrix_element_of_a_continuum_level_warns():
     # DESIGN §2: levels above the threshold are discretised continuum, flagged.
     w = W([{"gaussian": {"depth": 2.0, "range": 1.0}}])
-    s = ah.solve(w, dimension=1, l=0, size=20, levels=4)
+    s = ah.solve(w, dimension=1, l=0, size=40, levels=4)  # 40: the bound level converged
     assert not s.bound.all()
     k = int(np.flatnonzero(~s.bound)[0])
     with pytest.warns(ConvergenceWarning, match="above the threshold"):

@@ -24,12 +24,12 @@ from scipy.special import binom, eval_genlaguerre, gammaln
 
 os.environ.setdefault("MPLBACKEND", "Agg")
 
-xr = pytest.importorskip("xarray")
-matplotlib = pytest.importorskip("matplotlib")
+import matplotlib  # noqa: F401  # hard dependency: a broken install fails, not skips
+import xarray as xr
 
-from anharmony import plots  # noqa: E402
-from anharmony.plots import _style  # noqa: E402
-from anharmony.plots._common import level_label, pretty_units  # noqa: E402
+from anharmony import plots
+from anharmony.plots import _style
+from anharmony.plots._common import level_label, pretty_units
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"
@@ -174,8 +174,8 @@ def _run(name: str, **changes):
 
 
 def _need_demo(name: str) -> None:
-    if not (CASES / name).is_file():
-        pytest.skip(f"demo case {name} not present")
+    # the demo cases ship with the repository: a missing one is a failure, not a skip
+    assert (CASES / name).is_file(), f"demo case {name} missing from {CASES}"
 
 
 @pytest.fixture(scope="module")
@@ -274,7 +274,7 @@ def test_make_figure_uses_no_pyplot_state(synthetic):
 def test_importing_anharmony_plots_does_not_import_matplotlib():
     code = ("import sys, anharmony, anharmony.plots; "
             "assert 'matplotlib' not in sys.modules, 'matplotlib imported'")
-    subprocess.run([sys.executable, "-c", code], check=True, cwd=ROOT)
+    subprocess.run([sys.executable, "-c", code], check=True, cwd=ROOT, timeout=120)  # hang guard
 
 
 # =========================================================================== plotted data
@@ -316,7 +316,7 @@ def test_flow_of_a_coupling_scan_sums_the_series_at_each_lambda(morse):
     coef = morse.series_coefficient.values[:, 0, 3]
     expected = [np.polynomial.polynomial.polyval(x, coef[i, :3]) for i, x in enumerate(lam)]
     assert_same(got["partial_sum:0:3:2"][:, 1], expected)
-    at_one = np.isclose(lam, 1.0)
+    at_one = np.isclose(lam, 1.0)  # λ comes from a linspace: 1.0 to an ulp
     assert_same(got["partial_sum:0:3:2"][at_one, 1],
                 morse.series_partial_sum.values[at_one, 0, 3, 2])
     resummed = got["resummed:0:3:pade"][:, 1]  # resummed values exist at λ = 1 only
@@ -440,9 +440,11 @@ def test_well_draws_the_exact_oscillator_and_its_densities(synthetic):
     got = lines_by_gid(fig)
     omega = math.sqrt(1 + 2 * SCAN[p])
     pot = got["potential"]
-    assert_same(pot[:, 1], 0.5 * omega**2 * pot[:, 0] ** 2, rtol=1e-12)  # ½ ω² r²
+    # ½ ω² r², recomputed from the case: rtol 1e-12 for rounding of a few products
+    assert_same(pot[:, 1], 0.5 * omega**2 * pot[:, 0] ** 2, rtol=1e-12)
     eff = got["effective_potential"]
     r = eff[1:, 0]
+    # V + l(l+1)/2r², recomputed: rtol 1e-12 for rounding of a few products
     assert_same(eff[1:, 1], 0.5 * omega**2 * r**2 + l * (l + 1) / (2 * r**2), rtol=1e-12)
     ratios = []
     for n in range(LEVELS):
@@ -460,7 +462,8 @@ def test_well_draws_the_exact_oscillator_and_its_densities(synthetic):
         ratios.append(ratio)
         # normalised densities: ∫ (y − E) dr / scale = 1
         assert np.trapezoid(lifted, dens[:, 0]) / ratio == pytest.approx(1.0, rel=RTOL_NORM)
-    assert ratios == pytest.approx([ratios[0]] * LEVELS, rel=1e-9)  # one scale for all
+    # one scale for all; 1e-9: each ratio is a least-squares quotient of sums of ~1e3 terms
+    assert ratios == pytest.approx([ratios[0]] * LEVELS, rel=1e-9)
 
 
 def test_well_of_a_coupling_scan_interpolates_the_reference_and_the_morse_well(morse):
@@ -481,6 +484,7 @@ def test_well_of_a_coupling_scan_interpolates_the_reference_and_the_morse_well(m
     hw = float(morse.reference_frequency.values[p])
     x0 = float(morse.reference_center.values[p])
     v_ref = morse.reference_v_min.values[p] + hw**2 / (4 * hbar2_2m) * (x - x0) ** 2
+    # rtol 1e-9: ħ²/2m here goes through CODATA products; the package rounds them differently
     assert_same(got["potential"][:, 1], (1 - lam) * v_ref + lam * v_morse, rtol=1e-9)
     pic = rebuild(ResultView(morse, "well"), p, 0, 8)
     assert_same(pic.energies, morse.energy.values[p, 0, :8], rtol=RTOL_REBUILD)
@@ -492,17 +496,18 @@ def test_well_of_a_parity_channel_is_drawn_on_both_sides(trap):
     fig = plots.make_figure(trap, "well", scan_index=0, channel="odd")
     got = lines_by_gid(fig)
     x = got["potential"][:, 0]
-    assert x[0] == pytest.approx(-x[-1])
+    assert x[0] == -x[-1]  # a symmetric plotting grid, mirrored exactly
     g = yaml.safe_load(trap.attrs["case"])["well"][0]["gaussian"]
     depth = float(trap.scan_value.values[0])
     assert_same(got["potential"][:, 1], -depth * np.exp(-2 * x**2 / g["waist"] ** 2),
-                rtol=1e-12)  # V = −U₀ e^{−2x²/w²}
+                rtol=1e-12)  # V = −U₀ e^{−2x²/w²}; rounding of exp
     dens = got["density:1:0"]
     e = trap.energy.values[0, 1, 0]
     lifted = dens[:, 1] - e
-    assert lifted.min() >= -1e-12 * abs(e)
+    assert lifted.min() >= -1e-12 * abs(e)  # a density: ≥ 0 up to the rounding of y − E
+    # odd state: |ψ(0)|² = 0; 1e-9 |E|: the grid point nearest 0 is not exactly 0
     assert lifted[np.argmin(np.abs(dens[:, 0]))] == pytest.approx(0.0, abs=1e-9 * abs(e))
-    assert_same(lifted, lifted[::-1], rtol=1e-9)  # |ψ|² of a parity state is even
+    assert_same(lifted, lifted[::-1], rtol=1e-9)  # |ψ|² of a parity state is even; recurrences
 
 
 def test_scheme_bars_labels_and_shells(synthetic):
@@ -680,6 +685,7 @@ def test_plot_command_writes_the_figure(quartic_file, tmp_path, capsys):
 
     out = tmp_path / "scheme.svg"
     assert main(["plot", str(quartic_file), "--kind", "scheme", "-o", str(out)]) == 0
+    # 72 points per inch (SVG/PDF); abs=1 point: rounding a writer may apply to the page size
     assert image_size(out) == pytest.approx((72 * plots.KINDS["scheme"].size[0],
                                              72 * plots.KINDS["scheme"].size[1]), abs=1)
 

@@ -27,7 +27,8 @@ TERMS = [
 
 @pytest.mark.parametrize("spec", TERMS, ids=lambda s: next(iter(s)))
 def test_term_derivatives_match_central_differences(spec):
-    # Central differences, step 1e-5: truncation ~h² V''' ≲ 1e-9, rounding ~1e-16/h ≈ 1e-11.
+    # Central differences, step 1e-5: truncation ~h² V''' ≲ 1e-9, rounding ~1e-16/h ≈ 1e-11
+    # for V'; the second difference rounds like ~1e-16/h² ≈ 1e-6, hence its looser bounds.
     t = W([spec]).terms[0]
     x = np.array([0.45, 1.7, 2.9, 4.1])
     h = 1e-5
@@ -49,9 +50,9 @@ def test_gaussian_waist_form_is_exp_minus_2r2_over_w2():
 def test_woods_saxon_radius_is_r0_a_one_third():
     t = W([{"woods_saxon": {"depth": 50.0, "r0": 1.25, "mass_number": 27,
                             "diffuseness": 0.6}}]).terms[0]
-    assert t.radius == pytest.approx(1.25 * 3.0)
+    assert t.radius == pytest.approx(1.25 * 3.0, rel=1e-14)  # 27^(1/3) = 3 to rounding
     # by definition of the Woods–Saxon form, V(R) = −V₀/2 (common practice, no source)
-    assert t.value(np.array([3.75]))[0] == pytest.approx(-25.0)
+    assert t.value(np.array([3.75]))[0] == pytest.approx(-25.0, rel=1e-14)  # rounding of exp
 
 
 def test_coulomb_is_continuous_at_the_sphere_radius_and_uses_e2_of_the_units():
@@ -93,30 +94,33 @@ def test_minimum_of_an_unbounded_cubic_is_the_local_one_at_the_center():
     w = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 3, "strength": 0.05}}])
     x0, v0, v2 = w.minimum()
     # the minimiser is polished by Newton steps on V': converged to rounding
-    assert abs(x0) < 1e-12 and v0 == pytest.approx(0.0, abs=1e-14) and v2 == pytest.approx(1.0)
+    assert abs(x0) < 1e-12 and v0 == pytest.approx(0.0, abs=1e-14)
+    assert v2 == pytest.approx(1.0, rel=1e-12)
 
 
 def test_minimum_of_a_shifted_morse_well():
     w = W([{"morse": {"depth": 4.0, "width": 1.3, "center": 1.7}}])
     x0, _, v2 = w.minimum()
     assert x0 == pytest.approx(1.7, abs=1e-10)  # Newton-polished minimum: rounding level
-    assert v2 == pytest.approx(2 * 4.0 * 1.3**2, rel=1e-9)
+    assert v2 == pytest.approx(2 * 4.0 * 1.3**2, rel=1e-9)  # V'' at a minimum known to 1e-10
 
 
 def test_kinetic_prefactors_against_handbook_constants():
     # ħc = 197.3269804 MeV fm, m_n c² = 939.56542 MeV, m_p c² = 938.27209 MeV (CODATA 2018,
     # quoted from memory): ħ²/2m for the mean nucleon mass.
     hbarc, mn, mp = 197.3269804, 939.56542, 938.27209
+    # rel 1e-7: the memorised masses have 8 significant digits
     assert get_units("nuclear").hbar2_over_2m() == pytest.approx(hbarc**2 / (mn + mp), rel=1e-7)
     # Rotational constant B = h/(8π² c μ r²) = 16.8576 cm⁻¹ Å² u / (μ r²) (handbook value,
     # e.g. Herzberg's tables; quoted from memory).
-    assert get_units("molecular").hbar2_over_2m(1.0) == pytest.approx(16.8576, rel=1e-5)
+    assert get_units("molecular").hbar2_over_2m(1.0) == pytest.approx(16.8576, rel=1e-5)  # 6 digits
     assert get_units("atomic").hbar2_over_2m(2.0) == 0.25
     assert get_units("oscillator").hbar2_over_2m() == 0.5
 
 
 def test_unit_conversions_against_handbook_values():
     # 1 hartree = 219474.6313 cm⁻¹ = 27.211386 eV; 1 bohr = 0.529177211 Å (CODATA, from memory).
+    # each rel is one unit in the last memorised digit (10, 8 and 9 significant digits)
     assert convert_energy(1.0, "atomic", "molecular") == pytest.approx(219474.6313, rel=1e-9)
     assert convert_energy(1.0, "atomic", "nuclear") == pytest.approx(27.211386e-6, rel=1e-7)
     assert convert_length(1.0, "atomic", "molecular") == pytest.approx(0.529177211, rel=1e-8)
@@ -128,12 +132,13 @@ def test_harmonic_frequency_form_gives_that_frequency_in_any_units():
     for units in ("nuclear", "molecular", "trap", "atomic"):
         w = W([{"harmonic": {"frequency": 3.0}}], units=units, mass=2.0)
         s = ah.solve(w, dimension=3, l=0, size=4, levels=2, units=units, mass=2.0)
-        np.testing.assert_allclose(s.energies, [4.5, 10.5], rtol=1e-12)  # exact in the basis
+        # exact in the basis: eigh rounding only
+        np.testing.assert_allclose(s.energies, [4.5, 10.5], rtol=1e-12)
 
 
 def test_dot_units_kinetic_prefactor_against_handbook_value():
     # ħ²/2mₑ = 38.09982 meV nm² (CODATA-derived handbook value, quoted from memory); GaAs
     # effective mass 0.067 mₑ (common practice).
     u = get_units("dot")
-    assert u.hbar2_over_2m(1.0) == pytest.approx(38.09982, rel=1e-6)
+    assert u.hbar2_over_2m(1.0) == pytest.approx(38.09982, rel=1e-6)  # 7 memorised digits
     assert u.length_from_frequency(3.0, 0.067) == pytest.approx(19.47, rel=1e-3)  # 4 digits

@@ -189,36 +189,90 @@ def test_richardson_table_is_exact_for_polynomials_in_h_squared():
     steps = np.array([0.3, 0.17, 0.05])
     values = 2.0 - 3.0 * steps**2 + 7.0 * steps**4
     table = richardson(values, steps)
-    assert table[-1, -1] == pytest.approx(2.0, rel=1e-13)
-    # one level up: a + b h² is exact from two steps, not a + c h⁴ terms
+    assert table[-1, -1] == pytest.approx(2.0, rel=1e-13)  # rounding of the Neville table
+    # one level up: a + b h² is exact from two steps, not a + c h⁴ terms: the h⁴ term
+    # leaves ~1e-2 there, far outside 1e-6
     assert table[2, 1] != pytest.approx(2.0, rel=1e-6)
     with pytest.raises(ValueError, match="distinct"):
         richardson(values, [0.1, 0.1, 0.2])
 
 
 # --------------------------------------------------------------------------------- shooting
+# The shooting solver gets only the level's index (its node count), never an energy.
 @pytest.mark.parametrize(
-    ("dimension", "l", "exact"),
-    [(3, 0, 1.5), (3, 2, 5.5), (2, 0, 1.0), (1, 0, 2.5), (1, 1, 1.5)],
+    ("dimension", "l", "level"),
+    [(3, 0, 0), (3, 0, 3), (3, 2, 1), (2, 0, 0), (2, 1, 2), (1, 0, 1), (1, 1, 2)],
 )
-def test_shooting_reproduces_oscillator_levels(dimension, l, exact):
-    # Exact: ħω(2n + l + d/2) as above.
-    got = shooting_level(oscillator, l, C, (exact - 0.4, exact + 0.4), 10.0, dimension=dimension)
+def test_shooting_finds_oscillator_levels_by_node_count(dimension, l, level):
+    # Exact: ħω(2n + l + d/2) with n = level (Sakurai, Modern Quantum Mechanics; 1D: even
+    # parity holds 2n + ½, odd 2n + 3/2).
+    exact = 2 * level + l + dimension / 2
+    got = shooting_level(oscillator, l, C, level, 10.0, dimension=dimension)
     assert got == pytest.approx(exact, rel=RTOL_SHOOTING)
 
 
-@pytest.mark.parametrize(("n", "l"), [(1, 0), (2, 1), (7, 0)])
-def test_shooting_reaches_near_threshold_hydrogen_levels(n, l):
-    # Exact: −1/(2n²) hartree (Griffiths §4.2). n = 7 is bound by 0.01 hartree and extends
-    # to r ≈ 2n² = 98 bohr; the inward solution starts at r_max = 700 on its decaying branch.
-    exact = -0.5 / n**2
-    got = shooting_level(coulomb, l, C, (1.04 * exact, 0.96 * exact), 700.0)
+@pytest.mark.parametrize(("z", "n", "l"), [(1, 1, 0), (1, 7, 0), (3, 3, 2)])
+def test_shooting_reaches_near_threshold_hydrogen_like_levels(z, n, l):
+    # Exact: −Z²/(2n²) hartree, n = n_r + l + 1 (Griffiths, Introduction to Quantum Mechanics,
+    # §4.2, with e² → Z e²). n = 7 is bound by 0.01 hartree and extends to r ≈ 2n² = 98 bohr;
+    # the inward solution starts at r_max = 700 on its decaying branch.
+    exact = -0.5 * z**2 / n**2
+    got = shooting_level(lambda r: -z / r, l, C, n - l - 1, 700.0 / z)
     assert got == pytest.approx(exact, rel=RTOL_SHOOTING)
 
 
-def test_shooting_refuses_a_bracket_without_a_level():
-    with pytest.raises(ValueError, match="enclose one level"):
-        shooting_level(oscillator, 0, C, (1.6, 3.4), 10.0)
+MORSE_D, MORSE_A, MORSE_RE = 10.0, 1.0, 2.5  # V(0) ≈ 1.2e3: u(0) ~ e^(−50), r = 0 is hidden
+
+
+def morse(r):
+    return MORSE_D * (1.0 - np.exp(-MORSE_A * (r - MORSE_RE))) ** 2
+
+
+def morse_exact(n):
+    # Morse, Phys. Rev. 34, 57 (1929): E_n = ħω(n+½) − [ħω(n+½)]²/(4D), ħω = α√(2D/m), ħ = m = 1
+    # (exact on the whole line; at α r_e = 2.5 the s-wave condition u(0) = 0 changes it by far
+    # less than rounding, since u(0) ~ exp(−∫√(2V)) there)
+    hw = MORSE_A * np.sqrt(2.0 * MORSE_D)
+    return hw * (n + 0.5) - (hw * (n + 0.5)) ** 2 / (4.0 * MORSE_D)
+
+
+@pytest.mark.parametrize("level", [0, 3])
+def test_shooting_finds_morse_levels_by_node_count(level):
+    got = shooting_level(morse, 0, C, level, 25.0)  # level 3: κ ≈ 1, e^(−2κ·22) at r_max
+    assert got == pytest.approx(morse_exact(level), rel=RTOL_SHOOTING)
+
+
+def test_morse_levels_on_the_line_after_richardson():
+    res = line_richardson_levels(morse, C, 0.0, 30.0, 4)
+    exact = morse_exact(np.arange(4))
+    np.testing.assert_allclose(res.energies, exact, rtol=RTOL_RICHARDSON)
+    assert np.all(np.abs(res.energies - exact) <= res.error)
+
+
+def poschl_teller(r):
+    return -6.0 / np.cosh(r) ** 2  # V0 = 6, a = 1 with ħ = m = 1: s(s + 1) = 12, s = 3
+
+
+# Pöschl & Teller, Z. Phys. 83, 143 (1933); Flügge, Practical Quantum Mechanics, Problem 39:
+# E_n = −(ħ²/2ma²)(s − n)², n < s: −4.5 (n = 0, even), −2 (n = 1, odd), −0.5 (n = 2, even).
+@pytest.mark.parametrize(("l", "level", "exact"), [(0, 0, -4.5), (1, 0, -2.0), (0, 1, -0.5)])
+def test_shooting_finds_poschl_teller_levels_in_both_parities(l, level, exact):
+    got = shooting_level(poschl_teller, l, C, level, 30.0, dimension=1)
+    assert got == pytest.approx(exact, rel=RTOL_SHOOTING)
+
+
+def test_poschl_teller_levels_on_the_line_after_richardson():
+    res = line_richardson_levels(poschl_teller, C, -25.0, 25.0, 3)  # h ≤ 0.05: 2e-6 of 1/κ²
+    np.testing.assert_allclose(res.energies, [-4.5, -2.0, -0.5], rtol=RTOL_BOX)
+
+
+def test_shooting_refuses_a_level_the_channel_does_not_bind():
+    # Pöschl–Teller with s = 3 binds two even levels only (n = 0, 2 above); the odd ones
+    # are n = 1 alone.
+    with pytest.raises(ValueError, match="level 2 is not bound"):
+        shooting_level(poschl_teller, 0, C, 2, 30.0, dimension=1)
+    with pytest.raises(ValueError, match="level 1 is not bound"):
+        shooting_level(poschl_teller, 1, C, 1, 30.0, dimension=1)
 
 
 # ------------------------------------------------------------------------------ the contract

@@ -1,38 +1,29 @@
-"""anharmony: bound states, anharmonic shifts and perturbation series of almost-harmonic wells."""
+"""anharmony: bound states, anharmonic shifts and perturbation series of almost-harmonic wells.
+
+Every public name is imported on first use (PEP 562), so that ``import anharmony`` costs only
+the version and the error classes, and the command line pays for scipy, xarray or matplotlib
+only in the commands that need them.
+"""
 
 from __future__ import annotations
 
+import sys
+import types
+from importlib import import_module
+
 from ._version import __version__
-from .convergence import ConvergenceReport, converge, cross_check, residual_bounds, scan_basis
 from .errors import (
     AnharmonyError,
     AnharmonyWarning,
+    CaseError,
     ConvergenceWarning,
     DegenerateLevelError,
+    FormulaError,
     InputError,
     NumericalError,
+    ResultFileError,
+    TermError,
 )
-from .fit import FitResult, FitWarning, fit
-from .hamiltonian import Channel, channel_hamiltonian
-from .molecular import dunham_fit, rovibrational, spectroscopic_constants
-from .observables import (
-    expectation,
-    fix_phases,
-    franck_condon,
-    matrix_element,
-    overlaps,
-    reduced_multipole,
-    rms_radius,
-    transition_matrix,
-    transition_strength,
-    wavefunction,
-)
-from .series import Series, series
-from .shells import fill_shells
-from .spectrum import Reference, Spectrum, reference_oscillator, solve
-from .terms import TERMS, TermError
-from .units import SYSTEMS, UnitSystem, get_units
-from .well import Well
 
 __all__ = [
     "SYSTEMS",
@@ -46,15 +37,19 @@ __all__ = [
     "DegenerateLevelError",
     "FitResult",
     "FitWarning",
+    "FormulaError",
     "InputError",
     "NumericalError",
     "Reference",
+    "ResultFileError",
+    "ScanResult",
     "Series",
     "Spectrum",
     "TermError",
     "UnitSystem",
     "Well",
     "__version__",
+    "bound_count_estimate",
     "channel_hamiltonian",
     "converge",
     "cross_check",
@@ -75,6 +70,7 @@ __all__ = [
     "rms_radius",
     "rovibrational",
     "run_case",
+    "scan",
     "scan_basis",
     "series",
     "solve",
@@ -84,20 +80,54 @@ __all__ = [
     "wavefunction",
 ]
 
-
-_LAZY = {  # names that live on top of yaml / xarray: imported on first use, so that
-    # ``import anharmony`` keeps xarray, yaml and matplotlib out of sys.modules
-    "run_case": ("runner", "run_case"),
-    "load_cases": ("cases", "load_cases"),
-    "CaseError": ("cases", "CaseError"),
-    "read_dataset": ("store", "read_dataset"),
+_LAZY = {  # public name → the module that defines it, imported on first use
+    **dict.fromkeys(("ConvergenceReport", "converge", "cross_check", "residual_bounds",
+                     "scan_basis"), "convergence"),
+    **dict.fromkeys(("Channel", "channel_hamiltonian"), "hamiltonian"),
+    "TERMS": "terms",
+    "Well": "well",
+    **dict.fromkeys(("ScanResult", "scan"), "scan"),
+    **dict.fromkeys(("Series", "series"), "series"),
+    **dict.fromkeys(("Reference", "Spectrum", "reference_oscillator", "solve",
+                     "bound_count_estimate"), "spectrum"),
+    **dict.fromkeys(("SYSTEMS", "UnitSystem", "get_units"), "units"),
+    **dict.fromkeys(("FitResult", "FitWarning", "fit"), "fit"),
+    **dict.fromkeys(("dunham_fit", "rovibrational", "spectroscopic_constants"), "molecular"),
+    **dict.fromkeys(("expectation", "fix_phases", "franck_condon", "matrix_element", "overlaps",
+                     "reduced_multipole", "rms_radius", "transition_matrix",
+                     "transition_strength", "wavefunction"), "observables"),
+    "fill_shells": "shells",
+    "run_case": "runner",
+    "load_cases": "cases",
+    "read_dataset": "store",
 }
+# functions named like the module that defines them: the name stays the function
+_SHADOWED = frozenset({"fit", "scan", "series"})
 
 
 def __getattr__(name: str):
     if name in _LAZY:
-        from importlib import import_module
-
-        module, attr = _LAZY[name]
-        return getattr(import_module(f".{module}", __name__), attr)
+        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
     raise AttributeError(f"module 'anharmony' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))
+
+
+class _Package(types.ModuleType):
+    """The package module; keeps ``anharmony.scan``/``.series`` the functions.
+
+    Importing a submodule binds it as an attribute of the package; for the two submodules
+    whose main function has their name, the function is bound instead.
+    """
+
+    def __setattr__(self, name: str, value: object) -> None:
+        if name in _SHADOWED and isinstance(value, types.ModuleType):
+            value = getattr(value, name)
+        super().__setattr__(name, value)
+
+
+sys.modules[__name__].__class__ = _Package

@@ -27,6 +27,8 @@ __all__ = [
     "integer",
     "integers",
     "known_keys",
+    "length_or_auto",
+    "numbers",
     "positive",
     "positives",
     "suggest",
@@ -56,6 +58,15 @@ def positive(name: str, value: Any) -> float:
     """A finite number > 0, as a float."""
     if not _is_real(value) or not math.isfinite(float(value)) or not float(value) > 0:
         raise InputError(f"{name}: must be a positive number; {got(value)}")
+    return float(value)
+
+
+def length_or_auto(name: str, value: Any) -> float | None:
+    """A positive number as a float, or ``None`` for the word ``"auto"``."""
+    if isinstance(value, str) and value == "auto":
+        return None
+    if not _is_real(value) or not math.isfinite(float(value)) or not float(value) > 0:
+        raise InputError(f"{name}: must be a positive number or 'auto'; {got(value)}")
     return float(value)
 
 
@@ -101,6 +112,8 @@ def choice(name: str, value: Any, options: Collection[Any]) -> Any:
 
 
 def _sequence(name: str, values: Any, what: str) -> Sequence[Any]:
+    if getattr(values, "ndim", None) == 1 and hasattr(values, "tolist"):
+        values = values.tolist()  # a 1-D array counts as a list
     if isinstance(values, (str, bytes)) or not isinstance(values, Sequence) or not values:
         raise InputError(f"{name}: must be a non-empty list of {what}; {got(values)}")
     return values
@@ -110,6 +123,20 @@ def _distinct(name: str, out: tuple[Any, ...], values: Any, noun: str) -> tuple[
     if len(set(out)) != len(out):
         raise InputError(f"{name}: {noun} must be distinct; {got(list(values))}")
     return tuple(sorted(out))
+
+
+def numbers(name: str, values: Any, count: int | None = None, *,
+            what: str = "finite numbers") -> tuple[float, ...]:
+    """A non-empty list of finite numbers (``count`` of them if given), in the given order."""
+    seq = _sequence(name, values, what)
+    if count is not None and len(seq) != count:
+        raise InputError(f"{name}: must be a list of {count} {what}; {got(values)}")
+    out = []
+    for i, v in enumerate(seq):
+        if not _is_real(v) or not math.isfinite(float(v)):
+            raise InputError(f"{name}[{i}]: must be a finite number; {got(v)}")
+        out.append(float(v))
+    return tuple(out)
 
 
 def positives(name: str, values: Any, *, what: str = "positive numbers",

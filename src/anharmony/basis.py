@@ -19,6 +19,7 @@ integrated by Gauss quadrature whose point count grows until the matrix stops ch
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 import math
 import warnings
@@ -33,7 +34,7 @@ from scipy.special import gammaln, roots_legendre
 
 from .errors import ConvergenceWarning, NumericalError
 
-__all__ = ["QUADRATURE_RTOL", "HermiteBasis", "OrthogonalFamily", "RadialBasis"]
+__all__ = ["QUADRATURE_RTOL", "HermiteBasis", "OrthogonalFamily", "RadialBasis", "panel_rule"]
 
 QUADRATURE_RTOL = 1e-13  # default: matrix elements stable to ~50 ulp of the largest element
 _RESCALE = 1e100  # rescale when a value exceeds this (squares stay below the double range)
@@ -195,9 +196,10 @@ class _Logs:
         return vals * factors[self.of]
 
 
-def _panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
-                ) -> tuple[np.ndarray, np.ndarray]:
-    """Composite Gauss–Legendre rule on [lo, hi] with panel edges at ``breaks``."""
+def panel_rule(lo: float, hi: float, breaks: Sequence[float], width: float
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """Composite Gauss–Legendre rule on [lo, hi]: panel edges at ``breaks``, each stretch
+    between them cut into equal panels no wider than ``width``, 24 points per panel."""
     edges = sorted({lo, hi, *(b for b in breaks if lo < b < hi)})
     t, w = roots_legendre(_PANEL_ORDER)
     xs, ws = [], []
@@ -365,7 +367,7 @@ class HermiteBasis(_Basis):
     def _panel_nodes(self, points, breaks):
         top = math.sqrt(2.0 * self.size + 1.0) + _PANEL_MARGIN
         scaled = [(c - self.center) / self.length for c in breaks]
-        return _panel_rule(-top, top, scaled, _panel_width(points, self.size))
+        return panel_rule(-top, top, scaled, _panel_width(points, self.size))
 
     def _panel_u(self, xi, w):
         vals, logs, _ = self.family.values(xi, self.size)
@@ -465,7 +467,7 @@ class RadialBasis(_Basis):
 
     def _panel_nodes(self, points, breaks):
         top = math.sqrt(4.0 * self.size + 2.0 * self.alpha + 2.0) + _PANEL_MARGIN
-        return _panel_rule(0.0, top, [c / self.length for c in breaks],
+        return panel_rule(0.0, top, [c / self.length for c in breaks],
                            _panel_width(points, self.size))
 
     def _panel_u(self, rho, w):
@@ -512,25 +514,40 @@ def _next_points(m: int) -> int:
 def _cached_rule(basis, m, kind, breaks):
     """Quadrature rules are pure functions of (basis, m, kind, breaks): reuse them.
 
+    A rule is stored for the basis of unit length centred at 0, with the breaks scaled to it:
+    nodes in the scaled coordinate and U do not depend on b or x₀, so one rule serves every
+    length (a variational search over b, a length scan) and is only stretched here.
     Panel rules are made in pairs (this level and the next, which the sufficiency check asks
     for straight after) in one pass of the recurrence over both node sets.
     """
-    key = (basis, m, kind, breaks)
+    unit, scaled = _unit_basis(basis, breaks)
+    key = (unit, m, kind, scaled)
     rule = _RULES.get(key)
     if rule is None:
         while len(_RULES) >= _RULES_MAX:
             _RULES.pop(next(iter(_RULES)))
         if kind == "panels":
             m2 = _next_points(m)
-            x1, w1 = basis._panel_nodes(m, breaks)
-            x2, w2 = basis._panel_nodes(m2, breaks)
-            coords, u = basis._panel_u(np.concatenate([x1, x2]), np.concatenate([w1, w2]))
+            x1, w1 = unit._panel_nodes(m, scaled)
+            x2, w2 = unit._panel_nodes(m2, scaled)
+            coords, u = unit._panel_u(np.concatenate([x1, x2]), np.concatenate([w1, w2]))
             k = len(x1)
             rule = _RULES[key] = _with_live(coords[:k], u[:k])
-            _RULES[(basis, m2, kind, breaks)] = _with_live(coords[k:], u[k:])
+            _RULES[(unit, m2, kind, scaled)] = _with_live(coords[k:], u[k:])
         else:
-            rule = _RULES[key] = _with_live(*basis.quadrature(m, kind, breaks))
-    return rule
+            rule = _RULES[key] = _with_live(*unit.quadrature(m, kind, scaled))
+    xi, u, live = rule
+    return getattr(basis, "center", 0.0) + basis.length * xi, u, live
+
+
+def _unit_basis(basis, breaks):
+    """The same basis with b = 1 and x₀ = 0, and ``breaks`` in its scaled coordinate."""
+    center = getattr(basis, "center", 0.0)
+    scaled = tuple((c - center) / basis.length for c in breaks)
+    if basis.length == 1.0 and center == 0.0:
+        return basis, scaled
+    changes = {"length": 1.0, **({"center": 0.0} if hasattr(basis, "center") else {})}
+    return dataclasses.replace(basis, **changes), scaled
 
 
 def _with_live(coords: np.ndarray, u: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -13,10 +13,7 @@ import sys
 from collections.abc import Sequence
 from typing import Any, NoReturn, TextIO
 
-import numpy as np
-
 from ._version import __version__
-from .hamiltonian import level_label
 
 __all__ = ["main"]
 
@@ -247,19 +244,9 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
 
 # --------------------------------------------------------------------------- check
-def _fmt(x: float) -> str:
-    return f"{x:.6g}"
-
-
-def _term_text(spec: dict) -> str:
-    (name, params), = spec.items()
-    inner = ", ".join(f"{k}: {v}" for k, v in (params or {}).items())
-    return f"{name}{{{inner}}}"
-
-
 def _cmd_check(args: argparse.Namespace) -> int:
     from .cases import CaseError, load_cases
-    from .runner import _linear_ok, _reference_at, output_path
+    from .runner import describe
 
     try:
         cases = load_cases(args.cases)
@@ -267,78 +254,19 @@ def _cmd_check(args: argparse.Namespace) -> int:
         return _problems(exc)
     status = EXIT_OK
     for case in cases:
-        m = case.model
-        u = case.units
-        chans = case.channels()
-        values = case.scan_values()
-        mass = case.mass if case.mass is not None else u.default_mass
-        print(f"{case.name}: {m.title or '(no title)'}")
-        print(f"  units      {u.name} (energy {u.energy_text}, length {u.length_text}); mass "
-              f"{mass:g} {u.mass_text}"
-              + ("" if case.mass is not None else f" ({u.default_mass_note})"))
-        print(f"  well       {' + '.join(_term_text(t) for t in m.well)}")
-        if not args.no_reference:
-            try:
-                ref = _reference_at(case, values[0])
-            except (ValueError, ArithmeticError) as exc:
-                print(f"  reference  cannot be resolved: {exc}")
-                _err(f"{case.name}: reference: {exc}")
-                status = EXIT_BAD_INPUT
-            else:
-                where = "" if len(values) == 1 else f" at {case.scan_parameter} = {values[0]:g}"
-                print(f"  reference  hbar*omega = {_fmt(ref.frequency)} {u.energy_text}, b = "
-                      f"{_fmt(ref.length)} {u.length_text}, centre {_fmt(ref.center)}, "
-                      f"V_min = {_fmt(ref.v_min)}{where}")
-                print(f"             {ref.method}: {ref.reason}")
-        print(f"  basis      {m.basis.size} states per channel, length {m.basis.length}")
-        print(f"  channels   {', '.join(c.label for c in chans)} ({len(chans)}); "
-              f"{m.levels.count} levels each")
-        if m.scan is not None:
-            how = ("per point and channel, for the convergence study" if m.convergence.study
-                   else "linear: matrices built once" if _linear_ok(case)
-                   else "rebuilt per point")
-            print(f"  scan       {case.scan_parameter}: {len(values)} values "
-                  f"{values[0]:g} … {values[-1]:g} ({how})")
-        if m.perturbation is not None:
-            p = m.perturbation
-            print(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
-                  f"{', '.join(p.resum) or 'none'}")
-        print(f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}")
-        print(f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
-              f"{len(chans)} channel(s))")
-        print(f"  output     {output_path(case, None)}")
+        text = describe(case, reference=not args.no_reference)
+        for line in text.lines:
+            print(line)
+        if text.problem is not None:
+            _err(f"{case.name}: reference: {text.problem}")
+            status = EXIT_BAD_INPUT
     return status
-
-
-def _study_text(case: Any) -> str:
-    """The convergence settings of a case in one line (``check``)."""
-    from .runner import _smaller_size
-
-    conv = case.model.convergence
-    unit = "hbar*omega" if case.units.energy == "1" else case.units.energy
-    tol = f"converged below {conv.tolerance:g} {unit}"
-    if not conv.study:
-        if conv.method == "none":
-            return "not estimated (convergence.estimate: none)"
-        return (f"change from {_smaller_size(case)} to {case.model.basis.size} states; {tol}")
-    s = case.study_settings()
-    sizes = s.size_axis(case.model.levels.count)
-    if not conv.scans_lengths:
-        where = "at the basis length"
-    elif s.lengths is not None:
-        where = f"lengths {', '.join(f'{b:g}' for b in s.lengths)} {case.units.length}"
-    elif s.frequencies is not None:
-        where = f"hbar*omega {', '.join(f'{w:g}' for w in s.frequencies)} {unit}"
-    else:
-        where = "lengths auto (re-optimised at each size)"
-    grow = (f"basis grows to the tolerance, sizes {sizes[0]} … {sizes[-1]}" if conv.grows
-            else f"sizes {', '.join(str(n) for n in sizes)}")
-    return (f"{grow}, {where}; error_estimate: {conv.method}; {tol}"
-            + ("; cross-check" if conv.cross_check else ""))
 
 
 # --------------------------------------------------------------------------- show
 def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
+    import numpy as np
+
     if ds.sizes.get("order", 0) == 0:
         return "-"
     e = float(ds.energy.values[k, c, n])
@@ -349,15 +277,33 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     d = np.where(np.isfinite(d), d, np.inf)
     err = float(ds.error_estimate.values[k, c, n])
     allowed = max(tol, err if math.isfinite(err) else 0.0)
-    ok = np.flatnonzero(d <= allowed)
-    if ok.size:
-        return f"order {int(ok[0])} within {allowed:.1g}"
-    best = int(np.argmin(d))
-    kind = "asymptotic" if 0 < best < d.size - 1 else "poor"
-    return f"{kind}: best order {best}, off by {d[best]:.2g}"
+    from .series import partial_sum_verdict
+
+    return partial_sum_verdict(d, allowed)
+
+
+def _level_name(ds: Any, dim: int, c: int, n: int) -> str:
+    """The stored spectroscopic label; for files without ``level_label``, made here."""
+    if "level_label" in ds:
+        return str(ds.level_label.values[c, n])
+    from .hamiltonian import level_label
+
+    jc = float(ds.j.values[c]) if "j" in ds else None
+    return level_label(dim, int(ds.l.values[c]), jc, n)
+
+
+def _rows(ds: Any, k: int, chans: list[int], ladder: bool) -> list[tuple[int, int]]:
+    """(channel, level) of the finite levels at scan point k: per channel, or one ladder."""
+    rows = [(c, n) for c in chans for n in range(ds.sizes["level"])
+            if math.isfinite(float(ds.energy.values[k, c, n]))]
+    if ladder:
+        rows.sort(key=lambda cn: float(ds.energy.values[k, cn[0], cn[1]]))
+    return rows
 
 
 def _cmd_show(args: argparse.Namespace) -> int:
+    import numpy as np
+
     from .store import ResultFileError, read_dataset
 
     try:
@@ -404,7 +350,10 @@ def _cmd_show(args: argparse.Namespace) -> int:
     xdiff = ds["cross_check_difference"].values if "cross_check_difference" in ds else None
     xcheck = xdiff is not None and bool(np.isfinite(xdiff).any())
     grown = "convergence_size" in ds and "grown" in str(a.get("convergence", ""))
-    head = (f"  {'level':>12} {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
+    # a symmetric 1D well: one ladder in energy order, the parity beside each level
+    ladder = dim == 1 and len(chans) > 1 and all(int(ds.l.values[c]) >= 0 for c in chans)
+    head = (f"  {'level':>12}" + (f" {'parity':>6}" if ladder else "")
+            + f" {'energy':>14} {'reference':>14} {'shift':>12} {'bound':>6} "
             f"{'error':>9} {'conv':>5}" + (f" {'x-check':>9}" if xcheck else "")
             + "  perturbation")
     for k in points:
@@ -416,26 +365,23 @@ def _cmd_show(args: argparse.Namespace) -> int:
                                 for c in chans)
             print(f"  basis grown per channel to: {reached}")
         print(head)
-        for c in chans:
-            for n in range(ds.sizes["level"]):
-                e = float(ds.energy.values[k, c, n])
-                if not math.isfinite(e):
-                    continue
-                ref = float(ds.reference_energy.values[k, c, n])
-                bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
-                err = float(ds.error_estimate.values[k, c, n])
-                errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
-                conv = ("yes" if int(ds.converged.values[k, c, n])
-                        else "NO" if bound == "yes" else "-")  # continuum: no level to converge
-                extra = ""
-                if xcheck:
-                    x = float(xdiff[k, c, n])
-                    extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
-                jc = float(ds.j.values[c]) if "j" in ds else None
-                name = level_label(dim, int(ds.l.values[c]), jc, n)
-                print(f"  {name:>12} {e:14.8g} {ref:14.8g} "
-                      f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
-                      f"{_verdict(ds, k, c, n, tol)}")
+        for c, n in _rows(ds, k, chans, ladder):
+            e = float(ds.energy.values[k, c, n])
+            ref = float(ds.reference_energy.values[k, c, n])
+            bound = "yes" if int(ds.bound.values[k, c, n]) else "no"
+            err = float(ds.error_estimate.values[k, c, n])
+            errs = f"{err:9.1e}" if math.isfinite(err) else f"{'-':>9}"
+            conv = ("yes" if int(ds.converged.values[k, c, n])
+                    else "NO" if bound == "yes" else "-")  # continuum: no level to converge
+            extra = ""
+            if xcheck:
+                x = float(xdiff[k, c, n])
+                extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
+            name = _level_name(ds, dim, c, n)
+            parity = f" {('even', 'odd')[int(ds.l.values[c])]:>6}" if ladder else ""
+            print(f"  {name:>12}{parity} {e:14.8g} {ref:14.8g} "
+                  f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
+                  f"{_verdict(ds, k, c, n, tol)}")
     notes = [w for w in str(a.get("convergence_warnings", "")).splitlines() if w]
     if xcheck:
         print("\nx-check: energy minus the level of the cross-check solver "

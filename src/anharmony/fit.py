@@ -24,7 +24,7 @@ from typing import Any
 import numpy as np
 from scipy.optimize import least_squares
 
-from .errors import AnharmonyWarning, InputError
+from .errors import AnharmonyWarning, ConvergenceWarning, InputError
 from .hamiltonian import Channel, parse_j
 from .spectrum import solve
 from .terms import TERMS
@@ -271,9 +271,11 @@ class _Model:
             b = length if length is not None else self.length
             if isinstance(b, dict):
                 b = b[key]
-            out[key] = solve(well, self.dimension, l, j, size=size or self.size, length=b,
-                             units=self.units, mass=self.mass,
-                             levels=min(self.needed[key], size or self.size))
+            with warnings.catch_warnings():  # the basis is judged once, at the solution
+                warnings.simplefilter("ignore", ConvergenceWarning)
+                out[key] = solve(well, self.dimension, l, j, size=size or self.size, length=b,
+                                 units=self.units, mass=self.mass,
+                                 levels=min(self.needed[key], size or self.size))
         return well, out
 
     def predict(self, spectra) -> np.ndarray:
@@ -444,9 +446,9 @@ def fit(terms: Sequence[Mapping[str, Any]], dimension: int = 3, l: int | None = 
     chi2 = float(r @ r)
     dof = len(measurements) - len(paths)
 
-    # basis re-check: the same well in a basis half as large again
+    # basis re-check: the same well in a basis half as large again, and the solver's estimate
     _, big = model.spectra(x, size=int(1.5 * model.size))
-    basis_error = np.abs(model.predict(big) - pred)
+    basis_error = np.maximum(np.abs(model.predict(big) - pred), _estimates(model, spectra))
     bad = np.flatnonzero(basis_error > BASIS_SHARE * sigma)
     if bad.size:
         warnings.warn(
@@ -486,6 +488,15 @@ def fit(terms: Sequence[Mapping[str, Any]], dimension: int = 3, l: int | None = 
         basis_error=basis_error, data=measurements, well=well,
         undetermined=tuple(undetermined), evaluations=model.evaluations,
         energy_unit=well.units.energy)
+
+
+def _estimates(model: _Model, spectra) -> np.ndarray:
+    """Each datum's error bar from the solver's own a-posteriori estimate of its levels."""
+    out = []
+    for d in model.data:
+        est = spectra[d.channel_key].error_estimate
+        out.append(sum(float(est[k]) for k in d.levels))
+    return np.array(out)
 
 
 def _check_levels_exist(model: _Model, x0: np.ndarray) -> None:

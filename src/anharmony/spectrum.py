@@ -1,14 +1,22 @@
 """Diagonalisation of one channel, bound-state classification and the reference oscillator.
 
 :func:`solve` is the friendly front end of DESIGN §8: it validates its arguments once, resolves
-the reference oscillator, builds the channel matrices and returns a :class:`Spectrum`.
+the reference oscillator, builds the channel matrices and returns a :class:`Spectrum` with an
+error bar on every level (:func:`nested_error_estimate`), a basis-independent count of the
+channel's bound levels (:func:`bound_count_estimate`) and spectroscopic labels.
+
+Repeated solves are cheap: references, semiclassical tables and channel matrices are kept in
+small LRU caches keyed by *value* (the well's frozen terms, unit system and mass, the channel,
+size, length and centre), never by object identity, so a changed well never meets a stale
+matrix and an equal well rebuilt by ``with_context`` still hits.
 """
 
 from __future__ import annotations
 
 import math
 import warnings
-from collections.abc import Callable, Mapping
+from collections import OrderedDict
+from collections.abc import Callable, Hashable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -17,18 +25,27 @@ from scipy.linalg import eig_banded, eigh
 from scipy.optimize import minimize_scalar
 
 from .basis import HermiteBasis, RadialBasis
-from .errors import ConvergenceWarning
+from .errors import ConvergenceWarning, InputError
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
 from .units import UnitSystem, get_units
 from .well import Well
 
-__all__ = ["BANDED_MAX_RATIO", "Reference", "Spectrum", "diagonalize", "reference_oscillator",
-           "resolve_channel", "solve", "upper_band"]
+__all__ = ["BANDED_MAX_RATIO", "DEFAULT_TOLERANCE", "Reference", "Spectrum",
+           "bound_count_estimate", "clear_caches", "diagonalize", "nested_error_estimate",
+           "reference_oscillator", "resolve_channel", "solve", "upper_band"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
 BANDED_MAX_RATIO = 0.125  # use the banded solver when half-bandwidth ≤ this · N
 ROUNDING_WARN = 1e-9  # warn when eps·‖H‖₁ exceeds this fraction of the energy scale
+DEFAULT_TOLERANCE = 1e-8  # error bar allowed, relative to the level spacing (or ħω)
+ESTIMATE_WINDOW = 0.25  # nested sub-blocks N − q, N − 2q with q = N/4 (cost ≈ 0.55 eigvalsh)
+ESTIMATE_SAFETY = 12.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
+ESTIMATE_RATIO_CAP = 0.9  # convergence ratio per window assumed at most this
+ESTIMATE_FLOOR = 0.03  # remainder never taken below this fraction of the last difference
+WALL_FRACTION = 0.02  # auto length: V at the basis' reach ≤ this · the rounding-warning level
+LENGTH_KEEP = 0.1  # auto length: keep a harmonic reference's b within this relative change
+_CACHE_SIZES = {"reference": 64, "phase_space": 64, "matrices": 8}
 
 
 @dataclass(frozen=True)
@@ -46,8 +63,9 @@ class Reference:
     v_min : float
         Value of the well at the centre; H_ref = v_min + ħω (oscillator level).
     method : str
-        ``"harmonic"`` (V″ at the minimum), ``"variational"`` (b minimising the lowest levels)
-        or ``"given"``.
+        ``"harmonic"`` (V″ at the minimum), ``"variational"`` (b minimising the lowest levels),
+        ``"off-centre"`` (a radial well whose minimum lies at r_m > 0: b sized to reach beyond
+        r_m and resolve the well there) or ``"given"``.
     reason : str
         Why this choice was made, in words.
     """
@@ -77,6 +95,17 @@ class Spectrum:
     rounding : float
         eps · ‖H‖₁, the absolute accuracy floor of the eigenvalues; large when the basis
         reaches far into a steep wall (then :func:`solve` warns).
+    error_estimate : ndarray
+        A-posteriori error bar of each level (:func:`nested_error_estimate`), in the energy
+        unit; an upper estimate of E(N) − E(∞). Meaningless above the threshold.
+    converged : ndarray of bool
+        Bound, and error_estimate ≤ :attr:`tolerance`.
+    tolerance : float
+        The absolute tolerance the estimates were held to.
+    labels : tuple of str
+        Spectroscopic label of each level (:meth:`Channel.level_label`).
+    length_reason : str
+        How the basis length was chosen.
     """
 
     energies: np.ndarray
@@ -91,6 +120,18 @@ class Spectrum:
     well: Well = field(repr=False)
     reference_energies: np.ndarray = field(repr=False, default_factory=lambda: np.zeros(0))
     rounding: float = 0.0  # eps·‖H‖₁: the absolute accuracy floor of the eigenvalues
+    error_estimate: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    converged: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    tolerance: float = math.nan
+    labels: tuple[str, ...] = ()
+    length_reason: str = ""
+
+    @property
+    def bound_count_estimate(self) -> float:
+        """Bound levels the channel holds, independent of the basis (see
+        :func:`bound_count_estimate`); ``inf`` for a confining well."""
+        return bound_count_estimate(self.well, self.channel.dimension, self.channel.l,
+                                    self.channel.j)
 
     @property
     def shifts(self) -> np.ndarray:
@@ -186,12 +227,13 @@ def _lowest_oscillator_level(channel: Channel) -> float:
 
 def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
                          mass: float | None = None, levels: int = 5,
-                         spec: str | Mapping[str, float] = "auto", j: Any = None) -> Reference:
+                         reference: str | Mapping[str, float] = "auto", j: Any = None
+                         ) -> Reference:
     """Resolve the reference oscillator of DESIGN §2.
 
     Parameters
     ----------
-    spec
+    reference
         ``"auto"``, or a mapping with ``frequency`` (ħω) or ``length`` (b), and optionally
         ``center`` (1D without symmetry).
 
@@ -210,6 +252,7 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
     channel = _channel_from(dimension, l, j)
     c = well.units.hbar2_over_2m(well.mass)
     radial = channel.l is not None
+    spec = reference
     if isinstance(spec, Mapping):
         unknown = set(spec) - {"frequency", "length", "center"}
         if unknown:
@@ -228,10 +271,9 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
         return Reference(hw, b, x0, vmin, "given", "reference oscillator given in the case")
     if spec != "auto":
         raise ValueError(f"reference: expected 'auto' or a mapping; got {spec!r}")
-    key = ("reference", channel, levels)
-    if key not in well._memo:  # the well is immutable: resolve its reference once per channel
-        well._memo[key] = _auto_reference(well, channel, levels, c, radial)
-    return well._memo[key]
+    # the well is immutable: resolve its reference once per (well value, channel, levels)
+    return _cached("reference", (_well_key(well), channel, levels),
+                   lambda: _auto_reference(well, channel, levels, c, radial))
 
 
 def _auto_reference(well: Well, channel: Channel, levels: int, c: float, radial: bool
@@ -372,11 +414,364 @@ def _positive(name: str, value: Any) -> float:
     return float(value)
 
 
-def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
+# =========================================================================== value-keyed caches
+_CACHES: dict[str, OrderedDict] = {name: OrderedDict() for name in _CACHE_SIZES}
+
+
+def _well_key(well: Well) -> Hashable | None:
+    """A hashable *value* of the well (frozen terms, unit system, mass), or ``None``.
+
+    ``None`` (a term that cannot be hashed) turns caching off for that well: a cache must
+    never guess.
+    """
+    key = (well.terms, well.units, well.mass)
+    try:
+        hash(key)
+    except TypeError:
+        return None
+    return key
+
+
+def _cached(kind: str, key: tuple, make: Callable[[], Any]) -> Any:
+    """LRU lookup in cache ``kind``; a key holding ``None`` (unhashable well) is not cached."""
+    if key[0] is None:
+        return make()
+    cache = _CACHES[kind]
+    try:
+        value = cache[key]
+    except KeyError:
+        value = make()
+        cache[key] = value
+        while len(cache) > _CACHE_SIZES[kind]:
+            cache.popitem(last=False)
+        return value
+    cache.move_to_end(key)
+    return value
+
+
+def clear_caches() -> None:
+    """Empty the reference, phase-space and channel-matrix caches of this module."""
+    for cache in _CACHES.values():
+        cache.clear()
+
+
+def _channel_matrices(well: Well, channel: Channel, size: int, length: float, center: float
+                      ) -> tuple[ChannelMatrices, np.ndarray]:
+    """Channel matrices and their (read-only) sum, from the LRU when the same value was built."""
+    def make():
+        mats = channel_hamiltonian(well, channel, size, length, center)
+        total = mats.total
+        total.setflags(write=False)
+        return mats, total
+
+    return _cached("matrices", (_well_key(well), channel, int(size), float(length),
+                                float(center)), make)
+
+
+# =========================================================================== semiclassics
+class _PhaseSpace:
+    """The classical phase space of one channel: V (with a Langer-corrected centrifugal term in
+    radial channels, and ⟨l·s⟩ V_ls) on a grid, the action I(E) = ∫ k dx over the allowed
+    region (k = sqrt((E − V)/(ħ²/2m))), and the orbits it bounds.
+    """
+
+    _POINTS = 6001
+
+    def __init__(self, well: Well, channel: Channel, center: float) -> None:
+        self.c = well.units.hbar2_over_2m(well.mass)
+        self.radial = channel.l is not None and channel.dimension > 1
+        self.parity = channel.l if channel.dimension == 1 else None
+        self.center = 0.0 if channel.l is not None else center
+        self.threshold = well.threshold(channel.dimension, symmetric=channel.l is not None)
+        self.nu2 = (channel.l + 0.5 * channel.dimension - 1.0) ** 2 if self.radial else 0.0
+        self.ls = channel.ls
+        self.well = well
+        self.span = 30.0 * well.scale
+        self._grids: dict[float, tuple[np.ndarray, np.ndarray, float]] = {}
+        self.x, self.v, self.dx = self._grid(self.span)
+        self.v_min = float(np.min(self.v))
+
+    def _grid(self, span: float) -> tuple[np.ndarray, np.ndarray, float]:
+        """Nodes, V and spacing over ``span`` (cached: every answer depends only on its
+        arguments, never on the order of earlier calls)."""
+        if span in self._grids:
+            return self._grids[span]
+        if self.radial:
+            x = np.linspace(0.0, span, self._POINTS + 1)[1:]
+        elif self.parity is not None:
+            x = np.linspace(0.0, span, self._POINTS)
+        else:
+            x = self.center + np.linspace(-span, span, 2 * self._POINTS - 1)
+        with np.errstate(all="ignore"):
+            v = np.asarray(self.well.value(x), dtype=float)
+            if self.ls:
+                v = v + self.ls * np.asarray(self.well.spin_orbit_value(x), dtype=float)
+            if self.radial:
+                v = v + self.c * self.nu2 / x**2
+        self._grids[span] = (x, np.where(np.isnan(v), np.inf, v), float(x[1] - x[0]))
+        return self._grids[span]
+
+    def _orbit(self, e: float) -> tuple[np.ndarray, np.ndarray, float]:
+        """(x, k, dx) on the narrowest grid (the base span × 2^i) that holds the orbit at e."""
+        span = self.span
+        for _ in range(7):  # an orbit that reaches the grid's edge: a grid twice as wide
+            x, v, dx = self._grid(span)
+            with np.errstate(invalid="ignore"):
+                k = np.sqrt(np.maximum(e - v, 0.0) / self.c)
+            if k[-1] == 0.0 and (self.radial or self.parity is not None or k[0] == 0.0):
+                break
+            span *= 2.0
+        return x, k, dx
+
+    def k(self, e: float) -> np.ndarray:
+        """Local wave number on the base grid."""
+        with np.errstate(invalid="ignore"):
+            return np.sqrt(np.maximum(e - self.v, 0.0) / self.c)
+
+    def quanta(self, e: float) -> float:
+        """I(E)/π: the semiclassical count of levels below E is floor(I/π + ½) (full line)."""
+        _, k, dx = self._orbit(e)
+        total = float(np.sum(k) - 0.5 * (k[0] + k[-1])) * dx / math.pi
+        return 2.0 * total if self.parity is not None else total  # parity: half the line
+
+    def line_count(self) -> float:
+        """Semiclassical number of levels below the threshold (1D parity: of the full line)."""
+        if self.threshold == math.inf:
+            return math.inf
+        if self.threshold == -math.inf or self.v_min >= self.threshold:
+            return 0.0
+        return float(math.floor(self.quanta(self.threshold) + 0.5))
+
+    def count(self) -> float:
+        """Semiclassical number of levels below the threshold, in this channel."""
+        full = self.line_count()
+        if self.parity is None or not math.isfinite(full):
+            return full
+        return float((full + 1) // 2 if self.parity == 0 else full // 2)
+
+    def level(self, v: int) -> float:
+        """Semiclassical energy of level v (the full-line index in 1D parity channels)."""
+        target = v + 0.5
+        lo = self.v_min
+        hi = self.threshold if math.isfinite(self.threshold) else None
+        if hi is None:
+            hi = lo + max(abs(lo), 1.0)
+            while self.quanta(hi) < target:
+                hi = lo + 2.0 * (hi - lo)
+        for _ in range(60):
+            mid = 0.5 * (lo + hi)
+            lo, hi = (mid, hi) if self.quanta(mid) < target else (lo, mid)
+        return 0.5 * (lo + hi)
+
+    def matched_length(self, e: float) -> tuple[float, float]:
+        """(b, q): the oscillator length whose phase-space disk of radius² q — the smallest
+        possible — holds the classical orbit of energy ``e``:
+        q = min_b max_orbit [(x − x₀)²/b² + k² b²]."""
+        x, k, _ = self._orbit(e)
+        on = k > 0
+        if not on.any():
+            return math.nan, math.nan
+        r2 = (x[on] - self.center) ** 2
+        k2 = k[on] ** 2
+        guess = math.sqrt(math.sqrt(float(np.max(r2)) / float(np.max(k2))))
+        logs = math.log(guess) + np.linspace(-3.0, 3.0, 121)
+        for _ in range(3):  # the max of functions convex in log b is convex: zoom in
+            b2 = np.exp(2.0 * logs)
+            f = np.max(r2[None, :] / b2[:, None] + k2[None, :] * b2[:, None], axis=1)
+            i = int(np.argmin(f))
+            best = (float(logs[i]), float(f[i]))
+            logs = np.linspace(logs[max(i - 1, 0)], logs[min(i + 1, logs.size - 1)], 41)
+        return math.exp(best[0]), best[1]
+
+
+    def wall_distance(self, v_cap: float) -> float:
+        """Distance from the centre (outwards from the minimum in radial channels) at which
+        V first exceeds ``v_cap``; ``inf`` if it does not within the grid."""
+        d = np.abs(self.x - self.center)
+        over = self.v > v_cap
+        if self.radial or self.parity is not None:  # half line: the wall outside the minimum
+            over &= self.x > self.x[int(np.argmin(self.v))]  # not a centrifugal/1/x² core
+        return float(np.min(d[over])) if over.any() else math.inf
+
+
+def _phase_space(well: Well, channel: Channel, center: float) -> _PhaseSpace:
+    return _cached("phase_space", (_well_key(well), channel, float(center)),
+                   lambda: _PhaseSpace(well, channel, center))
+
+
+def bound_count_estimate(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
+                         units: str | UnitSystem | None = None, mass: float | None = None
+                         ) -> float:
+    """How many bound levels a channel holds, independent of any basis (semiclassical).
+
+    Parameters
+    ----------
+    well, dimension, l, j, mass
+        As for :func:`solve`.
+    units
+        Unit system; default: the well's own.
+
+    Returns
+    -------
+    float
+        The count (an integer value); ``inf`` for a confining well, 0 for one unbounded below.
+
+    Notes
+    -----
+    Phase-space (Bohr–Sommerfeld) count at the threshold: floor(I/π + ½), I = ∫ k dx over the
+    classically allowed region, k² = (V_thr − V)/(ħ²/2m). Radial channels in d dimensions
+    carry the Langer-corrected centrifugal term (ħ²/2m) ν²/r², ν = l + d/2 − 1 (R. E. Langer,
+    Phys. Rev. 51, 669 (1937)); 1D parity channels take every other level of the full line.
+    Exact for Morse, floor(λ − ½) + 1 with λ = sqrt(2mD)/(αħ) (P. M. Morse, Phys. Rev. 34, 57
+    (1929)); for Pöschl–Teller the count can be one short where s = ½(−1 + sqrt(1 + 8mV₀a²/ħ²))
+    lies just above an integer (the semiclassical action is sqrt(2mV₀)a/ħ, not s + ½).
+    """
+    well, channel = resolve_channel(well, dimension, l, j,
+                                    well.units if units is None else units,
+                                    well.mass if mass is None else mass)
+    center = well.minimum()[0] if channel.l is None else 0.0
+    return _phase_space(well, channel, center).count()
+
+
+# =========================================================================== error estimate
+def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
+                          bandwidth: int | None = None, rounding: float = 0.0,
+                          parity_pairs: bool = False) -> np.ndarray:
+    """A-posteriori error bar of the lowest Ritz values of ``h`` from its nested sub-blocks.
+
+    Parameters
+    ----------
+    h
+        The N × N matrix (its leading blocks are the smaller bases of the same length).
+    energies
+        Its lowest eigenvalues E_k(N), ascending.
+    bandwidth
+        Half-bandwidth for the banded solver, or ``None``.
+    rounding
+        Accuracy floor eps·‖H‖₁, added to every estimate.
+    parity_pairs
+        Drop an even number of states (1D basis without symmetry: even and odd states
+        alternate).
+
+    Returns
+    -------
+    ndarray
+        err_k ≥ 0; ``inf`` where the sub-blocks are too small to hold level k.
+
+    Notes
+    -----
+    With q = N/4, the leading blocks N − q and N − 2q give the differences
+    d₁ = E(N − q) − E(N) and d₀ = E(N − 2q) − E(N − q) (both ≥ 0 by Cauchy interlacing, the
+    Hylleraas–Undheim–MacDonald theorem). For convergence by a ratio r = d₁/d₀ per window the
+    remainder is d₁ r/(1 − r) (Aitken's Δ² extrapolation; A. C. Aitken, Proc. R. Soc. Edinb.
+    46, 289 (1926)); the estimate is that remainder times ``ESTIMATE_SAFETY``, with r capped
+    at ``ESTIMATE_RATIO_CAP`` and the remainder never below ``ESTIMATE_FLOOR`` · d₁. The
+    sub-blocks need eigenvalues only: the cost is ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue
+    solve at N. The constants were chosen on measured ratios to the true error
+    (benchmarks/RESULTS.md): it bounds the error on smooth regular convergence and
+    overestimates by 1–100×; where a level is still entering the basis (the first drop
+    is much steeper than the next) it can underestimate, and the phase-space count
+    (:func:`bound_count_estimate`) is the second check there.
+    """
+    n = h.shape[0]
+    k = len(energies)
+    q = max(1, round(ESTIMATE_WINDOW * n))
+    if parity_pairs:
+        q = 2 * max(1, round(ESTIMATE_WINDOW * n / 2))
+    sizes = (n - q, n - 2 * q)
+    subs = []
+    for m in sizes:
+        out = np.full(k, np.inf)
+        if m >= 1:
+            top = min(k, m)
+            block = np.ascontiguousarray(h[:m, :m])
+            if bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
+                e = eig_banded(upper_band(block, bandwidth), lower=False, eigvals_only=True,
+                               select="i", select_range=(0, top - 1))
+            else:
+                e = eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
+                         overwrite_a=True, check_finite=False)
+            out[:top] = e[:top]
+        subs.append(out)
+    e1, e2 = subs
+    with np.errstate(invalid="ignore", over="ignore"):
+        # differences within the eigensolvers' rounding (a few eps·‖H‖) carry no information
+        d1 = np.maximum(e1 - energies - 2.0 * rounding, 0.0)
+        d0 = np.maximum(e2 - e1 - 2.0 * rounding, 0.0)
+        r = np.where(d0 > 0.0, d1 / np.where(d0 > 0.0, d0, 1.0), ESTIMATE_RATIO_CAP)
+        r = np.clip(np.where(np.isfinite(r), r, ESTIMATE_RATIO_CAP), 0.0, ESTIMATE_RATIO_CAP)
+        remainder = d1 * np.maximum(r / (1.0 - r), ESTIMATE_FLOOR)
+        err = ESTIMATE_SAFETY * remainder + rounding
+    err[~np.isfinite(e1)] = np.inf
+    # two-window extrapolation needs the smaller block: with d₁ only, no sharpening
+    only1 = np.isfinite(e1) & ~np.isfinite(e2)
+    err[only1] = ESTIMATE_SAFETY * ESTIMATE_RATIO_CAP / (1 - ESTIMATE_RATIO_CAP) * d1[only1] \
+        + rounding
+    return err
+
+
+# =========================================================================== default length
+def default_length(well: Well, channel: Channel, levels: int, size: int, ref: Reference
+                   ) -> tuple[float, str]:
+    """The basis length b of ``length="auto"`` and the reason, as :func:`solve` uses it
+    (cached by value); :func:`~anharmony.scan.scan` takes the same b."""
+    return _cached("reference", (_well_key(well), channel, levels, size, "length", ref),
+                   lambda: _auto_length(well, channel, levels, size, ref))
+
+
+def _auto_length(well: Well, channel: Channel, levels: int, size: int, ref: Reference
+                 ) -> tuple[float, str]:
+    """Basis length for ``length="auto"`` and the reason (see :func:`solve`, Notes)."""
+    if ref.method == "given":
+        return ref.length, "the reference oscillator's length (given)"
+    if ref.method == "off-centre":  # a disk about r = 0 cannot fit an orbit about r_m > 0
+        return ref.length, ("the reference oscillator's length, sized to reach beyond the "
+                            "off-centre minimum (see the reference's reason)")
+    ps = _phase_space(well, channel, ref.center)
+    parity = channel.l if channel.dimension == 1 else None
+    top = levels - 1 if parity is None else 2 * (levels - 1) + parity  # full-line index
+    count = ps.line_count()
+    if top > count - 1:  # only bound levels have an orbit: match the highest one
+        top = int(count - 1) if parity is None or (count - 1 - parity) % 2 == 0 \
+            else int(count - 2)
+    if top < 0:
+        return ref.length, "the reference oscillator's length (no bound level to match)"
+    e_top = ps.level(top)
+    b, q = ps.matched_length(e_top)
+    if not (math.isfinite(b) and b > 0):
+        return ref.length, "the reference oscillator's length (no classical orbit to match)"
+    if ref.method == "harmonic" and abs(b / ref.length - 1.0) <= LENGTH_KEEP:
+        return ref.length, (f"the reference oscillator's length: the phase-space match of the "
+                            f"highest requested bound level, {b:.4g}, is within "
+                            f"{LENGTH_KEEP:.0%} of it")
+    why = (f"matched to the classical orbit of level {top} (semiclassical E = {e_top:.6g}): "
+           f"the smallest phase-space disk (x/b)² + (kb)² ≤ {q:.3g} that holds it")
+    # the basis reaches out to about sqrt(q_N)·b; beyond a steep wall its matrix norm (and the
+    # eigenvalues' rounding, eps·‖H‖) explodes: keep that reach inside the wall
+    q_n = 2 * size + 1 if channel.l is None else 4 * size + 2 * channel.l + channel.dimension
+    v_cap = ps.v_min + WALL_FRACTION * ROUNDING_WARN / np.finfo(float).eps * (e_top - ps.v_min)
+    b_wall = ps.wall_distance(v_cap) / math.sqrt(q_n)
+    if b > b_wall:
+        b = b_wall
+        why += (f", shortened to {b:.4g} so that the basis' reach √(q_N)·b stays inside the "
+                "steep wall")
+    return b, why
+
+
+def _check_tolerance(tolerance: Any) -> float:
+    if isinstance(tolerance, bool) or not isinstance(tolerance, (int, float, np.floating)) \
+            or not math.isfinite(tolerance) or tolerance <= 0:
+        raise InputError(f"tolerance: must be a positive number (relative to the level "
+                         f"spacing); got {tolerance!r}")
+    return float(tolerance)
+
+
+def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
           size: int = 60, length: float | str = "auto", units: str | UnitSystem = "oscillator",
           mass: float | None = None, levels: int = 5,
-          reference: str | Mapping[str, float] = "auto") -> Spectrum:
-    """Lowest levels of one channel of a well in an oscillator basis.
+          reference: str | Mapping[str, float] = "auto",
+          tolerance: float = DEFAULT_TOLERANCE) -> Spectrum:
+    """Lowest levels of one channel of a well in an oscillator basis, each with an error bar.
 
     Parameters
     ----------
@@ -392,7 +787,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     size
         Number of basis states N.
     length
-        Oscillator length b of the basis, or ``"auto"`` for the reference oscillator's.
+        Oscillator length b of the basis (used exactly as given), or ``"auto"`` (see Notes).
     units
         Unit system of DESIGN §5.
     mass
@@ -401,29 +796,54 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
         Number of levels, counted from the lowest of the channel.
     reference
         Reference oscillator: ``"auto"`` or a mapping (see :func:`reference_oscillator`).
+    tolerance
+        Error bar allowed for a bound level, relative to the mean spacing of the requested
+        levels (ħω of the basis when one level is asked for). Bound levels whose
+        :attr:`Spectrum.error_estimate` exceeds it are not ``converged`` and raise one
+        :class:`~anharmony.errors.ConvergenceWarning` naming them.
 
     Returns
     -------
     Spectrum
+
+    Notes
+    -----
+    ``length="auto"`` chooses b for the requested levels, not only the reference oscillator:
+    the semiclassical energy E of the highest requested bound level is found from its
+    phase-space action, and b is the length whose oscillator phase-space disk
+    (x/b)² + (k b)² ≤ q holds the classical orbit at E with the smallest q — the basis' extent
+    √q·b and its resolution √q/b then match the orbit's extent and its largest wave number
+    together, for every size N. A harmonic reference keeps its own b when the match is within
+    ``LENGTH_KEEP`` (10 %) of it (a near-harmonic well), and a given reference keeps its b.
+    Measured against the best b of a scan: within the near-optimal band for quartic, Morse,
+    Gaussian and Woods–Saxon wells at N = 20…160 (benchmarks/RESULTS.md).
+
+    The error bar is :func:`nested_error_estimate` of the same matrix (no rebuild). The
+    channel matrices of a (well value, channel, size, length, centre) are kept in a small LRU
+    cache, so a repeated solve costs about one eigensolve.
     """
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
     if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
-        raise ValueError(f"size: must be an integer >= 1; got {size!r}")
+        raise InputError(f"size: must be an integer >= 1; got {size!r}")
     levels = _check_levels(levels, size)
+    tolerance = _check_tolerance(tolerance)
     ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
-    b = ref.length if length == "auto" else _positive("length", length)
+    if isinstance(length, str) and length == "auto":
+        b, why = default_length(well, channel, levels, size, ref)
+    else:
+        b, why = _positive("length", length), "given"
     center = ref.center if channel.l is None else 0.0
-    mats: ChannelMatrices = channel_hamiltonian(well, channel, size, b, center)
-    energies, vectors = diagonalize(mats.total, levels, mats.bandwidth)
-    rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(mats.total), axis=0)))
+    mats, h = _channel_matrices(well, channel, size, b, center)
+    energies, vectors = diagonalize(h, levels, mats.bandwidth)
+    rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
     scale = max(float(np.max(np.abs(energies - ref.v_min))), mats.hbar_omega)
+    unit = "" if system.energy == "1" else " " + system.energy
     if rounding > ROUNDING_WARN * scale:
         warnings.warn(
             f"{channel.label}: the Hamiltonian matrix has norm {rounding / np.finfo(float).eps:.1e}"
             f" (the basis reaches far into a steep wall), so its eigenvalues are uncertain by "
-            f"about {rounding:.1e}{'' if system.energy == '1' else ' ' + system.energy}; "
-            "use a smaller size or length",
+            f"about {rounding:.1e}{unit}; use a smaller size or length",
             ConvergenceWarning, stacklevel=2)
     radial = channel.l is not None
     threshold = well.threshold(dimension, symmetric=radial)
@@ -431,6 +851,46 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
     ref_levels = ref.v_min + ref.frequency * osc
-    return Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
+    errors = nested_error_estimate(h, energies, mats.bandwidth, rounding,
+                                   parity_pairs=channel.l is None)
+    nb = int(np.count_nonzero(bound))
+    spacing = (float(energies[nb - 1] - energies[0]) / (nb - 1) if nb > 1 else 0.0) \
+        or mats.hbar_omega
+    tol = tolerance * spacing
+    converged = bound & (errors <= tol)
+    labels = tuple(channel.level_label(n) for n in range(levels))
+    spec = Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
-                    mass=mass, well=well, reference_energies=ref_levels, rounding=rounding)
+                    mass=mass, well=well, reference_energies=ref_levels, rounding=rounding,
+                    error_estimate=errors, converged=converged, tolerance=tol, labels=labels,
+                    length_reason=why)
+    _warn_unconverged(spec, levels, size, length)
+    return spec
+
+
+def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> None:
+    """One ConvergenceWarning for bound levels above tolerance or missing bound levels."""
+    bad = np.flatnonzero(spec.bound & ~spec.converged)
+    problems = []
+    unit = "" if spec.units.energy == "1" else " " + spec.units.energy
+    if bad.size:
+        worst = float(np.max(spec.error_estimate[bad]))
+        names = ", ".join(spec.labels[k] for k in bad[:8]) + (", …" if bad.size > 8 else "")
+        problems.append(f"level(s) {names} not converged (error estimate up to {worst:.2e}"
+                        f"{unit}, tolerance {spec.tolerance:.2e}{unit})")
+    found = int(np.count_nonzero(spec.bound))
+    if found < levels and math.isfinite(spec.threshold):
+        expected = spec.bound_count_estimate
+        if math.isfinite(expected) and found < min(levels, expected):
+            problems.append(f"the channel holds about {expected:.0f} bound levels "
+                            f"(phase-space count) but the basis finds {found} below the "
+                            "threshold")
+    if not problems:
+        return
+    hint = ("increase size" if not isinstance(length, str)
+            else "increase size (length is chosen automatically)")
+    if not isinstance(length, str):
+        hint += ", or try length='auto'"
+    warnings.warn(f"{spec.channel.label}: " + "; ".join(problems) + f" with size={size}; "
+                  f"{hint}", ConvergenceWarning, stacklevel=3)
+

@@ -12,12 +12,9 @@ xarray and netCDF4 are imported inside the functions that need them, so that
 
 from __future__ import annotations
 
-import contextlib
 import datetime as _dt
 import json
 import math
-import os
-import tempfile
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -25,6 +22,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ._atomic import atomic_write
 from .errors import ResultFileError
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -39,6 +37,7 @@ __all__ = [
     "ResultFileError",
     "build_dataset",
     "read_dataset",
+    "result_attrs",
     "sanitize_attrs",
     "scan_units",
     "write_dataset",
@@ -70,6 +69,8 @@ class CaseResult:
     j : ndarray (C,) or None
         Only with spin.
     label : list of str (C,)
+    level_labels : list of list of str (C, L) or None
+        Spectroscopic label of every level (``1d5/2``, ``v=3``); stored as ``level_label``.
     energy, reference_energy, error_estimate : ndarray (S, C, L)
     bound, converged : ndarray of bool (S, C, L)
     frequency, length : ndarray (S,)
@@ -126,6 +127,7 @@ class CaseResult:
         default_factory=dict)
     notes: Sequence[str] = ()
     warnings: Sequence[str] = ()
+    level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
 
 
 # --------------------------------------------------------------------------- attributes
@@ -317,6 +319,12 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "threshold": (("scan", "channel"), result.threshold,
                       _float_attrs(e_units, "threshold of the continuum, lim V at infinity")),
     }
+    if result.level_labels is not None:
+        data["level_label"] = (("channel", "level"),
+                               np.asarray([[str(t) for t in row] for row in result.level_labels],
+                                          dtype=str),
+                               {"units": "1", "long_name": "spectroscopic label of the level "
+                                "(1D: v, the oscillator quantum number)"})
     for name, (dims, values, var_attrs) in result.convergence.items():
         if name in data or name in coords:
             raise ValueError(f"{name}: a convergence variable may not replace a core variable")
@@ -410,12 +418,6 @@ def _encoding(ds: xr.Dataset) -> dict[str, dict[str, Any]]:
     return enc
 
 
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
 def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) -> Path:
     """Write ``ds`` to ``path`` atomically: a temporary file in the same folder, then a rename.
 
@@ -430,19 +432,9 @@ def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) 
     if target.exists() and not overwrite:
         raise FileExistsError(f"{target}: exists; pass overwrite=True (--overwrite) to "
                               "replace it")
-    fd, tmp = tempfile.mkstemp(dir=target.parent, prefix=f".{target.name}.",
-                               suffix=TEMP_SUFFIX)
-    os.close(fd)
-    try:
-        ds.drop_encoding().to_netcdf(tmp, engine="netcdf4", format="NETCDF4",
-                                     encoding=_encoding(ds))
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
-    return target
+    encoding = _encoding(ds)
+    return atomic_write(target, lambda tmp: ds.drop_encoding().to_netcdf(
+        tmp, engine="netcdf4", format="NETCDF4", encoding=encoding), TEMP_SUFFIX)
 
 
 def read_dataset(path: str | Path) -> xr.Dataset:
@@ -473,6 +465,17 @@ def read_dataset(path: str | Path) -> xr.Dataset:
         raise ResultFileError(f"{p}: written with result schema {int(version)}; this version "
                               f"of anharmony reads up to {RESULT_SCHEMA} (upgrade anharmony)")
     return ds
+
+
+def result_attrs(path: str | Path) -> dict[str, Any] | None:
+    """The global attributes of an existing result (no data read), or None if unreadable."""
+    try:
+        import netCDF4
+
+        with netCDF4.Dataset(path) as f:
+            return {k: f.getncattr(k) for k in f.ncattrs()}
+    except (OSError, RuntimeError, ValueError, ImportError):
+        return None
 
 
 def empty_like_series(s: int, c: int, n: int, orders: int, methods: int

@@ -20,7 +20,14 @@ from .files import case_from_dict, load_case, load_cases
 from .loader import StrictLoader, parse_yaml
 from .messages import Issue
 from .schema import CaseModel, Convergence, ReferenceSpec
-from .tasks import Task, WorkEstimate, estimate_work, expand, resolve_reference
+from .tasks import (
+    Task,
+    WorkEstimate,
+    estimate_work,
+    expand,
+    resolve_length,
+    resolve_reference,
+)
 
 Problem = Issue  # the former name; runner.py and others import it
 
@@ -47,5 +54,6 @@ __all__ = [
     "load_case",
     "load_cases",
     "parse_yaml",
+    "resolve_length",
     "resolve_reference",
 ]

@@ -10,9 +10,11 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+from ..hamiltonian import Channel
 from .case import Case, ChannelSpec
 
-__all__ = ["Task", "WorkEstimate", "estimate_work", "expand", "resolve_reference"]
+__all__ = ["Task", "WorkEstimate", "estimate_work", "expand", "resolve_length",
+           "resolve_reference"]
 
 
 @dataclass(frozen=True)
@@ -51,7 +53,23 @@ def resolve_reference(case: Case, value: float | None) -> Any:
     first = min(case.channels(), key=lambda c: (-1 if c.l is None else c.l, c.j or 0.0))
     return reference_oscillator(case.well_at(value), case.dimension, l=first.l,
                                 mass=case.mass_at(value), levels=case.model.levels.count,
-                                spec=case.reference_spec(value), j=first.j)
+                                reference=case.reference_spec(value), j=first.j)
+
+
+def resolve_length(case: Case, value: float | None, reference: Any) -> float:
+    """The basis length b at one scan value, shared by every channel (DESIGN §6: one ħω and b
+    per scan point): the case's ``basis.length``, or the b that :func:`~anharmony.solve`
+    chooses for the channel of lowest l (and j) with the shared ``reference``."""
+    from ..spectrum import default_length
+
+    given = case.basis_length_at(value)
+    if given != "auto":
+        return float(given)
+    well = case.well_at(None if case.scan_target.kind == "coupling" else value)
+    first = min(case.channels(), key=lambda c: (-1 if c.l is None else c.l, c.j or 0.0))
+    channel = Channel(case.dimension, first.l, first.j)
+    return default_length(well, channel, case.model.levels.count, case.model.basis.size,
+                          reference)[0]
 
 
 def expand(case: Case, *, resolve: bool = True) -> list[Task]:

@@ -9,13 +9,14 @@ arguments the way :func:`anharmony.solve` does and returns a frozen :class:`Prob
 
 from __future__ import annotations
 
-import math
-from collections.abc import Mapping
+import re
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, TypeVar
 
 import numpy as np
 
+from .._checks import integer
 from ..basis import HermiteBasis, RadialBasis
 from ..hamiltonian import (
     Channel,
@@ -29,7 +30,29 @@ from ..terms import Term
 from ..units import UnitSystem
 from ..well import Well
 
-__all__ = ["Problem", "make_problem"]
+F = TypeVar("F", bound=Callable[..., Any])
+
+__all__ = ["Problem", "make_problem", "shared_docs"]
+
+# Parameter entries every convergence front end shares with :func:`anharmony.solve` (numpydoc),
+# put into a docstring where a line holds only the marker ``[name]``
+SHARED_DOCS = {
+    "channel parameters": """\
+well : Well
+    The well (:meth:`anharmony.Well.from_terms`).
+dimension : {1, 2, 3}
+    Dimension of the space.
+l : int or None
+    Angular quantum number; in 1D ``None`` is the line without symmetry, 0/1 the even/odd
+    parity of a symmetric well.
+j : float, str or None
+    Total angular momentum (3D with spin–orbit terms): 2.5 or ``"5/2"``.""",
+    "units and mass": """\
+units : str or UnitSystem
+    Unit system of DESIGN §5.
+mass : float or None
+    Particle mass in the system's mass unit (default per system).""",
+}
 
 
 @dataclass(frozen=True)
@@ -109,14 +132,27 @@ class Problem:
         return tuple(sorted({x for t in self.rest for x in t.breaks(self.radial)}))
 
 
-def make_problem(well: Well, dimension: int, l: int | None, j: Any,
+def shared_docs(func: F) -> F:
+    """Put the :data:`SHARED_DOCS` entries into ``func``'s docstring at their markers."""
+    def put(match: re.Match[str]) -> str:
+        indent, key = match.group(1), match.group(2)
+        return "\n".join(indent + line for line in SHARED_DOCS[key].splitlines())
+
+    if func.__doc__:
+        func.__doc__ = re.sub(r"^( *)\[(.+?)\]$", put, func.__doc__, flags=re.MULTILINE)
+    return func
+
+
+def make_problem(well: Well, dimension: int, l: int | None, j: float | str | None,
                  units: str | UnitSystem, mass: float | None, levels: int,
                  reference: str | Mapping[str, float]) -> Problem:
-    """Validate the channel arguments as :func:`anharmony.solve` does and resolve them."""
-    if not isinstance(well, Well):
-        raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
-    if isinstance(dimension, bool) or dimension not in (1, 2, 3):
-        raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
+    """Validate the channel arguments as :func:`anharmony.solve` does and resolve them.
+
+    The well, dimension, l, j, units and mass are checked by the same code as
+    :func:`anharmony.solve` (:func:`anharmony.spectrum.resolve_channel`), so a bad value gets
+    the same error; ``levels`` by :func:`anharmony._checks.integer`.
+    """
+    levels = integer("levels", levels, 1)
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
     ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
@@ -126,18 +162,3 @@ def make_problem(well: Well, dimension: int, l: int | None, j: Any,
         well=well, channel=channel, reference=ref, center=0.0 if radial else ref.center,
         threshold=float(well.threshold(dimension, symmetric=radial)),
         hbar2_2m=system.hbar2_over_2m(mass), units=system, mass=mass, lam=lam, rest=rest)
-
-
-def check_count(name: str, value: Any, minimum: int = 1) -> int:
-    """An integer ≥ ``minimum``, or a ValueError naming the parameter."""
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < minimum:
-        raise ValueError(f"{name}: must be an integer >= {minimum}; got {value!r}")
-    return int(value)
-
-
-def check_positive(name: str, value: Any) -> float:
-    """A finite positive number, or a ValueError naming the parameter."""
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)) \
-            or not math.isfinite(value) or value <= 0:
-        raise ValueError(f"{name}: must be a positive number; got {value!r}")
-    return float(value)

@@ -33,16 +33,16 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
-from .._checks import integer, positive
+from .._checks import integer, length_or_auto
 from ..errors import InputError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 
 __all__ = ["SIGMA_RTOL", "ResidualBounds", "residual_bounds"]
 
@@ -174,33 +174,45 @@ def _variance(problem: Problem, size: int, length: float, e: np.ndarray, v: np.n
     return s2, False
 
 
-def residual_bounds(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
-                    size: int = 40, length: float | str = "auto", levels: int = 5,
+@shared_docs
+def residual_bounds(well: Well, dimension: int = 3, l: int | None = 0,
+                    j: float | str | None = None, *, size: int = 60,
+                    length: float | Literal["auto"] = "auto",
                     units: str | UnitSystem = "oscillator", mass: float | None = None,
-                    reference: str | Mapping[str, float] = "auto") -> ResidualBounds:
+                    levels: int = 5, reference: str | Mapping[str, float] = "auto"
+                    ) -> ResidualBounds:
     """Variance, Weinstein interval and Kato–Temple bound of the lowest levels of one basis.
 
     Parameters
     ----------
-    well, dimension, l, j, units, mass, reference
-        As for :func:`anharmony.solve`.
-    size, length
-        The basis (``length="auto"``: the reference oscillator's).
-    levels
-        Number of levels.
+    [channel parameters]
+    size : int
+        Number of basis states N.
+    length : float or "auto"
+        Oscillator length b of the basis, or ``"auto"`` for the reference oscillator's.
+    [units and mass]
+    levels : int
+        Number of levels, counted from the lowest of the channel (at most ``size``).
+    reference : "auto" or mapping
+        Reference oscillator, as for :func:`anharmony.solve`.
 
     Returns
     -------
     ResidualBounds
+
+    Raises
+    ------
+    InputError
+        A bad argument; the message names it.
     """
     size = integer("size", size, 1)
     levels = integer("levels", levels, 1)
     if levels > size:
         raise InputError(f"levels: {levels} levels need a basis of at least that size; "
                          f"got size={size}")
+    b = length_or_auto("length", length)
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
-    b = problem.reference.length if length == "auto" else positive("length", length)
-    return compute_bounds(problem, size, b, levels)
+    return compute_bounds(problem, size, problem.reference.length if b is None else b, levels)
 
 
 def combine_bounds(parts: dict[int, ResidualBounds], levels: int) -> ResidualBounds:

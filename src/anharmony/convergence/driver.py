@@ -35,7 +35,7 @@ import math
 import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
@@ -45,7 +45,7 @@ from ..hamiltonian import Channel
 from ..spectrum import Reference
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 from .bounds import (
     KT_ASSUMPTION,
     UPPER_BOUND_NOTE,
@@ -158,7 +158,7 @@ class ConvergenceSettings:
             fix(self, "lengths", None)
         if self.lengths is not None:
             fix(self, "lengths", positives("lengths", self.lengths, noun="lengths",
-                                           what="oscillator lengths"))
+                                           what="oscillator lengths (or 'auto')"))
         if self.frequencies is not None:
             if self.lengths is not None:
                 raise InputError("frequencies: give lengths or frequencies, not both")
@@ -656,56 +656,68 @@ def _ladder(sizes: tuple[int, ...] | None, max_size: int | None, tolerance: floa
     return sizes + more, max_size
 
 
-def converge(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
-             *, levels: int = 5, units: str | UnitSystem = "oscillator",
-             mass: float | None = None, reference: str | Mapping[str, float] = "auto",
-             sizes: Sequence[int] | None = None, lengths: Any = "auto",
-             frequencies: Sequence[float] | None = None, tolerance: float | None = None,
-             grow: bool | None = None, max_size: int | None = None, cross_check: bool = False,
-             bounds: bool = True, ir_length: str = "eigenvalue", warn: bool = True
-             ) -> ConvergenceReport:
+@shared_docs
+def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str | None = None,
+             *, sizes: Sequence[int] | None = None,
+             lengths: Sequence[float] | Literal["auto"] | None = "auto",
+             frequencies: Sequence[float] | None = None,
+             units: str | UnitSystem = "oscillator", mass: float | None = None,
+             levels: int = 5, reference: str | Mapping[str, float] = "auto",
+             tolerance: float | None = None, grow: bool | None = None,
+             max_size: int | None = None, cross_check: bool = False, bounds: bool = True,
+             ir_length: Literal["eigenvalue", "closed_form"] = "eigenvalue",
+             warn: bool = True) -> ConvergenceReport:
     """Convergence study of the lowest levels of one channel.
 
     Parameters
     ----------
-    well, dimension, l, j, units, mass, reference
-        As for :func:`anharmony.solve`.
-    levels
-        Number of levels, from the lowest of the channel.
-    sizes
+    [channel parameters]
+    sizes : sequence of int, optional
         Basis sizes. Default: 10, 14, 20, 28, … (ratio √2) up to 80, or up to ``max_size``
         with a tolerance.
-    lengths
-        ``"auto"`` (default): at each size step a grid b_opt · 2^{k/4}, k = −3 … 3, centred on
-        the previous optimum for the bound levels together (the reference length at first) and
-        extended until each level's optimum is inside; or a list of lengths (a fixed grid).
-    frequencies
+    lengths : sequence of float, "auto" or None
+        ``"auto"`` (default; also ``None``): at each size step a grid b_opt · 2^{k/4},
+        k = −3 … 3, centred on the previous optimum for the bound levels together (the
+        reference length at first) and extended until each level's optimum is inside; or a
+        list of lengths (a fixed grid).
+    frequencies : sequence of float, optional
         ħω values instead of ``lengths``.
-    tolerance
-        With a tolerance the sizes are tried in order and the run stops at the first size
-        (from the second on) where every bound level's error estimate is below it;
-        ``converged`` compares with it. Only bound levels drive the growth: levels above the
-        threshold are discretised-continuum states, reported as unbound (never converged),
-        and a channel with no bound level at NO_BOUND_STEPS successive sizes stops growing.
-    grow
+    [units and mass]
+    levels : int
+        Number of levels, from the lowest of the channel.
+    reference : "auto" or mapping
+        Reference oscillator, as for :func:`anharmony.solve`.
+    tolerance : float, optional
+        Target of the error estimate, in the unit system's energy unit. With a tolerance the
+        sizes are tried in order and the run stops at the first size (from the second on)
+        where every bound level's error estimate is below it; ``converged`` compares with it.
+        Only bound levels drive the growth: levels above the threshold are
+        discretised-continuum states, reported as unbound (never converged), and a channel
+        with no bound level at NO_BOUND_STEPS successive sizes stops growing.
+    grow : bool, optional
         Whether a tolerance drives the size (default True when a tolerance is given); with
         ``grow=False`` every size is scanned and the tolerance only sets ``converged``.
         Without one every size is used and ``converged`` means error < DEFAULT_RTOL · ħω_ref.
-    max_size
+    max_size : int, optional
         Size limit of the run: sizes beyond the given ones continue the √2 ladder up to it.
-    cross_check
+    cross_check : bool
         Also run the cross-check solver of another family (:func:`cross_check`).
-    bounds
+    bounds : bool
         Compute the residual bounds (needed for the Kato–Temple estimate).
-    ir_length
-        ``"eigenvalue"`` or ``"closed_form"``: which infrared length the fits use.
-    warn
+    ir_length : {"eigenvalue", "closed_form"}
+        Which infrared length the fits use.
+    warn : bool
         Issue a :class:`~anharmony.ConvergenceWarning` per level that is not converged (the
         texts are also in :attr:`ConvergenceReport.messages`).
 
     Returns
     -------
     ConvergenceReport
+
+    Raises
+    ------
+    InputError
+        A bad argument; the message names it.
     """
     levels = integer("levels", levels, 1)
     flag("warn", warn)

@@ -28,23 +28,23 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 from scipy.linalg import eigh, toeplitz
-from scipy.special import gammaln, roots_legendre
+from scipy.special import gammaln
 
-from ..basis import OrthogonalFamily
+from .._checks import integer, numbers, positive
+from ..basis import OrthogonalFamily, panel_rule
+from ..errors import InputError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, check_count, check_positive, make_problem
+from ._problem import Problem, make_problem, shared_docs
 
 __all__ = ["DECAY", "GROWTH", "CrossCheck", "cross_check", "laguerre_kinetic"]
 
 DECAY = 22.0  # ∫κ dr beyond the turning point: |ψ|² falls by e^{−44} ≈ 1e-19 at the edge
 GROWTH = 1.4  # ratio of successive mesh sizes
-_PANEL_ORDER = 24  # Gauss–Legendre points per panel
 _QUAD_RTOL = 1e-13  # potential matrix stable to this fraction of its largest element
 _ESTIMATE_SIZE = 60  # oscillator basis used to estimate the levels when none are given
 
@@ -120,14 +120,9 @@ def laguerre_kinetic(size: int, alpha: float) -> np.ndarray:
 def _laguerre_rule(size: int, alpha: float, top: float, breaks: Sequence[float], panels: int
                    ) -> tuple[np.ndarray, np.ndarray]:
     """Nodes x and U[q, k] = sqrt(w_q) ℓ_k(x_q), panels uniform in s = sqrt(x)."""
-    edges = np.linspace(0.0, math.sqrt(top), panels + 1)
-    cuts = sorted(math.sqrt(b) for b in breaks if 0.0 < b < top)
-    edges = np.unique(np.concatenate([edges, cuts]))
-    t, w = roots_legendre(_PANEL_ORDER)
-    half = 0.5 * np.diff(edges)
-    mid = 0.5 * (edges[:-1] + edges[1:])
-    s = (mid[:, None] + half[:, None] * t[None, :]).ravel()
-    ws = (half[:, None] * w[None, :]).ravel() * 2.0 * s  # dx = 2 s ds
+    cuts = [math.sqrt(b) for b in breaks if 0.0 < b < top]
+    s, w = panel_rule(0.0, math.sqrt(top), cuts, math.sqrt(top) / panels)
+    ws = w * 2.0 * s  # dx = 2 s ds
     x = s * s
     fam = OrthogonalFamily("laguerre", alpha)
     vals, logs, _ = fam.values(x, size)
@@ -205,7 +200,7 @@ def _edge(problem: Problem, start: float, direction: float, e_top: float, scale:
             if hit.size:
                 return float(tail[hit[0]])
         reach *= 2.0
-    raise ValueError("cross_check: the level is not confined (the well does not rise above it "
+    raise InputError("well: the level is not confined (the well does not rise above it "
                      "on one side); the mesh solver needs a bound level")
 
 
@@ -290,39 +285,44 @@ def run_cross_check(problem: Problem, levels: int, energies: np.ndarray | None =
                       note=note)
 
 
-def cross_check(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
-                levels: int = 5, units: str | UnitSystem = "oscillator",
-                mass: float | None = None, energies: Sequence[float] | None = None,
-                rtol: float = 1e-10, max_points: int = 1200,
-                reference: str | Mapping[str, float] = "auto") -> CrossCheck:
+@shared_docs
+def cross_check(well: Well, dimension: int = 3, l: int | None = 0, j: float | str | None = None,
+                *, units: str | UnitSystem = "oscillator", mass: float | None = None,
+                levels: int = 5, reference: str | Mapping[str, float] = "auto",
+                energies: Sequence[float] | None = None, rtol: float = 1e-10,
+                max_points: int = 1200) -> CrossCheck:
     """Levels of one channel by a solver of another family (see the module notes).
 
     Parameters
     ----------
-    well, dimension, l, j, units, mass, reference
-        As for :func:`anharmony.solve`.
-    levels
+    [channel parameters]
+    [units and mass]
+    levels : int
         Number of levels, from the lowest of the channel.
-    energies
-        Estimates of the levels (e.g. the oscillator result), used only to size the mesh;
-        by default a 60-state oscillator basis supplies them.
-    rtol
+    reference : "auto" or mapping
+        Reference oscillator, as for :func:`anharmony.solve` (sets the estimate basis).
+    energies : sequence of float, optional
+        Estimates of the ``levels`` levels (e.g. the oscillator result), used only to size the
+        mesh; by default a 60-state oscillator basis supplies them.
+    rtol : float
         Stop refining when every bound level changes by less than rtol × the energy scale
         (the largest |E| of the estimates or the depth of the highest one).
-    max_points
-        Largest mesh.
+    max_points : int
+        Largest mesh, at least ``levels + 2``.
 
     Returns
     -------
     CrossCheck
+
+    Raises
+    ------
+    InputError
+        A bad argument (the message names it), or a level the well does not confine.
     """
-    levels = check_count("levels", levels)
-    rtol = check_positive("rtol", rtol)
-    max_points = check_count("max_points", max_points, minimum=levels + 2)
+    levels = integer("levels", levels, 1)
+    rtol = positive("rtol", rtol)
+    max_points = integer("max_points", max_points, levels + 2)
+    est = None if energies is None else np.array(
+        numbers("energies", energies, levels, what="finite numbers (one per level)"))
     problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
-    est = None
-    if energies is not None:
-        est = np.asarray(energies, dtype=float)
-        if est.shape != (levels,) or not np.all(np.isfinite(est)):
-            raise ValueError(f"energies: need {levels} finite estimates; got {energies!r}")
     return run_cross_check(problem, levels, est, rtol, max_points)

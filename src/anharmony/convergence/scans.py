@@ -21,7 +21,7 @@ import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 from scipy.linalg import eigh, eigh_tridiagonal
@@ -34,7 +34,7 @@ from ..errors import InputError, NumericalError
 from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem
+from ._problem import Problem, make_problem, shared_docs
 
 __all__ = [
     "BasisScan",
@@ -221,7 +221,7 @@ def bessel_zero(nu: float) -> float:
     v = jv(nu, x)
     s = np.flatnonzero(np.sign(v[:-1]) * np.sign(v[1:]) < 0)
     if not s.size:  # pragma: no cover - the bracket above always holds
-        raise RuntimeError(f"no zero of J_{nu} found below {top}")
+        raise NumericalError(f"no zero of J_{nu} found below {top}")
     i = int(s[0])
     return float(brentq(lambda t: float(jv(nu, t)), x[i], x[i + 1], xtol=1e-15, rtol=1e-15))
 
@@ -301,7 +301,7 @@ def resolve_lengths(problem: Problem, lengths: Any, frequencies: Any) -> tuple[f
     """Explicit lengths (from ``lengths`` or ``frequencies``), or None for ``"auto"``."""
     if frequencies is not None:
         if not (lengths is None or (isinstance(lengths, str) and lengths == "auto")):
-            raise InputError("lengths: give lengths or frequencies, not both")
+            raise InputError("frequencies: give lengths or frequencies, not both")
         hw = positives("frequencies", frequencies, what="hbar*omega values", noun="frequencies")
         return tuple(sorted(math.sqrt(2.0 * problem.hbar2_2m / w) for w in hw))
     if lengths is None or (isinstance(lengths, str) and lengths == "auto"):
@@ -355,31 +355,41 @@ def merge_scans(a: BasisScan, b: BasisScan) -> BasisScan:
 
 
 # --------------------------------------------------------------------------- front end
-def scan_basis(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None,
-               sizes: Sequence[int] = (10, 14, 20, 28, 40), lengths: Any = "auto",
-               levels: int = 5, units: str | UnitSystem = "oscillator", mass: float | None = None,
-               reference: str | Mapping[str, float] = "auto",
-               frequencies: Sequence[float] | None = None) -> BasisScan:
+@shared_docs
+def scan_basis(well: Well, dimension: int = 3, l: int | None = 0, j: float | str | None = None,
+               *, sizes: Sequence[int] = (10, 14, 20, 28, 40),
+               lengths: Sequence[float] | Literal["auto"] | None = "auto",
+               frequencies: Sequence[float] | None = None,
+               units: str | UnitSystem = "oscillator", mass: float | None = None,
+               levels: int = 5, reference: str | Mapping[str, float] = "auto") -> BasisScan:
     """Levels of one channel on a grid of basis sizes × oscillator lengths.
 
     Parameters
     ----------
-    well, dimension, l, j, units, mass, reference
-        As for :func:`anharmony.solve`.
-    sizes
-        Basis sizes N.
-    lengths
-        Oscillator lengths b, or ``"auto"``: a geometric grid b_ref · 2^{k/4}, k = −3 … 3,
-        around the reference oscillator's length, extended until each bound level's minimum
-        at the largest size lies inside it.
-    frequencies
+    [channel parameters]
+    sizes : sequence of int
+        Basis sizes N (distinct, each ≥ 1).
+    lengths : sequence of float, "auto" or None
+        Oscillator lengths b, or ``"auto"`` (also ``None``): a geometric grid
+        b_ref · 2^{k/4}, k = −3 … 3, around the reference oscillator's length, extended until
+        each bound level's minimum at the largest size lies inside it.
+    frequencies : sequence of float, optional
         ħω values instead of ``lengths``.
-    levels
+    [units and mass]
+    levels : int
         Levels per basis, counted from the lowest of the channel.
+    reference : "auto" or mapping
+        Reference oscillator, as for :func:`anharmony.solve` (its length centres the
+        automatic grid).
 
     Returns
     -------
     BasisScan
+
+    Raises
+    ------
+    InputError
+        A bad argument; the message names it.
     """
     levels = integer("levels", levels, 1)
     sizes_t = integers("sizes", sizes, 1, what="basis sizes", noun="sizes")

@@ -14,15 +14,14 @@ numbers back from ``ax.lines``.
 
 from __future__ import annotations
 
-import contextlib
 import math
 import os
-import tempfile
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from .._atomic import atomic_write
 from . import _style, convergence, flow, scheme, series, shift, well
 from ._common import FigureRequest, ResultView, level_label, pretty_units
 
@@ -246,17 +245,9 @@ def save_figure(fig: Any, path: str | os.PathLike, dpi: float | None = None,
     metadata = {"png": {"Software": software},
                 "pdf": {"Creator": software, "Producer": software, "CreationDate": None},
                 "svg": {"Creator": software, "Date": None}}[fmt]
-    fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=f".tmp.{fmt}")
-    os.close(fd)
-    try:
+
+    def write(tmp: str) -> None:
         with rc_context(_style.RC):
             fig.savefig(tmp, format=fmt, dpi=dpi or DEFAULT_DPI, metadata=metadata)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
-    return target
+
+    return atomic_write(target, write, f".tmp.{fmt}")

@@ -14,7 +14,6 @@ from typing import Any
 
 import numpy as np
 
-from ..hamiltonian import level_label
 from . import _style
 
 __all__ = [
@@ -79,6 +78,16 @@ class FigureRequest:
     basis_size: int | None = None
     size: tuple[float, float] | None = None
     title: str | None = None
+
+
+def level_label(dimension: int, l: int, j: float | None, n: int) -> str:
+    """Spectroscopic label of level n (:func:`anharmony.hamiltonian.level_label`).
+
+    Imported on first use: the figures of a result file need no Hamiltonian.
+    """
+    from ..hamiltonian import level_label as label
+
+    return label(dimension, l, j, n)
 
 
 def pretty_units(units: Any, system: str | None = None, quantity: str | None = None
@@ -242,6 +251,8 @@ class ResultView:
         return j if math.isfinite(j) else None
 
     def level_label(self, c: int, n: int) -> str:
+        if self.has("level_label"):  # stored by the run
+            return str(self.values("level_label")[c, n])
         return level_label(self.dimension, self.l_of(c), self.j_of(c), n)
 
     def one_channel(self, channel: Any, figure: str) -> int:
@@ -370,10 +381,26 @@ class ResultView:
         name = "λ" if self.scan_name.startswith("coupling") else self.scan_name
         return f"{name} = {value:.4g}" + (f" {unit}" if unit else "")
 
+    def bound_mask(self, values: np.ndarray) -> np.ndarray:
+        """The ``bound`` flags (scan, channel, level); where absent, the finite ``values``."""
+        return self.values("bound").astype(bool) if self.has("bound") else np.isfinite(values)
+
+    def at_scan(self, text: str, i: int) -> str:
+        """``text`` followed by `` at <scan point i>`` when the scan has a value."""
+        where = self.scan_text(i)
+        return text + (f" at {where}" if where else "")
+
     # ------------------------------------------------------------------ decoration
     def decorate(self, fig: Any, title: str | None = None) -> None:
         """The case title (or ``title``) as the figure's title."""
         fig.suptitle(title or self.title, x=0.02, ha="left", color=_style.INK)
+
+    def finish(self, fig: Any, handles: Sequence[Any], title: str | None,
+               ncols: int | None = None) -> Any:
+        """The key of line styles below the axes and the figure title; returns ``fig``."""
+        style_legend(fig, handles, ncols=ncols)
+        self.decorate(fig, title)
+        return fig
 
 
 def finite_range(*arrays: Any) -> tuple[float, float] | None:
@@ -384,6 +411,14 @@ def finite_range(*arrays: Any) -> tuple[float, float] | None:
     if flat.size == 0:
         return None
     return float(flat.min()), float(flat.max())
+
+
+def fit_ylim(ax: Any, values: Sequence[Any], frac: float) -> tuple[float, float] | None:
+    """Set the y range to the finite ``values`` widened by ``frac``; returns (min, max)."""
+    rng = finite_range(*values)
+    if rng is not None:
+        ax.set_ylim(*padded(*rng, frac=frac))
+    return rng
 
 
 def padded(lo: float, hi: float, frac: float = 0.06) -> tuple[float, float]:

@@ -14,21 +14,15 @@ and channel from ``convergence_length`` (``basis_length`` is a slot index).
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    finite_range,
-    new_figure,
-    padded,
-    proxy,
-    style_legend,
-)
+from ._common import FigureRequest, ResultView, axis_label, fit_ylim, new_figure, proxy
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["EXTRAPOLATED", "EXTRAPOLATED_ERROR", "OPTIONS", "SIZE", "draw", "limit"]
 
@@ -148,9 +142,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
                                  label=f"b = {lengths[b]:.4g}" + (f" {length_units}"
                                                                   if length_units else "")))
     handles.append(proxy(lw=1.0, ls=(0, (6, 2)), label=what))
-    rng = finite_range(*right_vals)
-    if rng is not None:
-        right.set_ylim(*padded(*rng, frac=0.1))
+    fit_ylim(right, right_vals, 0.1)
     left.set_yscale("log")
     left.set_xlabel("basis size N")
     left.set_ylabel(axis_label("|E(N) − E∞|", e_units))
@@ -165,9 +157,5 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         right.set_title(f"{view.level_label(c, levels[0])} against N{b_text}", loc="left")
     right.set_ylabel(axis_label("energy E", e_units))
     right.ticklabel_format(axis="y", useOffset=False)  # absolute energies, no "1e-6 + 3.45"
-    where = view.scan_text(p)
-    left.set_title(f"basis convergence · {view.labels[c]}" + (f" at {where}" if where else ""),
-                   loc="left")
-    style_legend(fig, handles, ncols=4)
-    view.decorate(fig, req.title)
-    return fig
+    left.set_title(view.at_scan(f"basis convergence · {view.labels[c]}", p), loc="left")
+    return view.finish(fig, handles, req.title, ncols=4)

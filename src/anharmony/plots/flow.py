@@ -7,26 +7,18 @@ resummed values open markers. Each curve is labelled at its right end.
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    direct_labels,
-    finite_range,
-    method_name,
-    new_figure,
-    padded,
-    proxy,
-    style_legend,
-)
+from ._common import axis_label, direct_labels, fit_ylim, method_name, new_figure, proxy
 
-__all__ = ["DEFAULT_ORDERS", "OPTIONS", "SIZE", "chosen_methods", "chosen_orders", "draw",
-           "is_coupling", "perturbative"]
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
+
+__all__ = ["DEFAULT_ORDERS", "OPTIONS", "SIZE", "chosen_methods", "chosen_orders", "curves",
+           "draw", "is_coupling", "perturbative"]
 
 OPTIONS = frozenset({"channel", "levels", "orders", "methods", "size", "title"})
 SIZE = (6.4, 4.6)
@@ -77,14 +69,19 @@ def chosen_methods(view: ResultView, methods: Any) -> list[int]:
     return view.pick("methods", list(methods), available, "resummation method")
 
 
+def curves(view: ResultView, req: FigureRequest, name: str, orders: tuple[int, ...]
+           ) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[int], list[int], list[int]]:
+    """What a figure against the scanned parameter draws: the scan values, the variable
+    ``name``, the bound flags, and the chosen channels, levels and order positions."""
+    values = view.values(name).astype(float)
+    return (view.values("scan_value").astype(float), values, view.bound_mask(values),
+            view.channels(req.channel, default_all=True), view.level_indices(req.levels),
+            chosen_orders(view, req.orders, orders))
+
+
 def draw(view: ResultView, req: FigureRequest) -> Any:
     """The ``flow`` figure."""
-    x = view.values("scan_value").astype(float)
-    energy = view.values("energy").astype(float)
-    bound = view.values("bound").astype(bool) if view.has("bound") else np.isfinite(energy)
-    chans = view.channels(req.channel, default_all=True)
-    levels = view.level_indices(req.levels)
-    ords = chosen_orders(view, req.orders, DEFAULT_ORDERS)
+    x, energy, bound, chans, levels, ords = curves(view, req, "energy", DEFAULT_ORDERS)
     meths = chosen_methods(view, req.methods)
     psum = perturbative(view, ords)
     resum = view.values("series_resummed").astype(float) if meths else None
@@ -123,9 +120,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
             if last.size:
                 ends.append((x[last[-1]], exact[last[-1]], view.level_label(c, n), col))
 
-    rng = finite_range(*shown)
-    if rng is not None:
-        ax.set_ylim(*padded(*rng, frac=0.08))
+    rng = fit_ylim(ax, shown, 0.08)
     if view.has("threshold"):
         thr = view.values("threshold").astype(float)[:, chans]
         for t in np.unique(thr[np.isfinite(thr)]):
@@ -152,6 +147,4 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         handles.append(proxy(color=_style.CONTINUUM, ls=":", label="discretised continuum"))
     if view.has("threshold") and any(ln.get_gid() == "threshold" for ln in ax.lines):
         handles.append(proxy(color=_style.SOFT, lw=0.8, ls=(0, (4, 3)), label="threshold"))
-    style_legend(fig, handles)
-    view.decorate(fig, req.title)
-    return fig
+    return view.finish(fig, handles, req.title)

@@ -9,14 +9,12 @@ partners share a colour.
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _style
 from ._common import (
-    FigureRequest,
-    ResultView,
     axis_label,
     finite_range,
     new_figure,
@@ -24,8 +22,10 @@ from ._common import (
     proxy,
     shell_number,
     spread_labels,
-    style_legend,
 )
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["OPTIONS", "SIZE", "draw"]
 
@@ -40,7 +40,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     p = view.scan_position(req.scan_index)
     chans = view.channels(req.channel, default_all=True)
     energy = view.values("energy").astype(float)[p]
-    bound = view.values("bound").astype(bool)[p] if view.has("bound") else np.isfinite(energy)
+    bound = view.bound_mask(view.values("energy"))[p]
     ref = view.values("reference_energy").astype(float)[p]
     wanted = view.level_indices(req.levels)
     d = view.dimension
@@ -110,9 +110,5 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     ax.grid(axis="x", visible=False)
     ax.spines["bottom"].set_visible(False)
     ax.set_ylabel(axis_label("energy E", e_units))
-    where = view.scan_text(p)
-    ax.set_title("level scheme" + (f" at {where}" if where else "") + " · bound levels",
-                 loc="left")
-    style_legend(fig, handles)
-    view.decorate(fig, req.title)
-    return fig
+    ax.set_title(view.at_scan("level scheme", p) + " · bound levels", loc="left")
+    return view.finish(fig, handles, req.title)

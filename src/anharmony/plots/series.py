@@ -9,24 +9,16 @@ resummed values and the optimally truncated sum.
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-from scipy.special import gammaln
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    finite_range,
-    method_name,
-    new_figure,
-    padded,
-    proxy,
-    style_legend,
-)
+from ._common import FigureRequest, ResultView, axis_label, fit_ylim, method_name, new_figure, proxy
 from .flow import chosen_methods
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["OPTIONS", "SIZE", "draw", "large_order_curve", "nonzero_mask"]
 
@@ -76,6 +68,8 @@ def large_order_curve(k: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndar
         arg = fit.power * m + fit.shift
         if np.any(arg <= 0):
             return None
+        from scipy.special import gammaln
+
         log_shape = m * math.log(fit.rate) + gammaln(arg)
     else:
         log_shape = m * math.log(fit.rate) + fit.shift * np.log(m)
@@ -86,14 +80,18 @@ def large_order_curve(k: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndar
         return None
     log_c = float(np.mean(np.log(data[use]) - log_shape[use]))
     y = np.exp(log_c + log_shape)
+    var = "k" if step == 1 else "m"  # the axis is k; m = k/step only for a series in λ²
     if fit.kind == "factorial":
-        formula = (f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^m·Γ({fit.power}m"
+        lead = var if fit.power == 1 else f"{fit.power}{var}"
+        formula = (f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^{var}·Γ({lead}"
                    f"{fit.shift:+.2f})")
     else:
-        formula = (f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^m·m^{fit.shift:.2f}, "
-                   f"radius {fit.radius:.3g}")
+        formula = f"|E_k| ≈ {math.exp(log_c):.2g}·{fit.rate:.3g}^{var}·{var}^{fit.shift:.2f}"
+        if fit.supported:
+            formula += f", radius {fit.radius:.3g}"
     if step > 1:
         formula += f", m = k/{step}"
+    formula += f" ({fit.orders} orders" + (")" if fit.supported else ", not settled)")
     return m * step, y, formula
 
 
@@ -163,9 +161,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         right_vals.append([ex])
         level_handles.append(proxy(color=col, lw=1.6, label=name))
 
-    rng = finite_range(*right_vals)
-    if rng is not None:
-        right.set_ylim(*padded(*rng, frac=0.12))
+    fit_ylim(right, right_vals, 0.12)
     left.set_yscale("log")
     left.set_xlabel("order k")
     left.set_ylabel(axis_label("|E_k|", units))
@@ -184,7 +180,5 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     if has_opt:
         handles.append(proxy(ls="none", marker="*", ms=8, mec=_style.INK, mew=0.5,
                              label="optimal truncation"))
-    style_legend(fig, handles, ncols=4)
     left.legend(handles=level_handles, loc="best", fontsize=6.5, handlelength=1.6)
-    view.decorate(fig, req.title)
-    return fig
+    return view.finish(fig, handles, req.title, ncols=4)

@@ -11,23 +11,16 @@ small-parameter end.
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    direct_labels,
-    finite_range,
-    new_figure,
-    padded,
-    proxy,
-    style_legend,
-)
-from .flow import chosen_orders, perturbative
+from ._common import axis_label, direct_labels, finite_range, new_figure, padded, proxy
+from .flow import curves, perturbative
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["DEFAULT_ORDERS", "OPTIONS", "SIZE", "draw", "loglog_slope"]
 
@@ -53,12 +46,7 @@ def loglog_slope(x: np.ndarray, y: np.ndarray) -> float:
 
 def draw(view: ResultView, req: FigureRequest) -> Any:
     """The ``shift`` figure."""
-    x = view.values("scan_value").astype(float)
-    shift = view.values("shift").astype(float)
-    bound = view.values("bound").astype(bool) if view.has("bound") else np.isfinite(shift)
-    chans = view.channels(req.channel, default_all=True)
-    levels = view.level_indices(req.levels)
-    ords = chosen_orders(view, req.orders, DEFAULT_ORDERS)
+    x, shift, bound, chans, levels, ords = curves(view, req, "shift", DEFAULT_ORDERS)
     order_values = [int(k) for k in view.coord("order")] if ords else []
     if ords:
         psum = perturbative(view, ords)
@@ -144,6 +132,4 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     if guides:
         handles.append(proxy(lw=2.4, alpha=0.35, solid_capstyle="butt",
                              label="slope of the lowest-order RS shift"))
-    style_legend(fig, handles)
-    view.decorate(fig, req.title)
-    return fig
+    return view.finish(fig, handles, req.title)

@@ -1,10 +1,10 @@
 """The well at one scan point in one channel, with its levels and probability densities.
 
 Result files do not store potentials or wavefunctions, so the well is rebuilt from the case text
-kept in the file (global attribute ``case``) at the chosen scan value, in the basis the run used
-(size ``basis_size``, length ``length``, centre ``reference_center``); the densities come from
-diagonalising that channel again. For a ``coupling`` scan the well drawn is
-V_λ = V_ref + λ (V − V_ref), diagonalised as H_ref + λ (H − H_ref).
+kept in the file (global attribute ``case``) at the chosen scan value and solved again by the
+core (:func:`anharmony.scan.scan`) in the basis the run used (size ``basis_size``, length
+``length``, the stored reference oscillator). For a ``coupling`` scan the well drawn is
+V_λ = V_ref + λ (V − V_ref), the levels those of H_ref + λ (H − H_ref).
 
 Level lines are the stored energies, drawn between the classical turning points; each density
 (|ψ|² in 1D, the radial density r^{d−1} R² for central wells) sits on its level, all on one
@@ -15,21 +15,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _style
-from ._common import (
-    FigureRequest,
-    ResultView,
-    axis_label,
-    direct_labels,
-    finite_range,
-    new_figure,
-    proxy,
-    style_legend,
-)
+from ._common import axis_label, direct_labels, finite_range, new_figure, proxy
+
+if TYPE_CHECKING:  # annotations only
+    from ._common import FigureRequest, ResultView
 
 __all__ = ["OPTIONS", "SIZE", "WellPicture", "draw", "rebuild"]
 
@@ -88,21 +82,18 @@ def _case(view: ResultView) -> Any:
 
 def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | None = None
             ) -> WellPicture:
-    """Rebuild the well of channel c at scan point p and its lowest ``count`` densities.
+    """Solve the well of channel c at scan point p again (the core's :func:`~anharmony.scan.scan`
+    with the stored basis and reference) and return its lowest ``count`` densities.
 
     ``coords`` defaults to the extent of the basis (the turning point of its highest state).
     """
-    from scipy.linalg import eigh
-
-    from ..hamiltonian import Channel, channel_hamiltonian
-    from ..well import Well
+    from ..scan import scan
+    from ..spectrum import Reference
 
     case = _case(view)
     d = view.dimension
     l_val = view.l_of(c)
     l = None if l_val < 0 else l_val
-    j = view.j_of(c)
-    channel = Channel(d, l, j)
     size = int(view.attrs.get("basis_size") or case.model.basis.size)
     b = float(view.values("length")[p])
     x0 = float(view.values("reference_center")[p]) if (
@@ -111,27 +102,18 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
     coupling = case.scan_target.kind == "coupling"
     well = case.well_at(None if coupling else value)
     mass = case.mass_at(None if coupling else value)
-    if mass is not None:
-        well = well.with_context(well.units, mass)
-    kin = well.units.hbar2_over_2m(well.mass)
-    mats = channel_hamiltonian(well, channel, size, b, x0)
-    h = mats.total
-    lam = 1.0
-    ref_well = None
-    if coupling and value is not None:
-        lam = value
-        hw = float(view.values("reference_frequency" if view.has("reference_frequency")
-                                       else "frequency")[p])
-        vmin = float(view.values("reference_v_min")[p]) if view.has("reference_v_min") else \
-            float(well.value(np.array([x0]))[0])
-        # V_ref = v_min + ½ m ω² (x − x₀)², with ½ m ω² = (ħω)² / (4 ħ²/2m)
-        ref_well = Well.from_terms([{"polynomial": {"coefficients": {0: vmin,
-                                                                     2: hw * hw / (4 * kin)},
-                                                    "center": x0}}], well.units, well.mass)
-        h_ref = channel_hamiltonian(ref_well, channel, size, b, x0).total
-        h = (1.0 - lam) * h_ref + lam * h
+    hw = float(view.values("reference_frequency" if view.has("reference_frequency")
+                           else "frequency")[p])
+    b_ref = float(view.values("reference_length")[p]) if view.has("reference_length") else b
+    vmin = float(view.values("reference_v_min")[p]) if view.has("reference_v_min") else \
+        float(well.value(np.array([x0]))[0])
+    ref = Reference(hw, b_ref, x0, vmin, "given", "the reference stored in the result")
     count = max(1, min(count, size))
-    energies, vectors = eigh(h, subset_by_index=(0, count - 1))
+    # coupling: H_ref + λ (H − H_ref); otherwise the case's well at this scan value
+    lam = value if coupling and value is not None else 1.0
+    res = scan(well, d, l, view.j_of(c), parameter="coupling", values=[lam], size=size,
+               length=b, units=case.units, mass=mass, levels=count, reference=ref,
+               vectors=True)
     radial = l is not None and d > 1
     if coords is None:
         top = (2 * (size - 1) + (l or 0) + 0.5 * d) if l is not None else (size - 0.5)
@@ -139,7 +121,7 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
         coords = np.linspace(0.0, reach, GRID_POINTS) if radial else \
             np.linspace(x0 - reach, x0 + reach, GRID_POINTS)
     with np.errstate(divide="ignore", invalid="ignore"):  # r = 0 is patched in functions()
-        psi = vectors.T @ mats.basis.functions(np.abs(coords) if l is not None else coords)
+        psi = res.wavefunctions(0, np.abs(coords) if l is not None else coords)
     if radial:
         dens = psi**2 * np.abs(coords) ** (d - 1)
     elif l is not None:
@@ -147,20 +129,19 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
     else:
         dens = psi**2
     with np.errstate(all="ignore"):
-        v = well.value(coords)
-        if ref_well is not None:
-            v = (1.0 - lam) * ref_well.value(coords) + lam * v
+        v, so = res.potential(0, coords)
         eff = None
         if radial:
+            kin = res.units.hbar2_over_2m(res.mass)
             cent = (l + 0.5 * (d - 3)) * (l + 0.5 * (d - 1))  # u = r^{(d−1)/2} R
             extra = np.zeros_like(coords)
             if cent != 0 and l > 0:  # l = 0 in 2D: −¼/r² is an artefact of u = √r R
                 extra = extra + kin * cent / coords**2
-            if well.has_spin_orbit and channel.ls != 0.0:
-                extra = extra + lam * channel.ls * well.spin_orbit_value(coords)
+            if so is not None and res.channel.ls != 0.0:
+                extra = extra + res.channel.ls * so
             if np.any(extra != 0):
                 eff = v + extra
-    return WellPicture(coords, np.asarray(v, dtype=float), eff, dens, energies)
+    return WellPicture(coords, np.asarray(v, dtype=float), eff, dens, res.energies[0])
 
 
 def _turning_points(x: np.ndarray, v: np.ndarray, e: float) -> tuple[float, float]:
@@ -187,8 +168,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     p = view.scan_position(req.scan_index)
     c = view.one_channel(req.channel, "well")
     energy = view.values("energy").astype(float)[p, c]
-    bound = view.values("bound").astype(bool)[p, c] if view.has("bound") else \
-        np.isfinite(energy)
+    bound = view.bound_mask(view.values("energy"))[p, c]
     default = [n for n in range(energy.size) if bound[n] and math.isfinite(energy[n])]
     levels = view.level_indices(req.levels, default=default)
     levels = [n for n in levels if math.isfinite(energy[n])]
@@ -272,9 +252,5 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     length_units = view.units("length", "length") if view.has("length") else None
     ax.set_xlabel(axis_label("r" if radial else "x", length_units))
     ax.set_ylabel(axis_label("energy E", e_units))
-    where = view.scan_text(p)
-    ax.set_title(f"well and levels · {view.labels[c]}" + (f" at {where}" if where else ""),
-                 loc="left")
-    style_legend(fig, handles, ncols=3)
-    view.decorate(fig, req.title)
-    return fig
+    ax.set_title(view.at_scan(f"well and levels · {view.labels[c]}", p), loc="left")
+    return view.finish(fig, handles, req.title, ncols=3)

@@ -17,15 +17,16 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from anharmony.errors import ConvergenceWarning
+from anharmony.errors import ConvergenceWarning, InputError
 from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda
 from anharmony.spectrum import Reference, reference_oscillator, resolve_channel
 from anharmony.units import UnitSystem
 from anharmony.well import Well
 
 from ._values import to_mpf
+from .borel import BorelPade, borel_pade
 from .growth import LargeOrder, large_order
-from .resum import BorelPade, PadeApproximant, borel_pade, pade, pade_approximant
+from .resum import PadeApproximant, Resummed, pade_approximant, pade_sum
 from .rs_exact import rs_exact_1d, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
 from .truncation import OptimalTruncation, optimal_truncation, partial_sums
@@ -102,15 +103,19 @@ class Series:
         """Padé [L/M] approximant in λ (numerator degree L, denominator M)."""
         return pade_approximant(self.precise, L, M, method=method)
 
-    def pade(self, L: int, M: int, lam: Any = 1.0, *, method: str = "auto") -> Any:
-        """Value of the Padé [L/M] approximant at λ (a singular [L/M] falls back to the
-        nearest lower approximant, see :func:`anharmony.series.resum.pade`)."""
-        return pade(self.precise, L, M, lam, method=method)
+    def pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None) -> Resummed:
+        """Padé sum at λ with its uncertainty (:func:`anharmony.series.pade_sum`).
 
-    def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None
-                   ) -> BorelPade:
-        """Borel–Padé sum at λ (see :func:`anharmony.series.resum.borel_pade`)."""
-        return borel_pade(self.precise, lam, L, M)
+        ``L``, ``M`` choose the top approximant (default near-diagonal); the value of one
+        single approximant is :meth:`pade_approximant` called at λ.
+        """
+        return pade_sum(self.precise, lam, L, M)
+
+    def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None, *,
+                   power: int | None = None) -> BorelPade:
+        """Borel(–Leroy)–Padé sum at λ with its uncertainty
+        (:func:`anharmony.series.borel_pade`)."""
+        return borel_pade(self.precise, lam, L, M, power=power)
 
     def optimal_truncation(self, lam: float = 1.0) -> OptimalTruncation:
         """Sum up to the smallest term at λ, with that term as the error estimate."""
@@ -192,67 +197,84 @@ def _relative_change(old: list, new: list) -> float:
 
 
 def _validate(well: Any, dimension: Any, l: Any, level: Any, orders: Any, exact: Any,
-              max_size: Any) -> None:
+              max_size: Any, levels: Any) -> None:
     if not isinstance(well, Well):
         raise TypeError(f"well: expected an anharmony.Well; got {type(well).__name__}")
     if isinstance(dimension, bool) or dimension not in (1, 2, 3):
-        raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
-    for name, v, low in (("level", level, 0), ("orders", orders, 1), ("max_size", max_size, 2)):
+        raise InputError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
+    for name, v, low in (("level", level, 0), ("orders", orders, 1), ("max_size", max_size, 2),
+                         ("levels", levels, 1)):
         if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < low:
-            raise ValueError(f"{name}: must be an integer >= {low}; got {v!r}")
+            raise InputError(f"{name}: must be an integer >= {low}; got {v!r}")
     if exact not in ("auto", True, False):
-        raise ValueError(f"exact: must be 'auto', True or False; got {exact!r}")
+        raise InputError(f"exact: must be 'auto', True or False; got {exact!r}")
 
 
 def series(
     well: Well,
-    dimension: int = 1,
+    dimension: int = 3,
     l: int | None = 0,
+    j: Any = None,
+    *,
     level: int = 0,
     orders: int = 20,
     exact: str | bool = "auto",
     units: str | UnitSystem = "oscillator",
-    reference: str | Mapping[str, float] = "auto",
-    j: Any = None,
     mass: float | None = None,
-    *,
+    levels: int = _REFERENCE_LEVELS,
+    reference: str | Mapping[str, float] = "auto",
     max_size: int = DEFAULT_MAX_SIZE,
 ) -> Series:
     """Rayleigh–Schrödinger series of one level of one channel of a well.
 
+    The signature follows :func:`anharmony.solve` (same names and defaults; everything after
+    ``j`` by keyword). ``solve``'s ``size`` and ``length`` have no counterpart: the basis is
+    the reference oscillator's own, and its size is chosen so the coefficients are exact
+    (polynomial W) or settled (otherwise; see ``max_size``).
+
     Parameters
     ----------
-    well
+    well : Well
         The well (:meth:`anharmony.Well.from_terms`).
-    dimension
-        1, 2 or 3.
-    l
+    dimension : {1, 2, 3}, default 3
+        Dimension of the space.
+    l : int or None, default 0
         Angular quantum number; in 1D ``None`` is the basis without symmetry, 0/1 the even/odd
         parity of a symmetric well.
-    level
+    j : float or str, optional
+        Total angular momentum with spin–orbit terms (3D): 2.5 or ``"5/2"``.
+    level : int, default 0
         Level counted from the lowest of the channel.
-    orders
+    orders : int, default 20
         Highest order K ≥ 1.
-    exact
+    exact : {"auto", True, False}, default "auto"
         ``"auto"``: rational coefficients when W is a polynomial with rational coefficients
         in oscillator units (any powers of ξ in 1D without symmetry, even powers in parity and
         radial channels); ``True``: require them (ValueError otherwise); ``False``: numeric
         engine only.
-    units
+    units : str or UnitSystem, default "oscillator"
         Unit system of DESIGN §5.
-    reference
+    mass : float, optional
+        Particle mass in the system's mass unit (default per system).
+    levels : int, default 5
+        Number of levels the ``"auto"`` reference is fitted to, as in :func:`anharmony.solve`
+        (at least ``level + 1`` are used).
+    reference : "auto" or mapping, default "auto"
         ``"auto"`` or a mapping with ``frequency`` or ``length`` (and ``center`` in 1D), as for
         :func:`anharmony.solve`.
-    j
-        Total angular momentum with spin–orbit terms (3D): 2.5 or ``"5/2"``.
-    mass
-        Particle mass in the system's mass unit.
-    max_size
+    max_size : int, default 400
         Largest basis tried for a non-polynomial W.
 
     Returns
     -------
     Series
+
+    Raises
+    ------
+    InputError
+        For an argument out of range (the message names it).
+    TypeError
+        If ``well`` is not a :class:`~anharmony.Well`.
 
     Warns
     -----
@@ -268,10 +290,10 @@ def series(
     with N = n + K·h + 1 states, which is the size used; otherwise N grows from 40 by factors
     of 1.5 until no coefficient moves by more than 1e-10.
     """
-    _validate(well, dimension, l, level, orders, exact, max_size)
+    _validate(well, dimension, l, level, orders, exact, max_size, levels)
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
-    ref = reference_oscillator(well, dimension, l, None, max(_REFERENCE_LEVELS, level + 1),
+    ref = reference_oscillator(well, dimension, l, None, max(levels, level + 1),
                                reference, channel.j)
     center = ref.center if channel.l is None else 0.0
     hw = ref.frequency
@@ -282,7 +304,7 @@ def series(
         if w is not None:
             exact_values, size, why = _exact_series(w, channel, level, orders)
         if exact_values is None and exact is True:
-            raise ValueError(f"exact: no rational series for this well ({why}); "
+            raise InputError(f"exact: no rational series for this well ({why}); "
                              "use exact='auto' or False")
     if exact_values is not None:
         scale, offset = Fraction(hw), Fraction(ref.v_min)

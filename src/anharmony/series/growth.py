@@ -14,6 +14,10 @@ from ._values import check_coefficients, even_series, to_mpf
 
 __all__ = ["LargeOrder", "large_order"]
 
+MIN_SPARE = 3  # tail ratios beyond the number of fitted parameters
+SETTLED_FRACTION = 0.5  # 1/k corrections above this fraction of the leading term: not settled
+SCATTER_RTOL = 0.05  # ratios scattering more than 5 % (rms) about the fit: not settled
+
 
 @dataclass(frozen=True, eq=False)
 class LargeOrder:
@@ -43,6 +47,16 @@ class LargeOrder:
         Radius of convergence in λ (0 for factorial growth).
     sign : str
         ``"alternating"``, ``"fixed"`` or ``"mixed"`` over the last half of the orders.
+    orders : int
+        K, the highest order the analysis rests on.
+    supported : bool
+        The orders reach the large-order regime: the fit is overdetermined (at least three
+        more ratios in the tail than fitted parameters, after dropping 1/k corrections if
+        needed), the ratios scatter by less than 5 % (rms) about it, and its 1/k corrections at
+        the first fitted order are below half the leading term. When False, ``radius`` is NaN:
+        nothing is claimed.
+    note : str
+        What the result rests on, and why it is not supported where it is not.
     """
 
     kind: str
@@ -54,6 +68,9 @@ class LargeOrder:
     constant: float
     radius: float
     sign: str
+    orders: int = 0
+    supported: bool = True
+    note: str = ""
 
 
 def large_order(
@@ -110,12 +127,18 @@ def large_order(
         prods = [signs[i] * signs[i + 1] for i in range(len(signs) - 1)]
         sign = ("alternating" if prods and all(s < 0 for s in prods)
                 else "fixed" if prods and all(s > 0 for s in prods) else "mixed")
-        inverse = [ks ** (-i) for i in range(1, corrections + 1)]
         if ks.size < corrections + 2:
             raise ValueError(
                 f"large-order analysis: {ks.size} ratios in the tail cannot fit "
                 f"{corrections} corrections; give more orders or fewer corrections"
             )
+        # an interpolating fit says nothing: keep MIN_SPARE more points than parameters
+        used = max(0, min(corrections, ks.size - 2 - MIN_SPARE))
+        inverse = [ks ** (-i) for i in range(1, used + 1)]
+        big_k = len(c) - 1
+        rests = f"from orders 0…{big_k} ({ks.size} ratios fitted"
+        rests += f", {used} of {corrections} 1/k corrections)" if used < corrections else ")"
+        enough = ks.size >= used + 2 + MIN_SPARE
 
         def extrapolate(values: np.ndarray) -> float:
             design = np.vstack([np.ones_like(ks), *inverse]).T
@@ -123,16 +146,31 @@ def large_order(
 
         if p == 0:
             design = np.vstack([np.ones_like(ks), *inverse]).T
-            a, gamma1 = np.linalg.lstsq(design, r, rcond=None)[0][:2]
-            a = float(a)
-            b = float(gamma1 / a)  # r_k = a (1 + b/k + ...)  <=>  |c_k| ~ C a^k k^b
-            radius = (1.0 / a) ** (1.0 / step) if a > 0 else math.inf
+            sol = np.linalg.lstsq(design, r, rcond=None)[0]
+            a = float(sol[0])
+            gamma = sol[1:]
+            b = float(gamma[0] / a) if gamma.size and a != 0 else 0.0  # r_k = a (1 + b/k + …)
+            k0 = float(ks[0])
+            corr = abs(sum(gi / k0 ** (i + 1) for i, gi in enumerate(gamma)))
+            scatter = float(np.sqrt(np.mean((design @ sol - r) ** 2)) / np.mean(r))
+            why = ("" if not enough else
+                   "the ratios do not settle on a positive limit" if a <= 0 else
+                   f"the ratios scatter by {scatter:.0%} about the fit"
+                   if scatter > SCATTER_RTOL else
+                   f"the 1/k corrections are {corr / a:.2g} of the limit at k = {int(k0)}"
+                   if corr > SETTLED_FRACTION * a else "")
+            if not enough:
+                why = f"too few ratios in the tail ({ks.size})"
+            ok = not why
+            radius = ((1.0 / a) ** (1.0 / step) if a > 0 else math.inf) if ok else math.nan
             consts = np.array([
                 float(abs(seq[int(k)]) / (mpmath.mpf(a) ** int(k) * mpmath.mpf(k) ** b))
                 for k in ks
-            ])
+            ]) if a > 0 else np.full(ks.size, math.nan)
+            note = rests + ("" if ok else f"; not in the large-order regime: {why}; "
+                            "no radius claimed")
             return LargeOrder("geometric", step, ratios, 0, a, b, extrapolate(consts),
-                              radius, sign)
+                              radius, sign, big_k, ok, note)
         y = r ** (1.0 / p)
         design = np.vstack([ks, np.ones_like(ks), *inverse]).T
         alpha, beta = np.linalg.lstsq(design, y, rcond=None)[0][:2]
@@ -143,4 +181,16 @@ def large_order(
             for k in ks
         ])
         const = extrapolate(consts)
-        return LargeOrder("factorial", step, ratios, p, a, b, const, 0.0, sign)
+        k0 = float(ks[0])
+        sol = np.linalg.lstsq(design, y, rcond=None)[0]
+        corr = abs(sol[1] + sum(gi / k0 ** (i + 1) for i, gi in enumerate(sol[2:])))
+        scatter = float(np.sqrt(np.mean((design @ sol - y) ** 2)) / np.mean(y))
+        why = (f"too few ratios in the tail ({ks.size})" if not enough else
+               f"the ratios scatter by {scatter:.0%} about the fit"
+               if scatter > SCATTER_RTOL else
+               f"the corrections are {corr / (alpha * k0):.2g} of the leading term at "
+               f"k = {int(k0)}" if corr > SETTLED_FRACTION * abs(alpha) * k0 else "")
+        ok = not why
+        note = rests + ("" if ok else f"; not in the large-order regime: {why}")
+        return LargeOrder("factorial", step, ratios, p, a, b, const, 0.0 if ok else math.nan,
+                          sign, big_k, ok, note)

@@ -22,11 +22,11 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from anharmony.errors import NumericalError
+from anharmony.errors import InputError, NumericalError
 
 from ._values import as_float_array, check_coefficients, even_series, mpf_to_float, to_mpf
 
-__all__ = ["BorelPade", "PadeApproximant", "borel_pade", "pade", "pade_approximant"]
+__all__ = ["PadeApproximant", "Resummed", "pade", "pade_approximant", "pade_sum", "reduced_series"]
 
 PATH_RTOL = 1e-8  # a Borel-plane pole with |Im s| below this times |s| lies on the Laplace path
 DOUBLET_RTOL = 1e-6  # a pole and a zero closer than this (relative) form a Froissart doublet
@@ -90,7 +90,26 @@ class PadeApproximant:
         return float(out[0]) if arr.ndim == 0 else out.reshape(arr.shape)
 
 
+POLISH_MAX_DEGREE = 12  # roots of polynomials up to this degree are polished in mpmath
+
+
+def _polish(c_high_first: list, z: complex, steps: int = 3) -> mpmath.mpc:
+    """A few Newton steps on a root, at the working precision."""
+    x = mpmath.mpc(z)
+    deriv = [c * (len(c_high_first) - 1 - i) for i, c in enumerate(c_high_first[:-1])]
+    for _ in range(steps):
+        d = mpmath.polyval(deriv, x)
+        if d == 0:
+            break
+        x -= mpmath.polyval(c_high_first, x) / d
+    return x
+
+
 def _roots(coeffs_low_first: Sequence[mpmath.mpf]) -> list:
+    """Roots of Σ c_i μ^i: numpy's companion eigenvalues, polished in mpmath for low degree.
+
+    (``mpmath.polyroots`` at the Padé working precision took a minute at degree 40.)
+    """
     c = list(coeffs_low_first)
     while c and c[-1] == 0:
         c.pop()
@@ -102,11 +121,13 @@ def _roots(coeffs_low_first: Sequence[mpmath.mpf]) -> list:
         zeros_at_origin += 1
     roots: list = [mpmath.mpc(0)] * zeros_at_origin
     if len(c) > 1:
-        try:
-            roots += list(mpmath.polyroots(list(reversed(c)), maxsteps=400,
-                                           extraprec=4 * mpmath.mp.prec))
-        except mpmath.libmp.NoConvergence:
-            roots += [mpmath.mpc(z) for z in np.roots([float(x) for x in reversed(c)])]
+        high = list(reversed(c))
+        top = max(abs(x) for x in high)
+        approx = np.roots([float(x / top) for x in high])
+        if len(c) - 1 <= POLISH_MAX_DEGREE:
+            roots += [_polish(high, z) for z in approx]
+        else:
+            roots += [mpmath.mpc(complex(z)) for z in approx]
     return roots
 
 
@@ -184,7 +205,7 @@ def pade_approximant(
             q_low = [x / q0 for x in q_low]
         else:
             try:
-                p_low, q_low = mpmath.pade(scaled, L, M)  # mpmath: numerator order first
+                p_low, q_low = _fixed_point_pade(scaled, L, M)
             except ZeroDivisionError as exc:
                 raise NumericalError(
                     f"Padé [{L}/{M}] system is singular for these coefficients ({exc}); for a "
@@ -205,6 +226,48 @@ def pade_approximant(
         L=int(L), M=int(M), numerator=tuple(p_low), denominator=tuple(q_low), scale=g,
         poles=poles, zeros=zeros, doublets=doublets, method=method,
     )
+
+
+def _fixed_point_pade(c: Sequence[mpmath.mpf], L: int, M: int) -> tuple[list, list]:
+    """[L/M] of Σ c_i μ^i (c of order one) by Gaussian elimination in binary fixed point.
+
+    The same linear system as ``mpmath.pade`` (Σ_j c_{L+i−j} q_j = −c_{L+i}, i = 1..M, then
+    p_i = Σ_j c_{i−j} q_j), with partial pivoting, on Python integers scaled by 2^bits
+    (bits = the working precision): an order of magnitude faster than mpmath's matrices,
+    which dominated the Borel–Padé time. Raises ZeroDivisionError on a singular system (a
+    pivot below 2^(−3·bits/4) of the matrix scale).
+    """
+    bits = mpmath.mp.prec + 16
+    one = 1 << bits
+    ci = [int(mpmath.nint(x * one)) for x in c]
+
+    def at(i: int) -> int:
+        return ci[i] if i >= 0 else 0
+
+    a = [[at(L + i - j) for j in range(1, M + 1)] + [-at(L + i)] for i in range(1, M + 1)]
+    scale = max((abs(x) for row in a for x in row[:M]), default=0)
+    tiny = scale >> (3 * bits // 4)
+    for col in range(M):
+        piv = max(range(col, M), key=lambda r: abs(a[r][col]))
+        if abs(a[piv][col]) <= tiny:
+            raise ZeroDivisionError("matrix is numerically singular")
+        a[col], a[piv] = a[piv], a[col]
+        prow = a[col]
+        pv = prow[col]
+        for r in range(col + 1, M):
+            row = a[r]
+            if row[col]:
+                f = (row[col] << bits) // pv
+                for j in range(col, M + 1):
+                    row[j] -= (f * prow[j]) >> bits
+    q = [0] * M
+    for r in range(M - 1, -1, -1):
+        acc = a[r][M] - sum((a[r][j] * q[j]) >> bits for j in range(r + 1, M))
+        q[r] = (acc << bits) // a[r][r]
+    q = [one, *q]
+    p = [sum(at(i - j) * q[j] for j in range(min(i, M) + 1)) >> bits for i in range(L + 1)]
+    den = mpmath.mpf(one)
+    return [mpmath.mpf(x) / den for x in p], [mpmath.mpf(x) / den for x in q]
 
 
 def _reducing_pade(coefficients: Sequence[Any], L: int, M: int) -> PadeApproximant:
@@ -237,92 +300,116 @@ def pade(
         return _reducing_pade(coefficients, L, M)(lam)
 
 
+
+
+NEAR_RTOL = 0.1  # a pole within 0.1·|λ| of λ, or within 0.1 rad of (0, λ], spoils a value
+
+
 @dataclass(frozen=True, eq=False)
-class BorelPade:
-    """Borel–Padé sums of a series at one or more couplings.
+class Resummed:
+    """Resummed values of a series at one or more couplings, with honest uncertainties.
 
     Attributes
     ----------
-    lam, value, error : ndarray
-        Couplings, Laplace-integral values (NaN where a pole lies on the path) and the
-        quadrature's own error estimates.
-    on_path : ndarray of bool
-        True where a Borel-plane pole lies on the integration ray s = λt, t > 0.
-    poles : ndarray of complex
-        Poles of the Padé approximant of the Borel transform, in the Borel variable s.
-    doublets : ndarray of complex
-        Poles that sit on a zero (Froissart doublets) and were cancelled against it before
-        the integral; a doublet on the path therefore does not make the value NaN.
+    method : str
+        ``"pade"`` or ``"borel_pade"``.
+    lam : ndarray
+        Couplings λ.
+    value : ndarray
+        Value of the best kept approximant (highest order, most diagonal); NaN where none.
+    uncertainty : ndarray
+        Largest distance of the other kept approximants (near-diagonal neighbours, one and
+        two orders fewer) from ``value``, plus their own numerical error (quadrature,
+        rounding); inf where fewer than three approximants survive.
+    trusted : ndarray of bool
+        Enough approximants survive and ``uncertainty`` is below half the resummed correction
+        |value − E_0|.
+    reason : tuple of str
+        Per coupling: how many approximants from which orders the value rests on and, where
+        not trusted, why.
+    orders : int
+        Highest order K of the series used.
+    members : tuple of tuple
+        Per coupling, the kept [L/M] (best first); the degrees are in λ, or in λ² for a series
+        whose odd orders vanish (``step`` 2).
+    rejected : tuple of tuple
+        Per coupling, the [L/M] left out (a pole or pole–zero pair where it spoils the value,
+        a singular system).
+    step : int
+        1, or 2 when the odd orders vanish and the approximants are built in z = λ².
     approximant : PadeApproximant
-        The [L/M] approximant of B(s) = Σ c_k s^k / k!.
+        The best kept approximant at the first coupling (or the first tried, if none).
     """
 
+    method: str
     lam: np.ndarray
     value: np.ndarray
-    error: np.ndarray
-    on_path: np.ndarray
-    poles: np.ndarray
-    doublets: np.ndarray
-    approximant: PadeApproximant
+    uncertainty: np.ndarray
+    trusted: np.ndarray
+    reason: tuple
+    orders: int
+    members: tuple
+    rejected: tuple
+    step: int
+    approximant: PadeApproximant | None
+
+    @property
+    def error(self) -> np.ndarray:
+        """Same as :attr:`uncertainty` (the name used before uncertainties were measured)."""
+        return self.uncertainty
 
     @property
     def L(self) -> int:
-        """Numerator degree of the Borel-plane approximant."""
-        return self.approximant.L
+        """Numerator degree of :attr:`approximant`."""
+        return self.approximant.L if self.approximant is not None else 0
 
     @property
     def M(self) -> int:
-        """Denominator degree of the Borel-plane approximant."""
-        return self.approximant.M
+        """Denominator degree of :attr:`approximant`."""
+        return self.approximant.M if self.approximant is not None else 0
+
+    def __float__(self) -> float:
+        return float(np.asarray(self.value, dtype=float))
+
+    def __array__(self, dtype: Any = None, copy: Any = None) -> np.ndarray:
+        return np.asarray(self.value, dtype=dtype)
 
 
-def _cancel_doublets(zeros: np.ndarray, poles: np.ndarray
-                     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Remove pole–zero pairs closer than DOUBLET_RTOL (relative): (zeros, poles, doublets)."""
-    zeros = list(zeros)
-    kept, doublets = [], []
-    for p in poles:
-        if zeros:
-            dist = np.abs(np.array(zeros) - p)
-            i = int(np.argmin(dist))
-            if dist[i] < DOUBLET_RTOL * max(1.0, abs(p)):
-                zeros.pop(i)
-                doublets.append(p)
-                continue
-        kept.append(p)
-    return (np.array(zeros, dtype=complex), np.array(kept, dtype=complex),
-            np.array(doublets, dtype=complex))
+def reduced_series(coefficients: Sequence[Any]) -> tuple[list, int]:
+    """(c in the variable the approximants use, step): z = λ² when the odd orders vanish."""
+    even = even_series(coefficients)
+    if even is None or len(coefficients) < 5:
+        return list(coefficients), 1
+    return list(even[::2]), 2
 
 
-def _default_lm(order: int) -> tuple[int, int]:
-    m = order // 2
-    return order - m, m
+def _lm_checked(L: Any, M: Any) -> tuple[int, int] | None:
+    if L is None and M is None:
+        return None
+    if L is None or M is None:
+        raise InputError(f"give both L and M or neither; got L={L!r}, M={M!r}")
+    for name, v in (("L", L), ("M", M)):
+        if isinstance(v, bool) or not isinstance(v, (int, np.integer)) or v < 0:
+            raise InputError(f"{name} must be an integer >= 0; got {v!r}")
+    return int(L), int(M)
 
 
-def _candidates(order: int) -> list[tuple[int, int]]:
-    """Near-diagonal [L/M] tried in turn when the default has a pole on the path."""
-    l0, m0 = _default_lm(order)
-    out = []
-    for dl, dm in ((0, 0), (1, -1), (-1, 0), (0, -1), (-1, -1), (2, -2), (-2, 0), (-1, 1)):
-        l, m = l0 + dl, m0 + dm
-        if l >= 0 and m >= 1 and l + m <= order and (l, m) not in out:
-            out.append((l, m))
-    return out
+def _prepared(coefficients: Sequence[Any], L: Any, M: Any
+              ) -> tuple[tuple[int, int] | None, list, int]:
+    """(top [L/M] or None, the coefficients the family uses, step) after the checks."""
+    check_coefficients(coefficients)
+    centre = _lm_checked(L, M)
+    red, step = (list(coefficients), 1) if centre is not None else reduced_series(coefficients)
+    if centre is not None and sum(centre) > len(red) - 1:
+        raise InputError(f"Padé [{centre[0]}/{centre[1]}] needs coefficients up to order "
+                         f"L + M = {sum(centre)}; got orders 0..{len(red) - 1}")
+    return centre, red, step
 
 
-def borel_pade(
-    coefficients: Sequence[Any],
-    lam: Any,
-    L: int | None = None,
-    M: int | None = None,
-) -> BorelPade:
-    """Borel–Padé sum: Padé of the Borel transform, then the Laplace integral.
-
-    With L and M left out, the near-diagonal approximant is used; if it has a real pole on the
-    integration path for some λ (often a Froissart doublet that is not quite exact), the
-    neighbouring approximants [L+1/M−1], [L−1/M], [L/M−1], … are tried in turn and the first
-    without a pole on the path is returned (``result.approximant`` says which was used). If
-    all of them have one, the first result (with NaN where the path is blocked) is returned.
+def pade_sum(
+    coefficients: Sequence[Any], lam: Any = 1.0, L: int | None = None, M: int | None = None
+) -> Resummed:
+    """Padé value of a series at λ with an uncertainty from a family of approximants.
 
     Parameters
     ----------
@@ -331,98 +418,88 @@ def borel_pade(
     lam
         Coupling(s) λ.
     L, M
-        Degrees of the Padé approximant of the Borel transform; default the (near-)diagonal
-        L = K − ⌊K/2⌋, M = ⌊K/2⌋. When that Padé system is singular the nearest lower
-        [L−i/M−i] is used (``result.L``, ``result.M`` say which).
+        The top approximant; default the near-diagonal L = K − ⌊K/2⌋, M = ⌊K/2⌋ (in λ², and
+        for K/2 orders, when the odd orders vanish). Degrees must satisfy L + M ≤ K.
 
     Returns
     -------
-    BorelPade
+    Resummed
 
     Notes
     -----
-    B(s) = Σ_k c_k s^k / k!,  E(λ) = ∫_0^∞ e^{−t} B_{[L/M]}(λt) dt (Borel 1899; e.g. Zinn-Justin,
-    *Quantum Field Theory and Critical Phenomena*, ch. 41). The Padé approximant is computed in
-    extended precision (``mpmath.pade``), its poles and zeros by ``mpmath.polyroots``, and the
-    integrand in factored form, P/Q = (p_L/q_M) Π(s − z_i)/Π(s − p_i), which avoids the
-    cancellation of a Horner sum on the integration path; the integral is
-    ``scipy.integrate.quad`` on [0, ∞). Pole–zero pairs closer than 1e-6 (relative) are
-    Froissart doublets, artefacts of the approximant, and cancel before the integral
-    (Baker & Graves-Morris, §2.2; Froissart 1969). A remaining pole with Re(s/λ) > 0 and
-    |Im s| < 1e-8 |s| sits on the path: the sum is then not defined (a non-Borel-summable
-    direction, or too few orders) and the value is NaN.
+    The family is the top [L/M], its neighbours [L+1/M−1] and [L−1/M+1], and the same from
+    one and two orders fewer (more if too few survive). An approximant with a pole within
+    0.1·|λ| of λ or within 0.1 rad of the segment (0, λ] — a singularity it cannot resolve
+    there, or a
+    Froissart pole–zero pair (Baker & Graves-Morris, *Padé Approximants*, 2nd ed. 1996,
+    §2.2) — is left out rather than allowed to widen the spread. The value is the top kept
+    approximant and the uncertainty the largest distance of the others from it (common
+    practice, e.g. Baker & Graves-Morris ch. 1 on convergence along Padé sequences).
     """
-    check_coefficients(coefficients)
-    order = len(coefficients) - 1
-    if L is None and M is None:
-        first = None
-        for i, (l_try, m_try) in enumerate(_candidates(order) or [_default_lm(order)]):
-            try:
-                result = _borel_pade(coefficients, lam, l_try, m_try, order)
-            except (ValueError, TypeError, ZeroDivisionError):
-                if i == 0:
-                    raise
-                continue  # a singular neighbour: try the next one
-            if not np.any(result.on_path):
-                return result
-            first = result if first is None else first
-        return first
-    if L is None or M is None:
-        raise ValueError(f"give both L and M or neither; got L={L!r}, M={M!r}")
-    return _borel_pade(coefficients, lam, L, M, order)
+    from ._family import combine, near_point
 
-
-def _borel_pade(coefficients: Sequence[Any], lam: Any, L: int, M: int, order: int
-                ) -> BorelPade:
-    from scipy.integrate import quad
-    with mpmath.workdps(40 + 3 * (L + M)):
-        even = even_series(coefficients)
-        used = coefficients if even is None else even
-        borel = [to_mpf(c) / mpmath.factorial(k) for k, c in enumerate(used)]
-        approx = _reducing_pade(borel, L, M)
-        g = approx.scale
-        p_low = list(approx.numerator)
-        while len(p_low) > 1 and p_low[-1] == 0:
-            p_low.pop()
-        q_low = list(approx.denominator)
-        while len(q_low) > 1 and q_low[-1] == 0:
-            q_low.pop()
-        lead = p_low[-1] / q_low[-1] * g ** (len(q_low) - len(p_low))  # in s, not μ
-    zeros, poles, doublets = _cancel_doublets(approx.zeros, approx.poles)
-    lead_c = complex(lead)
-    deg_p, deg_q = len(zeros), len(poles)
-
-    def b_of_s(s: float) -> float:
-        val = lead_c
-        for i in range(max(deg_p, deg_q)):
-            num = (s - zeros[i]) if i < deg_p else 1.0
-            den = (s - poles[i]) if i < deg_q else 1.0
-            val *= num / den
-        return val.real
-
+    centre, red, step = _prepared(coefficients, L, M)
+    order = len(red) - 1
     lam_arr = np.asarray(lam, dtype=float)
-    values = np.empty(lam_arr.size)
-    errors = np.empty(lam_arr.size)
-    on_path = np.zeros(lam_arr.size, dtype=bool)
+    cache: dict[tuple[int, int], PadeApproximant | str] = {}
+
+    def approx_of(lm: tuple[int, int]) -> PadeApproximant | str:
+        if lm not in cache:
+            try:
+                cache[lm] = _reducing_pade(red, lm[0], lm[1])
+            except (NumericalError, ZeroDivisionError) as exc:
+                cache[lm] = f"[{lm[0]}/{lm[1]}] singular ({exc})"
+        return cache[lm]
+
     c0 = float(to_mpf(coefficients[0]))
-    for i, x in enumerate(lam_arr.reshape(-1)):
-        if x == 0.0:
-            values[i], errors[i] = c0, 0.0
+    flat = lam_arr.reshape(-1)
+    values, uncs, trusted, reasons, members, rejected = [], [], [], [], [], []
+    first = None
+    for x in flat:
+        z = float(x) ** step
+        if z == 0.0 or order == 0:
+            values.append(c0)
+            uncs.append(0.0)
+            trusted.append(True)
+            reasons.append("λ = 0: the first term" if z == 0.0 else "a single term")
+            members.append(())
+            rejected.append(())
             continue
-        hit = [p for p in poles
-               if (p.real * x > 0.0) and abs(p.imag) <= PATH_RTOL * abs(p)]
-        if hit:
-            on_path[i] = True
-            values[i], errors[i] = math.nan, math.nan
-            continue
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")  # IntegrationWarning: reported through `error`
-            val, err = quad(lambda t, x=x: math.exp(-t) * b_of_s(x * t), 0.0, math.inf,
-                            epsabs=0.0, epsrel=QUAD_EPSREL, limit=400)
-        values[i], errors[i] = val, err
+
+        def evaluate(lm: tuple[int, int], z: float = z) -> tuple[float, float] | str:
+            a = approx_of(lm)
+            if isinstance(a, str):
+                return a
+            if np.any(near_point(a.poles, z, NEAR_RTOL)):
+                return f"[{lm[0]}/{lm[1]}] has a pole between 0 and λ or near λ"
+            return float(a(z)), 0.0
+
+        fam = combine(order, evaluate, c0=c0, centre=centre, min_m=0)
+        values.append(fam.value)
+        uncs.append(fam.uncertainty)
+        trusted.append(fam.trusted)
+        reasons.append(fam.reason)
+        members.append(fam.members)
+        rejected.append(fam.rejected)
+        if first is None and fam.members:
+            first = approx_of(fam.members[0])
+    if first is None:
+        top = centre or (order - order // 2, order // 2)
+        got = approx_of(top) if order >= 1 and top[1] >= 0 else None
+        first = got if isinstance(got, PadeApproximant) else None
     shape = lam_arr.shape
-    return BorelPade(
-        lam=lam_arr.copy(), value=values.reshape(shape), error=errors.reshape(shape),
-        on_path=on_path.reshape(shape), poles=approx.poles, doublets=doublets,
-        approximant=approx,
+    return Resummed(
+        method="pade", lam=lam_arr.copy(), value=np.array(values).reshape(shape),
+        uncertainty=np.array(uncs).reshape(shape), trusted=np.array(trusted).reshape(shape),
+        reason=tuple(reasons), orders=len(coefficients) - 1, members=tuple(members),
+        rejected=tuple(rejected), step=step, approximant=first,
     )
+
+
+def __getattr__(name: str) -> Any:
+    # the Borel sums moved to .borel; keep ``from anharmony.series.resum import borel_pade``
+    if name in ("BorelPade", "borel_pade"):
+        from . import borel
+
+        return getattr(borel, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

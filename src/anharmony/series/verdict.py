@@ -15,10 +15,11 @@ import numpy as np
 
 from anharmony.errors import NumericalError
 
-from .resum import borel_pade, pade
+from .borel import borel_pade
+from .resum import pade_sum
 from .truncation import partial_sums
 
-__all__ = ["Verdict", "lowest_order", "verdict"]
+__all__ = ["Verdict", "lowest_order", "partial_sum_verdict", "verdict"]
 
 COUPLING_MATCH_RTOL = 1e-12  # a requested coupling equals a grid value within this (relative)
 
@@ -57,7 +58,13 @@ class Verdict:
         within tolerance at every grid coupling up to it (signed as on the grid); NaN where it
         already fails at the smallest.
     pade, borel_pade : ndarray or None, shape (n,)
-        Padé [L/M] and Borel–Padé values (NaN where undefined), and their errors.
+        Padé and Borel–Padé values (NaN where undefined; :func:`~.resum.pade_sum`,
+        :func:`~.borel.borel_pade`), and their errors against ``energies``.
+    pade_uncertainty, borel_pade_uncertainty : ndarray or None, shape (n,)
+        The uncertainties those methods claim (inf where not measured).
+    pade_trusted, borel_pade_trusted : ndarray of bool or None, shape (n,)
+        Whether each method's value is to be trusted by its own account (see
+        :class:`~.resum.Resummed`); ``energies`` play no part in it.
     """
 
     couplings: np.ndarray
@@ -71,6 +78,10 @@ class Verdict:
     pade_errors: np.ndarray | None
     borel_pade: np.ndarray | None
     borel_pade_errors: np.ndarray | None
+    pade_uncertainty: np.ndarray | None = None
+    borel_pade_uncertainty: np.ndarray | None = None
+    pade_trusted: np.ndarray | None = None
+    borel_pade_trusted: np.ndarray | None = None
 
     @property
     def orders(self) -> np.ndarray:
@@ -122,7 +133,8 @@ def verdict(
     atol, rtol
         Tolerance atol + rtol·|E|; at least one must be positive.
     pade_orders
-        (L, M) of the Padé column; default the near-diagonal L = K − ⌊K/2⌋, M = ⌊K/2⌋.
+        (L, M) of the top Padé approximant; default the near-diagonal L = K − ⌊K/2⌋,
+        M = ⌊K/2⌋ (in λ² when the odd orders vanish).
     borel
         Also compute Borel–Padé values.
 
@@ -155,23 +167,29 @@ def verdict(
             max_coupling[k] = lam[last]
     big_k = len(values) - 1
     pade_vals = pade_err = bp_vals = bp_err = None
+    pade_unc = bp_unc = pade_ok = bp_ok = None
     if big_k >= 1:
-        L, M = pade_orders if pade_orders is not None else (big_k - big_k // 2, big_k // 2)
+        L, M = pade_orders if pade_orders is not None else (None, None)
         try:
-            pade_vals = np.asarray(pade(values, L, M, lam), dtype=float).reshape(lam.shape)
+            res = pade_sum(values, lam, L, M)
+            pade_vals, pade_unc, pade_ok = res.value, res.uncertainty, res.trusted
         except NumericalError:
-            pade_vals = np.full(lam.shape, math.nan)
+            pade_vals, pade_unc = np.full(lam.shape, math.nan), np.full(lam.shape, math.inf)
+            pade_ok = np.zeros(lam.shape, dtype=bool)
         pade_err = np.abs(pade_vals - e)
         if borel:
             try:
-                bp_vals = np.asarray(borel_pade(values, lam).value).reshape(lam.shape)
+                res = borel_pade(values, lam)
+                bp_vals, bp_unc, bp_ok = res.value, res.uncertainty, res.trusted
             except NumericalError:
-                bp_vals = np.full(lam.shape, math.nan)
+                bp_vals, bp_unc = np.full(lam.shape, math.nan), np.full(lam.shape, math.inf)
+                bp_ok = np.zeros(lam.shape, dtype=bool)
             bp_err = np.abs(bp_vals - e)
     return Verdict(
         couplings=lam, energies=e, tolerance=tol, partial_sums=sums, errors=errors,
         within=within, max_coupling=max_coupling, pade=pade_vals, pade_errors=pade_err,
-        borel_pade=bp_vals, borel_pade_errors=bp_err,
+        borel_pade=bp_vals, borel_pade_errors=bp_err, pade_uncertainty=pade_unc,
+        borel_pade_uncertainty=bp_unc, pade_trusted=pade_ok, borel_pade_trusted=bp_ok,
     )
 
 
@@ -184,3 +202,37 @@ def lowest_order(
     sums = partial_sums(values, float(coupling))
     hits = np.flatnonzero(np.abs(sums - float(energy)) <= tol)
     return int(hits[0]) if hits.size else None
+
+
+def partial_sum_verdict(differences: Sequence[float], allowed: float) -> str:
+    """One line on the partial sums S_0..S_K against the exact level, and what it rests on.
+
+    Parameters
+    ----------
+    differences
+        |S_k − E| for k = 0..K (NaN or inf where a sum is not finite).
+    allowed
+        The tolerance the level is held to.
+
+    Returns
+    -------
+    str
+        ``"order k within X (K orders)"`` for the lowest order within ``allowed``; else, from
+        where the best partial sum lies: at the last order (``"still improving at order K,
+        the last computed"`` — more orders may well do better, nothing says the series
+        fails), inside (``"asymptotic: best order k of K"`` — the terms turn round), or at
+        order 0 (``"poor: no order improves on E_0"``), each with how far off it is.
+    """
+    d = np.asarray(differences, dtype=float)
+    d = np.where(np.isfinite(d), d, np.inf)
+    big_k = d.size - 1
+    ok = np.flatnonzero(d <= allowed)
+    if ok.size:
+        return f"order {int(ok[0])} within {allowed:.1g} ({big_k} orders)"
+    best = int(np.argmin(d))
+    off = f"off by {d[best]:.2g}"
+    if best == big_k and big_k > 0:
+        return f"still improving at order {big_k}, the last computed: {off}; more orders needed"
+    if best > 0:
+        return f"asymptotic: best order {best} of {big_k}, {off}"
+    return f"poor: no order up to {big_k} improves on E_0, {off}"

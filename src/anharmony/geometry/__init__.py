@@ -1,0 +1,19 @@
+"""Wells without spherical symmetry: Cartesian and axial oscillator bases (DESIGN §10).
+
+Public names: :func:`solve_geometry`, :func:`trap_frequencies`, :class:`GeometrySpectrum`,
+:class:`CartesianBasis`, :class:`AxialBasis`, and (re-exported from :mod:`anharmony.terms`) the
+non-central terms :class:`AnisotropicHarmonic` and :class:`FocusedBeam`. How terms enter: see
+:mod:`anharmony.geometry.potential`.
+"""
+
+from __future__ import annotations
+
+from ..terms.anisotropic_harmonic import AnisotropicHarmonic
+from ..terms.focused_beam import FocusedBeam
+from .axial import AxialBasis
+from .cartesian import CartesianBasis
+from .frequencies import TrapFrequencies
+from .solve import GEOMETRIES, GeometrySpectrum, solve_geometry, trap_frequencies
+
+__all__ = ["GEOMETRIES", "AnisotropicHarmonic", "AxialBasis", "CartesianBasis", "FocusedBeam",
+           "GeometrySpectrum", "TrapFrequencies", "solve_geometry", "trap_frequencies"]

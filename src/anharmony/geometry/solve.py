@@ -1,0 +1,365 @@
+"""The front door of the geometries: :func:`solve_geometry` and :func:`trap_frequencies`.
+
+A well without spherical symmetry is solved in a Cartesian product basis (2D or 3D) or, when
+it is symmetric about z, in the axial basis |n_ρ Λ n_z⟩. Conserved parities split the
+Hamiltonian into blocks (DESIGN §10); each block is built (kinetic and polynomial terms exact,
+the rest by verified quadrature) and diagonalised densely; the levels of all requested blocks
+are merged in ascending order.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from scipy.linalg import eigh
+
+from ..errors import InputError
+from ..units import UnitSystem, get_units
+from ..well import Well
+from .axial import AxialBasis
+from .blocks import axial_parity, axial_states, cartesian_states, parity_blocks, quanta_weights
+from .cartesian import CartesianBasis
+from .frequencies import TrapFrequencies, trap_frequencies_of
+from .potential import (
+    axial_polynomial,
+    axial_value,
+    cartesian_polynomial,
+    cartesian_value,
+    check_terms,
+    geometry_threshold,
+    is_central,
+    needs_panels,
+    reflection_symmetric,
+)
+
+__all__ = ["GEOMETRIES", "GeometrySpectrum", "solve_geometry", "trap_frequencies"]
+
+GEOMETRIES = ("cartesian", "axial")
+_SYMMETRY_RTOL = 1e-12  # a reflection symmetry holds to rounding, or it is not used
+
+
+@dataclass(frozen=True)
+class GeometrySpectrum:
+    """Levels of a well in a Cartesian or axial basis.
+
+    Attributes
+    ----------
+    energies : ndarray
+        Lowest levels of the requested blocks, ascending, in the energy unit.
+    bound : ndarray of bool
+        Below the continuum threshold.
+    labels : list of str
+        Cartesian: the dominant quanta ``(n_x,n_y,n_z)``; axial: ``Ω^π[N n_z Λ]`` with the
+        dominant asymptotic quantum numbers (π left out when parity is not conserved).
+    blocks : list of tuple
+        The block of each level: per-axis parities (0 even, 1 odd, None) in the Cartesian
+        basis, (Λ, π or None) in the axial one.
+    error_estimate : ndarray
+        |E(N_max) − E(N_max − 2)| for the same level of the same block (``inf`` where the
+        smaller basis has no such level); ``nan`` when not computed.
+    vectors : ndarray
+        Eigenvectors on :attr:`states`, shape (states, levels).
+    states : ndarray
+        Quanta of every basis state of the requested blocks: (n_x, n_y[, n_z]) or
+        (n_ρ, Λ, n_z).
+    """
+
+    energies: np.ndarray
+    bound: np.ndarray
+    labels: list[str]
+    blocks: list[tuple]
+    error_estimate: np.ndarray
+    vectors: np.ndarray
+    states: np.ndarray
+    geometry: str
+    dimension: int
+    lengths: tuple[float, ...]
+    centers: tuple[float, ...]
+    shells: int
+    truncation: str
+    threshold: float
+    units: UnitSystem
+    mass: float | None
+    well: Well = field(repr=False)
+
+
+def _resolve(well, units, mass) -> Well:
+    if not isinstance(well, Well):
+        raise InputError(f"well: expected an anharmony.Well; got {type(well).__name__}")
+    if mass is not None and (isinstance(mass, bool) or not isinstance(mass, (int, float))
+                             or not math.isfinite(mass) or mass <= 0):
+        raise InputError(f"mass: must be a positive number; got {mass!r}")
+    return well.with_context(get_units(units), mass)
+
+
+def _check_dimension(dimension: Any) -> int:
+    if isinstance(dimension, bool) or dimension not in (2, 3):
+        raise InputError(f"dimension: Cartesian and axial bases need 2 or 3; got {dimension!r}")
+    return int(dimension)
+
+
+def trap_frequencies(well: Well, dimension: int = 3, *, units: str | UnitSystem = "oscillator",
+                     mass: float | None = None, start: Any = None) -> TrapFrequencies:
+    """Principal ħω values and axes of the Hessian of V at its minimum.
+
+    Parameters
+    ----------
+    well
+        The well; its terms follow the geometry protocol (:mod:`anharmony.geometry.potential`).
+    dimension
+        2 or 3.
+    units, mass
+        Unit system and particle mass (as :func:`anharmony.solve`).
+    start
+        Where the search for the minimum starts (default the origin); with a tilt the minimum
+        is the shifted one.
+    """
+    well = _resolve(well, units, mass)
+    dimension = _check_dimension(dimension)
+    check_terms(well, dimension, "cartesian")
+    if start is not None:
+        start = np.asarray(start, dtype=float)
+        if start.shape != (dimension,) or not np.all(np.isfinite(start)):
+            raise InputError(f"start: expected {dimension} finite numbers; got {start!r}")
+    return trap_frequencies_of(well, dimension, well.units.hbar2_over_2m(well.mass), start)
+
+
+def _auto_lengths(well, dimension, geometry, c, levels):
+    """Basis lengths and centres: the reference oscillator (central wells) or the Hessian."""
+    if all(is_central(t) for t in well.terms):
+        from ..spectrum import reference_oscillator
+
+        b = reference_oscillator(well, dimension, 0, None, min(levels, 5)).length
+        return (b,) * (2 if geometry == "axial" else dimension), \
+            (0.0,) * (1 if geometry == "axial" else dimension)
+    tf = trap_frequencies_of(well, dimension, c)
+    diag = np.diag(tf.hessian)
+    hw = np.sqrt(2.0 * c * diag)
+    b = np.sqrt(2.0 * c / hw)
+    if geometry == "axial":
+        return (float(b[0]), float(b[2])), (float(tf.minimum[2]),)
+    return tuple(float(v) for v in b), tuple(float(v) for v in tf.minimum)
+
+
+def _check_lengths(lengths, n, name):
+    vals = np.atleast_1d(np.asarray(lengths, dtype=float)) if not isinstance(lengths, str) else \
+        None
+    if vals is None or vals.ndim != 1 or len(vals) not in (1, n) or \
+            not np.all(np.isfinite(vals)) or np.any(vals <= 0 if name == "lengths" else False):
+        raise InputError(f"{name}: expected {'1 or ' if n > 1 else ''}{n} "
+                         f"{'positive ' if name == 'lengths' else ''}numbers; got {lengths!r}")
+    return tuple(float(v) for v in np.broadcast_to(vals, (n,)))
+
+
+def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian",
+                   omega: int | None = None, parity: Any = None, shells: int = 12,
+                   lengths: Any = None, centers: Any = None, truncation: str = "shells",
+                   units: str | UnitSystem = "oscillator", mass: float | None = None,
+                   levels: int = 10, error_estimate: bool = True) -> GeometrySpectrum:
+    """Lowest levels of a well in a Cartesian or axial oscillator basis.
+
+    Parameters
+    ----------
+    well
+        The well (terms follow :mod:`anharmony.geometry.potential`).
+    dimension
+        2 or 3 (axial: 3).
+    geometry
+        ``"cartesian"`` or ``"axial"``.
+    omega
+        Axial only: the Ω block (= Λ without spin terms, an integer); ``None`` for every Λ,
+        each Λ ≠ 0 level listed for +Λ and −Λ.
+    parity
+        Cartesian: ``None`` (every block) or one entry per axis, +1, −1 or ``None`` (both);
+        axial: ``None`` (both parities in one list), +1 or −1. A parity needs a well even
+        about the basis centre along that axis.
+    shells
+        N_max of the truncation.
+    lengths
+        Oscillator lengths, one per axis ((b_⊥, b_z) axial); ``None``: the reference
+        oscillator (central wells) or the Hessian at the minimum.
+    centers
+        Basis centres, one per axis (axial: c_z only); with ``lengths=None`` the minimum.
+    truncation
+        ``"shells"`` (quanta ≤ N_max) or ``"energy"`` (deformed-basis energy ≤ N_max ħω₀);
+        see :mod:`anharmony.geometry.blocks`.
+    levels
+        Number of levels returned (fewer if the blocks hold fewer states).
+    error_estimate
+        Also solve with N_max − 2 shells and report the change of each level.
+    """
+    well = _resolve(well, units, mass)
+    if geometry not in GEOMETRIES:
+        raise InputError(f"geometry: expected one of {', '.join(GEOMETRIES)}; got {geometry!r}")
+    dimension = _check_dimension(dimension)
+    if geometry == "axial" and dimension != 3:
+        raise InputError(f"dimension: the axial basis is 3D; got {dimension} (a 2D well "
+                         "symmetric about its centre is central: use anharmony.solve)")
+    if isinstance(shells, bool) or not isinstance(shells, (int, np.integer)) or shells < 0:
+        raise InputError(f"shells: must be an integer >= 0; got {shells!r}")
+    if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)) or levels < 1:
+        raise InputError(f"levels: must be an integer >= 1; got {levels!r}")
+    if omega is not None and geometry != "axial":
+        raise InputError("omega: only the axial geometry has Ω blocks")
+    check_terms(well, dimension, geometry)
+    c = well.units.hbar2_over_2m(well.mass)
+    naxes = 2 if geometry == "axial" else dimension
+    ncent = 1 if geometry == "axial" else dimension
+    if lengths is None:
+        b, x0 = _auto_lengths(well, dimension, geometry, c, levels)
+    else:
+        b, x0 = _check_lengths(lengths, naxes, "lengths"), (0.0,) * ncent
+    if centers is not None:
+        x0 = _check_lengths(centers, ncent, "centers")
+    freqs = [2.0 * c / v**2 for v in b]
+    weights = quanta_weights(freqs, truncation)
+    solver = _cartesian if geometry == "cartesian" else _axial
+    main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
+    if error_estimate:
+        small = solver(well, dimension, b, x0, shells - 2, weights, parity, omega, c, levels) \
+            if shells >= 2 else {}
+    energies, where = [], []
+    for key, (e, _, _) in main.items():
+        energies += list(e)
+        where += [(key, k) for k in range(len(e))]
+    order = np.argsort(energies, kind="stable")[:levels]
+    states = np.concatenate([st for _, _, st in main.values()])
+    offsets = np.cumsum([0] + [len(st) for _, _, st in main.values()])
+    offset_of = dict(zip(main, offsets[:-1], strict=True))
+    vectors = np.zeros((len(states), len(order)))
+    labels, blocks, err = [], [], np.full(len(order), np.nan)
+    for col, i in enumerate(order):
+        key, k = where[i]
+        e, vec, st = main[key]
+        v = vec[:, k]
+        vectors[offset_of[key]:offset_of[key] + len(st), col] = v
+        labels.append(_label(geometry, key, st[np.argmax(v * v)]))
+        blocks.append(key)
+        if error_estimate:
+            es = small.get(key, ((), None, None))[0]
+            err[col] = abs(e[k] - es[k]) if k < len(es) else math.inf
+    e_out = np.asarray(energies)[order]
+    threshold = geometry_threshold(well, dimension)
+    return GeometrySpectrum(
+        energies=e_out, bound=e_out < threshold, labels=labels, blocks=blocks,
+        error_estimate=err, vectors=vectors, states=states, geometry=geometry,
+        dimension=dimension, lengths=tuple(b), centers=tuple(x0), shells=int(shells),
+        truncation=truncation, threshold=threshold, units=well.units, mass=well.mass, well=well)
+
+
+def _label(geometry, key, quanta):
+    if geometry == "cartesian":
+        return "(" + ",".join(str(int(n)) for n in quanta) + ")"
+    n_rho, lam, n_z = (int(v) for v in quanta)
+    big_n = 2 * n_rho + abs(lam) + n_z
+    pi = key[1]
+    sign = "" if pi is None else ("+" if pi > 0 else "-")
+    return f"{key[0]}{sign}[{big_n}{n_z}{abs(lam)}]"
+
+
+def _diagonalise(h, levels):
+    return eigh(h, subset_by_index=(0, min(levels, len(h)) - 1), driver="evr")
+
+
+def _split(well, polynomial_of):
+    """The polynomial terms summed (exact matrices), a well of the rest, and its rule kind."""
+    exact, rest = {}, []
+    for t in well.terms:
+        poly = polynomial_of(t)
+        if poly is None:
+            rest.append(t)
+        else:
+            for k, v in poly.items():
+                exact[k] = exact.get(k, 0.0) + v
+    rest_well = Well(terms=tuple(rest), units=well.units, mass=well.mass) if rest else None
+    kind = "panels" if any(needs_panels(t) for t in rest) else "weight"
+    return exact, rest_well, kind
+
+
+def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
+    states = cartesian_states(shells, weights)
+    basis = CartesianBasis(states, b, x0)
+    extent = [max(v, 1e-3 * well.scale) for v in b]
+    symmetric = [reflection_symmetric(well, i, x0, extent, _SYMMETRY_RTOL)
+                 for i in range(dimension)]
+    wanted = _cartesian_parity(parity, symmetric, dimension)
+    exact, rest_well, kind = _split(well, lambda t: cartesian_polynomial(t, dimension))
+    out = {}
+    for key, idx in parity_blocks(states, symmetric).items():
+        if not all(w is None or w == p for w, p in zip(wanted, key, strict=True)):
+            continue
+        h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
+        if rest_well is not None:
+            h = h + basis.quadrature(lambda *xs: cartesian_value(rest_well, xs), idx,
+                                     kind=kind)
+        e, v = _diagonalise(h, levels)
+        out[key] = (e, v, states[idx])
+    return out
+
+
+def _cartesian_parity(parity, symmetric, dimension):
+    if parity is None:
+        return (None,) * dimension
+    if isinstance(parity, (str, bytes)) or not hasattr(parity, "__len__") \
+            or len(parity) != dimension:
+        raise InputError(f"parity: expected {dimension} entries (+1, -1 or None per axis); "
+                         f"got {parity!r}")
+    out = []
+    for axis, (p, s) in enumerate(zip(parity, symmetric, strict=True)):
+        if p is None:
+            out.append(None)
+            continue
+        if p not in (1, -1):
+            raise InputError(f"parity[{axis}]: expected +1, -1 or None; got {p!r}")
+        if not s:
+            raise InputError(f"parity[{axis}]: the well is not even along axis {'xyz'[axis]} "
+                             "about the basis centre, so this parity is not conserved")
+        out.append(0 if p == 1 else 1)
+    return tuple(out)
+
+
+def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
+    cz = x0[0]
+    rng = np.random.default_rng(2024)  # fixed sample points: reproducible symmetry test
+    rho = b[0] * rng.uniform(0.0, 3.0, 300)
+    t = b[1] * rng.uniform(0.0, 3.0, 300)
+    with np.errstate(all="ignore"):
+        up, down = axial_value(well, rho, cz + t), axial_value(well, rho, cz - t)
+    even = bool(np.all(np.abs(up - down) <= _SYMMETRY_RTOL * (np.max(np.abs(up)) + 1e-300)))
+    if parity is not None:
+        if parity not in (1, -1):
+            raise InputError(f"parity: expected +1, -1 or None; got {parity!r}")
+        if not even:
+            raise InputError(f"parity: the well is not even in z about z = {cz}, so parity is "
+                             "not conserved; use parity=None")
+    if omega is not None and (isinstance(omega, bool) or not isinstance(omega, (int, np.integer))):
+        raise InputError(f"omega: without spin terms Ω = Λ, an integer; got {omega!r}")
+    lams = [int(omega)] if omega is not None else list(range(int(shells // weights[0]) + 1))
+    exact, rest_well, kind = _split(well, axial_polynomial)
+    out = {}
+    for lam in lams:
+        st = axial_states(shells, lam, weights)
+        if len(st) == 0:
+            continue
+        basis = AxialBasis(st, lam, b, cz)
+        pis = axial_parity(lam, st[:, 1])
+        groups = ({p: np.flatnonzero(pis == p) for p in (1, -1)} if even
+                  else {None: np.arange(len(st))})
+        for pi, idx in groups.items():
+            if len(idx) == 0 or (parity is not None and pi != parity):
+                continue
+            h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
+            if rest_well is not None:
+                h = h + basis.quadrature(lambda r, z: axial_value(rest_well, r, z), idx,
+                                         kind=kind)
+            e, v = _diagonalise(h, levels)
+            full = np.column_stack([st[idx, 0], np.full(len(idx), lam), st[idx, 1]])
+            signs = [lam] if lam == 0 or omega is not None else [lam, -lam]
+            for s in signs:
+                f = full.copy()
+                f[:, 1] = s
+                out[(s, pi)] = (e, v, f)
+    return out

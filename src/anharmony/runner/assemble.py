@@ -1,0 +1,261 @@
+"""Assembling a case: the partial arrays of its jobs merged into one store.CaseResult.
+
+Also decides ``error_estimate`` and ``converged`` (from the quick estimate or the study) and
+writes the warning lines that name every level that is not converged.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+
+from ..cases import Case
+from ..hamiltonian import level_label
+from ..store import CaseResult
+from .compute import empty
+from .plan import smaller_size
+
+__all__ = ["assemble"]
+
+_MERGE = ("energy", "bound", "smaller", "reference_energy", "threshold", "series_coefficient",
+          "series_partial_sum", "series_resummed", "series_optimal", "series_optimal_error",
+          "series_optimal_order")
+_PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min")
+
+
+def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
+    """Merge the partial arrays of a case's jobs into one :class:`CaseResult`."""
+    values = case.scan_values()
+    out = empty(case, len(values))
+    reasons: dict[int, tuple[str, str]] = {}
+    series_ok = True
+    for part in parts:
+        src = part["out"]
+        idx = np.ix_(list(part["points"]), list(part["channels"]))
+        for name in _MERGE:
+            out[name][idx] = src[name][idx]
+        for name in _PER_POINT:
+            out[name][list(part["points"])] = src[name][list(part["points"])]
+        reasons.update(part["reasons"])
+        series_ok &= part["series_ok"]
+        out["notes"] |= src["notes"]
+        out["series_method"] |= src["series_method"]
+        out["cells"].update(src["cells"])
+        out["study"].update(src["study"])
+    chans = case.channels()
+    conv = case.model.convergence
+    tol = conv.tolerance
+    notes = []
+    if conv.method == "extrapolate":
+        err, converged = _study_estimate(case, out)
+        if conv.grows:
+            notes.append(f"error_estimate: the convergence study's, the basis grown until every "
+                         f"bound level's estimate is below {tol:g} or the size limit is reached; "
+                         "energy is the lowest Ritz value at convergence_size over the length "
+                         "grid (energy_basis_length); error_method and error_reason say how "
+                         "each estimate was made")
+        else:
+            notes.append(f"error_estimate: |E - E_study| + the study's estimate for E_study "
+                         f"(triangle inequality), E from the case's basis of "
+                         f"{case.model.basis.size} states, E_study the study's lowest Ritz "
+                         "value at convergence_size; error_method and error_reason say how the "
+                         "study's estimate was made")
+    else:
+        err = np.abs(out["energy"] - out["smaller"])
+        converged = np.isfinite(err) & (err < tol)
+        if smaller_size(case) is None:
+            notes.append("error_estimate: not estimated (convergence.estimate is none)")
+        else:
+            notes.append(f"error_estimate: |E(N) - E(M)| with N = {case.model.basis.size} "
+                         f"and M = {smaller_size(case)} basis states, the same basis length")
+    if out["study"]:
+        notes += sorted({n for st in out["study"].values() for n in st["notes"]})
+    if case.model.perturbation is not None and not series_ok:
+        notes.append("series: not computed (no series engine in this version)")
+    if out["series_method"]:
+        notes.append("series engine: " + ", ".join(sorted(out["series_method"])))
+    notes += sorted(out["notes"])[:20]
+    has_spin = any(c.j is not None for c in chans)
+    settings = case.study_settings()
+    sizes = (settings.size_axis(case.model.levels.count) if settings is not None else ())
+    study_vars = _stack_cells(out["cells"], len(values), len(chans))
+    sizes, study_vars = _trim_sizes(np.asarray(sizes, dtype=np.int64), study_vars)
+    if "cross_check_energy" in study_vars:  # beside the stored energy, whichever basis it is
+        dims, xe, _ = study_vars["cross_check_energy"]
+        study_vars["cross_check_difference"] = (
+            dims, out["energy"] - xe, {"units": case.units.energy,
+                                       "long_name": "energy minus cross_check_energy"})
+    return CaseResult(
+        scan_value=np.asarray(values, dtype=float),
+        l=np.array([-1 if c.l is None else c.l for c in chans], dtype=np.int64),
+        j=np.array([c.j for c in chans], dtype=float) if has_spin else None,
+        label=[c.label for c in chans],
+        energy=out["energy"], bound=out["bound"], converged=converged,
+        reference_energy=out["reference_energy"], error_estimate=err,
+        frequency=out["frequency"], length=out["length"], center=out["center"],
+        v_min=out["v_min"],
+        reference_method=[reasons[k][0] for k in range(len(values))],
+        reference_reason=[reasons[k][1] for k in range(len(values))],
+        threshold=out["threshold"], basis_size=case.model.basis.size,
+        series_coefficient=out["series_coefficient"],
+        series_partial_sum=out["series_partial_sum"],
+        series_resummed=out["series_resummed"],
+        resum_methods=list(case.model.perturbation.resum) if case.model.perturbation else [],
+        series_optimal=out["series_optimal"], series_optimal_error=out["series_optimal_error"],
+        series_optimal_order=out["series_optimal_order"],
+        convergence_sizes=sizes,
+        convergence=study_vars,
+        reference_frequency=out["ref_frequency"], reference_length=out["ref_length"],
+        level_labels=[[_label(case, c, n) for n in range(case.model.levels.count)]
+                      for c in range(len(chans))],
+        notes=notes, warnings=(_study_warnings(case, out["study"]) if out["study"] else
+                               _quick_warnings(case, out, err, converged)),
+    )
+
+
+def _study_estimate(case: Case, out: dict[str, Any]) -> tuple[np.ndarray, np.ndarray]:
+    """error_estimate and converged from the study; a grown basis replaces energy and bound."""
+    conv = case.model.convergence
+    err = np.full(out["energy"].shape, np.nan)
+    for (k, c), st in out["study"].items():
+        if conv.grows:
+            out["energy"][k, c] = st["energy"]
+            out["bound"][k, c] = st["energy"] < out["threshold"][k, c]
+            err[k, c] = st["error"]
+        else:
+            err[k, c] = st["error_of_basis"]
+    converged = out["bound"] & np.isfinite(err) & (err < conv.tolerance)
+    if conv.grows:  # exactly the study's flags
+        for (k, c), st in out["study"].items():
+            converged[k, c] = st["converged"]
+    return err, converged
+
+
+def _stack_cells(cells: dict[tuple[int, int], dict[str, Any]], s: int, c: int
+                 ) -> dict[str, tuple[tuple[str, ...], np.ndarray, dict[str, Any]]]:
+    """Stack the study's per-cell variables along (scan, channel)."""
+    if not cells:
+        return {}
+    if len(cells) != s * c:
+        raise ValueError(f"convergence study: {len(cells)} of {s * c} (scan point, channel) "
+                         "cells were computed")
+    first = cells[(0, 0)]
+    stacked = {}
+    for name, (dims, _, attrs) in first.items():
+        rows = [np.stack([np.asarray(cells[(k, j)][name][1]) for j in range(c)])
+                for k in range(s)]
+        merged: dict[str, Any] = {} if "units" in attrs else {"units": "1"}  # text, flags
+        for key, value in attrs.items():
+            seen = [cells[kc][name][2].get(key, value) for kc in sorted(cells)]
+            if isinstance(value, str):
+                distinct = list(dict.fromkeys(str(v) for v in seen if str(v)))
+                merged[key] = "; ".join(distinct)
+            else:
+                merged[key] = value
+        stacked[name] = (("scan", "channel", *dims), np.stack(rows), merged)
+    return stacked
+
+
+def _trim_sizes(sizes: np.ndarray, variables: dict[str, Any]) -> tuple[np.ndarray, dict]:
+    """Drop the trailing basis sizes that no (scan point, channel) reached.
+
+    A tolerance-driven study's axis holds every size it could use (up to ``max_size``); sizes
+    beyond the largest one any channel grew to would only be NaN.
+    """
+    if "convergence_energy" not in variables or not sizes.size:
+        return sizes, variables
+    dims, values, _ = variables["convergence_energy"]
+    axis = dims.index("basis_size")
+    other = tuple(i for i in range(len(dims)) if i != axis)
+    used = np.flatnonzero(np.isfinite(values).any(axis=other))
+    if not used.size or used[-1] == sizes.size - 1:
+        return sizes, variables
+    keep = int(used[-1]) + 1
+    out = {}
+    for name, (d, v, a) in variables.items():
+        if "basis_size" in d:
+            v = np.take(v, np.arange(keep), axis=d.index("basis_size"))
+        out[name] = (d, v, a)
+    return sizes[:keep], out
+
+
+def _study_warnings(case: Case, study: dict[tuple[int, int], dict[str, Any]]) -> list[str]:
+    """One line per bound (channel, level) that is not converged at some scan point, and one
+    line for all the levels that lie above the threshold (discretised-continuum states)."""
+    values = case.scan_values()
+    groups: dict[tuple[int, int], list[tuple[int, str]]] = {}
+    continuum: dict[str, set[int]] = {}
+    for (k, c) in sorted(study):
+        for i, bound, label, text in study[(k, c)]["messages"]:
+            if bound:
+                groups.setdefault((c, i), []).append((k, text))
+            else:
+                continuum.setdefault(label, set()).add(k)
+    lines = []
+    for (_, _), items in sorted(groups.items()):
+        k, text = items[0]
+        if len(values) > 1:
+            more = f"; {len(items)} of {len(values)} scan points" if len(items) > 1 else ""
+            text += f" [at {case.scan_parameter} = {values[k]:g}{more}]"
+        lines.append(text)
+    if continuum:
+        names = ", ".join(f"{lab}" + (f" ({len(ks)} of {len(values)} scan points)"
+                                      if len(values) > 1 else "")
+                          for lab, ks in continuum.items())
+        grows = case.model.convergence.grows
+        lines.append(f"{len(continuum)} level(s) lie above the threshold, discretised-continuum "
+                     f"states flagged bound = 0 and converged = 0: {names}; request fewer levels "
+                     "(levels.count)" + (", or raise convergence.max_size if one should be "
+                                         "bound" if grows else ", or raise basis.size if one "
+                                         "should be bound"))
+    return lines
+
+
+
+
+def _label(case: Case, c: int, n: int) -> str:
+    ch = case.channels()[c]
+    return level_label(case.dimension, -1 if ch.l is None else ch.l, ch.j, n)
+
+
+def _points(ks: Sequence[int], total: int) -> str:
+    return f", {len(ks)} of {total} scan points" if total > 1 else ""
+
+
+def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged: np.ndarray
+                    ) -> list[str]:
+    """Without a study: one line naming every bound level whose quick estimate exceeds the
+    tolerance, and one for the levels above the threshold (discretised-continuum states)."""
+    m = smaller_size(case)
+    if m is None:  # convergence.estimate: none: nothing is estimated, nothing is claimed
+        return []
+    values = case.scan_values()
+    energy, bound = out["energy"], out["bound"]
+    unit = "" if case.units.energy == "1" else f" {case.units.energy}"
+    lines = []
+    slow = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])
+            if (bound[:, c, n] & ~converged[:, c, n]).any()]
+    if slow:
+        names = []
+        for c, n in slow:
+            ks = np.flatnonzero(bound[:, c, n] & ~converged[:, c, n])
+            worst = np.nanmax(err[ks, c, n]) if np.isfinite(err[ks, c, n]).any() else np.nan
+            names.append(f"{_label(case, c, n)} (error estimate up to {worst:.2g}{unit}"
+                         f"{_points(ks, len(values))})")
+        tol = case.model.convergence.tolerance
+        lines.append(f"{len(slow)} bound level(s) not converged: the change from {m} to "
+                     f"{case.model.basis.size} basis states exceeds the tolerance {tol:g}{unit}"
+                     f": {', '.join(names)}; raise basis.size (or set basis.length), or run a "
+                     "convergence study (convergence: {max_size: ...})")
+    above = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])
+             if (np.isfinite(energy[:, c, n]) & ~bound[:, c, n]).any()]
+    if above:
+        names = [_label(case, c, n) + (
+            f" ({np.count_nonzero(np.isfinite(energy[:, c, n]) & ~bound[:, c, n])} of "
+            f"{len(values)} scan points)" if len(values) > 1 else "") for c, n in above]
+        lines.append(f"{len(above)} level(s) lie above the threshold, discretised-continuum "
+                     f"states flagged bound = 0 and converged = 0: {', '.join(names)}; request "
+                     "fewer levels (levels.count), or raise basis.size if one should be bound")
+    return lines

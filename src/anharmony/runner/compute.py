@@ -1,0 +1,211 @@
+"""Computing one job: calls of the core (scan, series, converge) and their partial arrays.
+
+Every number comes from the public core functions a Python user calls:
+:func:`anharmony.scan.scan` for the levels (one channel over a job's scan points),
+:func:`anharmony.series.series` for the perturbation series and
+:func:`anharmony.convergence.converge` for a convergence study. This module only decides what
+to call with which settings and where the numbers go.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import importlib
+import warnings
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+
+from ..cases import Case, ChannelSpec, resolve_length, resolve_reference
+from ..errors import NumericalError
+from ..scan import ScanResult, scan
+from ..spectrum import Reference
+from ..store import empty_like_series
+from ..well import Well
+from .plan import Job, smaller_size
+
+__all__ = ["SERIES", "empty", "run_job"]
+
+SERIES = ("series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
+          "series_optimal_error", "series_optimal_order")
+
+
+def empty(case: Case, s: int) -> dict[str, Any]:
+    """NaN-filled arrays of a case's numbers for ``s`` scan points, and empty collections."""
+    c = len(case.channels())
+    n = case.model.levels.count
+    pert = case.model.perturbation
+    orders = pert.orders + 1 if pert else 0
+    methods = len(pert.resum) if pert else 0
+    out: dict[str, Any] = {
+        "energy": np.full((s, c, n), np.nan),
+        "bound": np.zeros((s, c, n), dtype=bool),
+        "smaller": np.full((s, c, n), np.nan),
+        "reference_energy": np.full((s, c, n), np.nan),
+        "threshold": np.full((s, c), np.nan),
+        "frequency": np.full(s, np.nan), "length": np.full(s, np.nan),
+        "ref_frequency": np.full(s, np.nan), "ref_length": np.full(s, np.nan),
+        "center": np.full(s, np.nan), "v_min": np.full(s, np.nan),
+    }
+    out.update(empty_like_series(s, c, n, orders, methods))
+    out["notes"] = set()
+    out["series_method"] = set()
+    out["cells"] = {}  # (k, c) → the study's variables of that cell
+    out["study"] = {}  # (k, c) → the study's levels, errors and messages
+    return out
+
+
+# =========================================================================== levels
+def _scan_call(case: Case, ch: ChannelSpec, points: tuple[int, ...],
+               refs: tuple[Reference, ...]) -> ScanResult:
+    """The core scan of one channel over the given scan points."""
+    values = case.scan_values()
+    kind = case.scan_target.kind
+    if kind == "setting":  # particle, reference or basis settings: the case's well per point
+        (k,) = points
+        value = values[k]
+        well, parameter, at, mass = case.well_at(value), "coupling", [1.0], case.mass_at(value)
+    else:
+        well, parameter = case.well_at(None), case.scan_parameter
+        at, mass = [values[k] for k in points], case.mass
+        value = at[0]
+    # one b per scan point for every channel (DESIGN §6), as the reference
+    lengths = [resolve_length(case, values[k], ref) for k, ref in zip(points, refs, strict=True)]
+    return scan(well, ch.dimension, ch.l, ch.j, parameter=parameter, values=at,
+                size=case.model.basis.size, length=lengths,
+                units=case.units, mass=mass, levels=case.model.levels.count,
+                reference=list(refs), truncated=smaller_size(case))
+
+
+def _store_levels(out: dict[str, Any], res: ScanResult, points: tuple[int, ...], c: int
+                  ) -> None:
+    for i, k in enumerate(points):
+        ref = res.references[i]
+        out["energy"][k, c] = res.energies[i]
+        out["bound"][k, c] = res.bound[i]
+        out["threshold"][k, c] = res.threshold[i]
+        out["reference_energy"][k, c] = res.reference_energies[i]
+        if res.truncated_energies is not None:
+            out["smaller"][k, c] = res.truncated_energies[i]
+        out["frequency"][k] = res.basis_frequency[i]
+        out["length"][k] = res.length[i]
+        out["ref_frequency"][k] = ref.frequency
+        out["ref_length"][k] = ref.length
+        out["center"][k] = ref.center
+        out["v_min"][k] = ref.v_min
+
+
+def _run_linear(case: Case, job: Job) -> dict[str, Any]:
+    """One channel over every scan point: one core scan (A + s B built once)."""
+    values = case.scan_values()
+    out = empty(case, len(values))
+    (c,) = job.channels
+    ch = case.channels()[c]
+    refs = job.references
+    assert refs is not None  # a linear job carries its references
+    res = _scan_call(case, ch, job.points, tuple(refs[k] for k in job.points))
+    _store_levels(out, res, job.points, c)
+    coupling = case.scan_target.kind == "coupling"
+    series_ok = True
+    if case.model.perturbation is not None:
+        for k in job.points:
+            if coupling and k != job.points[0]:
+                # the series of H_ref + λW is one series whatever the λ of the scan point
+                first = job.points[0]
+                for name in SERIES:
+                    out[name][k, c] = out[name][first, c]
+                continue
+            value = None if coupling else values[k]
+            series_ok &= _series_block(case, case.well_at(value), ch, refs[k],
+                                       case.mass_at(value), out, k, c)
+    return {"out": out, "points": job.points, "channels": job.channels,
+            "reasons": {k: (refs[k].method, refs[k].reason) for k in job.points},
+            "series_ok": series_ok}
+
+
+def _run_points(case: Case, job: Job) -> dict[str, Any]:
+    """The listed scan points over the listed channels, one core call each."""
+    values = case.scan_values()
+    chans = case.channels()
+    out = empty(case, len(values))
+    refs: dict[int, Reference] = {}
+    series_ok = True
+    for k in job.points:
+        value = values[k]
+        ref = resolve_reference(case, value)
+        refs[k] = ref
+        physical = case.well_at(value)  # coupling: λ = 1, whose λ-series is the scan's
+        mass = case.mass_at(value)
+        for c in job.channels:
+            ch = chans[c]
+            res = _scan_call(case, ch, (k,), (ref,))
+            _store_levels(out, res, (k,), c)
+            if case.model.convergence.study:
+                from .study import study_cell
+
+                study_cell(case, out, k, c, res.well_at(0), ref, mass, float(res.length[0]),
+                           res.energies[0], res.bound[0])
+            series_ok &= _series_block(case, physical, ch, ref, mass, out, k, c)
+    return {"out": out, "points": job.points, "channels": job.channels,
+            "reasons": {k: (r.method, r.reason) for k, r in refs.items()},
+            "series_ok": series_ok}
+
+
+def run_job(case: Case, job: Job) -> dict[str, Any]:
+    """Compute one job (runs in a worker); returns its partial arrays."""
+    return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
+
+
+# =========================================================================== series
+def _series_engine() -> Callable[..., Any] | None:
+    # by module path: the package exports the function under the subpackage's name
+    try:
+        module = importlib.import_module("anharmony.series")
+    except ImportError:  # pragma: no cover - the package ships it
+        return None
+    engine = getattr(module, "series", None)
+    return engine if callable(engine) else None
+
+
+def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass: float | None,
+                  out: dict[str, Any], k: int, c: int) -> bool:
+    """Fill the series arrays of one (scan point, channel); False if no engine is available.
+
+    Warnings of the series engine (a dense series that has not settled) are collected into
+    ``out["notes"]`` instead of being raised.
+    """
+    pert = case.model.perturbation
+    engine = _series_engine()
+    if pert is None or engine is None:
+        return engine is not None
+    spec: dict[str, float] = {"frequency": ref.frequency}
+    if ch.l is None:
+        spec["center"] = ref.center
+    order = pert.orders
+    lo, hi = order - order // 2, order // 2  # near-diagonal Padé [L/M], L + M = K
+    for n in range(case.model.levels.count):
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            ser = engine(well, dimension=ch.dimension, l=ch.l, level=n, orders=max(order, 1),
+                         exact=pert.exact, units=case.units, reference=spec, j=ch.j, mass=mass)
+            coef = np.asarray(ser.coefficients, dtype=float)[:order + 1]
+            out["series_coefficient"][k, c, n, :coef.size] = coef
+            out["series_partial_sum"][k, c, n, :coef.size] = np.asarray(
+                ser.partial_sums(1.0), dtype=float)[:order + 1]
+            for m, method in enumerate(pert.resum):
+                # stays NaN where this approximant does not exist
+                with contextlib.suppress(ValueError, ArithmeticError, np.linalg.LinAlgError,
+                                         NumericalError):
+                    value = (ser.pade(1.0, L=lo, M=hi) if method == "pade"
+                             else ser.borel_pade(1.0)).value
+                    out["series_resummed"][k, c, n, m] = float(np.asarray(value, dtype=float))
+            if order >= 1:
+                best = ser.optimal_truncation(1.0)
+                out["series_optimal"][k, c, n] = float(best.value)
+                out["series_optimal_error"][k, c, n] = float(best.error)
+                out["series_optimal_order"][k, c, n] = int(best.order)
+        out["series_method"].add(str(ser.method))
+        for w in caught:
+            out["notes"].add(f"series {ch.label} level {n}: {w.message}")
+    return True

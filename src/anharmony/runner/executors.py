@@ -1,0 +1,95 @@
+"""Executors of a batch's jobs: in this process, a process pool, or dask.distributed.
+
+Each executor yields ``(case_key, job, partial arrays or None, failure text or None)`` in
+completion order; a failing job is reported, never raised, so the batch goes on.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import sys
+import traceback
+import uuid
+from collections.abc import Iterator, Sequence
+
+from ..cases import Case
+from .compute import run_job
+from .plan import Job
+
+__all__ = ["distributed", "failure", "pool", "serial"]
+
+
+def _init_worker() -> None:
+    # the parent decides when to stop; workers must not die half-way on a Ctrl-C of the group
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    # one BLAS thread per worker: the pool already fills the cores (PITFALLS §6); the
+    # environment only reaches libraries loaded later, threadpoolctl (if present) the loaded
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ.setdefault(var, "1")
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        return
+    threadpool_limits(1)
+
+
+def _guarded(args: tuple[Case, Job]) -> tuple[int, Job, dict | None, str | None]:
+    case, job = args
+    try:
+        return job.case_key, job, run_job(case, job), None
+    except Exception as exc:  # reported per case; the batch goes on
+        return job.case_key, job, None, failure(exc)
+
+
+def failure(exc: BaseException) -> str:
+    text = f"{type(exc).__name__}: {exc}"
+    if os.environ.get("ANHARMONY_DEBUG"):
+        text += "\n" + "".join(traceback.format_exception(exc))
+    return text
+
+
+def serial(items: Sequence[tuple[Case, Job]]) -> Iterator[tuple]:
+    for item in items:
+        yield _guarded(item)
+
+
+def pool(items: Sequence[tuple[Case, Job]], jobs: int) -> Iterator[tuple]:
+    import multiprocessing as mp
+
+    method = "fork" if sys.platform.startswith("linux") else "spawn"
+    ctx = mp.get_context(method)
+    pool = ctx.Pool(processes=jobs, initializer=_init_worker)
+    try:
+        # largest jobs first so that the pool does not end on one long job
+        yield from pool.imap_unordered(_guarded, items, chunksize=1)
+        pool.close()
+    except BaseException:
+        pool.terminate()
+        raise
+    finally:
+        pool.join()
+
+
+def distributed(items: Sequence[tuple[Case, Job]], address: str) -> Iterator[tuple]:
+    try:
+        from distributed import Client, as_completed
+    except ImportError as exc:
+        raise ImportError("--scheduler needs dask.distributed: install with "
+                          "pip install 'anharmony[cluster]'") from exc
+    client = address if not isinstance(address, str) else Client(address)
+    own = isinstance(address, str)
+    try:
+        token = uuid.uuid4().hex[:12]  # keys unique per batch: tasks are never merged
+        futures = [client.submit(_guarded, item, key=f"anharmony-{token}-{i}", pure=False)
+                   for i, item in enumerate(items)]
+        try:
+            for fut in as_completed(futures):
+                yield fut.result()
+        except BaseException:
+            client.cancel(futures)
+            raise
+    finally:
+        if own:
+            client.close()

@@ -1,0 +1,187 @@
+"""Planning a case: its jobs, the references they share, and a description for ``check``.
+
+A case is split into *jobs*. When the scanned parameter enters the Hamiltonian linearly and
+the basis is the same at every scan point, a job is one channel over all scan points (the core
+scan builds H = A + s·B once); otherwise a job is one scan point over all channels, with the
+reference oscillator resolved at that point. A case with a convergence study has one job per
+(scan point, channel).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ..cases import Case, resolve_reference
+from ..scan import linear_in, pencil_applies
+from ..spectrum import Reference
+
+__all__ = ["Description", "Job", "describe", "output_path", "plan_case", "smaller_size"]
+
+
+@dataclass(frozen=True)
+class Job:
+    """One unit sent to a worker.
+
+    ``kind`` is ``"linear"`` (one channel, all scan points, references given) or
+    ``"points"`` (the listed scan points, every channel).
+    """
+
+    case_key: int
+    kind: str
+    points: tuple[int, ...]
+    channels: tuple[int, ...]
+    references: tuple[Reference, ...] | None = None
+
+    @property
+    def weight(self) -> int:
+        """Number of tasks (scan point × channel) in the job."""
+        return len(self.points) * len(self.channels)
+
+
+def references(case: Case) -> tuple[Reference, ...]:
+    """The reference oscillator of every scan point (one per point, shared by the channels)."""
+    values = case.scan_values()
+    if case.scan_target.kind == "coupling":
+        return (resolve_reference(case, None),) * len(values)
+    return tuple(resolve_reference(case, v) for v in values)
+
+
+def _scanned_in_core(case: Case) -> bool:
+    """Whether the scan parameter is one the core scan sets (coupling or a term's)."""
+    return case.model.scan is not None and case.scan_target.kind in ("coupling", "term")
+
+
+def _one_pencil(case: Case, refs: tuple[Reference, ...]) -> bool:
+    if not _scanned_in_core(case) or len(refs) < 2:
+        return False
+    return pencil_applies(case.well_at(None), case.scan_parameter, refs,
+                          case.basis_length_at(None), case.channels()[0].l)
+
+
+def plan_case(case: Case, case_key: int = 0) -> list[Job]:
+    """Split a case into jobs (see the module docstring)."""
+    values = case.scan_values()
+    chans = tuple(range(len(case.channels())))
+    if case.model.convergence.study:  # one converge() per (scan point, channel)
+        return [Job(case_key, "points", (k,), (c,)) for k in range(len(values)) for c in chans]
+    if _scanned_in_core(case) and len(values) > 1:
+        refs = references(case)
+        if _one_pencil(case, refs):
+            return [Job(case_key, "linear", tuple(range(len(values))), (c,), refs)
+                    for c in chans]
+    return [Job(case_key, "points", (k,), chans) for k in range(len(values))]
+
+
+def smaller_size(case: Case) -> int | None:
+    """M of the quick error estimate |E(N) − E(M)|, or None when it is not made."""
+    n = case.model.basis.size
+    if case.model.convergence.estimate == "none":
+        return None
+    sizes = [s for s in (case.model.convergence.sizes or []) if s < n]
+    m = max(sizes) if sizes else n - n // 4
+    return m if 1 <= m < n else None
+
+
+def output_path(case: Case, out_dir: str | Path | None) -> Path:
+    """Where a case's result goes (``out_dir`` replaces the case's folder)."""
+    return case.output if out_dir is None else Path(out_dir) / case.output.name
+
+
+# =========================================================================== describe
+@dataclass(frozen=True)
+class Description:
+    """What ``anharmony check`` prints for one case.
+
+    ``lines`` are the printed lines; ``problem`` is the reference oscillator's error message
+    when it cannot be resolved (then ``check`` exits 2).
+    """
+
+    lines: list[str] = field(default_factory=list)
+    problem: str | None = None
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.6g}"
+
+
+def _term_text(spec: dict) -> str:
+    (name, params), = spec.items()
+    inner = ", ".join(f"{k}: {v}" for k, v in (params or {}).items())
+    return f"{name}{{{inner}}}"
+
+
+def describe(case: Case, *, reference: bool = True) -> Description:
+    """The resolved case in words: units, reference oscillator, channels, scan and tasks."""
+    m = case.model
+    u = case.units
+    chans = case.channels()
+    values = case.scan_values()
+    mass = case.mass if case.mass is not None else u.default_mass
+    lines = [f"{case.name}: {m.title or '(no title)'}",
+             f"  units      {u.name} (energy {u.energy_text}, length {u.length_text}); mass "
+             f"{mass:g} {u.mass_text}"
+             + ("" if case.mass is not None else f" ({u.default_mass_note})"),
+             f"  well       {' + '.join(_term_text(t) for t in m.well)}"]
+    problem = None
+    if reference:
+        try:
+            ref = resolve_reference(case, values[0])
+        except (ValueError, ArithmeticError) as exc:
+            lines.append(f"  reference  cannot be resolved: {exc}")
+            problem = str(exc)
+        else:
+            where = "" if len(values) == 1 else f" at {case.scan_parameter} = {values[0]:g}"
+            lines += [f"  reference  hbar*omega = {_fmt(ref.frequency)} {u.energy_text}, b = "
+                      f"{_fmt(ref.length)} {u.length_text}, centre {_fmt(ref.center)}, "
+                      f"V_min = {_fmt(ref.v_min)}{where}",
+                      f"             {ref.method}: {ref.reason}"]
+    lines += [f"  basis      {m.basis.size} states per channel, length {m.basis.length}",
+              f"  channels   {', '.join(c.label for c in chans)} ({len(chans)}); "
+              f"{m.levels.count} levels each"]
+    if m.scan is not None:
+        how = ("per point and channel, for the convergence study" if m.convergence.study
+               else "linear: matrices built once" if _linear(case)
+               else "rebuilt per point")
+        lines.append(f"  scan       {case.scan_parameter}: {len(values)} values "
+                     f"{values[0]:g} … {values[-1]:g} ({how})")
+    if m.perturbation is not None:
+        p = m.perturbation
+        lines.append(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
+                     f"{', '.join(p.resum) or 'none'}")
+    lines += [f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}",
+              f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
+              f"{len(chans)} channel(s))",
+              f"  output     {output_path(case, None)}"]
+    return Description(lines, problem)
+
+
+def _linear(case: Case) -> bool:
+    """Whether the scanned parameter enters H linearly (checked without references)."""
+    return _scanned_in_core(case) and linear_in(case.well_at(None), case.scan_parameter)
+
+
+def _study_text(case: Any) -> str:
+    """The convergence settings of a case in one line."""
+    conv = case.model.convergence
+    unit = "hbar*omega" if case.units.energy == "1" else case.units.energy
+    tol = f"converged below {conv.tolerance:g} {unit}"
+    if not conv.study:
+        if conv.method == "none":
+            return "not estimated (convergence.estimate: none)"
+        return f"change from {smaller_size(case)} to {case.model.basis.size} states; {tol}"
+    s = case.study_settings()
+    sizes = s.size_axis(case.model.levels.count)
+    if not conv.scans_lengths:
+        where = "at the basis length"
+    elif s.lengths is not None:
+        where = f"lengths {', '.join(f'{b:g}' for b in s.lengths)} {case.units.length}"
+    elif s.frequencies is not None:
+        where = f"hbar*omega {', '.join(f'{w:g}' for w in s.frequencies)} {unit}"
+    else:
+        where = "lengths auto (re-optimised at each size)"
+    grow = (f"basis grows to the tolerance, sizes {sizes[0]} … {sizes[-1]}" if conv.grows
+            else f"sizes {', '.join(str(n) for n in sizes)}")
+    return (f"{grow}, {where}; error_estimate: {conv.method}; {tol}"
+            + ("; cross-check" if conv.cross_check else ""))

@@ -1,0 +1,514 @@
+"""Scans of one channel over a parameter of the well: the coupling λ or one term parameter.
+
+:func:`scan` is the core function every coupling or parameter scan goes through. When the
+parameter enters H linearly and the basis is the same at every value, the channel matrices are
+split once as H(s) = A + s B (:mod:`anharmony.pencil`) and each value costs one eigensolve;
+otherwise H is rebuilt per value. Both give the levels of :func:`~anharmony.spectrum.solve`.
+
+Parameters are named as in a case file: ``"coupling"`` (H = H_ref + λ (H − H_ref)),
+``"well[i].name"`` or one polynomial coefficient ``"well[i].coefficients[k]"``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError
+from .hamiltonian import Channel, channel_hamiltonian
+from .pencil import Pencil, coupling_pencil, coupling_threshold, linear_threshold, term_pencil
+from .spectrum import (
+    Reference,
+    Spectrum,
+    _check_levels,
+    _lowest_oscillator_level,
+    _positive,
+    default_length,
+    diagonalize,
+    reference_oscillator,
+    resolve_channel,
+)
+from .terms import Power, linear_parameters
+from .units import UnitSystem
+from .well import Well
+
+__all__ = ["SAME_BASIS_RTOL", "SCALED", "ScanResult", "coupled_well", "linear_in",
+           "pencil_applies", "scan", "set_parameter"]
+
+SAME_BASIS_RTOL = 1e-12  # references this close at every value share one basis (one pencil)
+
+# λ V of each term as a term of the same kind: the parameter V is proportional to, as each
+# term declares it (Term.linear_parameter)
+SCALED = linear_parameters()
+
+_PATH = re.compile(r"well\[(\d+)\]\.([A-Za-z_][A-Za-z0-9_]*)"
+                   r"(?:\[(-?\d+)\]|\.([A-Za-z_][A-Za-z0-9_]*))?")
+
+
+# =========================================================================== parameters
+@dataclass(frozen=True)
+class _Target:
+    """A parsed parameter: ``coupling``, or term ``index`` and ``keys`` in its parameters."""
+
+    coupling: bool
+    index: int = -1
+    kind: str = ""
+    keys: tuple[Any, ...] = ()
+
+
+def _target(well: Well, parameter: Any) -> _Target:
+    text = parameter.strip() if isinstance(parameter, str) else ""
+    if text in ("coupling", "lambda"):
+        return _Target(True)
+    m = _PATH.fullmatch(text)
+    if not m:
+        raise InputError(f"parameter: expected 'coupling', 'well[i].<name>' or "
+                         f"'well[i].coefficients[k]'; got {parameter!r}")
+    i = int(m[1])
+    if i >= len(well.specs):
+        raise InputError(f"parameter: {text!r}: the well has {len(well.specs)} term(s)")
+    kind = well.specs[i][0]
+    sub = (int(m[3]),) if m[3] is not None else (m[4],) if m[4] is not None else ()
+    return _Target(False, i, kind, (m[2], *sub))
+
+
+def _inverse_square(well: Well) -> bool:
+    # an inverse-square term changes the basis itself (effective l): not linear in a fixed basis
+    return any(isinstance(t, Power) and t.exponent == -2 for t in well.terms)
+
+
+def linear_in(well: Well, parameter: str) -> bool:
+    """Whether H is A + value · B in a fixed basis for this parameter of the well."""
+    t = _target(well, parameter)
+    if _inverse_square(well):
+        return False
+    if t.coupling:
+        return True
+    if len(t.keys) == 2:
+        return t.keys[0] == "coefficients"
+    return SCALED.get(t.kind) == t.keys[0]
+
+
+def _spec_dicts(well: Well) -> list[Any]:
+    return [s if not isinstance(s, Mapping) else {k: s} for k, s in well.specs]
+
+
+def set_parameter(well: Well, parameter: str, value: float) -> Well:
+    """The well with one term parameter set (``"coupling"``: the well itself)."""
+    t = _target(well, parameter)
+    if t.coupling:
+        return well
+    terms = _spec_dicts(well)
+    spec = terms[t.index]
+    if not isinstance(spec, Mapping):  # a term object given directly
+        if len(t.keys) != 1 or not hasattr(spec, t.keys[0]):
+            raise InputError(f"parameter: {parameter!r}: the {t.kind} term has no parameter "
+                             f"{t.keys[0]!r}")
+        terms[t.index] = dataclasses.replace(spec, **{t.keys[0]: value})
+    else:
+        params = dict(spec[t.kind] or {})
+        if len(t.keys) == 2:
+            name, key = t.keys
+            params[name] = {**params.get(name, {}), key: value}
+        else:
+            params[t.keys[0]] = value
+        terms[t.index] = {t.kind: params}
+    return Well.from_terms(terms, well.units, well.mass)
+
+
+def _reference_well(well: Well, ref: Reference, radial: bool) -> Well:
+    """V_ref = v_min + ½ m ω² (x − x₀)² of a reference oscillator, in the well's units."""
+    harmonic: dict[str, float] = {"frequency": ref.frequency}
+    if not radial and ref.center:
+        harmonic["center"] = ref.center
+    terms: list[dict] = [{"harmonic": harmonic}]
+    if ref.v_min:
+        terms.append({"polynomial": {"coefficients": {0: ref.v_min}}})
+    return Well.from_terms(terms, well.units, well.mass)
+
+
+def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> Well:
+    """The well λ V + (1 − λ) V_ref of H_ref + λ (H − H_ref), as terms of the same kinds.
+
+    ``radial`` is True for central wells and 1D parity channels (V_ref centred at 0).
+
+    Raises
+    ------
+    InputError
+        For a term whose potential is not proportional to one of its parameters (a formula):
+        scan one of its parameters instead.
+    """
+    if lam == 1.0:
+        return well
+    units, mass = well.units, well.mass
+    terms: list[Any] = []
+    if lam != 0.0:
+        for t in well.terms:
+            if t.kind in ("harmonic", "polynomial"):
+                poly = t.polynomial() or {}
+                terms.append(Well.from_terms([{"polynomial": {
+                    "coefficients": {p: lam * v for p, v in poly.items()},
+                    "center": t.center}}], units, mass).terms[0])
+            elif t.kind in SCALED:
+                name = SCALED[t.kind]
+                terms.append(dataclasses.replace(t, **{name: lam * getattr(t, name)}))
+            else:
+                raise InputError(f"scan: coupling: the {t.kind} term cannot be scaled by "
+                                 "lambda as a well; scan one of its parameters")
+    k = reference.frequency ** 2 / (2.0 * units.hbar2_over_2m(mass))  # m ω² from ħω
+    coeffs = {p: v for p, v in ((0, (1.0 - lam) * reference.v_min), (2, (1.0 - lam) * 0.5 * k))
+              if v != 0.0}
+    if coeffs:
+        terms.append(Well.from_terms([{"polynomial": {
+            "coefficients": coeffs, "center": 0.0 if radial else reference.center}}],
+            units, mass).terms[0])
+    return Well.from_terms(terms, units, mass)
+
+
+# =========================================================================== the pencil
+def _split(well: Well, t: _Target, channel: Channel, ref: Reference, size: int, b: float,
+           center: float) -> tuple[Pencil, float, float, Any]:
+    """The pencil A + s B, the thresholds of its two parts and the basis.
+
+    For ``coupling`` the first threshold is the physical well's and the second NaN.
+    """
+    if t.coupling:
+        return coupling_pencil(well, _reference_well(well, ref, channel.l is not None),
+                               channel, size, b, center)
+    terms = _spec_dicts(well)
+    kind, (name, *sub) = t.kind, t.keys
+    scanned = terms[t.index][kind]
+    if sub:  # one polynomial coefficient
+        coeffs = dict(scanned[name])
+        unit = {kind: {**scanned, name: {sub[0]: 1.0}}}
+        del coeffs[sub[0]]
+        rest_terms = [*terms[:t.index], *terms[t.index + 1:]]
+        if coeffs:
+            rest_terms.append({kind: {**scanned, name: coeffs}})
+    else:
+        unit = {kind: {**scanned, name: 1.0}}
+        rest_terms = [*terms[:t.index], *terms[t.index + 1:]]
+    unit_well = Well.from_terms([unit], well.units, well.mass)
+    rest_well = Well.from_terms(rest_terms, well.units, well.mass) if rest_terms else None
+    return term_pencil(unit_well, rest_well, channel, size, b, center)
+
+
+# =========================================================================== results
+@dataclass(frozen=True, eq=False)
+class ScanResult:
+    """Levels of one channel at every value of a scan (S values, L levels).
+
+    Attributes
+    ----------
+    parameter : str
+    values : ndarray (S,)
+    energies, bound, reference_energies : ndarray (S, L)
+        As in :class:`~anharmony.spectrum.Spectrum`, one row per value.
+    threshold : ndarray (S,)
+    references : tuple of Reference (S,)
+    length, center, basis_frequency : ndarray (S,)
+        b, x₀ and ħω of the basis used at each value.
+    truncated_size : int or None
+    truncated_energies : ndarray (S, L) or None
+        Lowest levels of the leading ``truncated_size`` block of the same matrices (NaN where
+        the block has fewer levels): ``|energies − truncated_energies|`` estimates the error.
+    method : str
+        ``"pencil"`` (A + s B built once) or ``"rebuild"`` (the Hamiltonian per value).
+    vectors : ndarray (S, N, L) or None
+    """
+
+    parameter: str
+    values: np.ndarray
+    energies: np.ndarray
+    bound: np.ndarray
+    threshold: np.ndarray
+    reference_energies: np.ndarray
+    references: tuple[Reference, ...]
+    length: np.ndarray
+    center: np.ndarray
+    basis_frequency: np.ndarray
+    channel: Channel
+    units: UnitSystem
+    mass: float | None
+    size: int
+    method: str
+    well: Well = dataclasses.field(repr=False)
+    bases: tuple[Any, ...] = dataclasses.field(repr=False, default=())
+    truncated_size: int | None = None
+    truncated_energies: np.ndarray | None = None
+    vectors: np.ndarray | None = dataclasses.field(repr=False, default=None)
+
+    def __len__(self) -> int:
+        return len(self.values)
+
+    @property
+    def shifts(self) -> np.ndarray:
+        """Anharmonic shifts: energy − reference oscillator level, (S, L)."""
+        return self.energies - self.reference_energies
+
+    def well_at(self, k: int) -> Well:
+        """The well whose levels value k holds (coupling: λ V + (1 − λ) V_ref)."""
+        t = _target(self.well, self.parameter)
+        if t.coupling:
+            return coupled_well(self.well, float(self.values[k]), self.references[k],
+                                self.channel.l is not None)
+        return set_parameter(self.well, self.parameter, float(self.values[k]))
+
+    def potential(self, k: int, coords: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
+        """Central potential and spin–orbit radial form (None without one) at value k.
+
+        For a coupling scan V_λ = (1 − λ) V_ref + λ V, for any term.
+        """
+        t = _target(self.well, self.parameter)
+        if not t.coupling:
+            w = self.well_at(k)
+            return w.value(coords), (w.spin_orbit_value(coords) if w.has_spin_orbit else None)
+        lam = float(self.values[k])
+        v = self.well.value(coords)
+        so = self.well.spin_orbit_value(coords) if self.well.has_spin_orbit else None
+        if lam != 1.0:
+            ref = _reference_well(self.well, self.references[k], self.channel.l is not None)
+            v = (1.0 - lam) * ref.value(coords) + lam * v
+            so = None if so is None else lam * so
+        return v, so
+
+    def wavefunctions(self, k: int, coords: np.ndarray) -> np.ndarray:
+        """ψ of each level at value k (needs ``vectors=True``), shape (L, len(coords))."""
+        if self.vectors is None:
+            raise InputError("wavefunctions: the scan ran without vectors; pass vectors=True")
+        return self.vectors[k].T @ self.bases[k].functions(coords)
+
+    def spectrum(self, k: int) -> Spectrum:
+        """Value k as a :class:`~anharmony.spectrum.Spectrum` (no vector columns without
+        ``vectors=True``)."""
+        vec = self.vectors[k] if self.vectors is not None else np.zeros((self.size, 0))
+        return Spectrum(energies=self.energies[k], bound=self.bound[k], vectors=vec,
+                        channel=self.channel, basis=self.bases[k], reference=self.references[k],
+                        threshold=float(self.threshold[k]), units=self.units, mass=self.mass,
+                        well=self.well_at(k), reference_energies=self.reference_energies[k])
+
+    @property
+    def spectra(self) -> list[Spectrum]:
+        """One :class:`~anharmony.spectrum.Spectrum` per value."""
+        return [self.spectrum(k) for k in range(len(self))]
+
+
+# =========================================================================== the scan
+def _values(values: Any) -> np.ndarray:
+    try:
+        arr = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        arr = np.zeros((0, 0))  # not numbers: refused below
+    if arr.ndim != 1 or arr.size == 0 or not np.isfinite(arr).all():
+        raise InputError(f"values: expected a non-empty list of finite numbers; got {values!r}")
+    return arr
+
+
+def _references(well: Well, t: _Target, channel: Channel, mass: float | None, levels: int,
+                reference: Any, values: np.ndarray) -> tuple[Reference, ...]:
+    if isinstance(reference, Reference):
+        return (reference,) * len(values)
+    if isinstance(reference, Sequence) and not isinstance(reference, str):
+        if len(reference) != len(values):
+            raise InputError(f"reference: {len(reference)} references for {len(values)} "
+                             "values; give one, or one per value")
+        return tuple(r if isinstance(r, Reference) else reference_oscillator(
+            set_parameter(well, _path(t), v), channel.dimension, channel.l, None, levels, r,
+            channel.j) for r, v in zip(reference, values, strict=True))
+    if t.coupling:  # the reference of the physical well at every λ
+        ref = reference_oscillator(well, channel.dimension, channel.l, None, levels, reference,
+                                   channel.j)
+        return (ref,) * len(values)
+    return tuple(reference_oscillator(set_parameter(well, _path(t), float(v)),
+                                      channel.dimension, channel.l, None, levels, reference,
+                                      channel.j) for v in values)
+
+
+def _path(t: _Target) -> str:
+    if t.coupling:
+        return "coupling"
+    name, *sub = t.keys
+    return f"well[{t.index}].{name}" + (f"[{sub[0]}]" if sub else "")
+
+
+def _same_basis(bases: Sequence[tuple[float, float]]) -> bool:
+    b0, c0 = bases[0]
+    return all(math.isclose(b, b0, rel_tol=SAME_BASIS_RTOL)
+               and math.isclose(c, c0, rel_tol=SAME_BASIS_RTOL, abs_tol=1e-14)
+               for b, c in bases)
+
+
+def _bases(refs: Sequence[Reference], length: float | str, radial: bool,
+           wells: Sequence[Well] | None = None, channel: Channel | None = None,
+           levels: int = 0, size: int = 0) -> list[tuple[float, float]]:
+    """(b, x₀) of the basis at each value: the b :func:`~anharmony.spectrum.solve` would take
+    for that value's well (``length="auto"``), or the given length."""
+    if isinstance(length, Sequence) and not isinstance(length, str):
+        if len(length) != len(refs):
+            raise InputError(f"length: {len(length)} lengths for {len(refs)} values; give "
+                             "one, 'auto', or one per value")
+        return [(_positive("length", b), r.center if not radial else 0.0)
+                for b, r in zip(length, refs, strict=True)]
+    if length != "auto":
+        fixed = _positive("length", length)
+        return [(fixed, r.center if not radial else 0.0) for r in refs]
+    if wells is None or channel is None:
+        return [(r.length, r.center if not radial else 0.0) for r in refs]
+    return [(default_length(w, channel, levels, size, r)[0], r.center if not radial else 0.0)
+            for w, r in zip(wells, refs, strict=True)]
+
+
+def pencil_applies(well: Well, parameter: str, references: Sequence[Reference],
+                   length: float | str = "auto", l: int | None = 0) -> bool:
+    """Whether :func:`scan` over these per-value references builds one pencil A + s B."""
+    return (len(references) > 1 and linear_in(well, parameter)
+            and _same_basis(_bases(references, length, l is not None)))
+
+
+def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
+               basis: tuple[float, float], size: int, count: int, truncated: int | None,
+               v: float, vectors: bool) -> tuple[np.ndarray, Any, Any, float, Any]:
+    """Levels at one value with the Hamiltonian built for it, as :func:`solve` does."""
+    b, center = basis
+    radial = channel.l is not None
+    if t.coupling:
+        try:
+            w = coupled_well(well, v, ref, radial)
+        except InputError:
+            if _inverse_square(well):
+                raise
+            # a formula term: H_ref + λ (H − H_ref) from the matrices at this one λ
+            pen, thr, _, basis_obj = _split(well, t, channel, ref, size, b, center)
+            h = pen.at(v)
+            e, vec = pen.levels(h, size, count, vectors)
+            small = None if truncated is None else pen.levels(h, truncated, count)[0]
+            return e, vec, small, coupling_threshold(thr, v), basis_obj
+    else:
+        w = set_parameter(well, _path(t), v)
+    mats = channel_hamiltonian(w, channel, size, b, center)
+    h = mats.total
+    e = np.full(count, np.nan)
+    found, vec = diagonalize(h, count, mats.bandwidth)
+    e[:len(found)] = found[:count]
+    small = None if truncated is None else np.full(count, np.nan)
+    if small is not None:
+        m = min(count, truncated)
+        small[:m] = diagonalize(np.ascontiguousarray(h[:truncated, :truncated]), m,
+                                mats.bandwidth)[0][:m]
+    thr = float(w.threshold(channel.dimension, symmetric=radial))
+    return e, vec, small, thr, mats.basis
+
+
+def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
+         parameter: str = "coupling", values: Sequence[float] = (1.0,), size: int = 60,
+         length: float | str | Sequence[float] = "auto",
+         units: str | UnitSystem = "oscillator", mass: float | None = None, levels: int = 5,
+         reference: str | Mapping[str, float] | Reference | Sequence[Any] = "auto",
+         truncated: int | None = None, vectors: bool = False) -> ScanResult:
+    """Lowest levels of one channel at every value of a scanned parameter.
+
+    Parameters
+    ----------
+    well, dimension, l, j, size, units, mass, levels
+        As in :func:`~anharmony.spectrum.solve`.
+    parameter
+        ``"coupling"`` (H_ref + λ (H − H_ref), ``values`` are λ), ``"well[i].<name>"`` or
+        ``"well[i].coefficients[k]"``.
+    values
+        The values of the parameter.
+    length
+        Oscillator length b of the basis, one per value, or ``"auto"``: at each value the b
+        :func:`~anharmony.spectrum.solve` would choose (for ``coupling``: the physical well's,
+        so that every λ shares one basis).
+    reference
+        ``"auto"`` or a mapping as in :func:`~anharmony.spectrum.solve` (resolved per value;
+        for ``coupling`` once, for the physical well), a resolved
+        :class:`~anharmony.spectrum.Reference`, or a sequence with one per value.
+    truncated
+        Also diagonalise the leading ``truncated`` × ``truncated`` block of the same matrices
+        (the quick error estimate |E(N) − E(M)|).
+    vectors
+        Keep the eigenvectors (for wavefunctions).
+
+    Returns
+    -------
+    ScanResult
+
+    Notes
+    -----
+    The pencil H(s) = A + s B is used when the parameter enters linearly (no inverse-square
+    term, which changes the basis), there is more than one value and every value has the same
+    basis; A and B are then built once and kept in LAPACK band storage where the banded solver
+    applies. Otherwise each value is solved as :func:`~anharmony.spectrum.solve` would.
+    """
+    well, channel = resolve_channel(well, dimension, l, j, units, mass)
+    system = well.units
+    if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
+        raise InputError(f"size: must be an integer >= 1; got {size!r}")
+    count = _check_levels(levels, size)
+    if truncated is not None and (isinstance(truncated, bool)
+                                  or not isinstance(truncated, (int, np.integer))
+                                  or not 1 <= truncated < size):
+        raise InputError(f"truncated: must be an integer from 1 to size - 1 = {size - 1}; "
+                         f"got {truncated!r}")
+    t = _target(well, parameter)
+    vals = _values(values)
+    refs = _references(well, t, channel, mass, count, reference, vals)
+    radial = channel.l is not None
+    wells = ([well] * len(vals) if t.coupling  # one basis for every λ: the physical well's
+             else [set_parameter(well, _path(t), float(v)) for v in vals])
+    bases = _bases(refs, length, radial, wells, channel, count, size)
+    osc = (2.0 * np.arange(count) + _lowest_oscillator_level(channel) if radial
+           else np.arange(count) + 0.5)
+    s = len(vals)
+    out_e = np.full((s, count), np.nan)
+    out_thr = np.full(s, np.nan)
+    out_small = None if truncated is None else np.full((s, count), np.nan)
+    out_vec = np.full((s, size, count), np.nan) if vectors else None
+    basis_objs: list[Any] = []
+    pencil = s > 1 and linear_in(well, _path(t)) and _same_basis(bases)
+    if pencil:
+        b, center = bases[0]
+        pen, thr_a, thr_b, basis = _split(well, t, channel, refs[0], size, b, center)
+        basis_objs = [basis] * s
+        for k, v in enumerate(vals):
+            h = pen.at(v)
+            out_e[k], vec = pen.levels(h, size, count, vectors)
+            if out_vec is not None:
+                out_vec[k] = vec
+            if out_small is not None:
+                out_small[k] = pen.levels(h, truncated, count)[0]
+            if t.coupling:
+                out_thr[k] = coupling_threshold(thr_a, v)
+                continue
+            thr = linear_threshold(thr_a, thr_b, v)
+            out_thr[k] = thr if not math.isnan(thr) else float(
+                set_parameter(well, _path(t), float(v)).threshold(channel.dimension,
+                                                                  symmetric=radial))
+    else:
+        for k, v in enumerate(vals):
+            e, vec, small, thr, basis = _one_value(well, t, channel, refs[k], bases[k], size,
+                                                    count, truncated, float(v), vectors)
+            out_e[k], out_thr[k] = e, thr
+            if out_vec is not None:
+                out_vec[k] = vec
+            if out_small is not None:
+                out_small[k] = small
+            basis_objs.append(basis)
+    lengths = np.array([b for b, _ in bases])
+    v_min = np.array([r.v_min for r in refs])
+    hw = np.array([r.frequency for r in refs])
+    return ScanResult(
+        parameter=_path(t), values=vals, energies=out_e, bound=out_e < out_thr[:, None],
+        threshold=out_thr, reference_energies=v_min[:, None] + hw[:, None] * osc[None, :],
+        references=refs, length=lengths, center=np.array([c for _, c in bases]),
+        basis_frequency=np.array([system.frequency_from_length(b, well.mass) for b in lengths]),
+        channel=channel, units=system, mass=well.mass, size=int(size),
+        method="pencil" if pencil else "rebuild", well=well, bases=tuple(basis_objs),
+        truncated_size=truncated, truncated_energies=out_small, vectors=out_vec)
