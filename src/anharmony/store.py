@@ -34,8 +34,10 @@ __all__ = [
     "CORE_NAMES",
     "RESULT_SCHEMA",
     "CaseResult",
+    "FitOutcome",
     "ResultFileError",
     "build_dataset",
+    "parameter_units",
     "read_dataset",
     "result_attrs",
     "sanitize_attrs",
@@ -55,6 +57,53 @@ CORE_NAMES = (
 )
 
 
+
+
+@dataclass(frozen=True, eq=False)
+class FitOutcome:
+    """The fit of a case with a ``fit:`` block, as plain values (P parameters, D data).
+
+    Attributes
+    ----------
+    parameters : tuple of str (P,)
+        Parameter paths ``well[i].name``.
+    values, uncertainties : ndarray (P,)
+    correlation : ndarray (P, P)
+    chi2 : float
+    dof : int
+    names, quantities : tuple of str (D,)
+        Each datum's name (``data[k]`` where it has none) and ``level`` or ``spacing``.
+    levels : ndarray of int (D, 2)
+        The datum's level(s); the second is −1 for a level.
+    l, j : ndarray (D,)
+        The datum's channel: l (−1 the 1D basis without symmetry), j (NaN without spin).
+    measured, sigma, prediction, residual, basis_error : ndarray (D,)
+        Residual in σ, the others in the energy unit.
+    undetermined, warnings : tuple of str
+        Parameter combinations the data cannot fix; the fit's warnings.
+    evaluations : int
+        Model evaluations of the least-squares passes.
+    """
+
+    parameters: tuple[str, ...]
+    values: np.ndarray
+    uncertainties: np.ndarray
+    correlation: np.ndarray
+    chi2: float
+    dof: int
+    names: tuple[str, ...]
+    quantities: tuple[str, ...]
+    levels: np.ndarray
+    l: np.ndarray
+    j: np.ndarray
+    measured: np.ndarray
+    sigma: np.ndarray
+    prediction: np.ndarray
+    residual: np.ndarray
+    basis_error: np.ndarray
+    undetermined: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = ()
+    evaluations: int = 0
 
 
 @dataclass(frozen=True, eq=False)
@@ -94,6 +143,9 @@ class CaseResult:
         Remarks on how numbers were obtained (stored in the ``comment`` attribute).
     warnings : list of str
         One line per level that is not converged (stored in ``convergence_warnings``).
+    fit : FitOutcome or None
+        The fit of a case with a ``fit:`` block (its levels are those of the fitted well);
+        stored as the ``fit_*`` variables.
     """
 
     scan_value: np.ndarray
@@ -128,6 +180,7 @@ class CaseResult:
     notes: Sequence[str] = ()
     warnings: Sequence[str] = ()
     level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
+    fit: FitOutcome | None = None  # the fit of a case with a fit: block
 
 
 # --------------------------------------------------------------------------- attributes
@@ -194,7 +247,15 @@ def scan_units(case: Case) -> tuple[str, str]:
         unit, name = table[t.keys]
         return ("1" if u.energy == "1" else unit), name
     term, name, *sub = t.keys
-    params = case.model.well[t.term][term] or {}
+    return parameter_units(case, t.term, name, *sub)
+
+
+def parameter_units(case: Case, index: int, name: str, *sub: Any) -> tuple[str, str]:
+    """CF units and a long name of parameter ``name`` of term ``well[index]``."""
+    u = case.units
+    (term, params), = case.model.well[index].items()
+    params = params or {}
+    path = f"well[{index}].{name}"
     dims = {"depth": (1, 0), "frequency": (1, 0), "stiffness": (1, -2), "radius": (0, 1),
             "diffuseness": (0, 1), "range": (0, 1), "waist": (0, 1), "center": (0, 1),
             "r0": (0, 1), "length": (0, 1), "width": (0, -1), "mass_number": (0, 0),
@@ -332,6 +393,12 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
             raise ValueError(f"{name}: has a basis_size axis but the result has no sizes")
         data[name] = (tuple(dims), values, dict(var_attrs))
 
+    fit_attrs: dict[str, Any] = {}
+    if result.fit is not None:
+        fit_coords, fit_data, fit_attrs = _fit_variables(case, result.fit)
+        coords.update(fit_coords)
+        data.update(fit_data)
+
     reasons = sorted(set(result.reference_reason))
     now = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
     attrs = {
@@ -360,6 +427,7 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "case_file": case.file,
         "case_index": -1 if case.index is None else int(case.index),
         "case": case.text,
+        **fit_attrs,
     }
     attrs = {k: v for k, v in attrs.items() if v != ""}
     ds = xr.Dataset(
@@ -370,6 +438,82 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
     )
     _check_no_object(ds)
     return ds
+
+
+def _fit_variables(case: Case, fit: FitOutcome) -> tuple[dict, dict, dict]:
+    """Coordinates, variables and global attributes of the ``fit_*`` part of a result."""
+    e_units = case.units.energy
+    units, names = [], []
+    for path in fit.parameters:
+        i, name = path.split("].")
+        unit, long_name = parameter_units(case, int(i.removeprefix("well[")), name)
+        units.append(unit)
+        names.append(long_name)
+    same = len(set(units)) == 1
+    in_units = ({"units": units[0]} if same else {})
+    where = ("" if same else "; the parameters have different units, which one CF units "
+             "attribute cannot express: each is in its entry of fit_parameter_units")
+    par, dat = ("fit_parameter",), ("fit_datum",)
+    coords = {
+        "fit_parameter": (par, np.asarray(fit.parameters, dtype=str),
+                          {"units": "1", "long_name": "path of the fitted parameter in the "
+                           "case file"}),
+        "fit_parameter_b": (("fit_parameter_b",), np.asarray(fit.parameters, dtype=str),
+                            {"units": "1", "long_name": "path of the fitted parameter (second "
+                             "axis of fit_correlation)"}),
+        "fit_datum": (dat, np.asarray(fit.names, dtype=str),
+                      {"units": "1", "long_name": "name of the datum (data[k] where the case "
+                       "gives none)"}),
+    }
+    data = {
+        "fit_parameter_units": (par, np.asarray(units, dtype=str),
+                                {"units": "1", "long_name": "units of each fitted parameter "
+                                 "(one CF units attribute per variable cannot hold mixed "
+                                 "units, so fit_value and fit_uncertainty refer here)"}),
+        "fit_parameter_name": (par, np.asarray(names, dtype=str),
+                               {"units": "1", "long_name": "what the fitted parameter is"}),
+        "fit_value": (par, np.asarray(fit.values, dtype=float),
+                      {**in_units, "long_name": "best value of the fitted parameter" + where}),
+        "fit_uncertainty": (par, np.asarray(fit.uncertainties, dtype=float),
+                            {**in_units, "long_name": "standard uncertainty of the fitted "
+                             "parameter (inf: the data cannot fix it)" + where}),
+        "fit_correlation": (("fit_parameter", "fit_parameter_b"),
+                            np.asarray(fit.correlation, dtype=float),
+                            {"units": "1", "long_name": "correlation of the fitted parameters"}),
+        "fit_quantity": (dat, np.asarray(fit.quantities, dtype=str),
+                         {"units": "1", "long_name": "measured quantity: level (E_a) or "
+                          "spacing (E_b - E_a)"}),
+        "fit_level_a": (dat, np.asarray(fit.levels[:, 0], dtype=np.int64),
+                        {"units": "1", "long_name": "0-based index a of the level in its "
+                         "channel"}),
+        "fit_level_b": (dat, np.asarray(fit.levels[:, 1], dtype=np.int64),
+                        {"units": "1", "long_name": "0-based index b of the upper level of a "
+                         "spacing (-1 for a level)"}),
+        "fit_l": (dat, np.asarray(fit.l, dtype=np.int64),
+                  {"units": "1", "long_name": "l of the datum's channel (-1: the 1D basis "
+                   "without symmetry)"}),
+        "fit_j": (dat, np.asarray(fit.j, dtype=float),
+                  {"units": "1", "long_name": "j of the datum's channel (NaN without spin)"}),
+        "fit_measured": (dat, np.asarray(fit.measured, dtype=float),
+                         _float_attrs(e_units, "measured value of the datum")),
+        "fit_sigma": (dat, np.asarray(fit.sigma, dtype=float),
+                      _float_attrs(e_units, "standard uncertainty of the measured value")),
+        "fit_prediction": (dat, np.asarray(fit.prediction, dtype=float),
+                           _float_attrs(e_units, "value of the datum computed with the "
+                                        "fitted parameters")),
+        "fit_residual": (dat, np.asarray(fit.residual, dtype=float),
+                         _float_attrs("1", "(fit_prediction - fit_measured) / fit_sigma, in "
+                                      "standard uncertainties")),
+        "fit_basis_error": (dat, np.asarray(fit.basis_error, dtype=float),
+                            _float_attrs(e_units, "basis error of fit_prediction: change in a "
+                                         "basis half as large again, or the solver's "
+                                         "estimate if larger")),
+    }
+    attrs = {"fit_chi2": float(fit.chi2), "fit_dof": int(fit.dof),
+             "fit_evaluations": int(fit.evaluations),
+             "fit_undetermined": "; ".join(fit.undetermined),
+             "fit_warnings": "\n".join(fit.warnings)}
+    return coords, data, attrs
 
 
 def _convergence_mode(case: Case) -> str:

@@ -36,22 +36,8 @@ class Interrupted(BaseException):
         self.signal = signum
 
 
-def refuse_fit(cases: Sequence[Case]) -> None:
-    """CaseError for every case with a ``fit:`` block: this version does not run fits yet,
-    and running the well as written would silently ignore the block."""
-    problems = [Problem(c.file, None, None, "fit" if c.index is None else
-                        f"cases[{c.index}].fit",
-                        "the run does not fit the well in this version; its levels would be "
-                        "those of the starting values. Use anharmony.fit(**case.fit_arguments())"
-                        " from Python, or remove the fit: block to run the well as written")
-                for c in cases if c.model.fit is not None]
-    if problems:
-        raise CaseError(problems)
-
-
 def compute_case(case: Case) -> CaseResult:
     """All numbers of one case, computed serially in this process."""
-    refuse_fit([case])
     return assemble(case, [run_job(case, job) for job in plan_case(case)])
 
 
@@ -222,7 +208,6 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         raise ValueError(f"jobs: must be an integer >= 1; got {jobs!r}")
     if cross_check:
         cases = [c.with_cross_check() for c in cases]
-    refuse_fit(cases)
     todo, skipped = check_outputs(cases, out_dir, resume=resume, overwrite=overwrite)
     report = BatchReport(skipped=skipped)
     for case, path in skipped:
@@ -287,7 +272,7 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
             del pending[key]
             report.written.append((case, path))
             emit("written", case=case, path=path)
-            for line in result.warnings:
+            for line in [*result.warnings, *(result.fit.warnings if result.fit else ())]:
                 report.warnings.append((case, line))
                 emit("warning", case=case, message=line)
     except KeyboardInterrupt:
