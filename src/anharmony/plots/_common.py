@@ -36,6 +36,7 @@ _UNIT_NAMES = {"angstrom": "Å", "um": "µm", "micrometre": "µm", "MeV/c2": "Me
 _HINTS = {
     "convergence_energy": " (give convergence: {sizes: [...]} in the case and run it again)",
     "series_": " (give a perturbation: section in the case and run it again)",
+    "fit_": " (it is written by a case with a fit: block)",
     "case": "",
 }
 

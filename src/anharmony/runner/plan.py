@@ -164,11 +164,26 @@ def describe(case: Case, *, reference: bool = True) -> Description:
         p = m.perturbation
         lines.append(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
                      f"{', '.join(p.resum) or 'none'}")
+    if m.fit is not None:
+        lines.append(f"  fit        {_fit_text(case)}")
     lines += [f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}",
               f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
               f"{len(chans)} channel(s))",
               f"  output     {output_path(case, None)}"]
     return Description(lines, problem)
+
+
+def _fit_text(case: Case) -> str:
+    """The fit of a case in one line: its parameters and how many data of which kind."""
+    params = case.fit_parameters()
+    rows = case.fit_data.rows if case.fit_data else ()
+    spacings = sum(1 for d in rows if d.get("quantity", "spacing" if "levels" in d
+                                            else "level") == "spacing")
+    kinds = ", ".join(f"{n} {w}{'s' if n != 1 else ''}" for n, w in
+                      ((len(rows) - spacings, "level"), (spacings, "spacing")) if n)
+    source = f" from {case.fit_data.name}" if case.fit_data and case.fit_data.source else ""
+    return (f"{len(params)} parameter(s) {', '.join(params)} to {len(rows)} data ({kinds})"
+            f"{source}; then the levels of the fitted well")
 
 
 def _linear(case: Case) -> bool:
