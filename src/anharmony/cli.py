@@ -400,13 +400,13 @@ def _print_fit(ds: Any, energy_units: str) -> None:
     """The fit table: each parameter with its uncertainty and unit, χ² and dof, and each
     datum measured, fitted and its residual in σ."""
     a = ds.attrs
-    print(f"\nfit of the well (the levels above are those of the fitted well):")
+    print("\nfit of the well (the levels above are those of the fitted well):")
     print(f"  {'parameter':<20} {'value':>14} {'uncertainty':>12}  unit")
     for p, v, u, unit in zip(ds.fit_parameter.values, ds.fit_value.values,
                              ds.fit_uncertainty.values, ds.fit_parameter_units.values,
                              strict=True):
         unit = "hbar*omega" if str(unit) == "1" and energy_units.startswith("units") else unit
-        print(f"  {str(p):<20} {float(v):14.8g} {float(u):12.2g}  {unit}")
+        print(f"  {p!s:<20} {float(v):14.8g} {float(u):12.2g}  {unit}")
     chi2, dof = float(a.get("fit_chi2", math.nan)), int(a.get("fit_dof", 0))
     reduced = f", chi2/dof = {chi2 / dof:.4g}" if dof > 0 else ""
     print(f"  chi2 = {chi2:.4g}, dof = {dof}{reduced}")
@@ -429,7 +429,7 @@ def _print_fit(ds: Any, energy_units: str) -> None:
             from .labels import channel_label
 
             what += f" {channel_label(int(a['dimension']), l, j if math.isfinite(j) else None)}"
-        print(f"  {str(name):<18} {what:<14} {float(ds.fit_measured.values[k]):12.8g} "
+        print(f"  {name!s:<18} {what:<14} {float(ds.fit_measured.values[k]):12.8g} "
               f"{float(ds.fit_sigma.values[k]):9.2g} {float(ds.fit_prediction.values[k]):14.8g} "
               f"{float(ds.fit_residual.values[k]):+8.2f}σ "
               f"{float(ds.fit_basis_error.values[k]):9.1e}")

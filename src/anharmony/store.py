@@ -235,7 +235,6 @@ def scan_units(case: Case) -> tuple[str, str]:
     """CF units and a long name of the scanned parameter."""
     u = case.units
     t = case.scan_target
-    path = case.scan_parameter
     if t.kind == "coupling":
         return "1", "coupling lambda of H = H_ref + lambda (V - V_ref)"
     if t.kind == "setting":
@@ -246,7 +245,7 @@ def scan_units(case: Case) -> tuple[str, str]:
                  ("basis", "length"): (u.length, "oscillator length of the basis")}
         unit, name = table[t.keys]
         return ("1" if u.energy == "1" else unit), name
-    term, name, *sub = t.keys
+    _, name, *sub = t.keys
     return parameter_units(case, t.term, name, *sub)
 
 
