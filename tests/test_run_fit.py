@@ -13,35 +13,13 @@ from anharmony import plots
 from anharmony.cases import load_case
 from anharmony.cli import main
 from anharmony.store import read_dataset
+from test_cases_fit import FIT, HEAD, TOL_FIT, TRUE_FREQUENCY
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
-# A 1D harmonic well in oscillator units (ħ = m = 1): E_n = ħω (n + ½) exactly (any quantum
-# mechanics textbook, e.g. Griffiths, Introduction to Quantum Mechanics, §2.3). The data are
-# those of ħω = 1.3; the fit starts at 1.0.
-CASE = """\
-schema: 1
-title: Fit of a harmonic well
-units: oscillator
-space: {dimension: 1}
-well:
-  - harmonic: {frequency: 1.0}
-  - power: {exponent: 4, strength: 0.0}
-basis: {size: 20}
-levels: {count: 3}
-fit:
-  parameters:
-    well[0].frequency: {start: 1.0, bounds: [0.1, 10.0]}
-  data:
-    - {level: 0, value: 0.65, uncertainty: 0.01, name: ground}
-    - {level: 1, value: 1.95, uncertainty: 0.01}
-    - {levels: [0, 2], value: 2.6, uncertainty: 0.01}
-output: fit.nc
-"""
-
-
-TRUE_FREQUENCY = 1.3
-TOL_FIT = 1e-7  # exact data of a polynomial well: exact matrices, the fit reaches its xtol
+# The harmonic fit of test_cases_fit: E_n = ħω (n + ½) exactly (Griffiths, Introduction to
+# Quantum Mechanics, §2.3), data of ħω = 1.3, start 1.0.
+CASE = HEAD + FIT + "output: fit.nc\n"
 
 
 @pytest.fixture(scope="module")
@@ -75,7 +53,7 @@ def test_the_result_holds_what_a_direct_fit_call_gives(ran, tmp_path):
     np.testing.assert_array_equal(ds.fit_prediction.values, res.predictions)
     np.testing.assert_array_equal(ds.fit_correlation.values, res.correlation)
     assert float(ds.attrs["fit_chi2"]) == res.chi2 and int(ds.attrs["fit_dof"]) == res.dof
-    assert list(ds.fit_datum.values) == ["ground", "data[1]", "data[2]"]
+    assert list(ds.fit_datum.values) == ["data[0]", "data[1]", "data[2]"]
     np.testing.assert_array_equal(ds.fit_measured.values, [0.65, 1.95, 2.6])
     # CF §3.1: units on every variable; oscillator units are "1" throughout
     assert ds.fit_residual.attrs["units"] == "1"
