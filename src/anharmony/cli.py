@@ -88,7 +88,8 @@ def _parser() -> argparse.ArgumentParser:
                           description="Draw a figure from a result file (needs anharmony.plots).")
     plot.add_argument("result", metavar="RESULT.nc", help="a result file of anharmony run")
     plot.add_argument("--kind", required=True,
-                      choices=("flow", "shift", "series", "convergence", "well", "scheme"),
+                      choices=("flow", "shift", "series", "convergence", "well", "scheme",
+                               "residuals"),
                       help="which figure")
     plot.add_argument("-o", "--output", required=True, metavar="FIG.png",
                       help="the figure file to write (.png, .pdf or .svg)")
@@ -460,6 +461,8 @@ def _cmd_show(args: argparse.Namespace) -> int:
             print(f"  {name:>12}{parity} {e:14.8g} {ref:14.8g} "
                   f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
                   f"{_verdict(ds, k, c, n, tol)}")
+    if "fit_value" in ds:
+        _print_fit(ds, shown_units)
     notes = [w for w in str(a.get("convergence_warnings", "")).splitlines() if w]
     if hidden:
         print(f"\n{hidden} of {s} scan points not shown (first, middle and last are); "
@@ -475,6 +478,48 @@ def _cmd_show(args: argparse.Namespace) -> int:
         for w in notes:
             print(f"  {w}")
     return EXIT_OK
+
+
+def _print_fit(ds: Any, energy_units: str) -> None:
+    """The fit table: each parameter with its uncertainty and unit, χ² and dof, and each
+    datum measured, fitted and its residual in σ."""
+    a = ds.attrs
+    print("\nfit of the well (the levels above are those of the fitted well):")
+    print(f"  {'parameter':<20} {'value':>14} {'uncertainty':>12}  unit")
+    for p, v, u, unit in zip(ds.fit_parameter.values, ds.fit_value.values,
+                             ds.fit_uncertainty.values, ds.fit_parameter_units.values,
+                             strict=True):
+        unit = "hbar*omega" if str(unit) == "1" and energy_units.startswith("units") else unit
+        print(f"  {p!s:<20} {float(v):14.8g} {float(u):12.2g}  {unit}")
+    chi2, dof = float(a.get("fit_chi2", math.nan)), int(a.get("fit_dof", 0))
+    reduced = f", chi2/dof = {chi2 / dof:.4g}" if dof > 0 else ""
+    print(f"  chi2 = {chi2:.4g}, dof = {dof}{reduced}")
+    corr = ds.fit_correlation.values
+    names = [str(p) for p in ds.fit_parameter.values]
+    pairs = [f"{names[i]} ~ {names[k]} {corr[i, k]:+.4f}" for i in range(len(names))
+             for k in range(i + 1, len(names))]
+    if pairs:
+        print(f"  correlation: {'; '.join(pairs)}")
+    if a.get("fit_undetermined"):
+        print(f"  not fixed by the data: {a['fit_undetermined']}")
+    print(f"\n  {'datum':<18} {'quantity':<14} {'measured':>12} {'sigma':>9} {'fitted':>14} "
+          f"{'residual':>9} {'basis err':>9}")
+    for k, name in enumerate(ds.fit_datum.values):
+        lev_a, lev_b = int(ds.fit_level_a.values[k]), int(ds.fit_level_b.values[k])
+        what = f"E{lev_b} - E{lev_a}" if lev_b >= 0 else f"E{lev_a}"
+        l = int(ds.fit_l.values[k])
+        j = float(ds.fit_j.values[k])
+        if l >= 0 and int(a.get("dimension", 1)) > 1:
+            from .labels import channel_label
+
+            what += f" {channel_label(int(a['dimension']), l, j if math.isfinite(j) else None)}"
+        print(f"  {name!s:<18} {what:<14} {float(ds.fit_measured.values[k]):12.8g} "
+              f"{float(ds.fit_sigma.values[k]):9.2g} {float(ds.fit_prediction.values[k]):14.8g} "
+              f"{float(ds.fit_residual.values[k]):+8.2f}σ "
+              f"{float(ds.fit_basis_error.values[k]):9.1e}")
+    fit_notes = [w for w in str(a.get("fit_warnings", "")).splitlines() if w]
+    for w in fit_notes:
+        print(f"  warning: {w}")
 
 
 # --------------------------------------------------------------------------- plot

@@ -34,13 +34,15 @@ __all__ = [
     "CORE_NAMES",
     "RESULT_SCHEMA",
     "CaseResult",
+    "FitOutcome",
     "ResultFileError",
+    "ScanAxis",
     "build_dataset",
+    "energy_attrs",
+    "parameter_units",
     "read_dataset",
     "result_attrs",
     "sanitize_attrs",
-    "ScanAxis",
-    "energy_attrs",
     "scan_axis",
     "scan_units",
     "write_dataset",
@@ -58,6 +60,53 @@ CORE_NAMES = (
 )
 
 
+
+
+@dataclass(frozen=True, eq=False)
+class FitOutcome:
+    """The fit of a case with a ``fit:`` block, as plain values (P parameters, D data).
+
+    Attributes
+    ----------
+    parameters : tuple of str (P,)
+        Parameter paths ``well[i].name``.
+    values, uncertainties : ndarray (P,)
+    correlation : ndarray (P, P)
+    chi2 : float
+    dof : int
+    names, quantities : tuple of str (D,)
+        Each datum's name (``data[k]`` where it has none) and ``level`` or ``spacing``.
+    levels : ndarray of int (D, 2)
+        The datum's level(s); the second is −1 for a level.
+    l, j : ndarray (D,)
+        The datum's channel: l (−1 the 1D basis without symmetry), j (NaN without spin).
+    measured, sigma, prediction, residual, basis_error : ndarray (D,)
+        Residual in σ, the others in the energy unit.
+    undetermined, warnings : tuple of str
+        Parameter combinations the data cannot fix; the fit's warnings.
+    evaluations : int
+        Model evaluations of the least-squares passes.
+    """
+
+    parameters: tuple[str, ...]
+    values: np.ndarray
+    uncertainties: np.ndarray
+    correlation: np.ndarray
+    chi2: float
+    dof: int
+    names: tuple[str, ...]
+    quantities: tuple[str, ...]
+    levels: np.ndarray
+    l: np.ndarray
+    j: np.ndarray
+    measured: np.ndarray
+    sigma: np.ndarray
+    prediction: np.ndarray
+    residual: np.ndarray
+    basis_error: np.ndarray
+    undetermined: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = ()
+    evaluations: int = 0
 
 
 @dataclass(frozen=True, eq=False)
@@ -97,6 +146,9 @@ class CaseResult:
         Remarks on how numbers were obtained (stored in the ``comment`` attribute).
     warnings : list of str
         One line per level that is not converged (stored in ``convergence_warnings``).
+    fit : FitOutcome or None
+        The fit of a case with a ``fit:`` block (its levels are those of the fitted well);
+        stored as the ``fit_*`` variables.
     """
 
     scan_value: np.ndarray
@@ -131,6 +183,7 @@ class CaseResult:
     notes: Sequence[str] = ()
     warnings: Sequence[str] = ()
     level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
+    fit: FitOutcome | None = None  # the fit of a case with a fit: block
 
 
 # --------------------------------------------------------------------------- attributes
@@ -218,26 +271,26 @@ class ScanAxis:
     display_units: str
 
 
-def scan_axis(case: Case) -> ScanAxis:
-    """Units, long name and trade name of the scanned parameter of ``case``."""
+def _axis(u: Any, dims: tuple[float, float], long_name: str, name: str, mass: bool = False
+          ) -> ScanAxis:
     from .units import dimension_symbol, units_string
 
+    if mass:
+        units = "1" if u.energy == "1" else u.mass
+        shown = _symbol(units, u, "mass")
+    else:
+        units = units_string(u, *dims)
+        shown = dimension_symbol(u, *dims) or ""
+    return ScanAxis(units, long_name, name, shown)
+
+
+def scan_axis(case: Case) -> ScanAxis:
+    """Units, long name and trade name of the scanned parameter of ``case``."""
     u = case.units
     t = case.scan_target
-    path = case.scan_parameter
-
-    def axis(dims: tuple[float, float], long_name: str, name: str, mass: bool = False
-             ) -> ScanAxis:
-        if mass:
-            units = "1" if u.energy == "1" else u.mass
-            shown = _symbol(units, u, "mass")
-        else:
-            units = units_string(u, *dims)
-            shown = dimension_symbol(u, *dims) or ""
-        return ScanAxis(units, long_name, name, shown)
-
     if t.kind == "coupling":
-        return axis((0, 0), "coupling lambda of H = H_ref + lambda (V - V_ref)", "coupling λ")
+        return _axis(u, (0, 0), "coupling lambda of H = H_ref + lambda (V - V_ref)",
+                     "coupling λ")
     if t.kind == "setting":
         long_name = {("particle", "mass"): "particle mass",
                      ("reference", "frequency"): "hbar*omega of the reference oscillator",
@@ -245,27 +298,40 @@ def scan_axis(case: Case) -> ScanAxis:
                      ("reference", "center"): "centre of the reference oscillator",
                      ("basis", "length"): "oscillator length of the basis"}[t.keys]
         name, dims = _SETTING_WORDS[t.keys]
-        return axis(dims, long_name, name, mass=t.keys == ("particle", "mass"))
-    term, name, *sub = t.keys
-    params = case.model.well[t.term][term] or {}
-    long_name = f"{name} of the {term} term {path.split('.')[0]}"
+        return _axis(u, dims, long_name, name, mass=t.keys == ("particle", "mass"))
+    _, name, *sub = t.keys
+    return parameter_axis(case, t.term, name, *sub)
+
+
+def parameter_axis(case: Case, index: int, name: str, *sub: Any) -> ScanAxis:
+    """Units, long name and trade name of parameter ``name`` of term ``well[index]``."""
+    u = case.units
+    (term, params), = case.model.well[index].items()
+    params = params or {}
+    where = f"well[{index}]"
+    long_name = f"{name} of the {term} term {where}"
     words = _PARAMETER_WORDS.get(name, name.replace("_", " "))
     if name == "strength" and term == "power":
         exponent = float(params.get("exponent", 0))
         power = _POWER_WORDS.get(int(exponent)) if exponent.is_integer() else None
-        return axis((1, -exponent), long_name,
-                    f"{power or f'x^{exponent:g}'} {words}")
+        return _axis(u, (1, -exponent), long_name, f"{power or f'x^{exponent:g}'} {words}")
     if name == "strength":
-        return axis((1, 0), long_name, f"{_TERM_WORDS.get(term, term)} {words}")
+        return _axis(u, (1, 0), long_name, f"{_TERM_WORDS.get(term, term)} {words}")
     if name == "coefficients":
         k = float(sub[0])
-        return axis((1, -k), long_name, f"{_TERM_WORDS.get(term, term)} coefficient "
-                    f"c_{int(k) if k.is_integer() else k}")
+        return _axis(u, (1, -k), long_name, f"{_TERM_WORDS.get(term, term)} coefficient "
+                     f"c_{int(k) if k.is_integer() else k}")
     if name == "parameters":
-        return axis((0, 0), f"parameter {sub[0]} of the formula of {path.split('.')[0]}",
-                    f"formula parameter {sub[0]}")
-    return axis(_PARAMETER_DIMS.get(name, (0, 0)), long_name,
-                f"{_TERM_WORDS.get(term, term)} {words}")
+        return _axis(u, (0, 0), f"parameter {sub[0]} of the formula of {where}",
+                     f"formula parameter {sub[0]}")
+    return _axis(u, _PARAMETER_DIMS.get(name, (0, 0)), long_name,
+                 f"{_TERM_WORDS.get(term, term)} {words}")
+
+
+def parameter_units(case: Case, index: int, name: str, *sub: Any) -> tuple[str, str]:
+    """CF units and a long name of parameter ``name`` of term ``well[index]``."""
+    ax = parameter_axis(case, index, name, *sub)
+    return ax.units, ax.long_name
 
 
 def _symbol(units: str, system: Any, quantity: str) -> str:
@@ -415,6 +481,12 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
             raise ValueError(f"{name}: has a basis_size axis but the result has no sizes")
         data[name] = (tuple(dims), values, dict(var_attrs))
 
+    fit_attrs: dict[str, Any] = {}
+    if result.fit is not None:
+        fit_coords, fit_data, fit_attrs = _fit_variables(case, result.fit)
+        coords.update(fit_coords)
+        data.update(fit_data)
+
     reasons = sorted(set(result.reference_reason))
     now = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
     attrs = {
@@ -443,6 +515,7 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "case_file": case.file,
         "case_index": -1 if case.index is None else int(case.index),
         "case": case.text,
+        **fit_attrs,
     }
     attrs = {k: v for k, v in attrs.items() if v != ""}
     ds = xr.Dataset(
@@ -453,6 +526,86 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
     )
     _check_no_object(ds)
     return ds
+
+
+def _fit_variables(case: Case, fit: FitOutcome) -> tuple[dict, dict, dict]:
+    """Coordinates, variables and global attributes of the ``fit_*`` part of a result."""
+    e_units = case.units.energy
+
+    def _float_attrs(units: str, long_name: str, **extra: Any) -> dict[str, Any]:
+        return energy_attrs(case.units, units, long_name, **extra)
+
+    units, names = [], []
+    for path in fit.parameters:
+        i, name = path.split("].")
+        unit, long_name = parameter_units(case, int(i.removeprefix("well[")), name)
+        units.append(unit)
+        names.append(long_name)
+    same = len(set(units)) == 1
+    in_units = ({"units": units[0]} if same else {})
+    where = ("" if same else "; the parameters have different units, which one CF units "
+             "attribute cannot express: each is in its entry of fit_parameter_units")
+    par, dat = ("fit_parameter",), ("fit_datum",)
+    coords = {
+        "fit_parameter": (par, np.asarray(fit.parameters, dtype=str),
+                          {"units": "1", "long_name": "path of the fitted parameter in the "
+                           "case file"}),
+        "fit_parameter_b": (("fit_parameter_b",), np.asarray(fit.parameters, dtype=str),
+                            {"units": "1", "long_name": "path of the fitted parameter (second "
+                             "axis of fit_correlation)"}),
+        "fit_datum": (dat, np.asarray(fit.names, dtype=str),
+                      {"units": "1", "long_name": "name of the datum (data[k] where the case "
+                       "gives none)"}),
+    }
+    data = {
+        "fit_parameter_units": (par, np.asarray(units, dtype=str),
+                                {"units": "1", "long_name": "units of each fitted parameter "
+                                 "(one CF units attribute per variable cannot hold mixed "
+                                 "units, so fit_value and fit_uncertainty refer here)"}),
+        "fit_parameter_name": (par, np.asarray(names, dtype=str),
+                               {"units": "1", "long_name": "what the fitted parameter is"}),
+        "fit_value": (par, np.asarray(fit.values, dtype=float),
+                      {**in_units, "long_name": "best value of the fitted parameter" + where}),
+        "fit_uncertainty": (par, np.asarray(fit.uncertainties, dtype=float),
+                            {**in_units, "long_name": "standard uncertainty of the fitted "
+                             "parameter (inf: the data cannot fix it)" + where}),
+        "fit_correlation": (("fit_parameter", "fit_parameter_b"),
+                            np.asarray(fit.correlation, dtype=float),
+                            {"units": "1", "long_name": "correlation of the fitted parameters"}),
+        "fit_quantity": (dat, np.asarray(fit.quantities, dtype=str),
+                         {"units": "1", "long_name": "measured quantity: level (E_a) or "
+                          "spacing (E_b - E_a)"}),
+        "fit_level_a": (dat, np.asarray(fit.levels[:, 0], dtype=np.int64),
+                        {"units": "1", "long_name": "0-based index a of the level in its "
+                         "channel"}),
+        "fit_level_b": (dat, np.asarray(fit.levels[:, 1], dtype=np.int64),
+                        {"units": "1", "long_name": "0-based index b of the upper level of a "
+                         "spacing (-1 for a level)"}),
+        "fit_l": (dat, np.asarray(fit.l, dtype=np.int64),
+                  {"units": "1", "long_name": "l of the datum's channel (-1: the 1D basis "
+                   "without symmetry)"}),
+        "fit_j": (dat, np.asarray(fit.j, dtype=float),
+                  {"units": "1", "long_name": "j of the datum's channel (NaN without spin)"}),
+        "fit_measured": (dat, np.asarray(fit.measured, dtype=float),
+                         _float_attrs(e_units, "measured value of the datum")),
+        "fit_sigma": (dat, np.asarray(fit.sigma, dtype=float),
+                      _float_attrs(e_units, "standard uncertainty of the measured value")),
+        "fit_prediction": (dat, np.asarray(fit.prediction, dtype=float),
+                           _float_attrs(e_units, "value of the datum computed with the "
+                                        "fitted parameters")),
+        "fit_residual": (dat, np.asarray(fit.residual, dtype=float),
+                         _float_attrs("1", "(fit_prediction - fit_measured) / fit_sigma, in "
+                                      "standard uncertainties")),
+        "fit_basis_error": (dat, np.asarray(fit.basis_error, dtype=float),
+                            _float_attrs(e_units, "basis error of fit_prediction: change in a "
+                                         "basis half as large again, or the solver's "
+                                         "estimate if larger")),
+    }
+    attrs = {"fit_chi2": float(fit.chi2), "fit_dof": int(fit.dof),
+             "fit_evaluations": int(fit.evaluations),
+             "fit_undetermined": "; ".join(fit.undetermined),
+             "fit_warnings": "\n".join(fit.warnings)}
+    return coords, data, attrs
 
 
 def _convergence_mode(case: Case) -> str:

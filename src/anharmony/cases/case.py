@@ -21,8 +21,9 @@ from ..labels import channel_label
 from ..terms import TERMS, linear_parameters
 from ..units import UnitSystem, get_units
 from ..well import Well
+from .fitdata import FitData, datum_channel
 from .messages import suggest
-from .schema import CaseModel, Space, parse_half
+from .schema import CaseModel, FitParameter, Space, parse_half
 
 __all__ = [
     "LINEAR_PARAMETERS",
@@ -140,6 +141,10 @@ class Case:
         The case's own YAML text (the whole file for a single case); results store it.
     output : pathlib.Path
         Where the result goes (``output:`` relative to the case file's folder).
+    scan_target : ScanTarget
+        What ``scan.parameter`` points at.
+    fit_data : FitData or None
+        The data of the ``fit:`` block (read from its CSV file where it names one).
     """
 
     model: CaseModel
@@ -148,6 +153,7 @@ class Case:
     text: str
     output: Path
     scan_target: ScanTarget = field(default=ScanTarget("coupling", linear=True))
+    fit_data: FitData | None = None
 
     # --------------------------------------------------------------- derived settings
     @property
@@ -235,6 +241,78 @@ class Case:
 
     def to_dict(self) -> dict[str, Any]:
         return self.model.to_dict()
+
+    # --------------------------------------------------------------- fit
+    def fit_parameters(self) -> dict[str, Any]:
+        """``fit.parameters`` as :func:`anharmony.fit` takes them (path → start or mapping)."""
+        out: dict[str, Any] = {}
+        for path, spec in (self.model.fit.parameters if self.model.fit else {}).items():
+            if isinstance(spec, FitParameter):
+                spec = {k: v for k, v in (("start", spec.start), ("bounds", spec.bounds))
+                        if v is not None}
+            out[path] = spec
+        return out
+
+    def fit_rows(self, rows: Sequence[Mapping[str, Any]] | None = None
+                 ) -> list[dict[str, Any]]:
+        """The fit's data (or ``rows``) with each datum's channel written out (``l``, and
+        ``j`` with spin).
+
+        Raises
+        ------
+        ValueError
+            From :func:`.fitdata.datum_channel` for a datum whose channel is not the case's
+            (the validation reports it first).
+        """
+        if rows is None:
+            rows = self.fit_data.rows if self.fit_data else ()
+        out = []
+        for d in rows:
+            l, j = datum_channel(d, self.channels())
+            row = {k: v for k, v in d.items() if k not in ("l", "j")}
+            row["l"] = l
+            if j is not None:
+                row["j"] = j
+            out.append(row)
+        return out
+
+    def fit_length(self) -> float | str:
+        """The basis length of the fit: ``basis.length``, else that of a reference given as a
+        number, else ``"auto"`` (re-chosen by :func:`anharmony.fit` for the fitted well)."""
+        length = self.basis_length_at(None)
+        if length != "auto":
+            return length
+        spec = self.reference_spec(None)
+        if isinstance(spec, dict) and ("frequency" in spec or "length" in spec):
+            from .tasks import resolve_reference
+
+            return float(resolve_reference(self, None).length)
+        return "auto"
+
+    def fitted(self, values: Mapping[str, float]) -> Case:
+        """The same case with the well's parameters set to fitted ``values`` (path → value),
+        so that the levels of the fitted well are computed as any case's (the text is kept)."""
+        well = [{k: dict(v or {})} for t in self.model.well for k, v in t.items()]
+        for path, value in values.items():
+            m = re.fullmatch(r"well\[(\d+)\]\.([A-Za-z_][A-Za-z0-9_]*)", path)
+            if m is None:
+                raise ValueError(f"{path!r} is not a parameter path well[i].name")
+            (kind, params), = well[int(m[1])].items()
+            params[m[2]] = float(value)
+            if kind == "gaussian" and m[2] in ("range", "waist"):  # exactly one of the two
+                params.pop("waist" if m[2] == "range" else "range", None)
+        model = self.model.model_copy(update={"well": well})
+        return dataclasses.replace(self, model=model)
+
+    def fit_arguments(self) -> dict[str, Any]:
+        """Keyword arguments of :func:`anharmony.fit` for this case's ``fit:`` block."""
+        if self.model.fit is None:
+            raise ValueError(f"{self.name}: the case has no fit: block")
+        return {"terms": [dict(t) for t in self.model.well], "dimension": self.dimension,
+                "l": None, "j": None, "parameters": self.fit_parameters(),
+                "data": self.fit_rows(), "size": self.model.basis.size,
+                "length": self.fit_length(), "units": self.model.units, "mass": self.mass,
+                "scale_covariance": self.model.fit.scale_covariance}
 
     # --------------------------------------------------------------- convergence study
     def study_settings(self) -> Any:

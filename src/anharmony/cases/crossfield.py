@@ -7,19 +7,22 @@ here, in two stages:
 
 - :func:`model_issues` on a validated :class:`~.schema.CaseModel` (also resolves the scan
   target, which the :class:`~.case.Case` needs);
-- :func:`case_issues` on the built :class:`~.case.Case` (the study's sizes, scan points).
+- :func:`case_issues` on the built :class:`~.case.Case` (the study's sizes, scan points, the
+  fit's parameters and data — checked by :mod:`anharmony.fit`'s own validators).
 
 Both return ``(data path, message)`` pairs; :mod:`.files` gives them positions.
 """
 
 from __future__ import annotations
 
+import re
 from fractions import Fraction
 from typing import Any
 
 from pydantic import ValidationError
 
 from ..errors import InputError, TermError
+from ..fit import _check_levels_exist, _measurements, _Model, _starts
 from ..well import Well
 from .case import Case, ScanTarget, channels_of, parse_scan_path
 from .messages import Path_, message
@@ -142,6 +145,9 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
     if conv.grow and conv.method != "extrapolate":
         out.append((("convergence", "grow"), "growing the basis needs the study's error "
                     f"estimate (estimate: extrapolate); got estimate: {conv.method}"))
+    if model.fit is not None and model.scan is not None:
+        out.append((("fit",), "a fit does not combine with scan: in this version; fit the "
+                    "well in a case without scan:, then scan the fitted well in another case"))
     target = ScanTarget("coupling", linear=True)
     if model.scan is not None:
         try:
@@ -196,6 +202,82 @@ def _scan_point_issues(case: Case) -> Found:
     return []
 
 
+_WHERE = re.compile(r"^data\[\d+\]((?:\.[A-Za-z_]+)?)((?:\[\d+\])?): (.*)$", re.S)
+
+
+def _datum_issue(k: int, exc: InputError) -> tuple[Path_, str]:
+    """``data[0].uncertainty: message`` from :mod:`anharmony.fit` → the path of datum k."""
+    m = _WHERE.match(str(exc))
+    if not m:
+        return ("fit", "data", k), str(exc)
+    path: Path_ = ("fit", "data", k)
+    if m[1]:
+        path = (*path, m[1][1:])
+    if m[2]:
+        path = (*path, int(m[2][1:-1]))
+    return path, m[3]
+
+
+def _parameter_issue(path: str, exc: InputError) -> tuple[Path_, str]:
+    """A message of :func:`anharmony.fit.parse_parameter_path` or of the start values → the
+    path of that parameter (``bounds`` where the message is about them)."""
+    head, _, text = str(exc).partition(": ")
+    at: Path_ = ("fit", "parameters", path)
+    if head.endswith(".bounds"):
+        at = (*at, "bounds")
+    if text.startswith(f"{path!r}: "):  # the path is the field already
+        text = text[len(f"{path!r}: "):]
+    return at, text
+
+
+def _fit_issues(case: Case) -> Found:
+    """The fit: parameter paths and starts, each datum, counts, and that the levels exist."""
+    fit = case.model.fit
+    if fit is None or case.fit_data is None:
+        return []
+    specs = [{k: dict(v or {})} for t in case.model.well for k, v in t.items()]
+    out: Found = []
+    params = case.fit_parameters()
+    for path, spec in params.items():
+        try:
+            _starts({path: spec}, specs)
+        except InputError as exc:
+            out.append(_parameter_issue(path, exc))
+    rows: list[dict[str, Any]] = []
+    for k, d in enumerate(case.fit_data.rows):
+        try:
+            rows.append(case.fit_rows([d])[0])
+        except ValueError as exc:
+            key, msg = exc.args[0]
+            out.append(((("fit", "data", k, key) if key else ("fit", "data", k)), msg))
+            continue
+        try:
+            _measurements([rows[-1]], None, None)
+        except (InputError, TypeError, ValueError) as exc:
+            out.append(_datum_issue(k, InputError(str(exc))))
+    if out:
+        return out
+    n_par, n_data = len(params), len(rows)
+    if n_par > n_data:
+        return [(("fit", "parameters"), f"{n_par} parameters cannot be fixed by {n_data} "
+                 "data; give at least as many data as parameters")]
+    if fit.scale_covariance and n_par == n_data:
+        return [(("fit", "scale_covariance"), f"needs more data than parameters (dof > 0); "
+                 f"the fit has {n_data} data for {n_par} parameters")]
+    paths, x0, _, _ = _starts(params, specs)
+    try:
+        model = _Model(specs, paths, _measurements(rows, None, None),
+                            case.dimension, case.model.units, case.mass, case.model.basis.size,
+                            case.fit_length())
+        _check_levels_exist(model, x0)
+    except InputError as exc:
+        return [_datum_issue(int(m[1]), exc) if (m := re.match(r"data\[(\d+)\]", str(exc)))
+                else (("fit",), str(exc))]
+    except (ValueError, ArithmeticError) as exc:  # the starting well cannot be solved
+        return [(("fit",), f"the well at the starting values cannot be solved: {exc}")]
+    return []
+
+
 def case_issues(case: Case) -> Found:
-    """Cross-field problems that need the built case: the study, then the scan points."""
-    return _study_issues(case) or _scan_point_issues(case)
+    """Cross-field problems that need the built case: the study, the scan points, the fit."""
+    return _study_issues(case) or _scan_point_issues(case) or _fit_issues(case)

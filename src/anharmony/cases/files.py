@@ -20,8 +20,9 @@ from pydantic import ValidationError
 from ..errors import CaseError
 from .case import Case
 from .crossfield import case_issues, model_issues
+from .fitdata import FitData, read_fit_csv
 from .loader import Marks, parse_yaml
-from .messages import Issue, Path_, got, issue_at, schema_issues
+from .messages import Issue, Path_, display, got, issue_at, schema_issues
 from .schema import CaseModel
 
 __all__ = ["case_from_dict", "load_case", "load_cases"]
@@ -39,15 +40,56 @@ def _validate(data: Any, name: str, marks: Marks, prefix: Path_, folder: Path,
         return None, [issue_at(marks, name, prefix, s.path, s.message, key=s.at_key,
                                shown=s.shown) for s in schema_issues(exc, data, CaseModel)]
     found, target = model_issues(model)
+    if found:
+        return None, [issue_at(marks, name, prefix, path, msg) for path, msg in found]
+    fit_data, problems = _fit_data(model, name, marks, prefix, folder)
+    if problems:
+        return None, problems
+    out_name = model.output or (Path(name).stem + ("" if index is None else f"-{index + 1}")
+                                + ".nc")
+    output = Path(out_name) if Path(out_name).is_absolute() else folder / out_name
+    case = Case(model, name, index, text, output, target, fit_data)
+    found = case_issues(case)
     if not found:
-        out_name = model.output or (Path(name).stem + ("" if index is None else f"-{index + 1}")
-                                    + ".nc")
-        output = Path(out_name) if Path(out_name).is_absolute() else folder / out_name
-        case = Case(model, name, index, text, output, target)
-        found = case_issues(case)
-        if not found:
-            return case, []
-    return None, [issue_at(marks, name, prefix, path, msg) for path, msg in found]
+        return case, []
+    return None, [_position(marks, name, prefix, path, msg, fit_data) for path, msg in found]
+
+
+def _csv_name(case_file: str, name: str) -> str:
+    """The data file as a user finds it: beside the case file (as the case file is named)."""
+    return name if Path(name).is_absolute() else str(Path(case_file).parent / name)
+
+
+def _fit_data(model: CaseModel, name: str, marks: Marks, prefix: Path_, folder: Path
+              ) -> tuple[FitData | None, list[Issue]]:
+    """The fit's data: the rows written in the case, or those of its CSV file."""
+    fit = model.fit
+    if fit is None:
+        return None, []
+    if not isinstance(fit.data, str):
+        return FitData(tuple(dict(d) for d in fit.data)), []
+    path = Path(fit.data) if Path(fit.data).is_absolute() else folder / fit.data
+    data, problems = read_fit_csv(path, fit.data)
+    shown = _csv_name(name, fit.data)
+    out = []
+    for p in problems:
+        field = display(prefix) + "." + p.field if prefix else p.field
+        if p.line is None:  # the file as a whole: at the case's fit.data
+            out.append(issue_at(marks, name, prefix, ("fit", "data"), p.message))
+        else:
+            out.append(Issue(shown, p.line, p.column, field, p.message))
+    return data, out
+
+
+def _position(marks: Marks, name: str, prefix: Path_, path: Path_, msg: str,
+              fit_data: FitData | None) -> Issue:
+    """An issue at its case-file node, or at its row of the fit's CSV file."""
+    row = path[2] if len(path) > 2 and path[:2] == ("fit", "data") else None
+    if fit_data is None or fit_data.source is None or not isinstance(row, int):
+        return issue_at(marks, name, prefix, path, msg)
+    key = path[3] if len(path) > 3 else None
+    return Issue(_csv_name(name, fit_data.name), fit_data.lines[row],
+                 fit_data.columns[row].get(key, 1), display((*prefix, *path)), msg)
 
 
 def _case_text(text: str, node: yaml.Node | None) -> str:

@@ -40,6 +40,8 @@ __all__ = [
     "Basis",
     "CaseModel",
     "Convergence",
+    "Fit",
+    "FitParameter",
     "Levels",
     "Particle",
     "Perturbation",
@@ -323,6 +325,44 @@ class Convergence(_Strict):
         return ConvergenceSettings(**given, estimate=self.method)
 
 
+class FitParameter(_Strict):
+    """One fitted parameter: its start value (default: the well's) and optional bounds."""
+
+    start: float | None = None
+    bounds: Annotated[list[float | None], Field(min_length=2, max_length=2)] | None = None
+
+
+def _fit_data(data: Any) -> list[dict[str, Any]] | str:
+    """``fit.data``: a non-empty list of mappings, or the name of a CSV file."""
+    need = ("must be a list of data (mappings with level or levels, value, uncertainty) or "
+            "the name of a CSV file ending in .csv")
+    if isinstance(data, str):
+        if not data.strip().lower().endswith(".csv"):
+            raise ValueError(f"{need}; {got(data)}")
+        return data
+    if not isinstance(data, list) or not data:
+        raise ValueError(f"{need}; {got(data)}")
+    for k, d in enumerate(data):
+        if not isinstance(d, Mapping):
+            raise ValueError(f"entry {k} must be a mapping such as {{level: 0, value: 1.5, "
+                             f"uncertainty: 0.01}}; {got(d)}")
+    return [dict(d) for d in data]
+
+
+class Fit(_Strict):
+    """``fit:`` parameters of the well fitted to measured levels and spacings.
+
+    ``parameters`` maps a path (``well[0].depth``) to a start value or ``{start, bounds}``;
+    ``data`` is a list of mappings with the keys :func:`anharmony.fit` reads (quantity, level,
+    levels, value, uncertainty, l, j, name) or a CSV file with those columns. The data's own
+    checks are :func:`anharmony.fit`'s, called from :mod:`.crossfield`.
+    """
+
+    parameters: Annotated[dict[str, float | FitParameter | None], Field(min_length=1)]
+    data: Annotated[Any, AfterValidator(_fit_data)]
+    scale_covariance: bool = False
+
+
 class CaseModel(_Strict):
     """The schema of one case (DESIGN §4)."""
 
@@ -338,6 +378,7 @@ class CaseModel(_Strict):
     scan: Scan | None = None
     perturbation: Perturbation | None = None
     convergence: Convergence = Field(default_factory=Convergence)
+    fit: Fit | None = None
     output: Annotated[str, AfterValidator(_netcdf_name)] | None = None
 
     def to_dict(self) -> dict[str, Any]:

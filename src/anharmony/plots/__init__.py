@@ -22,7 +22,7 @@ from pathlib import Path
 from typing import Any
 
 from .._atomic import atomic_write
-from . import _style, convergence, flow, scheme, series, shift, well
+from . import _style, convergence, flow, residuals, scheme, series, shift, well
 from ._common import FigureRequest, ResultView, level_label, pretty_units
 
 __all__ = [
@@ -84,6 +84,9 @@ KINDS: dict[str, FigureKind] = {
     "scheme": FigureKind("scheme", "level scheme: levels per channel with spectroscopic "
                          "labels beside the reference oscillator's shells",
                          scheme.draw, scheme.OPTIONS, scheme.SIZE),
+    "residuals": FigureKind("residuals", "residuals of a fit per datum in standard "
+                            "uncertainties, with the 1 and 2 sigma bands", residuals.draw,
+                            residuals.OPTIONS, residuals.SIZE),
 }
 
 _OPTION_DEFAULTS = {"channel": None, "scan_index": None, "levels": None, "orders": None,
@@ -126,7 +129,7 @@ def make_figure(dataset: Any, kind: str, *, channel: str | int | Sequence[str | 
         A result :class:`xarray.Dataset` (DESIGN §6), or the path of a result file.
     kind
         One of :data:`KINDS`: ``flow``, ``shift``, ``series``, ``convergence``, ``well``,
-        ``scheme``.
+        ``scheme``, ``residuals`` (a fit's residuals; needs a result with a fit).
     channel
         Channel label (``"d5/2"``) or 0-based position, or several (``flow``, ``shift``,
         ``scheme``); default: every channel for those, the first for the others.

@@ -33,6 +33,7 @@ __all__ = [
 _HINTS = {
     "convergence_energy": " (give convergence: {sizes: [...]} in the case and run it again)",
     "series_": " (give a perturbation: section in the case and run it again)",
+    "fit_": " (it is written by a case with a fit: block)",
     "case": "",
 }
 

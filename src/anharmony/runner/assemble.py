@@ -6,6 +6,7 @@ writes the warning lines that name every level that is not converged.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Sequence
 from typing import Any
 
@@ -26,7 +27,16 @@ _PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v
 
 
 def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
-    """Merge the partial arrays of a case's jobs into one :class:`CaseResult`."""
+    """Merge the partial arrays of a case's jobs into one :class:`CaseResult`.
+
+    The part of a ``"fit"`` job carries the fit and the parts of the fitted case's jobs: the
+    result holds the levels of the fitted well and the fit.
+    """
+    fits = [p for p in parts if "fit" in p]
+    if fits:
+        (part,) = fits
+        result = assemble(case.fitted(part["values"]), part["parts"])
+        return dataclasses.replace(result, fit=part["fit"])
     values = case.scan_values()
     out = empty(case, len(values))
     reasons: dict[int, tuple[str, str]] = {}

@@ -307,7 +307,7 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
             del pending[key]
             report.written.append((case, path))
             emit("written", case=case, path=path)
-            for line in result.warnings:
+            for line in [*result.warnings, *(result.fit.warnings if result.fit else ())]:
                 report.warnings.append((case, line))
                 emit("warning", case=case, message=line)
     except KeyboardInterrupt:

@@ -3,8 +3,9 @@
 Every number comes from the public core functions a Python user calls:
 :func:`anharmony.scan.scan` for the levels (one channel over a job's scan points),
 :func:`anharmony.series.series` for the perturbation series and
-:func:`anharmony.convergence.converge` for a convergence study. This module only decides what
-to call with which settings and where the numbers go.
+:func:`anharmony.convergence.converge` for a convergence study, :func:`anharmony.fit` for a
+case with a ``fit:`` block. This module only decides what to call with which settings and
+where the numbers go.
 """
 
 from __future__ import annotations
@@ -21,11 +22,11 @@ from ..cases import Case, ChannelSpec, resolve_length, resolve_reference
 from ..errors import NumericalError
 from ..scan import ScanResult, scan
 from ..spectrum import Reference
-from ..store import empty_like_series
+from ..store import FitOutcome, empty_like_series
 from ..well import Well
-from .plan import Job, smaller_size
+from .plan import Job, level_jobs, smaller_size
 
-__all__ = ["SERIES", "empty", "run_job"]
+__all__ = ["SERIES", "empty", "fit_outcome", "run_job"]
 
 SERIES = ("series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
           "series_optimal_error", "series_optimal_order")
@@ -154,7 +155,52 @@ def _run_points(case: Case, job: Job) -> dict[str, Any]:
 
 def run_job(case: Case, job: Job) -> dict[str, Any]:
     """Compute one job (runs in a worker); returns its partial arrays."""
+    if job.kind == "fit":
+        return _run_fit(case)
     return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
+
+
+# =========================================================================== fit
+def _run_fit(case: Case) -> dict[str, Any]:
+    """The fit of a case's ``fit:`` block, then the ordinary levels of the fitted well.
+
+    The fit is the core's :func:`anharmony.fit` with :meth:`Case.fit_arguments`; its warnings
+    are kept (the result stores and the run prints them). Returns ``{"fit": FitOutcome,
+    "values": path → value, "parts": the partial arrays of the fitted case's jobs}``.
+    """
+    from ..fit import fit
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = fit(**case.fit_arguments())
+    fitted = case.fitted(res.values)
+    parts = [run_job(fitted, job) for job in level_jobs(fitted)]
+    return {"fit": fit_outcome(res, [str(w.message) for w in caught]),
+            "values": dict(res.values), "parts": parts}
+
+
+def fit_outcome(res: Any, notes: list[str]) -> FitOutcome:
+    """The plain values of a :class:`anharmony.fit.FitResult` that a result file stores."""
+    data = res.data
+    return FitOutcome(
+        parameters=tuple(res.parameters),
+        values=np.array([res.values[p] for p in res.parameters]),
+        uncertainties=np.array([res.uncertainties[p] for p in res.parameters]),
+        correlation=np.asarray(res.correlation, dtype=float), chi2=float(res.chi2),
+        dof=int(res.dof),
+        names=tuple(d.name or f"data[{k}]" for k, d in enumerate(data)),
+        quantities=tuple(d.quantity for d in data),
+        levels=np.array([(d.levels[0], d.levels[1] if len(d.levels) > 1 else -1)
+                         for d in data], dtype=np.int64),
+        l=np.array([-1 if d.l is None else d.l for d in data], dtype=np.int64),
+        j=np.array([np.nan if d.j is None else d.j for d in data], dtype=float),
+        measured=np.array([d.value for d in data]),
+        sigma=np.array([d.uncertainty for d in data]),
+        prediction=np.asarray(res.predictions, dtype=float),
+        residual=np.asarray(res.residuals, dtype=float),
+        basis_error=np.asarray(res.basis_error, dtype=float),
+        undetermined=tuple(res.undetermined), warnings=tuple(dict.fromkeys(notes)),
+        evaluations=int(res.evaluations))
 
 
 # =========================================================================== series

@@ -4,7 +4,8 @@ A case is split into *jobs*. When the scanned parameter enters the Hamiltonian l
 the basis is the same at every scan point, a job is one channel over all scan points (the core
 scan builds H = A + s·B once); otherwise a job is one scan point over all channels, with the
 reference oscillator resolved at that point. A case with a convergence study has one job per
-(scan point, channel).
+(scan point, channel). A case with a ``fit:`` block is one job: the fit, then the levels of
+the fitted well.
 """
 
 from __future__ import annotations
@@ -17,15 +18,17 @@ from ..cases import Case, resolve_reference
 from ..scan import linear_in, pencil_applies
 from ..spectrum import Reference
 
-__all__ = ["Description", "Job", "describe", "output_path", "plan_case", "smaller_size"]
+__all__ = ["Description", "Job", "describe", "level_jobs", "output_path", "plan_case",
+           "smaller_size"]
 
 
 @dataclass(frozen=True)
 class Job:
     """One unit sent to a worker.
 
-    ``kind`` is ``"linear"`` (one channel, all scan points, references given) or
-    ``"points"`` (the listed scan points, every channel).
+    ``kind`` is ``"linear"`` (one channel, all scan points, references given),
+    ``"points"`` (the listed scan points, every channel) or ``"fit"`` (the case's fit, then
+    every level of the fitted well).
     """
 
     case_key: int
@@ -61,7 +64,18 @@ def _one_pencil(case: Case, refs: tuple[Reference, ...]) -> bool:
 
 
 def plan_case(case: Case, case_key: int = 0) -> list[Job]:
-    """Split a case into jobs (see the module docstring)."""
+    """Split a case into jobs (see the module docstring).
+
+    A case with a ``fit:`` block is one ``"fit"`` job: the fit, then the jobs of
+    :func:`level_jobs` for the fitted well, in the same worker.
+    """
+    if case.model.fit is not None:
+        return [Job(case_key, "fit", (0,), tuple(range(len(case.channels()))))]
+    return level_jobs(case, case_key)
+
+
+def level_jobs(case: Case, case_key: int = 0) -> list[Job]:
+    """The jobs of a case's levels, series and study (a ``fit:`` block is not looked at)."""
     values = case.scan_values()
     chans = tuple(range(len(case.channels())))
     if case.model.convergence.study:  # one converge() per (scan point, channel)
@@ -160,11 +174,26 @@ def describe(case: Case, *, reference: bool = True) -> Description:
         p = m.perturbation
         lines.append(f"  series     orders 0…{p.orders}, exact {p.exact}, resum "
                      f"{', '.join(p.resum) or 'none'}")
+    if m.fit is not None:
+        lines.append(f"  fit        {_fit_text(case)}")
     lines += [f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}",
               f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
               f"{len(chans)} channel(s))",
               f"  output     {output_path(case, None)}"]
     return Description(lines, problem)
+
+
+def _fit_text(case: Case) -> str:
+    """The fit of a case in one line: its parameters and how many data of which kind."""
+    params = case.fit_parameters()
+    rows = case.fit_data.rows if case.fit_data else ()
+    spacings = sum(1 for d in rows if d.get("quantity", "spacing" if "levels" in d
+                                            else "level") == "spacing")
+    kinds = ", ".join(f"{n} {w}{'s' if n != 1 else ''}" for n, w in
+                      ((len(rows) - spacings, "level"), (spacings, "spacing")) if n)
+    source = f" from {case.fit_data.name}" if case.fit_data and case.fit_data.source else ""
+    return (f"{len(params)} parameter(s) {', '.join(params)} to {len(rows)} data ({kinds})"
+            f"{source}; then the levels of the fitted well")
 
 
 def _linear(case: Case) -> bool:
