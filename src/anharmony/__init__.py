@@ -122,15 +122,16 @@ def __dir__() -> list[str]:
 
 
 class _Package(types.ModuleType):
-    """The package module; keeps ``anharmony.scan``/``.series`` the functions.
+    """The package module; keeps ``anharmony.fit``/``.scan``/``.series`` the functions.
 
-    Importing a submodule binds it as an attribute of the package; for the two submodules
-    whose main function has their name, the function is bound instead.
+    Importing a submodule binds it as an attribute of the package; for the submodules whose
+    main function has their name the binding is skipped, so that the name stays the function
+    (reached through ``__getattr__`` on first use, without importing more than asked for).
     """
 
     def __setattr__(self, name: str, value: object) -> None:
         if name in _SHADOWED and isinstance(value, types.ModuleType):
-            value = getattr(value, name)
+            return
         super().__setattr__(name, value)
 
 

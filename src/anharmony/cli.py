@@ -284,7 +284,7 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     d = np.where(np.isfinite(d), d, np.inf)
     err = float(ds.error_estimate.values[k, c, n])
     allowed = max(tol, err if math.isfinite(err) else 0.0)
-    from .series import partial_sum_verdict
+    from .series.verdict import partial_sum_verdict
 
     return partial_sum_verdict(d, allowed)
 
@@ -293,7 +293,7 @@ def _level_name(ds: Any, dim: int, c: int, n: int) -> str:
     """The stored spectroscopic label; for files without ``level_label``, made here."""
     if "level_label" in ds:
         return str(ds.level_label.values[c, n])
-    from .hamiltonian import level_label
+    from .labels import level_label
 
     jc = float(ds.j.values[c]) if "j" in ds else None
     return level_label(dim, int(ds.l.values[c]), jc, n)

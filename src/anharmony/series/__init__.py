@@ -12,13 +12,9 @@
 
 from __future__ import annotations
 
-from .borel import BorelPade, borel_pade, leroy_order
-from .front import Series, series
-from .growth import LargeOrder, large_order
-from .resum import PadeApproximant, Resummed, pade, pade_approximant, pade_sum
-from .rs_exact import rs_exact_1d, rs_exact_banded, rs_exact_radial
-from .rs_numeric import ScaledCoefficients, rs_numeric
-from .truncation import OptimalTruncation, optimal_truncation, partial_sums
+from importlib import import_module
+
+# bound here, not lazily: the name is also a submodule, whose import would shadow the function
 from .verdict import Verdict, lowest_order, partial_sum_verdict, verdict
 
 __all__ = [
@@ -47,3 +43,38 @@ __all__ = [
     "series",
     "verdict",
 ]
+
+_LAZY = {  # name → submodule, imported on first use (so that `show` stays light)
+    "BorelPade": "borel",
+    "LargeOrder": "growth",
+    "OptimalTruncation": "truncation",
+    "PadeApproximant": "resum",
+    "Resummed": "resum",
+    "ScaledCoefficients": "rs_numeric",
+    "Series": "front",
+    "borel_pade": "borel",
+    "large_order": "growth",
+    "leroy_order": "borel",
+    "optimal_truncation": "truncation",
+    "pade": "resum",
+    "pade_approximant": "resum",
+    "pade_sum": "resum",
+    "partial_sums": "truncation",
+    "rs_exact_1d": "rs_exact",
+    "rs_exact_banded": "rs_exact",
+    "rs_exact_radial": "rs_exact",
+    "rs_numeric": "rs_numeric",
+    "series": "front",
+}
+
+
+def __getattr__(name: str):
+    if name in _LAZY:
+        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(__all__))

@@ -16,8 +16,6 @@ import numpy as np
 from anharmony.errors import NumericalError
 
 from ..errors import InputError
-from .borel import borel_pade
-from .resum import pade_sum
 from .truncation import partial_sums
 
 __all__ = ["Verdict", "lowest_order", "partial_sum_verdict", "verdict"]
@@ -143,6 +141,9 @@ def verdict(
     -------
     Verdict
     """
+    from .borel import borel_pade  # imported here: `show` needs only partial_sum_verdict
+    from .resum import pade_sum
+
     values = _values(source)
     lam = np.asarray(couplings, dtype=float)
     e = np.asarray(energies, dtype=float)
