@@ -495,11 +495,3 @@ def pade_sum(
         rejected=tuple(rejected), step=step, approximant=first,
     )
 
-
-def __getattr__(name: str) -> Any:
-    # the Borel sums moved to .borel; keep ``from anharmony.series.resum import borel_pade``
-    if name in ("BorelPade", "borel_pade"):
-        from . import borel
-
-        return getattr(borel, name)
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
