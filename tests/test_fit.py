@@ -168,3 +168,37 @@ def test_gaussian_trap_fit_agrees_with_the_harmonic_limit_inversion():
     # the closed form is good to a few times ω/U₀ (≈ 0.036 here): allow 3·ω/U₀
     assert u0 == pytest.approx(depth, rel=3 * ratio)
     assert w == pytest.approx(waist, rel=3 * ratio)
+
+
+def test_rms_radius_data_fix_the_oscillator_frequency():
+    # 3D oscillator: ⟨r²⟩ = b²(2n + l + 3/2), b² = ħ/(mω) (Messiah, Quantum Mechanics, App. B;
+    # ħ = m = 1 here). A level and an rms radius of another channel fix ħω = 1.7.
+    hw = 1.7
+    data = [{"level": 0, "l": 0, "value": 1.5 * hw, "uncertainty": 1e-6},
+            {"quantity": "rms_radius", "level": 1, "l": 1,
+             "value": math.sqrt((2 + 1 + 1.5) / hw), "uncertainty": 1e-6}]
+    res = fit([{"harmonic": {"frequency": 1.0}}], 3, 0, parameters=["well[0].frequency"],
+              data=data, size=20)
+    # 1e-9: exact data, exact r² operator; limited by the least-squares tolerances
+    assert res.values["well[0].frequency"] == pytest.approx(hw, rel=1e-9)
+    assert res.predictions[1] == pytest.approx(math.sqrt(4.5 / hw), rel=1e-9)
+
+
+def test_rms_radius_jacobian_matches_finite_differences_of_the_radius():
+    # d sqrt⟨r²⟩/dω = −½ sqrt(4.5) ω^{-3/2} for level n = 1, l = 1 (from ⟨r²⟩ = 4.5/ω above)
+    from anharmony.fit import _measurements, _Model
+
+    data = _measurements([{"quantity": "rms_radius", "level": 1, "l": 1, "value": 1.0,
+                           "uncertainty": 1.0}], 0, None)
+    model = _Model([{"harmonic": {"frequency": 1.0}}], ["well[0].frequency"], data, 3,
+                   "oscillator", None, 20, 1.0)
+    _, jac, _ = model.evaluate(np.array([1.7]))
+    # 1e-7: central difference with step 1e-5 relative (error ~1e-10) of an exact operator
+    assert jac[0, 0] == pytest.approx(-0.5 * math.sqrt(4.5) * 1.7 ** -1.5, rel=1e-7)
+
+
+def test_rms_radius_without_a_centre_is_refused():
+    with pytest.raises(ah.InputError, match="rms radius needs a radial or 1D parity channel"):
+        fit(QUARTIC, 1, None, parameters=PATHS, size=40, length=1.0,
+            data=[{"quantity": "rms_radius", "level": 0, "value": 1.0, "uncertainty": 0.1},
+                  {"level": 0, "value": 1.0, "uncertainty": 0.1}])

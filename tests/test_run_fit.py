@@ -120,3 +120,30 @@ def test_the_residuals_figure_of_a_result_without_a_fit_names_what_is_missing(tm
     with pytest.raises(ValueError, match=r"fit_residual.*fit: block"):
         plots.make_figure(read_dataset(tmp_path / "nofit.nc"), "residuals")
 
+
+
+def test_radius_and_energy_data_keep_their_own_units_in_the_file(tmp_path):
+    # A nuclear-units fit to an energy and an rms radius: the file cannot give fit_measured one
+    # CF units attribute (MeV and fm), so each datum's unit is stored (CF §3.1: a units
+    # attribute must be right when it is there). Harmonic oscillator: E = ħω(2n + l + 3/2),
+    # ⟨r²⟩ = b²(2n + l + 3/2) (Messiah).
+    import math
+
+    from anharmony.units import get_units
+
+    u = get_units("nuclear")
+    hw = 10.0
+    b2 = 2.0 * u.hbar2_over_2m(None) / hw
+    case = (f"schema: 1\nunits: nuclear\nspace: {{dimension: 3, l: [0]}}\n"
+            f"well:\n  - harmonic: {{frequency: 8.0}}\nbasis: {{size: 20}}\n"
+            f"levels: {{count: 2}}\nreference: {{frequency: 10.0}}\n"
+            f"fit:\n  parameters:\n    well[0].frequency: null\n  data:\n"
+            f"    - {{level: 0, value: {1.5 * hw}, uncertainty: 1.0e-6}}\n"
+            f"    - {{quantity: rms_radius, level: 0, value: {math.sqrt(1.5 * b2)}, "
+            f"uncertainty: 1.0e-6}}\noutput: r.nc\n")
+    (tmp_path / "r.yaml").write_text(case)
+    assert main(["run", str(tmp_path / "r.yaml")]) == 0
+    ds = read_dataset(tmp_path / "r.nc")
+    assert list(ds.fit_datum_units.values) == ["MeV", "fm"]
+    assert "units" not in ds.fit_measured.attrs
+    assert float(ds.fit_value[0]) == pytest.approx(hw, rel=1e-8)  # exact data

@@ -506,7 +506,9 @@ def _print_fit(ds: Any, energy_units: str) -> None:
           f"{'residual':>9} {'basis err':>9}")
     for k, name in enumerate(ds.fit_datum.values):
         lev_a, lev_b = int(ds.fit_level_a.values[k]), int(ds.fit_level_b.values[k])
-        what = f"E{lev_b} - E{lev_a}" if lev_b >= 0 else f"E{lev_a}"
+        quantity = str(ds.fit_quantity.values[k])
+        what = (f"E{lev_b} - E{lev_a}" if lev_b >= 0 else
+                f"r_rms{lev_a}" if quantity == "rms_radius" else f"E{lev_a}")
         l = int(ds.fit_l.values[k])
         j = float(ds.fit_j.values[k])
         if l >= 0 and int(a.get("dimension", 1)) > 1:

@@ -33,7 +33,7 @@ from .well import Well
 __all__ = ["FitResult", "FitWarning", "Measurement", "fit", "parse_parameter_path"]
 
 _PATH = re.compile(r"^well\[(\d+)\]\.([A-Za-z_][A-Za-z0-9_]*)$")
-QUANTITIES = ("level", "spacing")
+QUANTITIES = ("level", "spacing", "rms_radius")
 _DATUM_KEYS = ("quantity", "level", "levels", "value", "uncertainty", "l", "j", "name")
 SINGULAR_RATIO = 1e-8  # singular value / largest below this: a direction the data cannot fix
 BASIS_SHARE = 0.1  # basis error above this share of a datum's uncertainty: warn
@@ -49,7 +49,9 @@ class Measurement:
     """One measured quantity, in the unit system's energy unit.
 
     ``quantity="level"``: the energy of level ``levels[0]`` (0-based within its channel);
-    ``quantity="spacing"``: E[levels[1]] − E[levels[0]] (a transition or trap frequency ħω).
+    ``quantity="spacing"``: E[levels[1]] − E[levels[0]] (a transition or trap frequency ħω);
+    ``quantity="rms_radius"``: sqrt⟨r²⟩ of level ``levels[0]`` in the length unit (radial
+    channels and 1D parity channels, r = |x|).
     """
 
     quantity: str
@@ -164,10 +166,13 @@ def _measurements(data: Any, l: int | None, j: Any) -> tuple[Measurement, ...]:
         if quantity not in QUANTITIES:
             raise InputError(f"{where}.quantity: expected one of {', '.join(QUANTITIES)}; "
                              f"got {quantity!r}")
-        if quantity == "level":
+        if quantity in ("level", "rms_radius"):
             if "level" not in d:
-                raise InputError(f"{where}.level: is required for quantity 'level'")
+                raise InputError(f"{where}.level: is required for quantity {quantity!r}")
             levels = (_level_index(f"{where}.level", d["level"]),)
+            if quantity == "rms_radius" and d.get("l", l) is None:
+                raise InputError(f"{where}.quantity: an rms radius needs a radial or 1D parity "
+                                 "channel (give l); the basis without symmetry has no centre")
         else:
             pair = d.get("levels")
             if isinstance(pair, (str, bytes)) or not isinstance(pair, Sequence) or len(pair) != 2:
@@ -286,8 +291,11 @@ class _Model:
                 raise InputError(f"data: level {max(d.levels)} of channel "
                                  f"{_channel_name(self.dimension, d)} needs a basis of at least "
                                  f"{max(d.levels) + 1} states")
-            vals.append(e[d.levels[0]] if d.quantity == "level"
-                        else e[d.levels[1]] - e[d.levels[0]])
+            if d.quantity == "rms_radius":
+                vals.append(_rms(spectra[d.channel_key], d.levels[0]))
+            else:
+                vals.append(e[d.levels[0]] if d.quantity == "level"
+                            else e[d.levels[1]] - e[d.levels[0]])
         return np.array(vals)
 
     def evaluate(self, x: np.ndarray):
@@ -314,10 +322,19 @@ class _Model:
                     dv = dv + spec.channel.ls * (wp.spin_orbit_value(nodes)
                                                  - wm.spin_orbit_value(nodes)) / (2.0 * h)
                 dlev[k] = dens @ dv  # Hellmann–Feynman: ⟨ψ_k|∂H/∂p|ψ_k⟩
+            radii = None
+            if any(d.quantity == "rms_radius" for d in self.data):
+                # ⟨r²⟩ moves with the eigenvectors (no Hellmann–Feynman): central differences
+                # of the model itself in the same fixed basis
+                radii = (self.predict(self.spectra(xp)[1])
+                         - self.predict(self.spectra(xm)[1])) / (2.0 * h)
             for r, d in enumerate(self.data):
                 g = dlev[d.channel_key]
-                jac[r, p] = g[d.levels[0]] if d.quantity == "level" \
-                    else g[d.levels[1]] - g[d.levels[0]]
+                if d.quantity == "rms_radius":
+                    jac[r, p] = radii[r]
+                else:
+                    jac[r, p] = g[d.levels[0]] if d.quantity == "level" \
+                        else g[d.levels[1]] - g[d.levels[0]]
         self._last = (key, (pred, jac, spectra))
         return self._last[1]
 
@@ -348,6 +365,11 @@ def _density_grid(spec) -> tuple[np.ndarray, np.ndarray]:
         weights = weights * nodes ** (spec.channel.dimension - 1)
     psi = spec.vectors.T @ basis.functions(nodes)
     return nodes, psi * psi * weights[None, :]
+
+
+def _rms(spec: Any, k: int) -> float:
+    """sqrt⟨r²⟩ of level k (exact from the banded r² operator)."""
+    return float(math.sqrt(spec.coordinate_moment(2)[k]))
 
 
 def _channel_name(dimension: int, d: Measurement) -> str:
@@ -495,7 +517,8 @@ def _estimates(model: _Model, spectra) -> np.ndarray:
     out = []
     for d in model.data:
         est = spectra[d.channel_key].error_estimate
-        out.append(sum(float(est[k]) for k in d.levels))
+        # an energy error bar says nothing about a radius: the larger basis judges those
+        out.append(0.0 if d.quantity == "rms_radius" else sum(float(est[k]) for k in d.levels))
     return np.array(out)
 
 

@@ -546,6 +546,18 @@ def _fit_variables(case: Case, fit: FitOutcome) -> tuple[dict, dict, dict]:
     where = ("" if same else "; the parameters have different units, which one CF units "
              "attribute cannot express: each is in its entry of fit_parameter_units")
     par, dat = ("fit_parameter",), ("fit_datum",)
+    # a datum is an energy, a spacing (energy) or an rms radius (length)
+    datum_units = [case.units.length if q == "rms_radius" else e_units for q in fit.quantities]
+    one = len(set(datum_units)) == 1
+    d_units = datum_units[0] if one else None
+    d_where = ("" if one else "; the data have different units (energies and radii), which one "
+               "CF units attribute cannot express: each is in its entry of fit_datum_units")
+
+    def _datum_attrs(long_name: str) -> dict[str, Any]:
+        if d_units is None:
+            return {"long_name": long_name + d_where}
+        return _float_attrs(d_units, long_name)
+
     coords = {
         "fit_parameter": (par, np.asarray(fit.parameters, dtype=str),
                           {"units": "1", "long_name": "path of the fitted parameter in the "
@@ -573,8 +585,11 @@ def _fit_variables(case: Case, fit: FitOutcome) -> tuple[dict, dict, dict]:
                             np.asarray(fit.correlation, dtype=float),
                             {"units": "1", "long_name": "correlation of the fitted parameters"}),
         "fit_quantity": (dat, np.asarray(fit.quantities, dtype=str),
-                         {"units": "1", "long_name": "measured quantity: level (E_a) or "
-                          "spacing (E_b - E_a)"}),
+                         {"units": "1", "long_name": "measured quantity: level (E_a), "
+                          "spacing (E_b - E_a) or rms_radius (sqrt<r^2> of level a)"}),
+        "fit_datum_units": (dat, np.asarray(datum_units, dtype=str),
+                            {"units": "1", "long_name": "units of each datum (fit_measured, "
+                             "fit_sigma, fit_prediction, fit_basis_error)"}),
         "fit_level_a": (dat, np.asarray(fit.levels[:, 0], dtype=np.int64),
                         {"units": "1", "long_name": "0-based index a of the level in its "
                          "channel"}),
@@ -587,19 +602,19 @@ def _fit_variables(case: Case, fit: FitOutcome) -> tuple[dict, dict, dict]:
         "fit_j": (dat, np.asarray(fit.j, dtype=float),
                   {"units": "1", "long_name": "j of the datum's channel (NaN without spin)"}),
         "fit_measured": (dat, np.asarray(fit.measured, dtype=float),
-                         _float_attrs(e_units, "measured value of the datum")),
+                         _datum_attrs("measured value of the datum")),
         "fit_sigma": (dat, np.asarray(fit.sigma, dtype=float),
-                      _float_attrs(e_units, "standard uncertainty of the measured value")),
+                      _datum_attrs("standard uncertainty of the measured value")),
         "fit_prediction": (dat, np.asarray(fit.prediction, dtype=float),
-                           _float_attrs(e_units, "value of the datum computed with the "
-                                        "fitted parameters")),
+                           _datum_attrs("value of the datum computed with the fitted "
+                                        "parameters")),
         "fit_residual": (dat, np.asarray(fit.residual, dtype=float),
                          _float_attrs("1", "(fit_prediction - fit_measured) / fit_sigma, in "
                                       "standard uncertainties")),
         "fit_basis_error": (dat, np.asarray(fit.basis_error, dtype=float),
-                            _float_attrs(e_units, "basis error of fit_prediction: change in a "
-                                         "basis half as large again, or the solver's "
-                                         "estimate if larger")),
+                            _datum_attrs("basis error of fit_prediction: change in a basis "
+                                         "half as large again, or the solver's estimate if "
+                                         "larger")),
     }
     attrs = {"fit_chi2": float(fit.chi2), "fit_dof": int(fit.dof),
              "fit_evaluations": int(fit.evaluations),
