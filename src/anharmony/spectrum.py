@@ -78,6 +78,44 @@ class Reference:
     reason: str
 
 
+class _Deferred:
+    """A value made on first read (a :class:`_LazyField` holds it until then)."""
+
+    __slots__ = ("make",)
+
+    def __init__(self, make: Callable[[], Any]) -> None:
+        self.make = make
+
+
+class _LazyField:
+    """A dataclass field that may be given as a :class:`_Deferred`: made on first read, then
+    kept in the instance (a frozen dataclass still refuses assignment from outside).
+
+    ``default`` makes the field optional (``field(default=<this descriptor>)``): a factory,
+    called per instance on first read.
+    """
+
+    def __init__(self, name: str, default: Callable[[], Any] | None = None) -> None:
+        self.name = name
+        self.default = default
+
+    def __get__(self, obj: Any, owner: type | None = None) -> Any:
+        if obj is None:  # class access: dataclasses look for a default here
+            if self.default is None:
+                raise AttributeError(self.name)
+            return self
+        value = obj.__dict__[self.name]
+        if value is self:  # the field's default was taken
+            value = _Deferred(self.default)  # type: ignore[arg-type]
+        if isinstance(value, _Deferred):
+            value = value.make()
+            obj.__dict__[self.name] = value
+        return value
+
+    def __set__(self, obj: Any, value: Any) -> None:
+        obj.__dict__[self.name] = value
+
+
 @dataclass(frozen=True)
 class Spectrum:
     """Levels of one channel.
@@ -90,8 +128,13 @@ class Spectrum:
         True where the level lies below the threshold.
     vectors : ndarray
         Eigenvectors in the oscillator basis, shape (N, levels).
+    reference : Reference
+        The reference oscillator (DESIGN §2). With a given ``length`` and
+        ``reference="auto"``, :func:`solve` resolves it on first read (its variational search
+        is most of a first solve's cost), so an error of that search appears there.
     reference_energies : ndarray
-        Levels of the reference oscillator in this channel, v_min + ħω (2n + l + d/2).
+        Levels of the reference oscillator in this channel, v_min + ħω (2n + l + d/2);
+        made on first read with the reference.
     rounding : float
         eps · ‖H‖₁, the absolute accuracy floor of the eigenvalues; large when the basis
         reaches far into a steep wall (then :func:`solve` warns).
@@ -113,18 +156,24 @@ class Spectrum:
     vectors: np.ndarray
     channel: Channel
     basis: HermiteBasis | RadialBasis
-    reference: Reference
+    reference: Reference = _LazyField("reference")  # type: ignore[assignment]  # required
     threshold: float
     units: UnitSystem
     mass: float | None
     well: Well = field(repr=False)
-    reference_energies: np.ndarray = field(repr=False, default_factory=lambda: np.zeros(0))
+    reference_energies: np.ndarray = field(  # type: ignore[assignment]
+        repr=False, default=_LazyField("reference_energies", lambda: np.zeros(0)))
     rounding: float = 0.0  # eps·‖H‖₁: the absolute accuracy floor of the eigenvalues
     error_estimate: np.ndarray = field(default_factory=lambda: np.zeros(0))
     converged: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
     tolerance: float = math.nan
     labels: tuple[str, ...] = ()
     length_reason: str = ""
+
+    def __getstate__(self) -> dict[str, Any]:
+        # pickled and copied with every lazy field made (a _Deferred holds a closure)
+        return {k: getattr(self, k) if isinstance(v, (_Deferred, _LazyField)) else v
+                for k, v in self.__dict__.items()}
 
     @property
     def bound_count_estimate(self) -> float:
@@ -828,16 +877,34 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         raise InputError(f"size: must be an integer >= 1; got {size!r}")
     levels = _check_levels(levels, size)
     tolerance = _check_tolerance(tolerance)
-    ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
-    if isinstance(length, str) and length == "auto":
-        b, why = default_length(well, channel, levels, size, ref)
+    radial = channel.l is not None
+    auto_length = isinstance(length, str) and length == "auto"
+    if auto_length or not (isinstance(reference, str) and reference == "auto"):
+        ref: Reference | _Deferred = reference_oscillator(well, dimension, l, None, levels,
+                                                          reference, channel.j)
+        center, v_min = (0.0 if radial else ref.center), ref.v_min
+    else:
+        # a given length needs no reference: its search is made when it is first read
+        # (Spectrum.reference, shifts); centre and V_min are those it will take
+        center, v_min = well.minimum(radial=radial)[:2]
+        center = 0.0 if radial else center
+        made: list[Reference] = []
+
+        def make_reference() -> Reference:
+            if not made:
+                made.append(reference_oscillator(well, dimension, l, None, levels, reference,
+                                                 channel.j))
+            return made[0]
+
+        ref = _Deferred(make_reference)
+    if auto_length:
+        b, why = default_length(well, channel, levels, size, ref)  # type: ignore[arg-type]
     else:
         b, why = _positive("length", length), "given"
-    center = ref.center if channel.l is None else 0.0
     mats, h = _channel_matrices(well, channel, size, b, center)
     energies, vectors = diagonalize(h, levels, mats.bandwidth)
     rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
-    scale = max(float(np.max(np.abs(energies - ref.v_min))), mats.hbar_omega)
+    scale = max(float(np.max(np.abs(energies - v_min))), mats.hbar_omega)
     unit = "" if system.energy == "1" else " " + system.energy
     if rounding > ROUNDING_WARN * scale:
         warnings.warn(
@@ -845,12 +912,18 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
             f" (the basis reaches far into a steep wall), so its eigenvalues are uncertain by "
             f"about {rounding:.1e}{unit}; use a smaller size or length",
             ConvergenceWarning, stacklevel=2)
-    radial = channel.l is not None
     threshold = well.threshold(dimension, symmetric=radial)
     bound = energies < threshold
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
-    ref_levels = ref.v_min + ref.frequency * osc
+    if isinstance(ref, Reference):
+        ref_levels: np.ndarray | _Deferred = ref.v_min + ref.frequency * osc
+    else:
+        def reference_levels(make: Callable[[], Reference] = ref.make) -> np.ndarray:
+            r = make()
+            return r.v_min + r.frequency * osc
+
+        ref_levels = _Deferred(reference_levels)
     errors = nested_error_estimate(h, energies, mats.bandwidth, rounding,
                                    parity_pairs=channel.l is None)
     nb = int(np.count_nonzero(bound))
@@ -858,7 +931,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         or mats.hbar_omega
     tol = tolerance * spacing
     converged = bound & (errors <= tol)
-    labels = tuple(channel.level_label(n) for n in range(levels))
+    labels = tuple(channel.level_label(n, units=system) for n in range(levels))
     spec = Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
                     mass=mass, well=well, reference_energies=ref_levels, rounding=rounding,
