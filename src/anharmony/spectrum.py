@@ -21,7 +21,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from scipy.linalg import eig_banded, eigh
+from scipy.linalg import eig_banded, eigh, get_lapack_funcs
 from scipy.optimize import minimize_scalar
 
 from .basis import HermiteBasis, RadialBasis
@@ -31,7 +31,8 @@ from .units import UnitSystem, get_units
 from .well import Well
 
 __all__ = ["BANDED_MAX_RATIO", "DEFAULT_TOLERANCE", "Reference", "Spectrum",
-           "bound_count_estimate", "clear_caches", "diagonalize", "nested_error_estimate",
+           "band_eigenvalues", "band_error_estimate", "band_rounding", "bound_count_estimate",
+           "clear_caches", "diagonalize", "nested_error_estimate", "nested_sizes",
            "reference_oscillator", "resolve_channel", "solve", "upper_band"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
@@ -722,30 +723,52 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     is much steeper than the next) it can underestimate, and the phase-space count
     (:func:`bound_count_estimate`) is the second check there.
     """
-    n = h.shape[0]
-    k = len(energies)
+    sizes = nested_sizes(h.shape[0], parity_pairs)
+    banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * sizes[0]
+    band = upper_band(h, bandwidth) if banded else None  # a leading block: its first columns
+
+    def levels_of(m: int, top: int) -> np.ndarray:
+        if band is not None and bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
+            return band_eigenvalues(band, m, top)
+        block = np.ascontiguousarray(h[:m, :m])
+        return eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
+                    overwrite_a=True, check_finite=False)
+
+    return _nested_rule(energies, levels_of, sizes, rounding)
+
+
+def nested_sizes(n: int, parity_pairs: bool = False) -> tuple[int, int]:
+    """The sub-block sizes N − q, N − 2q of :func:`nested_error_estimate` (q = N/4; even q for
+    ``parity_pairs``)."""
     q = max(1, round(ESTIMATE_WINDOW * n))
     if parity_pairs:
         q = 2 * max(1, round(ESTIMATE_WINDOW * n / 2))
-    sizes = (n - q, n - 2 * q)
-    subs = []
-    for m in sizes:
-        out = np.full(k, np.inf)
-        if m >= 1:
-            top = min(k, m)
-            block = np.ascontiguousarray(h[:m, :m])
-            if bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
-                e = eig_banded(upper_band(block, bandwidth), lower=False, eigvals_only=True,
-                               select="i", select_range=(0, top - 1))
-            else:
-                e = eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
-                         overwrite_a=True, check_finite=False)
-            out[:top] = e[:top]
-        subs.append(out)
-    e1, e2 = subs
+    return n - q, n - 2 * q
+
+
+def _padded(levels_of: Callable[[int, int], np.ndarray], m: int, k: int) -> np.ndarray:
+    """The lowest k eigenvalues of the leading m-block, ``inf`` where it has fewer."""
+    out = np.full(k, np.inf)
+    if m >= 1:
+        top = min(k, m)
+        out[:top] = levels_of(m, top)[:top]
+    return out
+
+
+def _nested_rule(energies: np.ndarray, levels_of: Callable[[int, int], np.ndarray],
+                 sizes: tuple[int, int], rounding: float) -> np.ndarray:
+    """The estimate of :func:`nested_error_estimate` from E(N) and the sub-blocks' levels
+    (``levels_of(m, top)``: the lowest ``top`` eigenvalues of the leading m-block)."""
+    k = len(energies)
+    e1 = _padded(levels_of, sizes[0], k)
     with np.errstate(invalid="ignore", over="ignore"):
         # differences within the eigensolvers' rounding (a few eps·‖H‖) carry no information
         d1 = np.maximum(e1 - energies - 2.0 * rounding, 0.0)
+    if not np.any(d1 != 0.0):  # no level changed beyond rounding (e1 finite: d₁ = 0): the
+        # remainder d₁·(…) is 0 whatever the second block holds, so it is not solved
+        return np.full(k, rounding)
+    e2 = _padded(levels_of, sizes[1], k)
+    with np.errstate(invalid="ignore", over="ignore"):
         d0 = np.maximum(e2 - e1 - 2.0 * rounding, 0.0)
         r = np.where(d0 > 0.0, d1 / np.where(d0 > 0.0, d0, 1.0), ESTIMATE_RATIO_CAP)
         r = np.clip(np.where(np.isfinite(r), r, ESTIMATE_RATIO_CAP), 0.0, ESTIMATE_RATIO_CAP)
@@ -757,6 +780,42 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     err[only1] = ESTIMATE_SAFETY * ESTIMATE_RATIO_CAP / (1 - ESTIMATE_RATIO_CAP) * d1[only1] \
         + rounding
     return err
+
+
+def band_error_estimate(band: np.ndarray, energies: np.ndarray, rounding: float = 0.0,
+                        parity_pairs: bool = False) -> np.ndarray:
+    """:func:`nested_error_estimate` of a matrix given in LAPACK upper band storage (the same
+    rule, for a scan's pencil A + s B kept banded)."""
+    return _nested_rule(energies, lambda m, top: band_eigenvalues(band, m, top),
+                        nested_sizes(band.shape[1], parity_pairs), rounding)
+
+
+def band_rounding(band: np.ndarray) -> float:
+    """eps · ‖H‖₁ of a symmetric matrix in upper band storage (the column sums of |H|)."""
+    u = band.shape[0] - 1
+    a = np.abs(band)
+    cols = a.sum(axis=0)  # the upper triangle and the diagonal of each column
+    for d in range(1, u + 1):  # H[j + d, j] = H[j, j + d] = band[u − d, j + d]
+        cols[:-d] += a[u - d, d:]
+    return float(np.finfo(float).eps * np.max(cols))
+
+
+_SBEVD = get_lapack_funcs(("sbevd",), (np.zeros((1, 1)),))[0]
+ALL_LEVELS_ROWS = 24  # banded, eigenvalues only: all of them (sbevd) beat a selection (sbevx)
+# below about 24 rows per wanted level (measured on N = 50…800: RESULTS.md)
+
+
+def band_eigenvalues(band: np.ndarray, m: int, top: int) -> np.ndarray:
+    """Lowest ``top`` eigenvalues of the leading m × m block of a matrix in upper band
+    storage (the block's band is the first m columns)."""
+    block = band[:, :m]
+    if m > ALL_LEVELS_ROWS * top:
+        return eig_banded(block, lower=False, eigvals_only=True, select="i",
+                          select_range=(0, top - 1), check_finite=False)
+    w, _, info = _SBEVD(block, compute_v=0, lower=0, overwrite_ab=0)
+    if info != 0:
+        raise np.linalg.LinAlgError(f"the banded eigensolver (sbevd) failed, info = {info}")
+    return w[:top]
 
 
 # =========================================================================== default length
