@@ -27,6 +27,7 @@ from scipy.optimize import minimize_scalar
 from .basis import HermiteBasis, RadialBasis
 from .errors import ConvergenceWarning, InputError
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
+from .labels import channel_label
 from .units import UnitSystem, get_units
 from .well import Well
 
@@ -967,7 +968,8 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     unit = "" if system.energy == "1" else " " + system.energy
     if rounding > ROUNDING_WARN * scale:
         warnings.warn(
-            f"{channel.label}: the Hamiltonian matrix has norm {rounding / np.finfo(float).eps:.1e}"
+            f"{channel_label(channel.dimension, channel.l, channel.j, units=system)}: "
+            f"the Hamiltonian matrix has norm {rounding / np.finfo(float).eps:.1e}"
             f" (the basis reaches far into a steep wall), so its eigenvalues are uncertain by "
             f"about {rounding:.1e}{unit}; use a smaller size or length",
             ConvergenceWarning, stacklevel=2)
@@ -1023,6 +1025,8 @@ def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> No
             else "increase size (length is chosen automatically)")
     if not isinstance(length, str):
         hint += ", or try length='auto'"
-    warnings.warn(f"{spec.channel.label}: " + "; ".join(problems) + f" with size={size}; "
+    name = channel_label(spec.channel.dimension, spec.channel.l, spec.channel.j,
+                         units=spec.units)
+    warnings.warn(f"{name}: " + "; ".join(problems) + f" with size={size}; "
                   f"{hint}", ConvergenceWarning, stacklevel=3)
 
