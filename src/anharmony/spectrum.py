@@ -539,6 +539,7 @@ class _PhaseSpace:
         self.well = well
         self.span = 30.0 * well.scale
         self._grids: dict[float, tuple[np.ndarray, np.ndarray, float]] = {}
+        self._memo: dict[str, float] = {}
         self.x, self.v, self.dx = self._grid(self.span)
         self.v_min = float(np.min(self.v))
 
@@ -587,6 +588,11 @@ class _PhaseSpace:
 
     def line_count(self) -> float:
         """Semiclassical number of levels below the threshold (1D parity: of the full line)."""
+        if "line_count" not in self._memo:  # depends on the well only: made once
+            self._memo["line_count"] = self._line_count()
+        return self._memo["line_count"]
+
+    def _line_count(self) -> float:
         if self.threshold == math.inf:
             return math.inf
         if self.threshold == -math.inf or self.v_min >= self.threshold:
@@ -946,7 +952,8 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     else:
         # a given length needs no reference: its search is made when it is first read
         # (Spectrum.reference, shifts); centre and V_min are those it will take
-        center, v_min = well.minimum(radial=radial)[:2]
+        center, v_min = _cached("reference", (_well_key(well), "minimum", radial),
+                                lambda: well.minimum(radial=radial)[:2])
         center = 0.0 if radial else center
         made: list[Reference] = []
 
@@ -973,7 +980,8 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
             f" (the basis reaches far into a steep wall), so its eigenvalues are uncertain by "
             f"about {rounding:.1e}{unit}; use a smaller size or length",
             ConvergenceWarning, stacklevel=2)
-    threshold = well.threshold(dimension, symmetric=radial)
+    threshold = _cached("reference", (_well_key(well), "threshold", dimension, radial),
+                        lambda: well.threshold(dimension, symmetric=radial))
     bound = energies < threshold
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
