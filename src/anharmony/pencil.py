@@ -21,6 +21,7 @@ from .spectrum import (
     band_error_estimate,
     band_rounding,
     diagonalize,
+    matrix_rounding,
     nested_error_estimate,
     upper_band,
 )
@@ -72,7 +73,7 @@ class Pencil:
         if self.banded:
             rounding = band_rounding(h)
             return band_error_estimate(h, energies, rounding, parity_pairs), rounding
-        rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
+        rounding = matrix_rounding(h)
         return nested_error_estimate(h, energies, None, rounding, parity_pairs), rounding
 
 

@@ -31,6 +31,7 @@ from .spectrum import (
     _positive,
     default_length,
     diagonalize,
+    matrix_rounding,
     nested_error_estimate,
     reference_oscillator,
     resolve_channel,
@@ -428,7 +429,7 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
                                 mats.bandwidth)[0][:m]
     err = None
     if estimate:
-        rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
+        rounding = matrix_rounding(h)
         err = (nested_error_estimate(h, e, mats.bandwidth, rounding,
                                      parity_pairs=channel.l is None), rounding)
     thr = float(w.threshold(channel.dimension, symmetric=radial))

@@ -33,8 +33,8 @@ from .well import Well
 
 __all__ = ["BANDED_MAX_RATIO", "DEFAULT_TOLERANCE", "Reference", "Spectrum",
            "band_eigenvalues", "band_error_estimate", "band_rounding", "bound_count_estimate",
-           "clear_caches", "diagonalize", "nested_error_estimate", "nested_sizes",
-           "reference_oscillator", "resolve_channel", "solve", "upper_band"]
+           "clear_caches", "diagonalize", "matrix_rounding", "nested_error_estimate",
+           "nested_sizes", "reference_oscillator", "resolve_channel", "solve", "upper_band"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
@@ -797,6 +797,11 @@ def band_error_estimate(band: np.ndarray, energies: np.ndarray, rounding: float 
                         nested_sizes(band.shape[1], parity_pairs), rounding)
 
 
+def matrix_rounding(h: np.ndarray) -> float:
+    """eps · ‖H‖₁, the absolute accuracy floor of the eigenvalues of a dense matrix."""
+    return float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
+
+
 def band_rounding(band: np.ndarray) -> float:
     """eps · ‖H‖₁ of a symmetric matrix in upper band storage (the column sums of |H|)."""
     u = band.shape[0] - 1
@@ -970,7 +975,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         b, why = _positive("length", length), "given"
     mats, h = _channel_matrices(well, channel, size, b, center)
     energies, vectors = diagonalize(h, levels, mats.bandwidth)
-    rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
+    rounding = matrix_rounding(h)
     scale = max(float(np.max(np.abs(energies - v_min))), mats.hbar_omega)
     unit = "" if system.energy == "1" else " " + system.energy
     if rounding > ROUNDING_WARN * scale:

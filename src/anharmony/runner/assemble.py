@@ -13,16 +13,16 @@ import numpy as np
 
 from ..cases import Case
 from ..labels import channel_label, level_label
-from ..store import CaseResult
 from ..spectrum import ESTIMATE_SAFETY, nested_sizes
+from ..store import CaseResult
 from .compute import core_estimate, empty
 from .plan import smaller_size
 
 __all__ = ["assemble"]
 
-_MERGE = ("energy", "bound", "smaller", "error", "reference_energy", "threshold", "series_coefficient",
-          "series_partial_sum", "series_resummed", "series_optimal", "series_optimal_error",
-          "series_optimal_order")
+_MERGE = ("energy", "bound", "smaller", "error", "reference_energy", "threshold",
+          "series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
+          "series_optimal_error", "series_optimal_order")
 _PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min")
 
 
