@@ -88,7 +88,7 @@ def test_run_refuses_a_geometry_case_with_exit_2(tmp_path, capsys):
     assert "space.geometry: axial cases are checked but not run" in err
     assert "anharmony.solve(well, 3, geometry='axial', shells=10)" in err
     assert not list(tmp_path.glob("*.nc"))
-    with pytest.raises(CaseError, match="space.geometry"):
+    with pytest.raises(CaseError, match=r"space\.geometry"):
         ah.run_case(path)
 
 

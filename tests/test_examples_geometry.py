@@ -19,7 +19,7 @@ def _run(name, capsys):
 
 def _numbers(line):
     """The decimal numbers of a printed line, after its label (up to ':' or the first '=')."""
-    return [float(x) for x in re.findall(r"-?\d+\.\d+", re.split(r"[:=]", line, 1)[1])]
+    return [float(x) for x in re.findall(r"-?\d+\.\d+", re.split(r"[:=]", line, maxsplit=1)[1])]
 
 
 def test_beam_trap_prints_the_focused_beam_frequencies(capsys):

@@ -99,3 +99,34 @@ def test_bad_arguments_name_the_argument(kwargs, field):
     args = {"parameter": "coupling", "values": [1.0], "size": 20, "levels": 2, **kwargs}
     with pytest.raises(InputError, match=field):
         scan(_quartic(0.1), 3, 0, **args)
+
+
+@pytest.mark.parametrize(("dimension", "l", "size", "parameter"),
+                         [(3, 0, 16, "well[1].strength"), (3, 2, 14, "well[1].strength"),
+                          (1, None, 20, "well[1].strength"), (1, 1, 12, "well[1].strength"),
+                          (3, 0, 16, "well[1].exponent")])
+def test_every_value_carries_the_error_estimate_of_solve(dimension, l, size, parameter):
+    # The same rule on the same matrix up to rounding (common practice, no source): the pencil
+    # (banded A + sB, sub-blocks from its band) and the rebuild path ("exponent" is not
+    # linear) give solve()'s error_estimate. rtol 1e-6: differences of nearly equal levels
+    # keep ~6 digits; atol 1e3 eps*|H|: the two assemblies differ by rounding, which the rule
+    # amplifies (factor 12, Aitken ratio) for levels converged to near that floor.
+    values = [0.05, 0.3, 1.0] if parameter.endswith("strength") else [4.0, 6.0]
+    res = scan(_quartic(0.3), dimension, l, parameter=parameter, values=values, size=size,
+               levels=3, length=0.8, reference={"frequency": 1.0})
+    assert res.method == ("pencil" if parameter.endswith("strength") else "rebuild")
+    large = []
+    for k, v in enumerate(values):
+        well = (_quartic(v) if parameter.endswith("strength") else ah.Well.from_terms(
+            [{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": v, "strength": 0.3}}]))
+        spec = ah.solve(well, dimension, l, size=size, levels=3, length=0.8)
+        large.append(np.max(spec.error_estimate / spec.rounding))
+        np.testing.assert_allclose(res.error_estimate[k], spec.error_estimate, rtol=1e-6,
+                                   atol=1e3 * spec.rounding)
+        np.testing.assert_allclose(res.rounding[k], spec.rounding, rtol=1e-6)
+        np.testing.assert_array_equal(res.spectrum(k).error_estimate, res.error_estimate[k])
+    assert max(large) > 1e6  # some level far from converged: a real test of the rule
+    off = scan(_quartic(0.3), dimension, l, parameter=parameter, values=values, size=size,
+               levels=3, length=0.8, reference={"frequency": 1.0}, error_estimate=False)
+    assert off.error_estimate is None
+    np.testing.assert_array_equal(off.energies, res.energies)

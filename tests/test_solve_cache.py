@@ -106,3 +106,32 @@ def test_default_length_does_not_depend_on_earlier_calls():
     sp._phase_space(well, Channel(3, 0), 0.0).quanta(1e6)  # an orbit far beyond the base grid
     later = ah.solve(well, 3, 0, size=16, levels=3).basis.length
     assert later == fresh  # exactly: the same arithmetic on the same grid
+
+
+def test_a_given_length_defers_the_reference_and_reading_it_gives_the_eager_one(monkeypatch):
+    # The reference of reference="auto" is resolved on first read when the length is given;
+    # what is read must equal reference_oscillator() called directly (the eager rule), and a
+    # pickled spectrum must carry it (common practice, no source).
+    import pickle
+
+    calls = []
+    real = spectrum.reference_oscillator
+    monkeypatch.setattr(spectrum, "reference_oscillator",
+                        lambda *a, **k: calls.append(a) or real(*a, **k))
+    well = W(_ws(50.5), units="nuclear")
+    spec = fresh(well, **KW)
+    assert calls == []  # not searched by solve itself
+    direct = real(well, 3, 1, None, KW["levels"], "auto", 1.5)
+    assert spec.reference == direct
+    assert spec.reference.method == "variational"  # the search that was deferred
+    osc = 2.0 * np.arange(KW["levels"]) + 1 + 1.5  # 2n + l + d/2 (DESIGN §2)
+    np.testing.assert_allclose(spec.reference_energies, direct.v_min + direct.frequency * osc,
+                               rtol=1e-15)  # the same arithmetic; rounding only
+    np.testing.assert_array_equal(spec.shifts, spec.energies - spec.reference_energies)
+    assert len(calls) == 1  # made once, then kept, for reference and reference_energies
+    again = pickle.loads(pickle.dumps(fresh(well, **KW)))
+    assert again.reference == direct
+    # the same solve with the reference resolved first: identical levels and error bars
+    eager = ah.solve(well, **{**KW, "reference": {"length": direct.length}})
+    np.testing.assert_array_equal(eager.energies, spec.energies)
+    np.testing.assert_array_equal(eager.error_estimate, spec.error_estimate)

@@ -218,3 +218,33 @@ def test_import_anharmony_leaves_io_libraries_out():
                           "if m in sys.modules])"], capture_output=True, text=True,
                          check=True, timeout=120).stdout.strip()
     assert out == "[]"
+
+
+def test_a_nuclear_case_stores_the_shell_model_letters(tmp_path):
+    # Nuclear units label orbits in the shell-model letters, j kept after i: l = 7, j = 15/2
+    # is 1j15/2 (Bohr & Mottelson, "Nuclear Structure" vol. I (1969); Ring & Schuck, "The
+    # Nuclear Many-Body Problem" (1980), ch. 2; quoted from memory as in tests/test_labels.py),
+    # where the atomic letters would write 1k15/2.
+    p = tmp_path / "j.yaml"
+    p.write_text("""\
+schema: 1
+title: an l = 7 orbit
+units: nuclear
+space: {dimension: 3, l: [7], spin: 1/2}
+well:
+  - woods_saxon: {depth: 51.0, r0: 1.27, mass_number: 208, diffuseness: 0.67}
+  - spin_orbit: {strength: 22.0, r0: 1.27, mass_number: 208, diffuseness: 0.67}
+reference: {frequency: 6.9}
+basis: {size: 20}
+levels: {count: 1}
+output: j.nc
+""")
+    case = load_case(p)
+    ds = run_case(case)
+    labels = dict(zip(ds.j.values.tolist(), ds.level_label.values[:, 0].tolist(), strict=True))
+    assert labels == {7.5: "1j15/2", 6.5: "1j13/2"}
+    assert sorted(ds.label.values.tolist()) == ["j13/2", "j15/2"]
+    with pytest.warns(anharmony.ConvergenceWarning, match=r"^j15/2: level\(s\) 1j15/2 "):
+        spec = anharmony.solve(case.well_at(None), 3, 7, 7.5, size=20, units="nuclear",
+                               levels=1, reference={"frequency": 6.9})  # 20 states: too few
+    assert spec.labels == ("1j15/2",)

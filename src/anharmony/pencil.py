@@ -3,7 +3,7 @@
 :mod:`anharmony.scan` splits a well into the part a scanned parameter multiplies and the rest
 (or, for the coupling λ, into H_ref and H − H_ref) and hands the wells here; A and B are kept in
 LAPACK band storage where the core's banded solver applies, so each value costs one banded
-eigensolve.
+eigensolve, and its error estimate the eigenvalues of two leading blocks of the same band.
 """
 
 from __future__ import annotations
@@ -15,7 +15,16 @@ import numpy as np
 from scipy.linalg import eig_banded
 
 from .hamiltonian import Channel, channel_hamiltonian
-from .spectrum import BANDED_MAX_RATIO, diagonalize, upper_band
+from .spectrum import (
+    BANDED_MAX_RATIO,
+    band_eigenvalues,
+    band_error_estimate,
+    band_rounding,
+    diagonalize,
+    matrix_rounding,
+    nested_error_estimate,
+    upper_band,
+)
 from .well import Well
 
 __all__ = ["Pencil", "coupling_pencil", "coupling_threshold", "linear_threshold",
@@ -54,9 +63,18 @@ class Pencil:
                               check_finite=False)
             out[:k] = e[:k]
             return out, v
-        out[:k] = eig_banded(h[:, :size], lower=False, eigvals_only=True, select="i",
-                             select_range=(0, k - 1), check_finite=False)[:k]
+        out[:k] = band_eigenvalues(h, size, k)[:k]
         return out, None
+
+    def error_estimate(self, h: np.ndarray, energies: np.ndarray, parity_pairs: bool = False
+                       ) -> tuple[np.ndarray, float]:
+        """:func:`~anharmony.spectrum.nested_error_estimate` of ``h`` (as :meth:`at` gives it)
+        for its lowest levels ``energies``, and the rounding floor eps·‖H‖₁ it includes."""
+        if self.banded:
+            rounding = band_rounding(h)
+            return band_error_estimate(h, energies, rounding, parity_pairs), rounding
+        rounding = matrix_rounding(h)
+        return nested_error_estimate(h, energies, None, rounding, parity_pairs), rounding
 
 
 def _bandwidth(*bws: int | None) -> int | None:

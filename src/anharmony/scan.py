@@ -31,6 +31,8 @@ from .spectrum import (
     _positive,
     default_length,
     diagonalize,
+    matrix_rounding,
+    nested_error_estimate,
     reference_oscillator,
     resolve_channel,
 )
@@ -217,7 +219,14 @@ class ScanResult:
     truncated_size : int or None
     truncated_energies : ndarray (S, L) or None
         Lowest levels of the leading ``truncated_size`` block of the same matrices (NaN where
-        the block has fewer levels): ``|energies − truncated_energies|`` estimates the error.
+        the block has fewer levels): ``|energies − truncated_energies|``, the older quick
+        error estimate.
+    error_estimate : ndarray (S, L) or None
+        The error bar of every level at every value, by the rule of
+        :func:`~anharmony.spectrum.solve` (:func:`~anharmony.spectrum.nested_error_estimate`
+        of the same matrix); ``None`` when the scan ran with ``error_estimate=False``.
+    rounding : ndarray (S,) or None
+        eps·‖H‖₁ at each value, included in ``error_estimate``.
     method : str
         ``"pencil"`` (A + s B built once) or ``"rebuild"`` (the Hamiltonian per value).
     vectors : ndarray (S, N, L) or None
@@ -243,6 +252,8 @@ class ScanResult:
     truncated_size: int | None = None
     truncated_energies: np.ndarray | None = None
     vectors: np.ndarray | None = dataclasses.field(repr=False, default=None)
+    error_estimate: np.ndarray | None = None
+    rounding: np.ndarray | None = None
 
     def __len__(self) -> int:
         return len(self.values)
@@ -288,10 +299,17 @@ class ScanResult:
         """Value k as a :class:`~anharmony.spectrum.Spectrum` (no vector columns without
         ``vectors=True``)."""
         vec = self.vectors[k] if self.vectors is not None else np.zeros((self.size, 0))
+        extra: dict[str, Any] = {}
+        if self.error_estimate is not None and self.rounding is not None:
+            extra = {"error_estimate": self.error_estimate[k],
+                     "rounding": float(self.rounding[k])}
+        labels = tuple(self.channel.level_label(n, units=self.units)
+                       for n in range(self.energies.shape[1]))
         return Spectrum(energies=self.energies[k], bound=self.bound[k], vectors=vec,
                         channel=self.channel, basis=self.bases[k], reference=self.references[k],
                         threshold=float(self.threshold[k]), units=self.units, mass=self.mass,
-                        well=self.well_at(k), reference_energies=self.reference_energies[k])
+                        well=self.well_at(k), reference_energies=self.reference_energies[k],
+                        labels=labels, **extra)
 
     @property
     def spectra(self) -> list[Spectrum]:
@@ -311,7 +329,12 @@ def _values(values: Any) -> np.ndarray:
 
 
 def _references(well: Well, t: _Target, channel: Channel, mass: float | None, levels: int,
-                reference: Any, values: np.ndarray) -> tuple[Reference, ...]:
+                reference: Any, values: np.ndarray, wells: Sequence[Well] | None = None
+                ) -> tuple[Reference, ...]:
+    """The reference at each value; ``wells`` are the wells at the values when already made
+    (a term parameter scan)."""
+    if wells is None and not t.coupling:
+        wells = [set_parameter(well, _path(t), float(v)) for v in values]
     if isinstance(reference, Reference):
         return (reference,) * len(values)
     if isinstance(reference, Sequence) and not isinstance(reference, str):
@@ -319,15 +342,15 @@ def _references(well: Well, t: _Target, channel: Channel, mass: float | None, le
             raise InputError(f"reference: {len(reference)} references for {len(values)} "
                              "values; give one, or one per value")
         return tuple(r if isinstance(r, Reference) else reference_oscillator(
-            set_parameter(well, _path(t), v), channel.dimension, channel.l, None, levels, r,
-            channel.j) for r, v in zip(reference, values, strict=True))
+            well if wells is None else w, channel.dimension, channel.l, None, levels, r,
+            channel.j) for r, w in zip(reference, wells or [well] * len(values), strict=True))
     if t.coupling:  # the reference of the physical well at every λ
         ref = reference_oscillator(well, channel.dimension, channel.l, None, levels, reference,
                                    channel.j)
         return (ref,) * len(values)
-    return tuple(reference_oscillator(set_parameter(well, _path(t), float(v)),
-                                      channel.dimension, channel.l, None, levels, reference,
-                                      channel.j) for v in values)
+    assert wells is not None
+    return tuple(reference_oscillator(w, channel.dimension, channel.l, None, levels, reference,
+                                      channel.j) for w in wells)
 
 
 def _path(t: _Target) -> str:
@@ -373,8 +396,10 @@ def pencil_applies(well: Well, parameter: str, references: Sequence[Reference],
 
 def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
                basis: tuple[float, float], size: int, count: int, truncated: int | None,
-               v: float, vectors: bool) -> tuple[np.ndarray, Any, Any, float, Any]:
-    """Levels at one value with the Hamiltonian built for it, as :func:`solve` does."""
+               v: float, vectors: bool, estimate: bool
+               ) -> tuple[np.ndarray, Any, Any, float, Any, Any]:
+    """Levels at one value with the Hamiltonian built for it, as :func:`solve` does; the last
+    item is (error estimate, rounding) or None."""
     b, center = basis
     radial = channel.l is not None
     if t.coupling:
@@ -388,7 +413,8 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
             h = pen.at(v)
             e, vec = pen.levels(h, size, count, vectors)
             small = None if truncated is None else pen.levels(h, truncated, count)[0]
-            return e, vec, small, coupling_threshold(thr, v), basis_obj
+            err = pen.error_estimate(h, e, channel.l is None) if estimate else None
+            return e, vec, small, coupling_threshold(thr, v), basis_obj, err
     else:
         w = set_parameter(well, _path(t), v)
     mats = channel_hamiltonian(w, channel, size, b, center)
@@ -401,8 +427,13 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
         m = min(count, truncated)
         small[:m] = diagonalize(np.ascontiguousarray(h[:truncated, :truncated]), m,
                                 mats.bandwidth)[0][:m]
+    err = None
+    if estimate:
+        rounding = matrix_rounding(h)
+        err = (nested_error_estimate(h, e, mats.bandwidth, rounding,
+                                     parity_pairs=channel.l is None), rounding)
     thr = float(w.threshold(channel.dimension, symmetric=radial))
-    return e, vec, small, thr, mats.basis
+    return e, vec, small, thr, mats.basis, err
 
 
 def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
@@ -410,7 +441,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
          length: float | str | Sequence[float] = "auto",
          units: str | UnitSystem = "oscillator", mass: float | None = None, levels: int = 5,
          reference: str | Mapping[str, float] | Reference | Sequence[Any] = "auto",
-         truncated: int | None = None, vectors: bool = False) -> ScanResult:
+         truncated: int | None = None, vectors: bool = False,
+         error_estimate: bool = True) -> ScanResult:
     """Lowest levels of one channel at every value of a scanned parameter.
 
     Parameters
@@ -435,6 +467,10 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         (the quick error estimate |E(N) − E(M)|).
     vectors
         Keep the eigenvectors (for wavefunctions).
+    error_estimate
+        Give every level at every value the error bar of :func:`~anharmony.spectrum.solve`
+        (:func:`~anharmony.spectrum.nested_error_estimate` of the same matrix: two
+        eigenvalue-only solves of its leading ¾N and ½N blocks); ``False`` skips it.
 
     Returns
     -------
@@ -445,7 +481,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     The pencil H(s) = A + s B is used when the parameter enters linearly (no inverse-square
     term, which changes the basis), there is more than one value and every value has the same
     basis; A and B are then built once and kept in LAPACK band storage where the banded solver
-    applies. Otherwise each value is solved as :func:`~anharmony.spectrum.solve` would.
+    applies; the error estimate then takes its sub-blocks from the same band. Otherwise each
+    value is solved as :func:`~anharmony.spectrum.solve` would.
     """
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
@@ -457,12 +494,15 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
                                   or not 1 <= truncated < size):
         raise InputError(f"truncated: must be an integer from 1 to size - 1 = {size - 1}; "
                          f"got {truncated!r}")
+    if not isinstance(error_estimate, bool):
+        raise InputError(f"error_estimate: must be True or False; got {error_estimate!r}")
     t = _target(well, parameter)
     vals = _values(values)
-    refs = _references(well, t, channel, mass, count, reference, vals)
     radial = channel.l is not None
     wells = ([well] * len(vals) if t.coupling  # one basis for every λ: the physical well's
              else [set_parameter(well, _path(t), float(v)) for v in vals])
+    refs = _references(well, t, channel, mass, count, reference, vals,
+                       None if t.coupling else wells)
     bases = _bases(refs, length, radial, wells, channel, count, size)
     osc = (2.0 * np.arange(count) + _lowest_oscillator_level(channel) if radial
            else np.arange(count) + 0.5)
@@ -471,6 +511,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     out_thr = np.full(s, np.nan)
     out_small = None if truncated is None else np.full((s, count), np.nan)
     out_vec = np.full((s, size, count), np.nan) if vectors else None
+    out_err = np.full((s, count), np.nan) if error_estimate else None
+    out_round = np.full(s, np.nan) if error_estimate else None
     basis_objs: list[Any] = []
     pencil = s > 1 and linear_in(well, _path(t)) and _same_basis(bases)
     if pencil:
@@ -484,6 +526,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
                 out_vec[k] = vec
             if out_small is not None:
                 out_small[k] = pen.levels(h, truncated, count)[0]
+            if out_err is not None and out_round is not None:
+                out_err[k], out_round[k] = pen.error_estimate(h, out_e[k], channel.l is None)
             if t.coupling:
                 out_thr[k] = coupling_threshold(thr_a, v)
                 continue
@@ -493,9 +537,12 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
                                                                   symmetric=radial))
     else:
         for k, v in enumerate(vals):
-            e, vec, small, thr, basis = _one_value(well, t, channel, refs[k], bases[k], size,
-                                                    count, truncated, float(v), vectors)
+            e, vec, small, thr, basis, err = _one_value(well, t, channel, refs[k], bases[k],
+                                                         size, count, truncated, float(v),
+                                                         vectors, error_estimate)
             out_e[k], out_thr[k] = e, thr
+            if err is not None and out_err is not None and out_round is not None:
+                out_err[k], out_round[k] = err
             if out_vec is not None:
                 out_vec[k] = vec
             if out_small is not None:
@@ -511,4 +558,5 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         basis_frequency=np.array([system.frequency_from_length(b, well.mass) for b in lengths]),
         channel=channel, units=system, mass=well.mass, size=int(size),
         method="pencil" if pencil else "rebuild", well=well, bases=tuple(basis_objs),
-        truncated_size=truncated, truncated_energies=out_small, vectors=out_vec)
+        truncated_size=truncated, truncated_energies=out_small, vectors=out_vec,
+        error_estimate=out_err, rounding=out_round)

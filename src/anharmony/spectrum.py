@@ -21,13 +21,14 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
-from scipy.linalg import eig_banded, eigh
+from scipy.linalg import eig_banded, eigh, get_lapack_funcs
 from scipy.optimize import minimize_scalar
 
 from ._defaults import plain, unset
 from .basis import HermiteBasis, RadialBasis
 from .errors import ConvergenceWarning, InputError
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian, parse_j
+from .labels import channel_label
 from .units import UnitSystem, get_units
 from .well import Well
 
@@ -35,8 +36,9 @@ if TYPE_CHECKING:
     from .geometry import GeometrySpectrum
 
 __all__ = ["BANDED_MAX_RATIO", "DEFAULT_TOLERANCE", "Reference", "Spectrum",
-           "bound_count_estimate", "clear_caches", "diagonalize", "nested_error_estimate",
-           "reference_oscillator", "resolve_channel", "solve", "upper_band"]
+           "band_eigenvalues", "band_error_estimate", "band_rounding", "bound_count_estimate",
+           "clear_caches", "diagonalize", "matrix_rounding", "nested_error_estimate",
+           "nested_sizes", "reference_oscillator", "resolve_channel", "solve", "upper_band"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
@@ -82,6 +84,44 @@ class Reference:
     reason: str
 
 
+class _Deferred:
+    """A value made on first read (a :class:`_LazyField` holds it until then)."""
+
+    __slots__ = ("make",)
+
+    def __init__(self, make: Callable[[], Any]) -> None:
+        self.make = make
+
+
+class _LazyField:
+    """A dataclass field that may be given as a :class:`_Deferred`: made on first read, then
+    kept in the instance (a frozen dataclass still refuses assignment from outside).
+
+    ``default`` makes the field optional (``field(default=<this descriptor>)``): a factory,
+    called per instance on first read.
+    """
+
+    def __init__(self, name: str, default: Callable[[], Any] | None = None) -> None:
+        self.name = name
+        self.default = default
+
+    def __get__(self, obj: Any, owner: type | None = None) -> Any:
+        if obj is None:  # class access: dataclasses look for a default here
+            if self.default is None:
+                raise AttributeError(self.name)
+            return self
+        value = obj.__dict__[self.name]
+        if value is self:  # the field's default was taken
+            value = _Deferred(self.default)  # type: ignore[arg-type]
+        if isinstance(value, _Deferred):
+            value = value.make()
+            obj.__dict__[self.name] = value
+        return value
+
+    def __set__(self, obj: Any, value: Any) -> None:
+        obj.__dict__[self.name] = value
+
+
 @dataclass(frozen=True)
 class Spectrum:
     """Levels of one channel.
@@ -94,8 +134,13 @@ class Spectrum:
         True where the level lies below the threshold.
     vectors : ndarray
         Eigenvectors in the oscillator basis, shape (N, levels).
+    reference : Reference
+        The reference oscillator (DESIGN §2). With a given ``length`` and
+        ``reference="auto"``, :func:`solve` resolves it on first read (its variational search
+        is most of a first solve's cost), so an error of that search appears there.
     reference_energies : ndarray
-        Levels of the reference oscillator in this channel, v_min + ħω (2n + l + d/2).
+        Levels of the reference oscillator in this channel, v_min + ħω (2n + l + d/2);
+        made on first read with the reference.
     rounding : float
         eps · ‖H‖₁, the absolute accuracy floor of the eigenvalues; large when the basis
         reaches far into a steep wall (then :func:`solve` warns).
@@ -117,18 +162,24 @@ class Spectrum:
     vectors: np.ndarray
     channel: Channel
     basis: HermiteBasis | RadialBasis
-    reference: Reference
+    reference: Reference = _LazyField("reference")  # type: ignore[assignment]  # required
     threshold: float
     units: UnitSystem
     mass: float | None
     well: Well = field(repr=False)
-    reference_energies: np.ndarray = field(repr=False, default_factory=lambda: np.zeros(0))
+    reference_energies: np.ndarray = field(  # type: ignore[assignment]
+        repr=False, default=_LazyField("reference_energies", lambda: np.zeros(0)))
     rounding: float = 0.0  # eps·‖H‖₁: the absolute accuracy floor of the eigenvalues
     error_estimate: np.ndarray = field(default_factory=lambda: np.zeros(0))
     converged: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
     tolerance: float = math.nan
     labels: tuple[str, ...] = ()
     length_reason: str = ""
+
+    def __getstate__(self) -> dict[str, Any]:
+        # pickled and copied with every lazy field made (a _Deferred holds a closure)
+        return {k: getattr(self, k) if isinstance(v, (_Deferred, _LazyField)) else v
+                for k, v in self.__dict__.items()}
 
     @property
     def bound_count_estimate(self) -> float:
@@ -508,6 +559,7 @@ class _PhaseSpace:
         self.well = well
         self.span = 30.0 * well.scale
         self._grids: dict[float, tuple[np.ndarray, np.ndarray, float]] = {}
+        self._memo: dict[str, float] = {}
         self.x, self.v, self.dx = self._grid(self.span)
         self.v_min = float(np.min(self.v))
 
@@ -556,6 +608,11 @@ class _PhaseSpace:
 
     def line_count(self) -> float:
         """Semiclassical number of levels below the threshold (1D parity: of the full line)."""
+        if "line_count" not in self._memo:  # depends on the well only: made once
+            self._memo["line_count"] = self._line_count()
+        return self._memo["line_count"]
+
+    def _line_count(self) -> float:
         if self.threshold == math.inf:
             return math.inf
         if self.threshold == -math.inf or self.v_min >= self.threshold:
@@ -693,30 +750,52 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     is much steeper than the next) it can underestimate, and the phase-space count
     (:func:`bound_count_estimate`) is the second check there.
     """
-    n = h.shape[0]
-    k = len(energies)
+    sizes = nested_sizes(h.shape[0], parity_pairs)
+    banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * sizes[0]
+    band = upper_band(h, bandwidth) if banded else None  # a leading block: its first columns
+
+    def levels_of(m: int, top: int) -> np.ndarray:
+        if band is not None and bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
+            return band_eigenvalues(band, m, top)
+        block = np.ascontiguousarray(h[:m, :m])
+        return eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
+                    overwrite_a=True, check_finite=False)
+
+    return _nested_rule(energies, levels_of, sizes, rounding)
+
+
+def nested_sizes(n: int, parity_pairs: bool = False) -> tuple[int, int]:
+    """The sub-block sizes N − q, N − 2q of :func:`nested_error_estimate` (q = N/4; even q for
+    ``parity_pairs``)."""
     q = max(1, round(ESTIMATE_WINDOW * n))
     if parity_pairs:
         q = 2 * max(1, round(ESTIMATE_WINDOW * n / 2))
-    sizes = (n - q, n - 2 * q)
-    subs = []
-    for m in sizes:
-        out = np.full(k, np.inf)
-        if m >= 1:
-            top = min(k, m)
-            block = np.ascontiguousarray(h[:m, :m])
-            if bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
-                e = eig_banded(upper_band(block, bandwidth), lower=False, eigvals_only=True,
-                               select="i", select_range=(0, top - 1))
-            else:
-                e = eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
-                         overwrite_a=True, check_finite=False)
-            out[:top] = e[:top]
-        subs.append(out)
-    e1, e2 = subs
+    return n - q, n - 2 * q
+
+
+def _padded(levels_of: Callable[[int, int], np.ndarray], m: int, k: int) -> np.ndarray:
+    """The lowest k eigenvalues of the leading m-block, ``inf`` where it has fewer."""
+    out = np.full(k, np.inf)
+    if m >= 1:
+        top = min(k, m)
+        out[:top] = levels_of(m, top)[:top]
+    return out
+
+
+def _nested_rule(energies: np.ndarray, levels_of: Callable[[int, int], np.ndarray],
+                 sizes: tuple[int, int], rounding: float) -> np.ndarray:
+    """The estimate of :func:`nested_error_estimate` from E(N) and the sub-blocks' levels
+    (``levels_of(m, top)``: the lowest ``top`` eigenvalues of the leading m-block)."""
+    k = len(energies)
+    e1 = _padded(levels_of, sizes[0], k)
     with np.errstate(invalid="ignore", over="ignore"):
         # differences within the eigensolvers' rounding (a few eps·‖H‖) carry no information
         d1 = np.maximum(e1 - energies - 2.0 * rounding, 0.0)
+    if not np.any(d1 != 0.0):  # no level changed beyond rounding (e1 finite: d₁ = 0): the
+        # remainder d₁·(…) is 0 whatever the second block holds, so it is not solved
+        return np.full(k, rounding)
+    e2 = _padded(levels_of, sizes[1], k)
+    with np.errstate(invalid="ignore", over="ignore"):
         d0 = np.maximum(e2 - e1 - 2.0 * rounding, 0.0)
         r = np.where(d0 > 0.0, d1 / np.where(d0 > 0.0, d0, 1.0), ESTIMATE_RATIO_CAP)
         r = np.clip(np.where(np.isfinite(r), r, ESTIMATE_RATIO_CAP), 0.0, ESTIMATE_RATIO_CAP)
@@ -728,6 +807,47 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     err[only1] = ESTIMATE_SAFETY * ESTIMATE_RATIO_CAP / (1 - ESTIMATE_RATIO_CAP) * d1[only1] \
         + rounding
     return err
+
+
+def band_error_estimate(band: np.ndarray, energies: np.ndarray, rounding: float = 0.0,
+                        parity_pairs: bool = False) -> np.ndarray:
+    """:func:`nested_error_estimate` of a matrix given in LAPACK upper band storage (the same
+    rule, for a scan's pencil A + s B kept banded)."""
+    return _nested_rule(energies, lambda m, top: band_eigenvalues(band, m, top),
+                        nested_sizes(band.shape[1], parity_pairs), rounding)
+
+
+def matrix_rounding(h: np.ndarray) -> float:
+    """eps · ‖H‖₁, the absolute accuracy floor of the eigenvalues of a dense matrix."""
+    return float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
+
+
+def band_rounding(band: np.ndarray) -> float:
+    """eps · ‖H‖₁ of a symmetric matrix in upper band storage (the column sums of |H|)."""
+    u = band.shape[0] - 1
+    a = np.abs(band)
+    cols = a.sum(axis=0)  # the upper triangle and the diagonal of each column
+    for d in range(1, u + 1):  # H[j + d, j] = H[j, j + d] = band[u − d, j + d]
+        cols[:-d] += a[u - d, d:]
+    return float(np.finfo(float).eps * np.max(cols))
+
+
+_SBEVD = get_lapack_funcs(("sbevd",), (np.zeros((1, 1)),))[0]
+ALL_LEVELS_ROWS = 24  # banded, eigenvalues only: all of them (sbevd) beat a selection (sbevx)
+# below about 24 rows per wanted level (measured on N = 50…800: RESULTS.md)
+
+
+def band_eigenvalues(band: np.ndarray, m: int, top: int) -> np.ndarray:
+    """Lowest ``top`` eigenvalues of the leading m × m block of a matrix in upper band
+    storage (the block's band is the first m columns)."""
+    block = band[:, :m]
+    if m > ALL_LEVELS_ROWS * top:
+        return eig_banded(block, lower=False, eigvals_only=True, select="i",
+                          select_range=(0, top - 1), check_finite=False)
+    w, _, info = _SBEVD(block, compute_v=0, lower=0, overwrite_ab=0)
+    if info != 0:
+        raise np.linalg.LinAlgError(f"the banded eigensolver (sbevd) failed, info = {info}")
+    return w[:top]
 
 
 # =========================================================================== default length
@@ -875,29 +995,56 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
         raise InputError(f"size: must be an integer >= 1; got {size!r}")
     levels = _check_levels(levels, size)
     tolerance = _check_tolerance(tolerance)
-    ref = reference_oscillator(well, dimension, l, None, levels, reference, channel.j)
-    if isinstance(length, str) and length == "auto":
-        b, why = default_length(well, channel, levels, size, ref)
+    radial = channel.l is not None
+    auto_length = isinstance(length, str) and length == "auto"
+    if auto_length or not (isinstance(reference, str) and reference == "auto"):
+        ref: Reference | _Deferred = reference_oscillator(well, dimension, l, None, levels,
+                                                          reference, channel.j)
+        center, v_min = (0.0 if radial else ref.center), ref.v_min
+    else:
+        # a given length needs no reference: its search is made when it is first read
+        # (Spectrum.reference, shifts); centre and V_min are those it will take
+        center, v_min = _cached("reference", (_well_key(well), "minimum", radial),
+                                lambda: well.minimum(radial=radial)[:2])
+        center = 0.0 if radial else center
+        made: list[Reference] = []
+
+        def make_reference() -> Reference:
+            if not made:
+                made.append(reference_oscillator(well, dimension, l, None, levels, reference,
+                                                 channel.j))
+            return made[0]
+
+        ref = _Deferred(make_reference)
+    if auto_length:
+        b, why = default_length(well, channel, levels, size, ref)  # type: ignore[arg-type]
     else:
         b, why = _positive("length", length), "given"
-    center = ref.center if channel.l is None else 0.0
     mats, h = _channel_matrices(well, channel, size, b, center)
     energies, vectors = diagonalize(h, levels, mats.bandwidth)
-    rounding = float(np.finfo(float).eps * np.max(np.sum(np.abs(h), axis=0)))
-    scale = max(float(np.max(np.abs(energies - ref.v_min))), mats.hbar_omega)
+    rounding = matrix_rounding(h)
+    scale = max(float(np.max(np.abs(energies - v_min))), mats.hbar_omega)
     unit = "" if system.energy == "1" else " " + system.energy
     if rounding > ROUNDING_WARN * scale:
         warnings.warn(
-            f"{channel.label}: the Hamiltonian matrix has norm {rounding / np.finfo(float).eps:.1e}"
+            f"{channel_label(channel.dimension, channel.l, channel.j, units=system)}: "
+            f"the Hamiltonian matrix has norm {rounding / np.finfo(float).eps:.1e}"
             f" (the basis reaches far into a steep wall), so its eigenvalues are uncertain by "
             f"about {rounding:.1e}{unit}; use a smaller size or length",
             ConvergenceWarning, stacklevel=2)
-    radial = channel.l is not None
-    threshold = well.threshold(dimension, symmetric=radial)
+    threshold = _cached("reference", (_well_key(well), "threshold", dimension, radial),
+                        lambda: well.threshold(dimension, symmetric=radial))
     bound = energies < threshold
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
-    ref_levels = ref.v_min + ref.frequency * osc
+    if isinstance(ref, Reference):
+        ref_levels: np.ndarray | _Deferred = ref.v_min + ref.frequency * osc
+    else:
+        def reference_levels(make: Callable[[], Reference] = ref.make) -> np.ndarray:
+            r = make()
+            return r.v_min + r.frequency * osc
+
+        ref_levels = _Deferred(reference_levels)
     errors = nested_error_estimate(h, energies, mats.bandwidth, rounding,
                                    parity_pairs=channel.l is None)
     nb = int(np.count_nonzero(bound))
@@ -905,7 +1052,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
         or mats.hbar_omega
     tol = tolerance * spacing
     converged = bound & (errors <= tol)
-    labels = tuple(channel.level_label(n) for n in range(levels))
+    labels = tuple(channel.level_label(n, units=system) for n in range(levels))
     spec = Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
                     mass=mass, well=well, reference_energies=ref_levels, rounding=rounding,
@@ -938,6 +1085,8 @@ def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> No
             else "increase size (length is chosen automatically)")
     if not isinstance(length, str):
         hint += ", or try length='auto'"
-    warnings.warn(f"{spec.channel.label}: " + "; ".join(problems) + f" with size={size}; "
+    name = channel_label(spec.channel.dimension, spec.channel.l, spec.channel.j,
+                         units=spec.units)
+    warnings.warn(f"{name}: " + "; ".join(problems) + f" with size={size}; "
                   f"{hint}", ConvergenceWarning, stacklevel=3)
 

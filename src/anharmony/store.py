@@ -627,7 +627,7 @@ def _convergence_mode(case: Case) -> str:
     """How the case's levels were checked, in words (global attribute ``convergence``)."""
     conv = case.model.convergence
     if not conv.study:
-        return {"smaller_basis": "quick estimate: change from a smaller basis",
+        return {"smaller_basis": "quick estimate: changes from smaller bases",
                 "none": "not estimated"}[conv.method]
     what = ("study, basis grown towards the tolerance" if conv.grows else
             "study of the case's basis" + ("" if conv.scans_lengths else " at its length"))

@@ -13,16 +13,17 @@ from typing import Any
 import numpy as np
 
 from ..cases import Case
-from ..hamiltonian import level_label
+from ..labels import channel_label, level_label
+from ..spectrum import ESTIMATE_SAFETY, nested_sizes
 from ..store import CaseResult
-from .compute import empty
+from .compute import core_estimate, empty
 from .plan import smaller_size
 
 __all__ = ["assemble"]
 
-_MERGE = ("energy", "bound", "smaller", "reference_energy", "threshold", "series_coefficient",
-          "series_partial_sum", "series_resummed", "series_optimal", "series_optimal_error",
-          "series_optimal_order")
+_MERGE = ("energy", "bound", "smaller", "error", "reference_energy", "threshold",
+          "series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
+          "series_optimal_error", "series_optimal_order")
 _PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min")
 
 
@@ -72,6 +73,15 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
                          f"{case.model.basis.size} states, E_study the study's lowest Ritz "
                          "value at convergence_size; error_method and error_reason say how the "
                          "study's estimate was made")
+    elif core_estimate(case):
+        err = out["error"]
+        converged = np.isfinite(err) & (err < tol)
+        n = case.model.basis.size
+        m1, m2 = nested_sizes(n, any(c.l is None for c in chans))
+        notes.append(f"error_estimate: the estimate of solve() (nested_error_estimate): "
+                     f"{ESTIMATE_SAFETY:g} x the Aitken-extrapolated remainder of the changes "
+                     f"from {m2} to {m1} to {n} basis states at the same basis length, plus "
+                     "eps*|H|")
     else:
         err = np.abs(out["energy"] - out["smaller"])
         converged = np.isfinite(err) & (err < tol)
@@ -101,7 +111,7 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         scan_value=np.asarray(values, dtype=float),
         l=np.array([-1 if c.l is None else c.l for c in chans], dtype=np.int64),
         j=np.array([c.j for c in chans], dtype=float) if has_spin else None,
-        label=[c.label for c in chans],
+        label=[channel_label(c.dimension, c.l, c.j, units=case.units) for c in chans],
         energy=out["energy"], bound=out["bound"], converged=converged,
         reference_energy=out["reference_energy"], error_estimate=err,
         frequency=out["frequency"], length=out["length"], center=out["center"],
@@ -227,7 +237,7 @@ def _study_warnings(case: Case, study: dict[tuple[int, int], dict[str, Any]]) ->
 
 def _label(case: Case, c: int, n: int) -> str:
     ch = case.channels()[c]
-    return level_label(case.dimension, -1 if ch.l is None else ch.l, ch.j, n)
+    return level_label(case.dimension, -1 if ch.l is None else ch.l, ch.j, n, units=case.units)
 
 
 def _points(ks: Sequence[int], total: int) -> str:
@@ -255,8 +265,11 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
             names.append(f"{_label(case, c, n)} (error estimate up to {worst:.2g}{unit}"
                          f"{_points(ks, len(values))})")
         tol = case.model.convergence.tolerance
-        lines.append(f"{len(slow)} bound level(s) not converged: the change from {m} to "
-                     f"{case.model.basis.size} basis states exceeds the tolerance {tol:g}{unit}"
+        what = (f"the error estimate (nested basis blocks up to {case.model.basis.size} "
+                "states)" if core_estimate(case) else
+                f"the change from {m} to {case.model.basis.size} basis states")
+        lines.append(f"{len(slow)} bound level(s) not converged: {what} exceeds the tolerance "
+                     f"{tol:g}{unit}"
                      f": {', '.join(names)}; raise basis.size (or set basis.length), or run a "
                      "convergence study (convergence: {max_size: ...})")
     above = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])

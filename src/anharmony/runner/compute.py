@@ -26,7 +26,7 @@ from ..store import FitOutcome, empty_like_series
 from ..well import Well
 from .plan import Job, level_jobs, smaller_size
 
-__all__ = ["SERIES", "empty", "fit_outcome", "run_job"]
+__all__ = ["SERIES", "core_estimate", "empty", "fit_outcome", "run_job"]
 
 SERIES = ("series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
           "series_optimal_error", "series_optimal_order")
@@ -43,6 +43,7 @@ def empty(case: Case, s: int) -> dict[str, Any]:
         "energy": np.full((s, c, n), np.nan),
         "bound": np.zeros((s, c, n), dtype=bool),
         "smaller": np.full((s, c, n), np.nan),
+        "error": np.full((s, c, n), np.nan),  # the core's nested estimate (scan)
         "reference_energy": np.full((s, c, n), np.nan),
         "threshold": np.full((s, c), np.nan),
         "frequency": np.full(s, np.nan), "length": np.full(s, np.nan),
@@ -73,10 +74,22 @@ def _scan_call(case: Case, ch: ChannelSpec, points: tuple[int, ...],
         value = at[0]
     # one b per scan point for every channel (DESIGN §6), as the reference
     lengths = [resolve_length(case, values[k], ref) for k, ref in zip(points, refs, strict=True)]
+    nested = core_estimate(case)
     return scan(well, ch.dimension, ch.l, ch.j, parameter=parameter, values=at,
                 size=case.model.basis.size, length=lengths,
                 units=case.units, mass=mass, levels=case.model.levels.count,
-                reference=list(refs), truncated=smaller_size(case))
+                reference=list(refs), truncated=None if nested else smaller_size(case),
+                error_estimate=nested)
+
+
+def core_estimate(case: Case) -> bool:
+    """Whether ``error_estimate`` is the core's (:func:`~anharmony.spectrum.solve`'s nested
+    estimate, from :func:`~anharmony.scan.scan`): ``estimate: smaller_basis`` without a listed
+    smaller size. A listed convergence size below the basis size keeps |E(N) − E(M)|."""
+    conv = case.model.convergence
+    n = case.model.basis.size
+    return (conv.method == "smaller_basis" and smaller_size(case) is not None
+            and not any(s < n for s in (conv.sizes or [])))
 
 
 def _store_levels(out: dict[str, Any], res: ScanResult, points: tuple[int, ...], c: int
@@ -89,6 +102,8 @@ def _store_levels(out: dict[str, Any], res: ScanResult, points: tuple[int, ...],
         out["reference_energy"][k, c] = res.reference_energies[i]
         if res.truncated_energies is not None:
             out["smaller"][k, c] = res.truncated_energies[i]
+        if res.error_estimate is not None:
+            out["error"][k, c] = res.error_estimate[i]
         out["frequency"][k] = res.basis_frequency[i]
         out["length"][k] = res.length[i]
         out["ref_frequency"][k] = ref.frequency
