@@ -255,8 +255,10 @@ class Convergence(_Strict):
     those of :class:`anharmony.convergence.ConvergenceSettings`; how a block is read:
 
     - no block, an empty block, or only ``tolerance`` with ``estimate: smaller_basis`` (or
-      ``none``): no study; ``error_estimate`` is the change of each level from a basis of
-      N − N//4 states to N (or not estimated);
+      ``none``): no study; ``error_estimate`` is the core's own a-posteriori estimate of
+      :func:`anharmony.solve` (nested ¾N and ½N blocks of the same matrix; README "Error
+      bars"), or, when ``sizes`` lists a smaller size, the change from the largest of those to
+      N (or not estimated);
     - any other block runs :func:`anharmony.convergence.converge` per (scan point, channel),
       and ``estimate`` defaults to ``extrapolate`` (the study's error estimate);
     - the basis grows towards the tolerance (``grow``) only when ``tolerance`` is written (or
@@ -276,9 +278,9 @@ class Convergence(_Strict):
     cross_check: bool = False
     bounds: bool = True
     ir_length: Literal["eigenvalue", "closed_form"] = "eigenvalue"
-    # how error_estimate is found: the study's estimate (extrapolate), the change of each level
-    # from a basis of N - N//4 states (or the largest smaller convergence size) to N states, or
-    # not at all; default: extrapolate when the block has any key, else smaller_basis
+    # how error_estimate is found: the study's estimate (extrapolate), the solver's nested-block
+    # estimate (or the change from the largest smaller convergence size to N), or not at all;
+    # default: extrapolate when the block has any key, else smaller_basis
     estimate: Literal["extrapolate", "smaller_basis", "none"] | None = None
 
     @property
