@@ -112,8 +112,9 @@ def test_the_bad_values_cover_every_field_of_the_schema():
             else:
                 yield key
     from test_cases_fit import BAD_FIT  # the fit: block cannot join FULL's scan
+    from test_cases_rotation import BAD_ROTATION  # neither can rotation:
 
-    covered = {path.split("[")[0] for path, _, _ in [*BAD, *BAD_FIT]}
+    covered = {path.split("[")[0] for path, _, _ in [*BAD, *BAD_FIT, *BAD_ROTATION]}
     assert set(keys(CaseModel)) <= covered
 
 

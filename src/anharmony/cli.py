@@ -463,6 +463,8 @@ def _cmd_show(args: argparse.Namespace) -> int:
                   f"{_verdict(ds, k, c, n, tol)}")
     if "fit_value" in ds:
         _print_fit(ds, shown_units)
+    if "rovib_energy" in ds:
+        _print_rotation(ds, scale, shown_units)
     notes = [w for w in str(a.get("convergence_warnings", "")).splitlines() if w]
     if hidden:
         print(f"\n{hidden} of {s} scan points not shown (first, middle and last are); "
@@ -525,6 +527,29 @@ def _print_fit(ds: Any, energy_units: str) -> None:
 
 
 # --------------------------------------------------------------------------- plot
+def _print_rotation(ds: Any, scale: float, energy_units: str) -> None:
+    """The table E(v, J) (rows v, columns J) and the Dunham constants with their standard
+    errors, in the shown energy units."""
+    js = [int(j) for j in ds.rovib_J.values]
+    e = scale * ds.rovib_energy.values
+    print(f"\nrovibrational levels E(v, J) in {energy_units} (rows v, columns J):")
+    print("  " + f"{'v':>4}" + "".join(f"{f'J={j}':>16}" for j in js))
+    for n, v in enumerate(ds.rovib_v.values):
+        cells = "".join(f"{x:16.8g}" if math.isfinite(x) else f"{'unbound':>16}"
+                        for x in e[:, n])
+        print(f"  {int(v):>4}{cells}")
+    print(f"\nspectroscopic constants (Dunham fit of E(v, J)) in {energy_units}:")
+    for name in ("we", "wexe", "weye", "Be", "alpha_e", "De"):
+        if f"constant_{name}" not in ds:
+            continue
+        value = scale * float(ds[f"constant_{name}"])
+        err = scale * float(ds[f"constant_{name}_uncertainty"])
+        print(f"  {name:<8} {value:18.10g} ± {err:.2g}")
+    for w in str(ds.attrs.get("rovib_warnings", "")).splitlines():
+        if w:
+            print(f"  warning: {w}")
+
+
 def _cmd_plot(args: argparse.Namespace) -> int:
     try:
         from . import plots  # the figures live in their own optional module

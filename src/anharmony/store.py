@@ -36,6 +36,7 @@ __all__ = [
     "CaseResult",
     "FitOutcome",
     "ResultFileError",
+    "RotationOutcome",
     "ScanAxis",
     "build_dataset",
     "energy_attrs",
@@ -109,6 +110,48 @@ class FitOutcome:
     evaluations: int = 0
 
 
+# long names of the stored spectroscopic constants (keys of anharmony.molecular.NAMED)
+CONSTANT_NAMES = {
+    "we": "harmonic vibrational constant omega_e = Y10",
+    "wexe": "first anharmonicity constant omega_e x_e = -Y20",
+    "weye": "second anharmonicity constant omega_e y_e = Y30",
+    "Be": "equilibrium rotational constant B_e = Y01",
+    "alpha_e": "vibration-rotation interaction constant alpha_e = -Y11",
+    "De": "centrifugal distortion constant D_e = -Y02",
+}
+
+
+@dataclass(frozen=True, eq=False)
+class RotationOutcome:
+    """The rovibrational levels and Dunham constants of a case with a ``rotation:`` block.
+
+    Attributes
+    ----------
+    J, v : ndarray of int
+        Rotational and vibrational quantum numbers (axes ``rovib_J``, ``rovib_v``).
+    energy, term_value : ndarray (J, v)
+        E(v, J) and E(v, J) minus the lowest level, in the energy unit (NaN: not bound).
+    bottom : float
+        Value of the well at its minimum.
+    constants : tuple of str
+        Names of the constants (keys of :data:`anharmony.molecular.NAMED`).
+    values, uncertainties : ndarray
+        Each constant and its standard error, in the energy unit.
+    warnings : tuple of str
+        Warnings of the core's calls.
+    """
+
+    J: np.ndarray
+    v: np.ndarray
+    energy: np.ndarray
+    term_value: np.ndarray
+    bottom: float
+    constants: tuple[str, ...]
+    values: np.ndarray
+    uncertainties: np.ndarray
+    warnings: tuple[str, ...] = ()
+
+
 @dataclass(frozen=True, eq=False)
 class CaseResult:
     """The numbers of one finished case, as plain arrays (S scan points, C channels, L levels).
@@ -149,6 +192,9 @@ class CaseResult:
     fit : FitOutcome or None
         The fit of a case with a ``fit:`` block (its levels are those of the fitted well);
         stored as the ``fit_*`` variables.
+    rotation : RotationOutcome or None
+        The rovibrational levels and constants of a ``rotation:`` case (``rovib_*`` and
+        ``constant_*`` variables).
     """
 
     scan_value: np.ndarray
@@ -184,6 +230,7 @@ class CaseResult:
     warnings: Sequence[str] = ()
     level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
     fit: FitOutcome | None = None  # the fit of a case with a fit: block
+    rotation: RotationOutcome | None = None  # the levels E(v, J) of a rotation: block
 
 
 # --------------------------------------------------------------------------- attributes
@@ -486,6 +533,11 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         fit_coords, fit_data, fit_attrs = _fit_variables(case, result.fit)
         coords.update(fit_coords)
         data.update(fit_data)
+    rot_attrs: dict[str, Any] = {}
+    if result.rotation is not None:
+        rot_coords, rot_data, rot_attrs = _rotation_variables(u, result.rotation)
+        coords.update(rot_coords)
+        data.update(rot_data)
 
     reasons = sorted(set(result.reference_reason))
     now = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
@@ -516,6 +568,7 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
         "case_index": -1 if case.index is None else int(case.index),
         "case": case.text,
         **fit_attrs,
+        **rot_attrs,
     }
     attrs = {k: v for k, v in attrs.items() if v != ""}
     ds = xr.Dataset(
@@ -620,6 +673,38 @@ def _fit_variables(case: Case, fit: FitOutcome) -> tuple[dict, dict, dict]:
              "fit_evaluations": int(fit.evaluations),
              "fit_undetermined": "; ".join(fit.undetermined),
              "fit_warnings": "\n".join(fit.warnings)}
+    return coords, data, attrs
+
+
+def _rotation_variables(u: Any, rot: RotationOutcome) -> tuple[dict, dict, dict]:
+    """Coordinates, variables and global attributes of the ``rovib_*`` and ``constant_*``
+    part of a result (DESIGN §6)."""
+    e_units = u.energy
+    dims = ("rovib_J", "rovib_v")
+    coords = {
+        "rovib_J": (("rovib_J",), np.asarray(rot.J, dtype=np.int64),
+                    {"units": "1", "long_name": "rotational quantum number J (the radial "
+                     "channel l = J)"}),
+        "rovib_v": (("rovib_v",), np.asarray(rot.v, dtype=np.int64),
+                    {"units": "1", "long_name": "vibrational quantum number v"}),
+    }
+    data: dict[str, Any] = {
+        "rovib_energy": (dims, np.asarray(rot.energy, dtype=float),
+                         energy_attrs(u, e_units, "rovibrational level E(v, J); NaN where "
+                                      "not bound")),
+        "rovib_term_value": (dims, np.asarray(rot.term_value, dtype=float),
+                             energy_attrs(u, e_units, "term value E(v, J) - E(0, 0) from "
+                                          "the lowest level")),
+    }
+    for name, value, err in zip(rot.constants, rot.values, rot.uncertainties, strict=True):
+        long = CONSTANT_NAMES.get(name, name)
+        data[f"constant_{name}"] = ((), np.float64(value), energy_attrs(
+            u, e_units, f"{long}, from a Dunham fit of rovib_energy"))
+        data[f"constant_{name}_uncertainty"] = ((), np.float64(err), energy_attrs(
+            u, e_units, f"standard error of constant_{name} (least-squares, scaled by "
+                        "the residual variance)"))
+    attrs = {"rovib_well_bottom": float(rot.bottom),
+             "rovib_warnings": "\n".join(rot.warnings)}
     return coords, data, attrs
 
 

@@ -148,6 +148,7 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
     if model.fit is not None and model.scan is not None:
         out.append((("fit",), "a fit does not combine with scan: in this version; fit the "
                     "well in a case without scan:, then scan the fitted well in another case"))
+    out += _rotation_issues(model)
     target = ScanTarget("coupling", linear=True)
     if model.scan is not None:
         try:
@@ -155,6 +156,42 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
         except ValueError as exc:
             out.append((("scan", "parameter"), str(exc)))
     return out, target
+
+
+MIN_J_CONSTANTS = 3  # distinct J the Dunham constants need (De = -Y02 needs J(J+1) thrice)
+MIN_V_CONSTANTS = 4  # distinct v the Dunham constants need (weye = Y30 needs four)
+
+
+def _rotation_issues(model: CaseModel) -> Found:
+    """``rotation:`` against the space, the scan and the fit."""
+    if model.rotation is None:
+        return []
+    out: Found = []
+    space = model.space
+    if space.dimension != 3 or space.geometry != "central":
+        out.append((("rotation",), "rovibrational levels need a 3D central space (the radial "
+                    f"channel l = J); got dimension {space.dimension}, geometry "
+                    f"{space.geometry}"))
+    if space.spin is not None:
+        out.append((("space", "spin"), "rotation: takes no spin (the channels are l = J); "
+                    "leave spin out"))
+    if space.l is not None:
+        out.append((("space", "l"), "with rotation: the channels are l = J (rotation.J); "
+                    "leave l out"))
+    if model.scan is not None:
+        out.append((("scan",), "rotation: does not combine with scan: in this version; "
+                    "leave one of them out"))
+    if model.fit is not None:
+        out.append((("fit",), "rotation: does not combine with fit: in this version"))
+    js = model.rotation.values()
+    if len(js) < MIN_J_CONSTANTS:
+        out.append((("rotation", "J"), f"the spectroscopic constants need at least "
+                    f"{MIN_J_CONSTANTS} values of J (De needs three of J(J+1)); got {js}"))
+    if model.levels.count < MIN_V_CONSTANTS:
+        out.append((("levels", "count"), f"the spectroscopic constants need at least "
+                    f"{MIN_V_CONSTANTS} vibrational levels per J (weye = Y30 needs four v); "
+                    f"got {model.levels.count}; raise levels.count"))
+    return out
 
 
 def _study_issues(case: Case) -> Found:

@@ -47,6 +47,7 @@ __all__ = [
     "Perturbation",
     "Range",
     "ReferenceSpec",
+    "Rotation",
     "Scan",
     "Space",
     "parse_half",
@@ -239,6 +240,43 @@ class Scan(_Strict):
         return [float(x) for x in v]
 
 
+MAX_J = 200  # highest rotational quantum number accepted
+
+
+class JRange(_Strict):
+    """``J: {from, to}``: every integer from ``from`` to ``to``, both included."""
+
+    from_: Annotated[int, Field(ge=0, le=MAX_J)] = Field(alias="from")
+    to: Annotated[int, Field(ge=0, le=MAX_J)]
+
+
+class Rotation(_Strict):
+    """``rotation:`` rovibrational levels E(v, J) of a diatomic and its Dunham constants.
+
+    ``J`` lists the rotational quantum numbers (distinct integers >= 0) or gives
+    ``{from, to}``. Which other fields it combines with is checked in :mod:`.crossfield`.
+    """
+
+    J: Union[JRange, list[Annotated[int, Field(ge=0, le=MAX_J)]]]  # noqa: UP007
+
+    @field_validator("J")
+    @classmethod
+    def _distinct(cls, v: Any) -> Any:
+        if isinstance(v, list):
+            if not v:
+                raise ValueError("must list at least one J")
+            if len(set(v)) != len(v):
+                raise ValueError(f"lists a J twice; got {v}")
+        elif v.to < v.from_:
+            raise ValueError(f"to must not be below from; got from: {v.from_}, to: {v.to}")
+        return v
+
+    def values(self) -> list[int]:
+        """The rotational quantum numbers, ascending."""
+        v = self.J
+        return sorted(v) if isinstance(v, list) else list(range(v.from_, v.to + 1))
+
+
 class Perturbation(_Strict):
     """``perturbation:`` Rayleigh–Schrödinger orders, exact rationals and resummations."""
 
@@ -381,6 +419,7 @@ class CaseModel(_Strict):
     perturbation: Perturbation | None = None
     convergence: Convergence = Field(default_factory=Convergence)
     fit: Fit | None = None
+    rotation: Rotation | None = None
     output: Annotated[str, AfterValidator(_netcdf_name)] | None = None
 
     def to_dict(self) -> dict[str, Any]:

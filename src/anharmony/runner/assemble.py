@@ -38,6 +38,10 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         (part,) = fits
         result = assemble(case.fitted(part["values"]), part["parts"])
         return dataclasses.replace(result, fit=part["fit"])
+    rotations = [p["rotation"] for p in parts if "rotation" in p]
+    if rotations:
+        result = assemble(case, [p for p in parts if "rotation" not in p])
+        return dataclasses.replace(result, rotation=rotations[0])
     values = case.scan_values()
     out = empty(case, len(values))
     reasons: dict[int, tuple[str, str]] = {}

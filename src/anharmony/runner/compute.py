@@ -4,8 +4,9 @@ Every number comes from the public core functions a Python user calls:
 :func:`anharmony.scan.scan` for the levels (one channel over a job's scan points),
 :func:`anharmony.series.series` for the perturbation series and
 :func:`anharmony.convergence.converge` for a convergence study, :func:`anharmony.fit` for a
-case with a ``fit:`` block. This module only decides what to call with which settings and
-where the numbers go.
+case with a ``fit:`` block, :func:`anharmony.rovibrational` and
+:func:`anharmony.spectroscopic_constants` for a case with a ``rotation:`` block. This module
+only decides what to call with which settings and where the numbers go.
 """
 
 from __future__ import annotations
@@ -22,7 +23,7 @@ from ..cases import Case, ChannelSpec, resolve_length, resolve_reference
 from ..errors import NumericalError
 from ..scan import ScanResult, scan
 from ..spectrum import Reference
-from ..store import FitOutcome, empty_like_series
+from ..store import FitOutcome, RotationOutcome, empty_like_series
 from ..well import Well
 from .plan import Job, level_jobs, smaller_size
 
@@ -172,6 +173,8 @@ def run_job(case: Case, job: Job) -> dict[str, Any]:
     """Compute one job (runs in a worker); returns its partial arrays."""
     if job.kind == "fit":
         return _run_fit(case)
+    if job.kind == "rotation":
+        return {"rotation": _run_rotation(case)}
     return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
 
 
@@ -216,6 +219,33 @@ def fit_outcome(res: Any, notes: list[str]) -> FitOutcome:
         basis_error=np.asarray(res.basis_error, dtype=float),
         undetermined=tuple(res.undetermined), warnings=tuple(dict.fromkeys(notes)),
         evaluations=int(res.evaluations))
+
+
+# =========================================================================== rotation
+def _run_rotation(case: Case) -> RotationOutcome:
+    """E(v, J) and the Dunham constants of a ``rotation:`` case, from the core's
+    :func:`anharmony.rovibrational` and :func:`anharmony.spectroscopic_constants` with the
+    case's well, units, mass, basis and reference; their warnings are kept."""
+    from ..molecular import NAMED, rovibrational, spectroscopic_constants
+
+    rot = case.model.rotation
+    assert rot is not None
+    args = {"J": rot.values(), "levels": case.model.levels.count, "units": case.model.units,
+            "mass": case.mass, "size": case.model.basis.size,
+            "length": case.basis_length_at(None), "reference": case.reference_spec(None)}
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        rv = rovibrational(case.well_at(None), **args)
+        consts = spectroscopic_constants(case.well_at(None), **args)
+    names = tuple(NAMED)
+    return RotationOutcome(
+        J=np.asarray(rv.J, dtype=np.int64), v=np.asarray(rv.v, dtype=np.int64),
+        energy=np.asarray(rv.energies, dtype=float),
+        term_value=np.asarray(rv.term_values("lowest"), dtype=float),
+        bottom=float(rv.bottom), constants=names,
+        values=np.array([consts[n].value for n in names], dtype=float),
+        uncertainties=np.array([consts[n].uncertainty for n in names], dtype=float),
+        warnings=tuple(dict.fromkeys(str(w.message) for w in caught)))
 
 
 # =========================================================================== series

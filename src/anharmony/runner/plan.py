@@ -27,8 +27,9 @@ class Job:
     """One unit sent to a worker.
 
     ``kind`` is ``"linear"`` (one channel, all scan points, references given),
-    ``"points"`` (the listed scan points, every channel) or ``"fit"`` (the case's fit, then
-    every level of the fitted well).
+    ``"points"`` (the listed scan points, every channel), ``"fit"`` (the case's fit, then
+    every level of the fitted well) or ``"rotation"`` (the rovibrational levels and Dunham
+    constants of a case with a ``rotation:`` block).
     """
 
     case_key: int
@@ -71,7 +72,10 @@ def plan_case(case: Case, case_key: int = 0) -> list[Job]:
     """
     if case.model.fit is not None:
         return [Job(case_key, "fit", (0,), tuple(range(len(case.channels()))))]
-    return level_jobs(case, case_key)
+    jobs = level_jobs(case, case_key)
+    if case.model.rotation is not None:
+        jobs.append(Job(case_key, "rotation", (0,), (0,)))
+    return jobs
 
 
 def level_jobs(case: Case, case_key: int = 0) -> list[Job]:
@@ -176,6 +180,11 @@ def describe(case: Case, *, reference: bool = True) -> Description:
                      f"{', '.join(p.resum) or 'none'}")
     if m.fit is not None:
         lines.append(f"  fit        {_fit_text(case)}")
+    if m.rotation is not None:
+        js = m.rotation.values()
+        lines.append(f"  rotation   J = {js[0]} … {js[-1]} ({len(js)} radial channels l = J, "
+                     f"v = 0 … {m.levels.count - 1}); Dunham constants we, wexe, weye, Be, "
+                     "alpha_e, De")
     lines += [f"  {'study' if m.convergence.study else 'errors':<10} {_study_text(case)}",
               f"  tasks      {len(values) * len(chans)} ({len(values)} scan point(s) × "
               f"{len(chans)} channel(s))",
