@@ -42,7 +42,7 @@ import numpy as np
 from .._checks import choice, flag, integer, integers, known_keys, positive, positives
 from ..errors import ConvergenceWarning, InputError, NumericalError
 from ..hamiltonian import Channel
-from ..spectrum import Reference
+from ..reference import Reference
 from ..units import UnitSystem
 from ..well import Well
 from ._problem import Problem, make_problem, shared_docs
