@@ -14,17 +14,16 @@ from typing import Any
 import numpy as np
 from scipy.linalg import eig_banded
 
-from .hamiltonian import Channel, channel_hamiltonian
-from .spectrum import (
+from .eigensolvers import (
     BANDED_MAX_RATIO,
     band_eigenvalues,
-    band_error_estimate,
     band_rounding,
     diagonalize,
     matrix_rounding,
-    nested_error_estimate,
     upper_band,
 )
+from .errorbars import band_error_estimate, nested_error_estimate
+from .hamiltonian import Channel, channel_hamiltonian
 from .well import Well
 
 __all__ = ["Pencil", "coupling_pencil", "coupling_threshold", "linear_threshold",

@@ -20,22 +20,14 @@ from typing import Any
 
 import numpy as np
 
+from .eigensolvers import diagonalize, matrix_rounding
+from .errorbars import nested_error_estimate
 from .errors import InputError
 from .hamiltonian import Channel, channel_hamiltonian
 from .pencil import Pencil, coupling_pencil, coupling_threshold, linear_threshold, term_pencil
-from .spectrum import (
-    Reference,
-    Spectrum,
-    _check_levels,
-    _lowest_oscillator_level,
-    _positive,
-    default_length,
-    diagonalize,
-    matrix_rounding,
-    nested_error_estimate,
-    reference_oscillator,
-    resolve_channel,
-)
+from .reference import Reference, _lowest_oscillator_level, default_length, reference_oscillator
+from .request import _check_levels, _positive, resolve_channel
+from .spectrum import Spectrum
 from .terms import Power, linear_parameters
 from .units import UnitSystem
 from .well import Well

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from ..convergence.driver import LADDER_RATIO
+from ..convergence.settings import LADDER_RATIO
 from ..labels import channel_label
 from ..terms import TERMS, linear_parameters
 from ..units import UnitSystem, get_units

@@ -46,7 +46,7 @@ def resolve_reference(case: Case, value: float | None) -> Any:
     that each scan point has one ħω and b (DESIGN §6). For ``coupling`` scans it is the
     reference of the physical well (λ = 1) at every point.
     """
-    from ..spectrum import reference_oscillator
+    from ..reference import reference_oscillator
 
     if case.scan_target.kind == "coupling":
         value = None
@@ -60,7 +60,7 @@ def resolve_length(case: Case, value: float | None, reference: Any) -> float:
     """The basis length b at one scan value, shared by every channel (DESIGN §6: one ħω and b
     per scan point): the case's ``basis.length``, or the b that :func:`~anharmony.solve`
     chooses for the channel of lowest l (and j) with the shared ``reference``."""
-    from ..spectrum import default_length
+    from ..reference import default_length
 
     given = case.basis_length_at(value)
     if given != "auto":

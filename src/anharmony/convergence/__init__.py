@@ -14,7 +14,7 @@
 from __future__ import annotations
 
 from .bounds import ResidualBounds, residual_bounds
-from .driver import ConvergenceReport, ConvergenceSettings, converge, size_ladder
+from .driver import converge
 from .extrapolate import (
     Extrapolation,
     extrapolate_exponential,
@@ -23,7 +23,9 @@ from .extrapolate import (
     extrapolate_power,
 )
 from .mesh import CrossCheck, cross_check
+from .report import ConvergenceReport
 from .scans import BasisScan, closed_form_length, infrared_length, scan_basis
+from .settings import ConvergenceSettings, size_ladder
 
 __all__ = [
     "BasisScan",

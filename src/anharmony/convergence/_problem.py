@@ -25,7 +25,8 @@ from ..hamiltonian import (
     effective_lambda,
     make_basis,
 )
-from ..spectrum import Reference, reference_oscillator, resolve_channel
+from ..reference import Reference, reference_oscillator
+from ..request import resolve_channel
 from ..terms import Term
 from ..units import UnitSystem
 from ..well import Well

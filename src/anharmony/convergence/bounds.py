@@ -38,8 +38,8 @@ from typing import Any, Literal
 import numpy as np
 
 from .._checks import integer, length_or_auto
+from ..eigensolvers import diagonalize
 from ..errors import InputError
-from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
 from ._problem import Problem, make_problem, shared_docs

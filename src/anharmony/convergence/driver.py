@@ -34,15 +34,13 @@ from __future__ import annotations
 import math
 import warnings
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Literal
 
 import numpy as np
 
-from .._checks import choice, flag, integer, integers, known_keys, positive, positives
+from .._checks import flag, integer
 from ..errors import ConvergenceWarning, InputError, NumericalError
-from ..hamiltonian import Channel
-from ..spectrum import Reference
 from ..units import UnitSystem
 from ..well import Well
 from ._problem import Problem, make_problem, shared_docs
@@ -62,7 +60,18 @@ from .extrapolate import (
     infrared_tail,
 )
 from .mesh import CrossCheck, run_cross_check
-from .scans import GRID_HALF_WIDTH, MAX_LENGTHS, BasisScan, auto_scan, resolve_lengths, run_scan
+from .report import METHODS, MODELS, ConvergenceReport
+from .scans import BasisScan, auto_scan, resolve_lengths, run_scan
+from .settings import (
+    DEFAULT_FIXED_TOP,  # noqa: F401  (re-exported)
+    DEFAULT_MAX_SIZE,
+    ESTIMATES,  # noqa: F401  (re-exported)
+    IR_LENGTHS,  # noqa: F401  (re-exported)
+    LADDER_RATIO,  # noqa: F401  (re-exported)
+    ConvergenceSettings,
+    _ladder,
+    size_ladder,
+)
 
 __all__ = [
     "DEFAULT_MAX_SIZE",
@@ -75,417 +84,16 @@ __all__ = [
     "size_ladder",
 ]
 
-METHODS = ("exponential", "power", "infrared", "infrared_binding")
-MODELS = METHODS  # the ``model`` axis of :meth:`ConvergenceReport.variables`
-DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explicit limit
-DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
 DEFAULT_RTOL = 1e-8  # without a tolerance, "converged" means error < DEFAULT_RTOL · ħω_ref
-LADDER_RATIO = math.sqrt(2.0)  # successive sizes of the default ladder
 # A tolerance-driven run stops growing after this many successive sizes with no bound level:
 # Ritz values only fall as the basis grows, so a level can still become bound, but a basis
 # growing by 2x (three √2 steps) without binding any is taken to show a channel with none.
 NO_BOUND_STEPS = 3
-IR_LENGTHS = ("eigenvalue", "closed_form")
-
-
-def size_ladder(start: int, stop: int, ratio: float = LADDER_RATIO) -> tuple[int, ...]:
-    """Sizes start, start·ratio, … (rounded, distinct) up to and including ``stop``."""
-    out = []
-    x = float(start)
-    while round(x) < stop:
-        if not out or round(x) > out[-1]:
-            out.append(round(x))
-        x *= ratio
-    out.append(int(stop))
-    return tuple(out)
-
-
-# --------------------------------------------------------------------------- settings
-_KEYS = ("sizes", "lengths", "frequencies", "tolerance", "grow", "max_size", "cross_check",
-         "bounds", "ir_length", "estimate")
-ESTIMATES = ("extrapolate", "smaller_basis", "none")
-
-
-@dataclass(frozen=True)
-class ConvergenceSettings:
-    """The ``convergence:`` block of a case, validated.
-
-    Attributes
-    ----------
-    sizes : tuple of int or None
-        Basis sizes; None: the default ladder 10, 14, 20, 28, 40, … (ratio √2).
-    lengths : tuple of float or None
-        Oscillator lengths; None means ``auto`` (a grid re-centred on the optimum).
-    frequencies : tuple of float or None
-        ħω values instead of lengths.
-    tolerance : float or None
-        Target of the error estimate; with it the basis grows until every bound level meets it.
-    grow : bool or None
-        Grow the basis towards the tolerance (default: whenever a tolerance is given); False
-        scans every size and only flags ``converged``.
-    max_size : int or None
-        Size limit of a tolerance-driven run (default: the largest of ``sizes``, or 320).
-    cross_check : bool
-        Also run the cross-check solver of another family.
-    bounds : bool
-        Compute the residual bounds (variance, Weinstein, Kato–Temple).
-    ir_length : str
-        ``"eigenvalue"`` (Wendt et al. 2015) or ``"closed_form"`` (L₂ of More et al. 2013).
-    estimate : str
-        How a runner fills ``error_estimate``: ``"extrapolate"`` (this module's
-        :func:`converge`), ``"smaller_basis"`` (the change from a smaller basis, computed by the
-        runner) or ``"none"``. Not used by :func:`converge` itself.
-    """
-
-    sizes: tuple[int, ...] | None = None
-    lengths: tuple[float, ...] | None = None
-    frequencies: tuple[float, ...] | None = None
-    tolerance: float | None = None
-    grow: bool | None = None
-    max_size: int | None = None
-    cross_check: bool = False
-    bounds: bool = True
-    ir_length: str = "eigenvalue"
-    estimate: str = "extrapolate"
-
-    def __post_init__(self) -> None:
-        # the study's own argument checks (case files are checked by their schema first)
-        fix = object.__setattr__
-        if self.sizes is not None:
-            fix(self, "sizes", integers("sizes", self.sizes, 1, what="basis sizes",
-                                        noun="sizes"))
-        if isinstance(self.lengths, str) and self.lengths == "auto":
-            fix(self, "lengths", None)
-        if self.lengths is not None:
-            fix(self, "lengths", positives("lengths", self.lengths, noun="lengths",
-                                           what="oscillator lengths (or 'auto')"))
-        if self.frequencies is not None:
-            if self.lengths is not None:
-                raise InputError("frequencies: give lengths or frequencies, not both")
-            fix(self, "frequencies", positives("frequencies", self.frequencies,
-                                               noun="frequencies", what="hbar*omega values"))
-        if self.tolerance is not None:
-            fix(self, "tolerance", positive("tolerance", self.tolerance))
-        if self.grow is not None:
-            flag("grow", self.grow)
-        if self.max_size is not None:
-            fix(self, "max_size", integer("max_size", self.max_size, 2))
-        flag("cross_check", self.cross_check)
-        flag("bounds", self.bounds)
-        choice("ir_length", self.ir_length, IR_LENGTHS)
-        choice("estimate", self.estimate, ESTIMATES)
-
-    @classmethod
-    def from_mapping(cls, block: Mapping[str, Any] | None, path: str = "convergence"
-                     ) -> ConvergenceSettings:
-        """Settings from a mapping of the keys above; errors name ``path.key``.
-
-        A convenience for Python users: case files are validated by their schema
-        (:class:`anharmony.cases.Convergence`), which builds the settings directly.
-        """
-        if block is None:
-            return cls()
-        known_keys(path, block, _KEYS)
-        given = {k: v for k, v in block.items() if not (k == "grow" and v is None)}
-        try:
-            return cls(**given)
-        except InputError as exc:
-            raise InputError(f"{path}.{exc}") from None
-
-    def size_axis(self, levels: int) -> tuple[int, ...]:
-        """Every basis size a run with these settings can use (the ``basis_size`` axis)."""
-        grow = self.grow if self.grow is not None else self.tolerance is not None
-        return _ladder(self.sizes, self.max_size, self.tolerance if grow else None,
-                       integer("levels", levels, 1))[0]
-
-    def length_slots(self) -> int:
-        """Most lengths a run can hold (the ``basis_length`` axis of the result file)."""
-        if self.lengths is not None:
-            return len(self.lengths)
-        if self.frequencies is not None:
-            return len(self.frequencies)
-        return MAX_LENGTHS
-
-    def work(self, levels: int, lengths: int | None = None
-             ) -> tuple[tuple[int, int, int], ...]:
-        """The work of one :func:`converge` run: ``(size, diagonalisations, builds)`` per size.
-
-        A growing run rescans every size so far at each step (one Hamiltonian per length at
-        the step's largest size); the count is that of a run that reaches its size limit, an
-        upper bound. ``lengths`` is the number of lengths per step (default: the given grid,
-        or the automatic grid of 2·GRID_HALF_WIDTH + 1 lengths, which may widen to
-        MAX_LENGTHS).
-        """
-        grow = self.grow if self.grow is not None else self.tolerance is not None
-        axis = [n for n in self.size_axis(levels) if n >= levels]
-        nl = lengths if lengths is not None else (
-            len(self.lengths) if self.lengths is not None else
-            len(self.frequencies) if self.frequencies is not None else 2 * GRID_HALF_WIDTH + 1)
-        solves = dict.fromkeys(axis, 0)
-        builds = dict.fromkeys(axis, 0)
-        for k in range(len(axis)) if grow else [len(axis) - 1]:
-            for n in axis[: k + 1]:
-                solves[n] += nl
-            extra = 1 if self.bounds else 0  # the residual bounds: one more at the step's size
-            solves[axis[k]] += extra
-            builds[axis[k]] += nl + extra
-        return tuple((n, solves[n], builds[n]) for n in axis if solves[n])
-
-    def keywords(self) -> dict[str, Any]:
-        """Keyword arguments of :func:`converge`."""
-        return {"sizes": self.sizes, "lengths": self.lengths or "auto",
-                "frequencies": self.frequencies, "tolerance": self.tolerance,
-                "grow": self.grow, "max_size": self.max_size, "cross_check": self.cross_check,
-                "bounds": self.bounds, "ir_length": self.ir_length}
 
 
 def _as_tuple(values: Any) -> Any:
     """Lists as tuples (the settings are frozen); anything else as given, for the checks."""
     return tuple(values) if isinstance(values, (list, tuple, np.ndarray)) else values
-
-
-# --------------------------------------------------------------------------- report
-@dataclass(frozen=True)
-class ConvergenceReport:
-    """Convergence of the lowest levels of one channel.
-
-    Attributes
-    ----------
-    channel : Channel
-    levels : int
-    energies : ndarray, shape (levels,)
-        Lowest Ritz value of each level at the final size (over the length grid); each an
-        upper bound on its exact level.
-    best_lengths : ndarray, shape (levels,)
-        Grid length giving each level's Ritz value.
-    optimal_lengths : ndarray, shape (levels,)
-        Each level's optimal length at the final size (parabola-refined).
-    joint_length : float
-        Length minimising the sum of the bound levels at the final size.
-    size : int
-        Final (largest) basis size.
-    bound : ndarray of bool
-        Below the threshold.
-    extrapolated, uncertainty : ndarray
-        E∞ of the used extrapolation and its uncertainty (NaN/inf when none applied).
-    error_estimate : ndarray
-        Estimated |E − E_exact| of :attr:`energies`.
-    converged : ndarray of bool
-        error_estimate < tolerance, bound levels only.
-    method : tuple of str
-        What error_estimate uses per level: ``exponential``, ``power``, ``infrared``,
-        ``kato_temple``, ``difference`` or ``none``.
-    reason : tuple of str
-        Why, per level.
-    extrapolations : tuple of dict
-        Per level, the kept fit of every model (valid or not), by method name.
-    spread : ndarray
-        Largest difference between the E∞ of the valid models (NaN with fewer than two).
-    scan : BasisScan
-        The final scan: energy(level, size, length) (:attr:`scan_energies`).
-    bounds : ResidualBounds or None
-        Variance-based bounds of each level at its best basis.
-    cross_check : CrossCheck or None
-    tolerance : float
-        The tolerance used for ``converged`` (the default DEFAULT_RTOL · ħω_ref without one).
-    tolerance_driven : bool
-    size_limit : int
-    stopped : str
-        Why the basis stopped growing.
-    history : tuple
-        (size, error_estimate per level) after each size step.
-    messages : tuple of str
-        The texts of the warnings about non-converged levels.
-    notes : tuple of str
-        Statements that go with the numbers (upper bounds, Kato–Temple assumption).
-    """
-
-    channel: Channel
-    levels: int
-    energies: np.ndarray
-    best_lengths: np.ndarray
-    optimal_lengths: np.ndarray
-    joint_length: float
-    size: int
-    bound: np.ndarray
-    extrapolated: np.ndarray
-    uncertainty: np.ndarray
-    error_estimate: np.ndarray
-    converged: np.ndarray
-    method: tuple[str, ...]
-    reason: tuple[str, ...]
-    extrapolations: tuple[dict[str, Extrapolation], ...]
-    spread: np.ndarray
-    scan: BasisScan
-    bounds: ResidualBounds | None
-    cross_check: CrossCheck | None
-    tolerance: float
-    tolerance_driven: bool
-    size_limit: int
-    stopped: str
-    threshold: float
-    units: UnitSystem
-    reference: Reference
-    history: tuple[tuple[int, tuple[float, ...]], ...] = ()
-    messages: tuple[str, ...] = ()
-    notes: tuple[str, ...] = field(default=())
-
-    @property
-    def sizes(self) -> np.ndarray:
-        return self.scan.sizes
-
-    @property
-    def lengths(self) -> np.ndarray:
-        return self.scan.lengths
-
-    @property
-    def scan_energies(self) -> np.ndarray:
-        """energy(level, size, length) of the final scan, shape (levels, S, B)."""
-        return self.scan.energies[: self.levels]
-
-    @property
-    def cross_check_difference(self) -> np.ndarray:
-        """:attr:`energies` − cross-check levels (NaN without a cross-check)."""
-        if self.cross_check is None:
-            return np.full(self.levels, np.nan)
-        return self.cross_check.difference(self.energies)
-
-    def error_of(self, energies: Sequence[float]) -> np.ndarray:
-        """Error estimate of other values of the same levels: |E − energies_k| + error_k.
-
-        Use it for the energies of another basis of the same channel (e.g. the case's
-        ``basis:`` block), by the triangle inequality.
-        """
-        e = np.asarray(energies, dtype=float)
-        k = min(e.size, self.levels)
-        out = np.full(e.size, np.nan)
-        out[:k] = np.abs(e[:k] - self.energies[:k]) + self.error_estimate[:k]
-        return out
-
-    def variables(self, basis_sizes: Sequence[int] | None = None,
-                  length_slots: int | None = None) -> dict[str, tuple[tuple[str, ...],
-                                                                   np.ndarray, dict[str, str]]]:
-        """The report as result-file variables of one (scan point, channel) cell.
-
-        Parameters
-        ----------
-        basis_sizes
-            The ``basis_size`` axis shared by all cells (e.g. the union of every channel's
-            sizes); entries this report lacks are NaN. Default: this report's sizes.
-        length_slots
-            Length of the ``basis_length`` axis (an index: each channel has its own grid,
-            given by ``convergence_length``); default: this report's grid size.
-
-        Returns
-        -------
-        dict
-            ``name → (dims, values, attrs)`` with dims drawn from ``level``, ``basis_size``,
-            ``basis_length`` and ``model``; ``attrs`` hold ``units`` and ``long_name``.
-            Stack the cells along (scan, channel) in front of these dims.
-        """
-        sizes = np.asarray(self.sizes if basis_sizes is None else basis_sizes, dtype=int)
-        nb = self.lengths.size if length_slots is None else int(length_slots)
-        if nb < self.lengths.size:
-            raise InputError(f"length_slots: {nb} is fewer than the {self.lengths.size} "
-                             "lengths of this report")
-        e_unit, l_unit = self.units.energy, self.units.length
-        lev = self.levels
-        grid = np.full((lev, sizes.size, nb), np.nan)
-        irl = np.full((sizes.size, nb), np.nan)
-        for i, n in enumerate(sizes):
-            hit = np.flatnonzero(self.sizes == n)
-            if hit.size:
-                grid[:, i, : self.lengths.size] = self.scan_energies[:, hit[0], :]
-                irl[i, : self.lengths.size] = self.scan.ir_lengths[hit[0], :]
-        pad = np.full(nb, np.nan)
-        b = pad.copy()
-        b[: self.lengths.size] = self.lengths
-        hw = pad.copy()
-        hw[: self.lengths.size] = self.scan.frequencies
-        fits = [[self.extrapolations[k].get(m) for m in METHODS] for k in range(lev)]
-        model_e = np.array([[f.value if f is not None else np.nan for f in row] for row in fits])
-        model_u = np.array([[f.uncertainty if f is not None else np.inf for f in row]
-                            for row in fits])
-        model_ok = np.array([[int(f is not None and f.valid) for f in row] for row in fits],
-                            dtype=np.int8)
-        bnd = self.bounds
-        nan = np.full(lev, np.nan)
-        xc = self.cross_check
-
-        def e(name: str) -> dict[str, str]:
-            return {"units": e_unit, "long_name": name}
-
-        def ln(name: str) -> dict[str, str]:
-            return {"units": l_unit, "long_name": name}
-
-        return {
-            "convergence_energy": (("level", "basis_size", "basis_length"), grid,
-                                   e("Ritz value in the basis (size, length); an upper bound "
-                                     "on the exact level")),
-            "convergence_length": (("basis_length",), b, ln("oscillator length of the scan")),
-            "convergence_frequency": (("basis_length",), hw,
-                                      e("hbar*omega of the scan's oscillator lengths")),
-            "convergence_infrared_length": (("basis_size", "basis_length"), irl,
-                                            ln("infrared length L of the basis (Wendt et al. "
-                                               "2015)")),
-            "convergence_size": ((), np.array(self.size), {"units": "1", "long_name":
-                                                          "largest basis size of the run"}),
-            "optimal_length": (("level",), self.optimal_lengths,
-                               ln("length minimising the level at the largest size")),
-            "joint_length": ((), np.array(self.joint_length),
-                             ln("length minimising the sum of the bound levels")),
-            "extrapolated_energy": (("level",), self.extrapolated,
-                                    e("level extrapolated to the infinite basis")),
-            "extrapolation_uncertainty": (("level",), self.uncertainty,
-                                          e("uncertainty of extrapolated_energy")),
-            "extrapolation_spread": (("level",), self.spread,
-                                     e("spread of the valid extrapolation models")),
-            "model_energy": (("level", "model"), model_e, e("extrapolation of each model")),
-            "model_uncertainty": (("level", "model"), model_u,
-                                  e("uncertainty of each model's extrapolation")),
-            "model_valid": (("level", "model"), model_ok,
-                            {"units": "1", "long_name": "1 where the model applies"}),
-            "error_estimate": (("level",), self.error_estimate,
-                               e("estimated |E - E_exact| of the Ritz value")),
-            "converged": (("level",), self.converged.astype(np.int8),
-                          {"units": "1", "long_name": "1 where error_estimate < tolerance "
-                                                      "for a bound level"}),
-            "error_method": (("level",), np.array(self.method, dtype=str),
-                             {"long_name": "what error_estimate is based on"}),
-            "error_reason": (("level",), np.array(self.reason, dtype=str),
-                             {"long_name": "why error_estimate uses error_method"}),
-            "variance_sigma": (("level",), bnd.sigma if bnd is not None else nan,
-                               e("sqrt(<H^2> - <H>^2) of the Ritz vector")),
-            "weinstein_lower": (("level",), bnd.weinstein_lower if bnd is not None else nan,
-                                e("E - sigma: [E - sigma, E + sigma] holds an eigenvalue")),
-            "weinstein_upper": (("level",), bnd.weinstein_upper if bnd is not None else nan,
-                                e("E + sigma")),
-            "kato_temple_lower": (("level",), bnd.kato_temple_lower if bnd is not None else nan,
-                                  {**e("Kato-Temple lower bound"),
-                                   "comment": bnd.assumption if bnd is not None else ""}),
-            "cross_check_energy": (("level",), xc.energies if xc is not None else nan,
-                                   {**e("level from the cross-check solver"),
-                                    "comment": xc.method if xc is not None else ""}),
-            "cross_check_uncertainty": (("level",), xc.uncertainty if xc is not None else nan,
-                                        e("change of the cross-check over its last mesh")),
-            "cross_check_difference": (("level",), self.cross_check_difference,
-                                       e("Ritz value minus cross-check level")),
-            "convergence_stopped": ((), np.array(self.stopped),
-                                    {"long_name": "why the basis stopped growing"}),
-        }
-
-    def summary(self) -> str:
-        """A plain-text table of the levels (for logs; the library itself prints nothing)."""
-        u = self.units.energy
-        lines = [f"channel {self.channel.label}: size {self.size}, {self.stopped}"]
-        for k in range(self.levels):
-            lab = self.channel.level_label(k)
-            lines.append(
-                f"  {lab:>8} E = {self.energies[k]:.12g} {u}  error <= {self.error_estimate[k]:.2e}"
-                f" ({self.method[k]})  {'converged' if self.converged[k] else 'NOT converged'}"
-                f"{'' if self.bound[k] else '  [above threshold]'}")
-        lines += [f"  note: {n}" for n in self.notes]
-        return "\n".join(lines)
 
 
 # --------------------------------------------------------------------------- analysis
@@ -637,23 +245,6 @@ def _level_bounds(problem: Problem, scan: BasisScan, nlev: int, levels: int) -> 
         parts[k] = by_length[jb]
     return combine_bounds(parts, levels)
 
-
-def _ladder(sizes: tuple[int, ...] | None, max_size: int | None, tolerance: float | None,
-            levels: int) -> tuple[tuple[int, ...], int]:
-    start = max(10, levels + 4)
-    if sizes is None:
-        top = max_size if max_size is not None else (
-            DEFAULT_MAX_SIZE if tolerance is not None else DEFAULT_FIXED_TOP)
-        if top < start:
-            start = max(top // 4, levels + 1, 1)
-        ladder = size_ladder(start, top)
-        return ladder, top
-    if max_size is None or max_size <= sizes[-1] or tolerance is None:
-        if max_size is not None and max_size <= sizes[-1]:
-            sizes = tuple(s for s in sizes if s <= max_size) or (max_size,)
-        return sizes, sizes[-1]
-    more = size_ladder(sizes[-1], max_size)[1:]
-    return sizes + more, max_size
 
 
 @shared_docs

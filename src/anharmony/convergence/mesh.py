@@ -35,8 +35,8 @@ from scipy.special import gammaln
 
 from .._checks import integer, numbers, positive
 from ..basis import OrthogonalFamily, panel_rule
+from ..eigensolvers import diagonalize
 from ..errors import InputError
-from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
 from ._problem import Problem, make_problem, shared_docs

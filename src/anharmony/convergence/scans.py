@@ -30,8 +30,8 @@ from scipy.special import jv
 
 from .._checks import integer, integers, positives
 from ..basis import HermiteBasis, RadialBasis
+from ..eigensolvers import diagonalize
 from ..errors import InputError, NumericalError
-from ..spectrum import diagonalize
 from ..units import UnitSystem
 from ..well import Well
 from ._problem import Problem, make_problem, shared_docs

@@ -130,7 +130,7 @@ def trap_frequencies(well: Well, dimension: int = 3, *, units: str | UnitSystem 
 def _auto_lengths(well, dimension, geometry, c, levels):
     """Basis lengths and centres: the reference oscillator (central wells) or the Hessian."""
     if all(is_central(t) for t in well.terms):
-        from ..spectrum import reference_oscillator
+        from ..reference import reference_oscillator
 
         b = reference_oscillator(well, dimension, 0, None, min(levels, 5)).length
         return (b,) * (2 if geometry == "axial" else dimension), \

@@ -87,8 +87,8 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
 
     ``coords`` defaults to the extent of the basis (the turning point of its highest state).
     """
+    from ..reference import Reference
     from ..scan import scan
-    from ..spectrum import Reference
 
     case = _case(view)
     d = view.dimension

@@ -13,8 +13,8 @@ from typing import Any
 import numpy as np
 
 from ..cases import Case
+from ..errorbars import ESTIMATE_SAFETY, nested_sizes
 from ..labels import channel_label, level_label
-from ..spectrum import ESTIMATE_SAFETY, nested_sizes
 from ..store import CaseResult
 from .compute import core_estimate, empty
 from .plan import smaller_size

@@ -21,8 +21,8 @@ import numpy as np
 
 from ..cases import Case, ChannelSpec, resolve_length, resolve_reference
 from ..errors import NumericalError
+from ..reference import Reference
 from ..scan import ScanResult, scan
-from ..spectrum import Reference
 from ..store import FitOutcome, RotationOutcome, empty_like_series
 from ..well import Well
 from .plan import Job, level_jobs, smaller_size

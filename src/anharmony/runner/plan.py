@@ -15,8 +15,8 @@ from pathlib import Path
 from typing import Any
 
 from ..cases import Case, resolve_reference
+from ..reference import Reference
 from ..scan import linear_in, pencil_applies
-from ..spectrum import Reference
 
 __all__ = ["Description", "Job", "describe", "level_jobs", "output_path", "plan_case",
            "smaller_size"]

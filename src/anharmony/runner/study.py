@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 
 from ..cases import Case
-from ..spectrum import Reference
+from ..reference import Reference
 from ..well import Well
 
 __all__ = ["study_cell"]

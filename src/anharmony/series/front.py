@@ -19,7 +19,8 @@ import numpy as np
 
 from anharmony.errors import ConvergenceWarning, InputError
 from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda
-from anharmony.spectrum import Reference, reference_oscillator, resolve_channel
+from anharmony.reference import Reference, reference_oscillator
+from anharmony.request import resolve_channel
 from anharmony.units import UnitSystem
 from anharmony.well import Well
 

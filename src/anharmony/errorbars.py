@@ -1,0 +1,124 @@
+"""A-posteriori error bars of the lowest Ritz values from nested sub-blocks of the same
+matrix (:func:`nested_error_estimate`), dense or in band storage."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+import numpy as np
+from scipy.linalg import eigh
+
+from .eigensolvers import BANDED_MAX_RATIO, band_eigenvalues, upper_band
+
+__all__ = ["band_error_estimate", "nested_error_estimate", "nested_sizes"]
+
+ESTIMATE_WINDOW = 0.25  # nested sub-blocks N − q, N − 2q with q = N/4 (cost ≈ 0.55 eigvalsh)
+ESTIMATE_SAFETY = 12.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
+ESTIMATE_RATIO_CAP = 0.9  # convergence ratio per window assumed at most this
+ESTIMATE_FLOOR = 0.03  # remainder never taken below this fraction of the last difference
+
+
+def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
+                          bandwidth: int | None = None, rounding: float = 0.0,
+                          parity_pairs: bool = False) -> np.ndarray:
+    """A-posteriori error bar of the lowest Ritz values of ``h`` from its nested sub-blocks.
+
+    Parameters
+    ----------
+    h
+        The N × N matrix (its leading blocks are the smaller bases of the same length).
+    energies
+        Its lowest eigenvalues E_k(N), ascending.
+    bandwidth
+        Half-bandwidth for the banded solver, or ``None``.
+    rounding
+        Accuracy floor eps·‖H‖₁, added to every estimate.
+    parity_pairs
+        Drop an even number of states (1D basis without symmetry: even and odd states
+        alternate).
+
+    Returns
+    -------
+    ndarray
+        err_k ≥ 0; ``inf`` where the sub-blocks are too small to hold level k.
+
+    Notes
+    -----
+    With q = N/4, the leading blocks N − q and N − 2q give the differences
+    d₁ = E(N − q) − E(N) and d₀ = E(N − 2q) − E(N − q) (both ≥ 0 by Cauchy interlacing, the
+    Hylleraas–Undheim–MacDonald theorem). For convergence by a ratio r = d₁/d₀ per window the
+    remainder is d₁ r/(1 − r) (Aitken's Δ² extrapolation; A. C. Aitken, Proc. R. Soc. Edinb.
+    46, 289 (1926)); the estimate is that remainder times ``ESTIMATE_SAFETY``, with r capped
+    at ``ESTIMATE_RATIO_CAP`` and the remainder never below ``ESTIMATE_FLOOR`` · d₁. The
+    sub-blocks need eigenvalues only: the cost is ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue
+    solve at N. The constants were chosen on measured ratios to the true error
+    (benchmarks/RESULTS.md): it bounds the error on smooth regular convergence and
+    overestimates by 1–100×; where a level is still entering the basis (the first drop
+    is much steeper than the next) it can underestimate, and the phase-space count
+    (:func:`bound_count_estimate`) is the second check there.
+    """
+    sizes = nested_sizes(h.shape[0], parity_pairs)
+    banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * sizes[0]
+    band = upper_band(h, bandwidth) if banded else None  # a leading block: its first columns
+
+    def levels_of(m: int, top: int) -> np.ndarray:
+        if band is not None and bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
+            return band_eigenvalues(band, m, top)
+        block = np.ascontiguousarray(h[:m, :m])
+        return eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
+                    overwrite_a=True, check_finite=False)
+
+    return _nested_rule(energies, levels_of, sizes, rounding)
+
+
+def nested_sizes(n: int, parity_pairs: bool = False) -> tuple[int, int]:
+    """The sub-block sizes N − q, N − 2q of :func:`nested_error_estimate` (q = N/4; even q for
+    ``parity_pairs``)."""
+    q = max(1, round(ESTIMATE_WINDOW * n))
+    if parity_pairs:
+        q = 2 * max(1, round(ESTIMATE_WINDOW * n / 2))
+    return n - q, n - 2 * q
+
+
+def _padded(levels_of: Callable[[int, int], np.ndarray], m: int, k: int) -> np.ndarray:
+    """The lowest k eigenvalues of the leading m-block, ``inf`` where it has fewer."""
+    out = np.full(k, np.inf)
+    if m >= 1:
+        top = min(k, m)
+        out[:top] = levels_of(m, top)[:top]
+    return out
+
+
+def _nested_rule(energies: np.ndarray, levels_of: Callable[[int, int], np.ndarray],
+                 sizes: tuple[int, int], rounding: float) -> np.ndarray:
+    """The estimate of :func:`nested_error_estimate` from E(N) and the sub-blocks' levels
+    (``levels_of(m, top)``: the lowest ``top`` eigenvalues of the leading m-block)."""
+    k = len(energies)
+    e1 = _padded(levels_of, sizes[0], k)
+    with np.errstate(invalid="ignore", over="ignore"):
+        # differences within the eigensolvers' rounding (a few eps·‖H‖) carry no information
+        d1 = np.maximum(e1 - energies - 2.0 * rounding, 0.0)
+    if not np.any(d1 != 0.0):  # no level changed beyond rounding (e1 finite: d₁ = 0): the
+        # remainder d₁·(…) is 0 whatever the second block holds, so it is not solved
+        return np.full(k, rounding)
+    e2 = _padded(levels_of, sizes[1], k)
+    with np.errstate(invalid="ignore", over="ignore"):
+        d0 = np.maximum(e2 - e1 - 2.0 * rounding, 0.0)
+        r = np.where(d0 > 0.0, d1 / np.where(d0 > 0.0, d0, 1.0), ESTIMATE_RATIO_CAP)
+        r = np.clip(np.where(np.isfinite(r), r, ESTIMATE_RATIO_CAP), 0.0, ESTIMATE_RATIO_CAP)
+        remainder = d1 * np.maximum(r / (1.0 - r), ESTIMATE_FLOOR)
+        err = ESTIMATE_SAFETY * remainder + rounding
+    err[~np.isfinite(e1)] = np.inf
+    # two-window extrapolation needs the smaller block: with d₁ only, no sharpening
+    only1 = np.isfinite(e1) & ~np.isfinite(e2)
+    err[only1] = ESTIMATE_SAFETY * ESTIMATE_RATIO_CAP / (1 - ESTIMATE_RATIO_CAP) * d1[only1] \
+        + rounding
+    return err
+
+
+def band_error_estimate(band: np.ndarray, energies: np.ndarray, rounding: float = 0.0,
+                        parity_pairs: bool = False) -> np.ndarray:
+    """:func:`nested_error_estimate` of a matrix given in LAPACK upper band storage (the same
+    rule, for a scan's pencil A + s B kept banded)."""
+    return _nested_rule(energies, lambda m, top: band_eigenvalues(band, m, top),
+                        nested_sizes(band.shape[1], parity_pairs), rounding)
