@@ -18,6 +18,7 @@ from scipy.optimize import minimize_scalar
 
 from ._caches import _cached, _well_key
 from .eigensolvers import ROUNDING_WARN, diagonalize
+from .errors import InputError
 from .hamiltonian import Channel, channel_hamiltonian
 from .request import _channel_from, _positive
 from .semiclassical import _phase_space
@@ -99,10 +100,10 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
     if isinstance(spec, Mapping):
         unknown = set(spec) - {"frequency", "length", "center"}
         if unknown:
-            raise ValueError(f"reference: unknown key {sorted(unknown)[0]!r}; expected "
+            raise InputError(f"reference: unknown key {sorted(unknown)[0]!r}; expected "
                              "frequency or length, and center")
         if ("frequency" in spec) == ("length" in spec):
-            raise ValueError("reference: give exactly one of frequency or length")
+            raise InputError("reference: give exactly one of frequency or length")
         if "frequency" in spec:
             hw = _positive("reference.frequency", spec["frequency"])
             b = math.sqrt(2.0 * c / hw)
@@ -113,7 +114,7 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
         vmin = float(well.value(np.array([x0]))[0])
         return Reference(hw, b, x0, vmin, "given", "reference oscillator given in the case")
     if spec != "auto":
-        raise ValueError(f"reference: expected 'auto' or a mapping; got {spec!r}")
+        raise InputError(f"reference: expected 'auto' or a mapping; got {spec!r}")
     # the well is immutable: resolve its reference once per (well value, channel, levels)
     return _cached("reference", (_well_key(well), channel, levels),
                    lambda: _auto_reference(well, channel, levels, c, radial))

@@ -8,6 +8,7 @@ from typing import Any
 
 import numpy as np
 
+from .errors import InputError
 from .hamiltonian import Channel, parse_j
 from .units import UnitSystem, get_units
 from .well import Well
@@ -17,7 +18,7 @@ __all__ = ["resolve_channel"]
 
 def _channel_from(dimension: int, l: int | None, j: Any) -> Channel:
     if isinstance(dimension, bool) or dimension not in (1, 2, 3):
-        raise ValueError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
+        raise InputError(f"dimension: must be 1, 2 or 3; got {dimension!r}")
     return Channel(dimension, l, parse_j(j))
 
 
@@ -34,24 +35,24 @@ def resolve_channel(well: Well, dimension: int, l: int | None, j: Any,
     system = get_units(units)
     if mass is not None and (isinstance(mass, bool) or not isinstance(mass, (int, float))
                              or not math.isfinite(mass) or mass <= 0):
-        raise ValueError(f"mass: must be a positive number; got {mass!r}")
+        raise InputError(f"mass: must be a positive number; got {mass!r}")
     well = well.with_context(system, mass)
     channel = _channel_from(dimension, l, j)
     well.check_channel(channel.dimension)
     if well.has_spin_orbit and channel.dimension == 3 and channel.l and channel.j is None:
-        raise ValueError(f"j: required with spin_orbit terms (l = {channel.l}: "
+        raise InputError(f"j: required with spin_orbit terms (l = {channel.l}: "
                          f"j = {channel.l - 0.5} or {channel.l + 0.5})")
     if channel.dimension == 1 and channel.l is not None and not well.is_symmetric(0.0):
-        raise ValueError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
+        raise InputError("l: 1D parity channels need a well symmetric about x = 0; use l=None "
                          "for the basis without symmetry")
     return well, channel
 
 
 def _check_levels(levels: Any, size: int) -> int:
     if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)) or levels < 1:
-        raise ValueError(f"levels: must be an integer >= 1; got {levels!r}")
+        raise InputError(f"levels: must be an integer >= 1; got {levels!r}")
     if levels > size:
-        raise ValueError(f"levels: {levels} levels need a basis of at least that size; "
+        raise InputError(f"levels: {levels} levels need a basis of at least that size; "
                          f"got size={size}")
     return int(levels)
 
@@ -59,5 +60,5 @@ def _check_levels(levels: Any, size: int) -> int:
 def _positive(name: str, value: Any) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)) \
             or not math.isfinite(value) or value <= 0:
-        raise ValueError(f"{name}: must be a positive number; got {value!r}")
+        raise InputError(f"{name}: must be a positive number; got {value!r}")
     return float(value)

@@ -23,7 +23,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from ._atomic import atomic_write
-from .errors import ResultFileError
+from .errors import InputError, ResultFileError
 
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr
@@ -523,9 +523,9 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
                                 "(1D: v, the oscillator quantum number)"})
     for name, (dims, values, var_attrs) in result.convergence.items():
         if name in data or name in coords:
-            raise ValueError(f"{name}: a convergence variable may not replace a core variable")
+            raise InputError(f"{name}: a convergence variable may not replace a core variable")
         if "basis_size" in dims and not sizes.size:
-            raise ValueError(f"{name}: has a basis_size axis but the result has no sizes")
+            raise InputError(f"{name}: has a basis_size axis but the result has no sizes")
         data[name] = (tuple(dims), values, dict(var_attrs))
 
     fit_attrs: dict[str, Any] = {}

@@ -97,7 +97,7 @@ class UnitSystem:
         """ħ²/(2m) in energy × length² of this system, for a particle of ``mass``."""
         m = self.default_mass if mass is None else float(mass)
         if not m > 0.0:
-            raise ValueError(f"mass must be positive; got {mass!r}")
+            raise InputError(f"mass must be positive; got {mass!r}")
         if self.energy_si is None:  # ħ = 1 and the mass unit is m (or mₑ)
             return 0.5 / m
         return sc.hbar**2 / (2.0 * m * self.mass_si) / (self.energy_si * self.length_si**2)
@@ -160,14 +160,14 @@ def get_units(name: str | UnitSystem) -> UnitSystem:
         return SYSTEMS[name]
     except (KeyError, TypeError):
         valid = ", ".join(SYSTEMS)
-        raise ValueError(f"units: unknown unit system {name!r}; expected one of {valid}") from None
+        raise InputError(f"units: unknown unit system {name!r}; expected one of {valid}") from None
 
 
 def _si(system: UnitSystem) -> tuple[float, float]:
     if system.name == "atomic":
         return _ATOMIC_SI[0], _ATOMIC_SI[1]
     if system.energy_si is None:
-        raise ValueError("oscillator units have no SI value; convert from a dimensional system")
+        raise InputError("oscillator units have no SI value; convert from a dimensional system")
     return system.energy_si, system.length_si
 
 

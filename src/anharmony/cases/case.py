@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from ..convergence.settings import LADDER_RATIO
+from ..errors import InputError
 from ..labels import channel_label
 from ..terms import TERMS, linear_parameters
 from ..units import UnitSystem, get_units
@@ -89,30 +90,30 @@ def parse_scan_path(path: str, well: Sequence[Mapping]) -> ScanTarget:
     if m:
         i, name, index, sub = int(m[1]), m[2], m[3], m[4]
         if i >= len(well):
-            raise ValueError(f"{text!r}: the well has {len(well)} term(s), well[0]"
+            raise InputError(f"{text!r}: the well has {len(well)} term(s), well[0]"
                              f"…well[{len(well) - 1}]; there is no well[{i}]")
         spec = well[i]
         if not isinstance(spec, Mapping) or len(spec) != 1:
-            raise ValueError(f"{text!r}: well[{i}] is not a valid term")
+            raise InputError(f"{text!r}: well[{i}] is not a valid term")
         (term, params), = spec.items()
         if term not in TERMS:
-            raise ValueError(f"{text!r}: well[{i}] is not a known term")
+            raise InputError(f"{text!r}: well[{i}] is not a known term")
         params = params or {}
         valid = [p for p in TERMS[term].parameters if p != "formula"]
         if name not in valid:
-            raise ValueError(f"{text!r}: {term} has no parameter {name!r}{suggest(name, valid)};"
+            raise InputError(f"{text!r}: {term} has no parameter {name!r}{suggest(name, valid)};"
                              f" its parameters are {', '.join(valid)}")
         if index is not None or sub is not None:
             container = params.get(name)
             key: Any = int(index) if index is not None else sub
             if not isinstance(container, Mapping) or key not in container:
                 have = list(container) if isinstance(container, Mapping) else []
-                raise ValueError(f"{text!r}: well[{i}].{name} has no entry {key!r}"
+                raise InputError(f"{text!r}: well[{i}].{name} has no entry {key!r}"
                                  + (f"; it has {', '.join(map(str, have))}" if have else ""))
             linear = name == "coefficients"
             return ScanTarget("term", i, (term, name, key), linear=linear)
         if name in ("coefficients", "parameters"):
-            raise ValueError(f"{text!r}: name one entry, e.g. well[{i}].{name}[4]"
+            raise InputError(f"{text!r}: name one entry, e.g. well[{i}].{name}[4]"
                              if name == "coefficients" else
                              f"{text!r}: name one entry, e.g. well[{i}].parameters.g")
         return ScanTarget("term", i, (term, name), linear=name in LINEAR_PARAMETERS.get(term, ()))
@@ -120,7 +121,7 @@ def parse_scan_path(path: str, well: Sequence[Mapping]) -> ScanTarget:
     if parts in _SETTINGS:
         return ScanTarget("setting", keys=parts)
     choices = ["coupling", "well[i].<parameter>", *(".".join(s) for s in sorted(_SETTINGS))]
-    raise ValueError(f"{text!r} is not a parameter of the case{suggest(text, choices)}; "
+    raise InputError(f"{text!r} is not a parameter of the case{suggest(text, choices)}; "
                      f"expected one of "
                      f"{', '.join(choices)}")
 
@@ -296,7 +297,7 @@ class Case:
         for path, value in values.items():
             m = re.fullmatch(r"well\[(\d+)\]\.([A-Za-z_][A-Za-z0-9_]*)", path)
             if m is None:
-                raise ValueError(f"{path!r} is not a parameter path well[i].name")
+                raise InputError(f"{path!r} is not a parameter path well[i].name")
             (kind, params), = well[int(m[1])].items()
             params[m[2]] = float(value)
             if kind == "gaussian" and m[2] in ("range", "waist"):  # exactly one of the two
@@ -307,7 +308,7 @@ class Case:
     def fit_arguments(self) -> dict[str, Any]:
         """Keyword arguments of :func:`anharmony.fit` for this case's ``fit:`` block."""
         if self.model.fit is None:
-            raise ValueError(f"{self.name}: the case has no fit: block")
+            raise InputError(f"{self.name}: the case has no fit: block")
         return {"terms": [dict(t) for t in self.model.well], "dimension": self.dimension,
                 "l": None, "j": None, "parameters": self.fit_parameters(),
                 "data": self.fit_rows(), "size": self.model.basis.size,

@@ -22,6 +22,7 @@ from pathlib import Path
 from typing import Any
 
 from .._atomic import atomic_write
+from ..errors import InputError
 from . import _style, convergence, flow, residuals, scheme, series, shift, well
 from ._common import FigureRequest, ResultView, level_label, pretty_units
 
@@ -100,9 +101,9 @@ def _check_size(name: str, size: Any) -> tuple[float, float] | None:
     try:
         w, h = (float(v) for v in size)
     except (TypeError, ValueError):
-        raise ValueError(f"{name}: expected (width, height) in inches; got {size!r}") from None
+        raise InputError(f"{name}: expected (width, height) in inches; got {size!r}") from None
     if not (math.isfinite(w) and math.isfinite(h) and 0.5 <= w <= 60 and 0.5 <= h <= 60):
-        raise ValueError(f"{name}: width and height must be between 0.5 and 60 inches; "
+        raise InputError(f"{name}: width and height must be between 0.5 and 60 inches; "
                          f"got {size!r}")
     return w, h
 
@@ -164,7 +165,7 @@ def make_figure(dataset: Any, kind: str, *, channel: str | int | Sequence[str | 
         figure needs that is missing from the file.
     """
     if not isinstance(kind, str) or kind not in KINDS:
-        raise ValueError(f"kind: unknown figure kind {kind!r}; expected one of "
+        raise InputError(f"kind: unknown figure kind {kind!r}; expected one of "
                          f"{', '.join(KINDS)}")
     spec = KINDS[kind]
     given = {"channel": channel, "scan_index": scan_index, "levels": levels, "orders": orders,
@@ -173,12 +174,12 @@ def make_figure(dataset: Any, kind: str, *, channel: str | int | Sequence[str | 
     for name, value in given.items():
         if name not in spec.options and value != _OPTION_DEFAULTS[name]:
             users = [k for k, s in KINDS.items() if name in s.options]
-            raise ValueError(f"{name}: not an option of the {kind} figure (it applies to "
+            raise InputError(f"{name}: not an option of the {kind} figure (it applies to "
                              f"{', '.join(users)})")
     if not isinstance(log, bool):
-        raise ValueError(f"log: must be true or false; got {log!r}")
+        raise InputError(f"log: must be true or false; got {log!r}")
     if title is not None and not isinstance(title, str):
-        raise ValueError(f"title: must be text; got {title!r}")
+        raise InputError(f"title: must be text; got {title!r}")
     request = FigureRequest(kind=kind, channel=channel, scan_index=scan_index,
                             levels=_tuple(levels), orders=_tuple(orders),
                             methods=_tuple(methods), log=log, basis_size=basis_size,
@@ -196,7 +197,7 @@ def _open(dataset: Any) -> Any:
 
         return read_dataset(dataset)
     if not (hasattr(dataset, "data_vars") and hasattr(dataset, "attrs")):
-        raise ValueError(f"dataset: expected an xarray.Dataset or a result file path; got "
+        raise InputError(f"dataset: expected an xarray.Dataset or a result file path; got "
                          f"{type(dataset).__name__}")
     return dataset
 
@@ -229,14 +230,14 @@ def save_figure(fig: Any, path: str | os.PathLike, dpi: float | None = None,
     target = Path(path)
     fmt = target.suffix.lower().lstrip(".")
     if fmt not in FORMATS:
-        raise ValueError(f"output: unknown image format {target.suffix or '(no suffix)'!r} "
+        raise InputError(f"output: unknown image format {target.suffix or '(no suffix)'!r} "
                          f"of {target}; expected .png, .pdf or .svg")
     folder = target.parent
     if not folder.is_dir():
-        raise ValueError(f"output: the folder {folder} does not exist")
+        raise InputError(f"output: the folder {folder} does not exist")
     if dpi is not None and (isinstance(dpi, bool) or not isinstance(dpi, (int, float))
                             or not math.isfinite(dpi) or not 10 <= dpi <= 2400):
-        raise ValueError(f"dpi: must be a number between 10 and 2400; got {dpi!r}")
+        raise InputError(f"dpi: must be a number between 10 and 2400; got {dpi!r}")
     wh = _check_size("size", size)
     if wh is not None:
         fig.set_size_inches(*wh)

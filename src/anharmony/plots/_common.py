@@ -14,6 +14,7 @@ from typing import Any
 
 import numpy as np
 
+from ..errors import InputError
 from . import _style
 
 __all__ = [
@@ -161,7 +162,7 @@ def _int(name: str, value: Any) -> int:
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
         if isinstance(value, str) and re.fullmatch(r"-?\d+", value.strip()):
             return int(value)
-        raise ValueError(f"{name}: must be an integer; got {value!r}")
+        raise InputError(f"{name}: must be an integer; got {value!r}")
     return int(value)
 
 
@@ -189,7 +190,7 @@ class ResultView:
         """The variable ``name``; ``ValueError`` naming the figure if the file lacks it."""
         if name not in self.ds.variables:
             hint = next((h for prefix, h in _HINTS.items() if name.startswith(prefix)), "")
-            raise ValueError(f"{self.kind} figure: the result has no variable {name!r}, which "
+            raise InputError(f"{self.kind} figure: the result has no variable {name!r}, which "
                              f"this figure needs{hint}")
         return self.ds[name]
 
@@ -217,7 +218,7 @@ class ResultView:
     def dimension(self) -> int:
         d = self.attrs.get("dimension")
         if d is None:
-            raise ValueError(f"{self.kind} figure: the result has no 'dimension' attribute")
+            raise InputError(f"{self.kind} figure: the result has no 'dimension' attribute")
         return int(d)
 
     # ------------------------------------------------------------------ channels
@@ -246,7 +247,7 @@ class ResultView:
         """Position of the single channel a ``figure`` shows (default the first)."""
         chans = self.channels(channel, default_all=False)
         if len(chans) > 1:
-            raise ValueError(f"channel: the {figure} figure shows one channel; got "
+            raise InputError(f"channel: the {figure} figure shows one channel; got "
                              f"{len(chans)} ({', '.join(self.labels[i] for i in chans)})")
         return chans[0]
 
@@ -254,12 +255,12 @@ class ResultView:
         """Positions of the requested channel(s); all or the first when ``channel`` is None."""
         labels = self.labels
         if not labels:
-            raise ValueError(f"{self.kind} figure: the result has no channels")
+            raise InputError(f"{self.kind} figure: the result has no channels")
         if channel is None:
             return list(range(len(labels))) if default_all else [0]
         items = [channel] if isinstance(channel, (str, int, np.integer)) else list(channel)
         if not items:
-            raise ValueError("channel: expected a channel label or position; got an empty list")
+            raise InputError("channel: expected a channel label or position; got an empty list")
         out: list[int] = []
         for item in items:
             c = self._one_channel(item, labels)
@@ -276,11 +277,11 @@ class ResultView:
             folded = [s.lower() for s in labels]
             if text.lower() in folded:
                 return folded.index(text.lower())
-            raise ValueError(f"channel: the result has no channel {item!r}; its channels are "
+            raise InputError(f"channel: the result has no channel {item!r}; its channels are "
                              f"{listed}")
         c = _int("channel", item)
         if not -len(labels) <= c < len(labels):
-            raise ValueError(f"channel: position {c} is out of range; the result has "
+            raise InputError(f"channel: position {c} is out of range; the result has "
                              f"{len(labels)} channel(s): {listed}")
         return c % len(labels)
 
@@ -296,7 +297,7 @@ class ResultView:
             return n - 1
         i = _int("scan_index", scan_index)
         if not -n <= i < n:
-            raise ValueError(f"scan_index: {i} is out of range; the result has {n} scan "
+            raise InputError(f"scan_index: {i} is out of range; the result has {n} scan "
                              f"point(s), 0…{n - 1}")
         return i % n
 
@@ -307,12 +308,12 @@ class ResultView:
             return [k for k in (default if default is not None else range(n)) if k < n]
         items = [levels] if isinstance(levels, (int, np.integer, str)) else list(levels)
         if not items:
-            raise ValueError("levels: expected at least one level index; got an empty list")
+            raise InputError("levels: expected at least one level index; got an empty list")
         out = []
         for item in items:
             k = _int("levels", item)
             if not 0 <= k < n:
-                raise ValueError(f"levels: {k} is out of range; the result has {n} level(s) "
+                raise InputError(f"levels: {k} is out of range; the result has {n} level(s) "
                                  f"per channel, 0…{n - 1}")
             if k not in out:
                 out.append(k)
@@ -331,7 +332,7 @@ class ResultView:
             matches = [i for i, a in enumerate(avail) if str(a) == str(v)]
             if not matches:
                 shown = ", ".join(str(a) for a in avail) or "none"
-                raise ValueError(f"{name}: the result has no {what} {v!r}; it has {shown}")
+                raise InputError(f"{name}: the result has no {what} {v!r}; it has {shown}")
             out.append(matches[0])
         return out
 

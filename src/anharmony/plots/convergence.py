@@ -18,6 +18,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..errors import InputError
 from . import _style
 from ._common import FigureRequest, ResultView, axis_label, fit_ylim, new_figure, proxy
 
@@ -60,11 +61,11 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     levels = view.level_indices(req.levels, default=[0])
     conv_var = view.var("convergence_energy")
     if "basis_size" not in conv_var.dims:
-        raise ValueError("convergence figure: convergence_energy has no basis_size dimension")
+        raise InputError("convergence figure: convergence_energy has no basis_size dimension")
     conv = _at(view, "convergence_energy", p)  # (channel, level, basis_size[, basis_length])
     sizes = view.coord("basis_size").astype(float)
     if sizes.size == 0:
-        raise ValueError("convergence figure: the result holds no basis-size scan; add "
+        raise InputError("convergence figure: the result holds no basis-size scan; add "
                          "convergence: {sizes: [...]} to the case")
     has_length = "basis_length" in conv_var.dims
     if has_length:
@@ -84,7 +85,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
         lengths = np.array([_at(view, "length", p).item()]) if view.has("length") else \
             np.array([math.nan])
     if req.basis_size is not None and not has_length:
-        raise ValueError("basis_size: this result holds no basis-length scan (dimension "
+        raise InputError("basis_size: this result holds no basis-length scan (dimension "
                          "basis_length), so there is no energy-against-length panel to choose "
                          "N for")
     if req.basis_size is None:  # the largest size that holds data for this channel

@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..errors import InputError
 from . import _style
 from ._common import (
     axis_label,
@@ -78,7 +79,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
 
     rng = finite_range(all_e, list(shells.values()))
     if rng is None:
-        raise ValueError(f"scheme figure: no bound level at scan point {p} in channel(s) "
+        raise InputError(f"scheme figure: no bound level at scan point {p} in channel(s) "
                          f"{', '.join(view.labels[c] for c in chans)}")
     lo, hi = padded(*rng, frac=0.06)
     thr = view.values("threshold").astype(float)[p, chans] if view.has("threshold") else []

@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..errors import InputError
 from . import _style
 from ._common import FigureRequest, ResultView, axis_label, fit_ylim, method_name, new_figure, proxy
 from .flow import chosen_methods
@@ -103,7 +104,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     coef = view.values("series_coefficient").astype(float)
     psum = view.values("series_partial_sum").astype(float)
     if coef.shape[-1] == 0:
-        raise ValueError("series figure: the result holds no perturbation series (order has "
+        raise InputError("series figure: the result holds no perturbation series (order has "
                          "length 0); run the case with a perturbation: section")
     energy = view.values("energy").astype(float)
     err = view.values("error_estimate").astype(float) if view.has("error_estimate") else None

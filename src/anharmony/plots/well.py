@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..errors import InputError
 from . import _style
 from ._common import axis_label, direct_labels, finite_range, new_figure, proxy
 
@@ -63,20 +64,20 @@ class WellPicture:
 def _case(view: ResultView) -> Any:
     text = view.attrs.get("case")
     if not text:
-        raise ValueError("well figure: the result has no 'case' attribute (the case text), "
+        raise InputError("well figure: the result has no 'case' attribute (the case text), "
                          "from which the well is rebuilt")
     from ..cases import CaseError, case_from_dict, parse_yaml
 
     data, _, problems = parse_yaml(str(text), "<case attribute>")
     if problems or not isinstance(data, dict):
         first = problems[0] if problems else "not a mapping"
-        raise ValueError(f"well figure: the case text stored in the result is not readable "
+        raise InputError(f"well figure: the case text stored in the result is not readable "
                          f"({first})")
     try:
         return case_from_dict(data, name="<case attribute>")
     except CaseError as exc:
         first = str(exc).splitlines()[0] if str(exc) else "invalid"
-        raise ValueError(f"well figure: the case text stored in the result is not a valid "
+        raise InputError(f"well figure: the case text stored in the result is not a valid "
                          f"case ({first})") from None
 
 

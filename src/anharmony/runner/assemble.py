@@ -14,6 +14,7 @@ import numpy as np
 
 from ..cases import Case
 from ..errorbars import ESTIMATE_SAFETY, nested_sizes
+from ..errors import InputError
 from ..labels import channel_label, level_label
 from ..store import CaseResult
 from .compute import core_estimate, empty
@@ -163,7 +164,7 @@ def _stack_cells(cells: dict[tuple[int, int], dict[str, Any]], s: int, c: int
     if not cells:
         return {}
     if len(cells) != s * c:
-        raise ValueError(f"convergence study: {len(cells)} of {s * c} (scan point, channel) "
+        raise InputError(f"convergence study: {len(cells)} of {s * c} (scan point, channel) "
                          "cells were computed")
     first = cells[(0, 0)]
     stacked = {}

@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from ..cases import Case, CaseError, Problem, load_case, load_cases
+from ..errors import InputError
 from ..store import CaseResult, build_dataset, result_attrs, write_dataset
 from .assemble import assemble
 from .compute import run_job
@@ -239,7 +240,7 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
     if cases and not isinstance(cases[0], Case):
         cases = load_cases(list(cases))
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
-        raise ValueError(f"jobs: must be an integer >= 1; got {jobs!r}")
+        raise InputError(f"jobs: must be an integer >= 1; got {jobs!r}")
     refuse_geometries(cases)
     if cross_check:
         cases = [c.with_cross_check() for c in cases]
