@@ -14,16 +14,29 @@ from __future__ import annotations
 
 import datetime as _dt
 import json
-import math
-from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from collections.abc import Mapping
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from ._atomic import atomic_write
+from .axes import (  # noqa: F401  (re-exported: the store's public names)
+    ScanAxis,
+    energy_attrs,
+    parameter_axis,
+    parameter_units,
+    scan_axis,
+    scan_units,
+)
 from .errors import InputError, ResultFileError
+from .results import (  # noqa: F401  (re-exported)
+    CONSTANT_NAMES,
+    CaseResult,
+    FitOutcome,
+    RotationOutcome,
+    empty_like_series,
+)
 
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr
@@ -63,177 +76,6 @@ CORE_NAMES = (
 
 
 
-@dataclass(frozen=True, eq=False)
-class FitOutcome:
-    """The fit of a case with a ``fit:`` block, as plain values (P parameters, D data).
-
-    Attributes
-    ----------
-    parameters : tuple of str (P,)
-        Parameter paths ``well[i].name``.
-    values, uncertainties : ndarray (P,)
-    correlation : ndarray (P, P)
-    chi2 : float
-    dof : int
-    names, quantities : tuple of str (D,)
-        Each datum's name (``data[k]`` where it has none) and ``level`` or ``spacing``.
-    levels : ndarray of int (D, 2)
-        The datum's level(s); the second is −1 for a level.
-    l, j : ndarray (D,)
-        The datum's channel: l (−1 the 1D basis without symmetry), j (NaN without spin).
-    measured, sigma, prediction, residual, basis_error : ndarray (D,)
-        Residual in σ, the others in the energy unit.
-    undetermined, warnings : tuple of str
-        Parameter combinations the data cannot fix; the fit's warnings.
-    evaluations : int
-        Model evaluations of the least-squares passes.
-    """
-
-    parameters: tuple[str, ...]
-    values: np.ndarray
-    uncertainties: np.ndarray
-    correlation: np.ndarray
-    chi2: float
-    dof: int
-    names: tuple[str, ...]
-    quantities: tuple[str, ...]
-    levels: np.ndarray
-    l: np.ndarray
-    j: np.ndarray
-    measured: np.ndarray
-    sigma: np.ndarray
-    prediction: np.ndarray
-    residual: np.ndarray
-    basis_error: np.ndarray
-    undetermined: tuple[str, ...] = ()
-    warnings: tuple[str, ...] = ()
-    evaluations: int = 0
-
-
-# long names of the stored spectroscopic constants (keys of anharmony.molecular.NAMED)
-CONSTANT_NAMES = {
-    "we": "harmonic vibrational constant omega_e = Y10",
-    "wexe": "first anharmonicity constant omega_e x_e = -Y20",
-    "weye": "second anharmonicity constant omega_e y_e = Y30",
-    "Be": "equilibrium rotational constant B_e = Y01",
-    "alpha_e": "vibration-rotation interaction constant alpha_e = -Y11",
-    "De": "centrifugal distortion constant D_e = -Y02",
-}
-
-
-@dataclass(frozen=True, eq=False)
-class RotationOutcome:
-    """The rovibrational levels and Dunham constants of a case with a ``rotation:`` block.
-
-    Attributes
-    ----------
-    J, v : ndarray of int
-        Rotational and vibrational quantum numbers (axes ``rovib_J``, ``rovib_v``).
-    energy, term_value : ndarray (J, v)
-        E(v, J) and E(v, J) minus the lowest level, in the energy unit (NaN: not bound).
-    bottom : float
-        Value of the well at its minimum.
-    constants : tuple of str
-        Names of the constants (keys of :data:`anharmony.molecular.NAMED`).
-    values, uncertainties : ndarray
-        Each constant and its standard error, in the energy unit.
-    warnings : tuple of str
-        Warnings of the core's calls.
-    """
-
-    J: np.ndarray
-    v: np.ndarray
-    energy: np.ndarray
-    term_value: np.ndarray
-    bottom: float
-    constants: tuple[str, ...]
-    values: np.ndarray
-    uncertainties: np.ndarray
-    warnings: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True, eq=False)
-class CaseResult:
-    """The numbers of one finished case, as plain arrays (S scan points, C channels, L levels).
-
-    Attributes
-    ----------
-    scan_value : ndarray (S,)
-    l : ndarray of int (C,)
-        ``-1`` for the 1D basis without symmetry.
-    j : ndarray (C,) or None
-        Only with spin.
-    label : list of str (C,)
-    level_labels : list of list of str (C, L) or None
-        Spectroscopic label of every level (``1d5/2``, ``v=3``); stored as ``level_label``.
-    energy, reference_energy, error_estimate : ndarray (S, C, L)
-    bound, converged : ndarray of bool (S, C, L)
-    frequency, length : ndarray (S,)
-        ħω and b of the basis used at each scan point.
-    center, v_min, reference_frequency, reference_length : ndarray (S,)
-        The reference oscillator of each scan point (its ħω and b default to the basis').
-    reference_method, reference_reason : list of str (S,)
-    threshold : ndarray (S, C)
-    basis_size : int
-    series_coefficient, series_partial_sum : ndarray (S, C, L, K+1), K+1 = 0 without series
-    series_resummed : ndarray (S, C, L, M) for the methods in ``resum_methods``
-    series_optimal, series_optimal_error : ndarray (S, C, L)
-    series_optimal_order : ndarray of int (S, C, L), −1 where there is none
-    convergence_sizes : ndarray of int (B,)
-        The ``basis_size`` axis of the convergence study (empty without one).
-    convergence : mapping
-        Variables of the convergence study, ``name → (dims, values, attrs)`` with dims
-        starting ``("scan", "channel")`` (empty without a study); ``attrs`` carry ``units``
-        and ``long_name``.
-    notes : list of str
-        Remarks on how numbers were obtained (stored in the ``comment`` attribute).
-    warnings : list of str
-        One line per level that is not converged (stored in ``convergence_warnings``).
-    fit : FitOutcome or None
-        The fit of a case with a ``fit:`` block (its levels are those of the fitted well);
-        stored as the ``fit_*`` variables.
-    rotation : RotationOutcome or None
-        The rovibrational levels and constants of a ``rotation:`` case (``rovib_*`` and
-        ``constant_*`` variables).
-    """
-
-    scan_value: np.ndarray
-    l: np.ndarray
-    j: np.ndarray | None
-    label: Sequence[str]
-    energy: np.ndarray
-    bound: np.ndarray
-    converged: np.ndarray
-    reference_energy: np.ndarray
-    error_estimate: np.ndarray
-    frequency: np.ndarray
-    length: np.ndarray
-    center: np.ndarray
-    v_min: np.ndarray
-    reference_method: Sequence[str]
-    reference_reason: Sequence[str]
-    threshold: np.ndarray
-    basis_size: int
-    series_coefficient: np.ndarray
-    series_partial_sum: np.ndarray
-    series_resummed: np.ndarray
-    resum_methods: Sequence[str]
-    series_optimal: np.ndarray
-    series_optimal_error: np.ndarray
-    series_optimal_order: np.ndarray
-    reference_frequency: np.ndarray | None = None
-    reference_length: np.ndarray | None = None
-    convergence_sizes: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
-    convergence: Mapping[str, tuple[tuple[str, ...], np.ndarray, Mapping[str, Any]]] = field(
-        default_factory=dict)
-    notes: Sequence[str] = ()
-    warnings: Sequence[str] = ()
-    level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
-    fit: FitOutcome | None = None  # the fit of a case with a fit: block
-    rotation: RotationOutcome | None = None  # the levels E(v, J) of a rotation: block
-
-
-# --------------------------------------------------------------------------- attributes
 def sanitize_attrs(attrs: Mapping[Any, Any]) -> dict[str, Any]:
     """Attributes netCDF4 can store: str keys; bool → 0/1; None dropped; dict → JSON text.
 
@@ -268,143 +110,6 @@ def sanitize_attrs(attrs: Mapping[Any, Any]) -> dict[str, Any]:
 
 
 # Trade words of the parameters, for axis labels: "quartic strength g" (``display_name``).
-_PARAMETER_WORDS = {
-    "strength": "strength g", "frequency": "frequency ħω", "stiffness": "stiffness k",
-    "depth": "depth V₀", "radius": "radius R", "diffuseness": "diffuseness a",
-    "range": "range a", "waist": "waist w", "center": "centre x₀", "r0": "radius constant r₀",
-    "length": "length", "width": "width α", "mass_number": "mass number A",
-    "charge": "charge Z", "exponent": "exponent p", "rayleigh_length": "Rayleigh length z_R",
-    "wavelength": "wavelength λ", "force": "force F",
-}
-_TERM_WORDS = {
-    "woods_saxon": "Woods–Saxon", "gaussian": "Gaussian", "morse": "Morse",
-    "poschl_teller": "Pöschl–Teller", "spin_orbit": "spin–orbit", "coulomb": "Coulomb",
-    "focused_beam": "beam", "harmonic": "harmonic", "tilt": "tilt", "polynomial": "polynomial",
-    "anisotropic_harmonic": "harmonic", "expression": "formula",
-}
-_POWER_WORDS = {1: "linear", 2: "quadratic", 3: "cubic", 4: "quartic", 5: "quintic",
-                6: "sextic", 8: "octic"}
-_SETTING_WORDS = {("particle", "mass"): ("particle mass m", (0, 0)),
-                  ("reference", "frequency"): ("reference ħω", (1, 0)),
-                  ("reference", "length"): ("reference length b", (0, 1)),
-                  ("reference", "center"): ("reference centre x₀", (0, 1)),
-                  ("basis", "length"): ("basis length b", (0, 1))}
-# (energy power, length power) of each parameter
-_PARAMETER_DIMS = {
-    "depth": (1, 0), "frequency": (1, 0), "stiffness": (1, -2), "radius": (0, 1),
-    "diffuseness": (0, 1), "range": (0, 1), "waist": (0, 1), "center": (0, 1), "r0": (0, 1),
-    "length": (0, 1), "width": (0, -1), "mass_number": (0, 0), "charge": (0, 0),
-    "exponent": (0, 0), "rayleigh_length": (0, 1), "wavelength": (0, 1), "force": (1, -1),
-}
-
-
-@dataclass(frozen=True)
-class ScanAxis:
-    """The scanned parameter in a file and on screen.
-
-    Attributes
-    ----------
-    units, long_name
-        CF ``units`` (from :func:`anharmony.units.units_string`) and long name.
-    display_name, display_units
-        Its trade name (``"quartic strength g"``) and screen symbol (``"ħω/b⁴"``, from the
-        same table, :func:`anharmony.units.dimension_symbol`); ``display_units`` is ``""``
-        for a pure number.
-    """
-
-    units: str
-    long_name: str
-    display_name: str
-    display_units: str
-
-
-def _axis(u: Any, dims: tuple[float, float], long_name: str, name: str, mass: bool = False
-          ) -> ScanAxis:
-    from .units import dimension_symbol, units_string
-
-    if mass:
-        units = "1" if u.energy == "1" else u.mass
-        shown = _symbol(units, u, "mass")
-    else:
-        units = units_string(u, *dims)
-        shown = dimension_symbol(u, *dims) or ""
-    return ScanAxis(units, long_name, name, shown)
-
-
-def scan_axis(case: Case) -> ScanAxis:
-    """Units, long name and trade name of the scanned parameter of ``case``."""
-    u = case.units
-    t = case.scan_target
-    if t.kind == "coupling":
-        return _axis(u, (0, 0), "coupling lambda of H = H_ref + lambda (V - V_ref)",
-                     "coupling λ")
-    if t.kind == "setting":
-        long_name = {("particle", "mass"): "particle mass",
-                     ("reference", "frequency"): "hbar*omega of the reference oscillator",
-                     ("reference", "length"): "length of the reference oscillator",
-                     ("reference", "center"): "centre of the reference oscillator",
-                     ("basis", "length"): "oscillator length of the basis"}[t.keys]
-        name, dims = _SETTING_WORDS[t.keys]
-        return _axis(u, dims, long_name, name, mass=t.keys == ("particle", "mass"))
-    _, name, *sub = t.keys
-    return parameter_axis(case, t.term, name, *sub)
-
-
-def parameter_axis(case: Case, index: int, name: str, *sub: Any) -> ScanAxis:
-    """Units, long name and trade name of parameter ``name`` of term ``well[index]``."""
-    u = case.units
-    (term, params), = case.model.well[index].items()
-    params = params or {}
-    where = f"well[{index}]"
-    long_name = f"{name} of the {term} term {where}"
-    words = _PARAMETER_WORDS.get(name, name.replace("_", " "))
-    if name == "strength" and term == "power":
-        exponent = float(params.get("exponent", 0))
-        power = _POWER_WORDS.get(int(exponent)) if exponent.is_integer() else None
-        return _axis(u, (1, -exponent), long_name, f"{power or f'x^{exponent:g}'} {words}")
-    if name == "strength":
-        return _axis(u, (1, 0), long_name, f"{_TERM_WORDS.get(term, term)} {words}")
-    if name == "coefficients":
-        k = float(sub[0])
-        return _axis(u, (1, -k), long_name, f"{_TERM_WORDS.get(term, term)} coefficient "
-                     f"c_{int(k) if k.is_integer() else k}")
-    if name == "parameters":
-        return _axis(u, (0, 0), f"parameter {sub[0]} of the formula of {where}",
-                     f"formula parameter {sub[0]}")
-    return _axis(u, _PARAMETER_DIMS.get(name, (0, 0)), long_name,
-                 f"{_TERM_WORDS.get(term, term)} {words}")
-
-
-def parameter_units(case: Case, index: int, name: str, *sub: Any) -> tuple[str, str]:
-    """CF units and a long name of parameter ``name`` of term ``well[index]``."""
-    ax = parameter_axis(case, index, name, *sub)
-    return ax.units, ax.long_name
-
-
-def _symbol(units: str, system: Any, quantity: str) -> str:
-    from .units import units_symbol
-
-    return units_symbol(units, system, quantity) or ""
-
-
-def scan_units(case: Case) -> tuple[str, str]:
-    """CF units and a long name of the scanned parameter."""
-    ax = scan_axis(case)
-    return ax.units, ax.long_name
-
-
-def energy_attrs(system: Any, units: str, long_name: str, **extra: Any) -> dict[str, Any]:
-    """CF ``units`` and ``long_name``; where the stored unit is not an energy unit (E/h in
-    kHz, E/(hc) in cm-1) the long name says what the number is (``energy_note``)."""
-    note = getattr(system, "energy_note", "")
-    tokens = {t.rstrip("-0123456789.") for t in str(units).split()}
-    if note and system.energy in tokens:
-        long_name = f"{long_name} ({note})"
-    return {"units": units, "long_name": long_name, **extra}
-
-
-# --------------------------------------------------------------------------- dataset
-
 
 def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
                   ) -> xr.Dataset:
@@ -812,17 +517,3 @@ def result_attrs(path: str | Path) -> dict[str, Any] | None:
             return {k: f.getncattr(k) for k in f.ncattrs()}
     except (OSError, RuntimeError, ValueError, ImportError):
         return None
-
-
-def empty_like_series(s: int, c: int, n: int, orders: int, methods: int
-                      ) -> dict[str, np.ndarray]:
-    """NaN-filled series arrays of the right shapes (``orders`` coefficients)."""
-    nan = math.nan
-    return {
-        "series_coefficient": np.full((s, c, n, orders), nan),
-        "series_partial_sum": np.full((s, c, n, orders), nan),
-        "series_resummed": np.full((s, c, n, methods), nan),
-        "series_optimal": np.full((s, c, n), nan),
-        "series_optimal_error": np.full((s, c, n), nan),
-        "series_optimal_order": np.full((s, c, n), -1, dtype=np.int16),
-    }
