@@ -294,10 +294,10 @@ class _Basis(ABC):
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
             fv = np.asarray(f(coords), dtype=float)
             fu = fv[:, None] * u
-        if not np.all(np.isfinite(fv[live])):
-            pass  # reported by the caller (matrix not finite)
-        elif not np.all(np.isfinite(fv)):
-            fu[~live] = 0.0  # f infinite only where every function has underflowed to 0
+        # f infinite only where every function has underflowed to 0: those nodes add nothing
+        # (a non-finite f at a live node stays, and the caller reports the matrix not finite)
+        if np.all(np.isfinite(fv[live])) and not np.all(np.isfinite(fv)):
+            fu[~live] = 0.0
         fmax = float(np.max(np.abs(fv[live]), initial=0.0))
         a = u.T @ fu
         return 0.5 * (a + a.T), fmax

@@ -33,6 +33,23 @@ __all__ = ["case_issues", "model_issues"]
 Found = list[tuple[Path_, str]]
 
 
+def _well_of(model: CaseModel) -> Well | None:
+    """The case's well, or ``None`` when its terms do not build (the schema reports those)."""
+    try:
+        return Well.from_terms(model.well, model.units, model.particle.mass)
+    except (ValueError, TypeError):
+        return None
+
+
+def _term_issue(exc: InputError) -> tuple[Path_, str]:
+    """``well[i].<kind>[.field]: message`` of a term's error as (data path, message)."""
+    head, _, text = str(exc).partition(": ")
+    parts = head.replace("[", ".").replace("]", "").split(".")
+    at = ("well", int(parts[1]), *parts[2:]) if len(parts) > 2 and parts[1].isdigit() \
+        else ("well",)
+    return at, text or str(exc)
+
+
 def _geometry_issues(model: CaseModel) -> Found:
     """``space.geometry`` against the other fields (DESIGN §10)."""
     space = model.space
@@ -59,21 +76,15 @@ def _geometry_issues(model: CaseModel) -> Found:
         out.append((("reference",), f"the {geometry} geometry takes its basis lengths from the "
                     "Hessian at the minimum (or a central well's reference oscillator); leave "
                     "reference out (basis.length sets one length for every axis)"))
-    if out:
+    well = _well_of(model)
+    if out or well is None:
         return out
-    try:
-        from ..geometry.potential import check_terms
+    from ..geometry.potential import check_terms
 
-        check_terms(Well.from_terms(model.well, model.units, model.particle.mass),
-                    space.dimension, geometry)
-    except InputError as exc:  # "well[i].<kind>[.field]: message"
-        head, _, text = str(exc).partition(": ")
-        parts = head.replace("[", ".").replace("]", "").split(".")
-        at = ("well", int(parts[1]), *parts[2:]) if len(parts) > 2 and parts[1].isdigit() \
-            else ("well",)
-        out.append((at, text or str(exc)))
-    except (ValueError, TypeError):
-        pass  # the schema reports a bad term
+    try:
+        check_terms(well, space.dimension, geometry)
+    except InputError as exc:
+        out.append(_term_issue(exc))
     return out
 
 
@@ -102,25 +113,16 @@ def _space_issues(model: CaseModel) -> Found:
         reach = {c.j for c in channels_of(space.model_copy(update={"j": None}))}
         for j in sorted({parse_half(j) for j in space.j} - reach):
             out.append((("space", "j"), f"j = {Fraction(j)} is not l ± 1/2 for any listed l"))
+    well = _well_of(model)
+    if well is None:
+        return out
     try:  # a formula must use the channel's coordinate (x in 1D, r in 2D/3D)
-        Well.from_terms(model.well, model.units, model.particle.mass).check_channel(
-            space.dimension)
-    except TermError as exc:  # exc.term is "well[i].<kind>": point at that term's line
-        index, _, kind = exc.term.partition("[")[2].partition("]")
-        at = (("well", int(index), kind.lstrip("."), exc.field) if index.isdigit() and exc.field
-              else ("well",))
-        out.append((at, exc.message))
-    except (ValueError, TypeError):
-        pass  # the schema reports a bad term
-    if space.dimension == 1 and space.l is not None:
-        try:
-            symmetric = Well.from_terms(model.well, model.units,
-                                        model.particle.mass).is_symmetric(0.0)
-        except (ValueError, TypeError):
-            symmetric = True  # the schema reports a bad term
-        if not symmetric:
-            out.append((("space", "l"), "1D parity channels need a well symmetric about x = 0; "
-                        "leave l out for the basis without symmetry"))
+        well.check_channel(space.dimension)
+    except TermError as exc:
+        out.append(_term_issue(exc))
+    if space.dimension == 1 and space.l is not None and not well.is_symmetric(0.0):
+        out.append((("space", "l"), "1D parity channels need a well symmetric about x = 0; "
+                    "leave l out for the basis without symmetry"))
     return out
 
 
