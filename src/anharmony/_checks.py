@@ -54,6 +54,13 @@ def _is_real(value: Any) -> bool:
     return isinstance(value, Real) and not isinstance(value, bool)
 
 
+def finite(name: str, value: Any) -> float:
+    """A finite real number (not a bool), as a float."""
+    if not _is_real(value) or not math.isfinite(float(value)):
+        raise InputError(f"{name}: must be a finite number; {got(value)}")
+    return float(value)
+
+
 def positive(name: str, value: Any) -> float:
     """A finite number > 0, as a float."""
     if not _is_real(value) or not math.isfinite(float(value)) or not float(value) > 0:

@@ -13,7 +13,6 @@ The core does no I/O: data come as a list of mappings (the case loader reads CSV
 
 from __future__ import annotations
 
-import difflib
 import math
 import re
 import warnings
@@ -24,6 +23,7 @@ from typing import Any
 import numpy as np
 from scipy.optimize import least_squares
 
+from ._checks import finite, positive, suggest
 from .errors import AnharmonyWarning, ConvergenceWarning, InputError
 from .hamiltonian import Channel, parse_j
 from .spectrum import solve
@@ -126,19 +126,10 @@ def parse_parameter_path(path: Any, specs: Sequence[Mapping[str, Any]]) -> tuple
     (kind, _), = specs[i].items()
     allowed = TERMS[kind].parameters if kind in TERMS else ()
     if name not in allowed:
-        near = difflib.get_close_matches(name, allowed, n=1)
-        hint = f" (did you mean {near[0]!r}?)" if near else ""
+        hint = suggest(name, allowed)
         raise InputError(f"parameters: {path!r}: term {kind!r} has no parameter {name!r}{hint}; "
                          f"its parameters: {', '.join(allowed)}")
     return i, name
-
-
-def _number(where: str, value: Any, positive: bool = False) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)) \
-            or not math.isfinite(value) or (positive and value <= 0):
-        need = "a positive number" if positive else "a finite number"
-        raise InputError(f"{where}: must be {need}; got {value!r}")
-    return float(value)
 
 
 def _level_index(where: str, value: Any) -> int:
@@ -158,8 +149,7 @@ def _measurements(data: Any, l: int | None, j: Any) -> tuple[Measurement, ...]:
             raise InputError(f"{where}: expected a mapping; got {d!r}")
         for key in d:
             if key not in _DATUM_KEYS:
-                near = difflib.get_close_matches(str(key), _DATUM_KEYS, n=1)
-                hint = f" (did you mean {near[0]!r}?)" if near else ""
+                hint = suggest(key, _DATUM_KEYS)
                 raise InputError(f"{where}.{key}: unknown key{hint}; valid keys: "
                                  f"{', '.join(_DATUM_KEYS)}")
         quantity = d.get("quantity", "spacing" if "levels" in d else "level")
@@ -185,8 +175,8 @@ def _measurements(data: Any, l: int | None, j: Any) -> tuple[Measurement, ...]:
             raise InputError(f"{where}.value: is required")
         if "uncertainty" not in d:
             raise InputError(f"{where}.uncertainty: is required (a standard uncertainty > 0)")
-        value = _number(f"{where}.value", d["value"])
-        sigma = _number(f"{where}.uncertainty", d["uncertainty"], positive=True)
+        value = finite(f"{where}.value", d["value"])
+        sigma = positive(f"{where}.uncertainty", d["uncertainty"])
         dl = d.get("l", l)
         dj = parse_j(d["j"]) if "j" in d else (parse_j(j) if "l" not in d else None)
         out.append(Measurement(quantity, levels, value, sigma, dl, dj, str(d.get("name", ""))))
@@ -221,7 +211,7 @@ def _starts(parameters: Any, specs: list[dict[str, Any]]) -> tuple[list[str], np
                 b = spec["bounds"]
                 if isinstance(b, (str, bytes)) or not isinstance(b, Sequence) or len(b) != 2:
                     raise InputError(f"parameters.{path}.bounds: expected [lo, hi]; got {b!r}")
-                bounds = tuple(-math.inf if v is None else _number(
+                bounds = tuple(-math.inf if v is None else finite(
                     f"parameters.{path}.bounds", v) for v in b)
                 if not bounds[0] < bounds[1]:
                     raise InputError(f"parameters.{path}.bounds: need lo < hi; got {list(b)}")
@@ -232,7 +222,7 @@ def _starts(parameters: Any, specs: list[dict[str, Any]]) -> tuple[list[str], np
                 raise InputError(f"parameters: {path!r} has no value in the well to start from; "
                                  "give a start value")
             start = params[name]
-        start = _number(f"parameters.{path} (start)", start)
+        start = finite(f"parameters.{path} (start)", start)
         if not bounds[0] <= start <= bounds[1]:
             raise InputError(f"parameters.{path}: start {start} lies outside the bounds "
                              f"{list(bounds)}")
