@@ -16,6 +16,11 @@ ATOL_QUAD = 1e-9  # verified quadrature settles matrices to 1e-11 of their large
 ATOL_SAME_SPACE = 1e-8  # same variational space, different quadrature rules (Gaussian, quartic)
 ATOL_WS = 1e-6  # MeV: Woods–Saxon has a cusp at r = 0, Gauss–Hermite settles to ~1e-9 relative
 
+# these checks compare levels of deliberately small oscillator spaces (the same space in two
+# bases, or against a reference with its own tolerance); the ConvergenceWarning those spaces
+# raise is checked in test_geometry_refusals.py
+pytestmark = pytest.mark.filterwarnings("ignore::anharmony.errors.ConvergenceWarning")
+
 
 def _exact_levels(freqs, count):
     """Σ ħω_i (n_i + ½), the lowest ``count`` — any QM textbook; Bohr & Mottelson, Nuclear

@@ -10,13 +10,14 @@ are merged in ascending order.
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 from scipy.linalg import eigh
 
-from ..errors import InputError
+from ..errors import ConvergenceWarning, InputError
 from ..units import UnitSystem, get_units
 from ..well import Well
 from .axial import AxialBasis
@@ -38,6 +39,9 @@ from .potential import (
 __all__ = ["GEOMETRIES", "GeometrySpectrum", "solve_geometry", "trap_frequencies"]
 
 GEOMETRIES = ("cartesian", "axial")
+# a bound level whose change from N_max − 2 to N_max exceeds this share of the mean level
+# spacing is named in a ConvergenceWarning (the difference is a pessimistic error bar)
+GEOMETRY_TOLERANCE = 1e-6
 _SYMMETRY_RTOL = 1e-12  # a reflection symmetry holds to rounding, or it is not used
 
 
@@ -241,13 +245,32 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
         if error_estimate:
             es = small.get(key, ((), None, None))[0]
             err[col] = abs(e[k] - es[k]) if k < len(es) else math.inf
+    if len(order) < levels:
+        raise InputError(f"levels: {levels} levels asked for, but the requested blocks hold "
+                         f"{len(order)} states up to shells = {shells}; raise shells or ask "
+                         "for fewer levels")
     e_out = np.asarray(energies)[order]
     threshold = geometry_threshold(well, dimension)
+    if error_estimate:
+        _warn_unconverged(e_out, err, labels, e_out < threshold, shells)
     return GeometrySpectrum(
         energies=e_out, bound=e_out < threshold, labels=labels, blocks=blocks,
         error_estimate=err, vectors=vectors, states=states, geometry=geometry,
         dimension=dimension, lengths=tuple(b), centers=tuple(x0), shells=int(shells),
         truncation=truncation, threshold=threshold, units=well.units, mass=well.mass, well=well)
+
+
+def _warn_unconverged(energies, err, labels, bound, shells) -> None:
+    """One ConvergenceWarning naming the bound levels whose error bar exceeds the tolerance."""
+    e = energies[bound]
+    spacing = float(np.mean(np.diff(np.unique(e)))) if np.unique(e).size > 1 else 1.0
+    bad = [lab for lab, b, x in zip(labels, bound, err, strict=True)
+           if b and not x <= GEOMETRY_TOLERANCE * spacing]
+    if bad:
+        shown = ", ".join(bad[:8]) + (", …" if len(bad) > 8 else "")
+        warnings.warn(f"{len(bad)} bound level(s) not converged (change from shells = "
+                      f"{shells - 2} to {shells} above {GEOMETRY_TOLERANCE:g} of the level "
+                      f"spacing): {shown}; raise shells", ConvergenceWarning, stacklevel=3)
 
 
 def _label(geometry, key, quanta):
