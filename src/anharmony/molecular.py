@@ -31,10 +31,10 @@ import numpy as np
 
 from .errors import ConvergenceWarning, InputError
 from .spectrum import Spectrum, solve
-from .units import UnitSystem, get_units
+from .units import UnitSystem
 
-__all__ = ["NAMED", "Constant", "DunhamFit", "Rovibrational", "dunham_fit", "rovibrational",
-           "spectroscopic_constants"]
+__all__ = ["NAMED", "Constant", "DunhamFit", "Rovibrational", "constants_of", "dunham_fit",
+           "rovibrational", "spectroscopic_constants"]
 
 NAMED: dict[str, tuple[tuple[int, int], float]] = {  # name: ((k, l), sign) with value = sign·Y_kl
     "we": ((1, 0), 1.0),
@@ -332,7 +332,12 @@ def spectroscopic_constants(well, units: str | UnitSystem = "molecular",
     levels measured from the well bottom with equal weights, and returns the named constants
     (keys of :data:`NAMED`), each with ``.value`` and ``.uncertainty`` in the energy unit.
     """
-    rv = rovibrational(well, J, levels, units, mass, size, length, reference)
+    return constants_of(rovibrational(well, J, levels, units, mass, size, length, reference))
+
+
+def constants_of(rv: Rovibrational) -> dict[str, Constant]:
+    """The named constants of already computed levels (a Dunham fit with equal weights of the
+    term values from the well bottom), as :func:`spectroscopic_constants` returns them."""
     vv, jj = np.meshgrid(rv.v, rv.J)
-    fit = dunham_fit(vv, jj, rv.term_values("bottom"), unit=get_units(units).energy)
+    fit = dunham_fit(vv, jj, rv.term_values("bottom"), unit=rv.unit)
     return fit.constants()

@@ -224,9 +224,10 @@ def fit_outcome(res: Any, notes: list[str]) -> FitOutcome:
 # =========================================================================== rotation
 def _run_rotation(case: Case) -> RotationOutcome:
     """E(v, J) and the Dunham constants of a ``rotation:`` case, from the core's
-    :func:`anharmony.rovibrational` and :func:`anharmony.spectroscopic_constants` with the
-    case's well, units, mass, basis and reference; their warnings are kept."""
-    from ..molecular import NAMED, rovibrational, spectroscopic_constants
+    :func:`anharmony.rovibrational` (the case's well, units, mass, basis and reference) and the
+    Dunham constants of those same levels (``molecular.constants_of``, what
+    :func:`anharmony.spectroscopic_constants` returns); their warnings are kept."""
+    from ..molecular import NAMED, constants_of, rovibrational
 
     rot = case.model.rotation
     assert rot is not None
@@ -236,7 +237,7 @@ def _run_rotation(case: Case) -> RotationOutcome:
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         rv = rovibrational(case.well_at(None), **args)
-        consts = spectroscopic_constants(case.well_at(None), **args)
+        consts = constants_of(rv)  # the same levels: no second solve
     names = tuple(NAMED)
     return RotationOutcome(
         J=np.asarray(rv.J, dtype=np.int64), v=np.asarray(rv.v, dtype=np.int64),
