@@ -9,8 +9,8 @@ from __future__ import annotations
 
 import sys
 import types
-from importlib import import_module
 
+from ._lazy import lazy_names
 from ._version import __version__
 from .errors import (
     AnharmonyError,
@@ -109,16 +109,7 @@ _LAZY = {  # public name → the module that defines it, imported on first use
 _SHADOWED = frozenset({"fit", "scan", "series"})
 
 
-def __getattr__(name: str):
-    if name in _LAZY:
-        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
-        globals()[name] = value
-        return value
-    raise AttributeError(f"module 'anharmony' has no attribute {name!r}")
-
-
-def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(__all__))
+__getattr__, __dir__ = lazy_names(__name__, _LAZY, globals())
 
 
 class _Package(types.ModuleType):

@@ -12,7 +12,7 @@
 
 from __future__ import annotations
 
-from importlib import import_module
+from .._lazy import lazy_names
 
 # bound here, not lazily: the name is also a submodule, whose import would shadow the function
 from .verdict import Verdict, lowest_order, partial_sum_verdict, verdict
@@ -68,13 +68,4 @@ _LAZY = {  # name → submodule, imported on first use (so that `show` stays lig
 }
 
 
-def __getattr__(name: str):
-    if name in _LAZY:
-        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
-        globals()[name] = value
-        return value
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-
-
-def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(__all__))
+__getattr__, __dir__ = lazy_names(__name__, _LAZY, globals())
