@@ -32,7 +32,7 @@ def main() -> None:
         data += [{"level": k, "l": l, "value": float(e[k]), "uncertainty": 0.01}
                  for k in range(3)]
     t0 = time.perf_counter()
-    res = ah.fit(START, 3, 0, parameters=PATHS, data=data, size=40, units="trap", mass=MASS)
+    res = ah.fit(START, 3, 0, parameters=PATHS, data=data, units="trap", mass=MASS)  # defaults
     dt = time.perf_counter() - t0
     print(describe())
     print(f"trap calibration: {len(PATHS)} parameters, {len(data)} data, 3D channels l = 0, 1, 2:"
