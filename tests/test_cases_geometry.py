@@ -93,6 +93,9 @@ def test_run_refuses_a_geometry_case_with_exit_2(tmp_path, capsys):
 
 
 def test_check_describes_the_blocks(tmp_path, capsys):
-    assert main(["check", str(_write(tmp_path, BEAM))]) == 0
-    out = capsys.readouterr().out
+    # check describes the blocks and refuses as run does (not run from case files yet)
+    path = _write(tmp_path, BEAM)
+    assert main(["check", str(path)]) == 2
+    out, err = capsys.readouterr()
+    assert f"{path}:" in err and "space.geometry: axial cases are checked but not run" in err
     assert "geometry   axial" in out and "N_max = 10 (energy truncation)" in out

@@ -179,12 +179,34 @@ def test_existing_result_needs_resume_or_overwrite(tmp_path, capsys):
     assert code == 0 and "wrote" in err and "6/6 tasks" in err
 
 
-def test_computation_failure_exits_1(tmp_path, capsys):
+def test_a_well_that_run_cannot_solve_is_refused_by_check_and_run_alike(tmp_path, capsys):
+    # A pure cubic is unbounded below: no minimum for the reference oscillator. Whatever run
+    # would refuse, check refuses, at the file's line (DESIGN §7: exit 2 for bad input).
     case = tmp_path / "bad.yaml"
     case.write_text("schema: 1\nspace: {dimension: 1}\nwell:\n  - power: {exponent: 3, "
                     "strength: 1.0}\nbasis: {size: 8}\nlevels: {count: 2}\n")
+    for command in ("check", "run"):
+        code, out, err = _run(capsys, command, str(case))
+        assert code == 2 and f"{case}:4:3: well: the reference oscillator" in err, command
+        assert "Traceback" not in err + out
+    assert not (tmp_path / "bad.nc").exists()
+
+
+def test_computation_failure_exits_1(tmp_path, capsys, monkeypatch):
+    # A failure inside the computation (here made to happen in the core's scan) fails the
+    # case with exit 1 and one line, and writes nothing (DESIGN §7).
+    import anharmony.runner.compute as compute
+    from anharmony.errors import NumericalError
+
+    def fails(*args, **kwargs):
+        raise NumericalError("the eigensolver did not converge")
+
+    monkeypatch.setattr(compute, "scan", fails)
+    case = tmp_path / "case.yaml"
+    case.write_text(BASE)
     code, out, err = _run(capsys, "run", "--progress", "off", str(case))
-    assert code == 1 and "failed" in err and "Traceback" not in err + out
+    assert code == 1 and "failed" in err and "did not converge" in err
+    assert "Traceback" not in err + out
 
 
 def test_bad_jobs_and_usage_errors_are_one_line(capsys, tmp_path):

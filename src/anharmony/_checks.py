@@ -54,16 +54,24 @@ def _is_real(value: Any) -> bool:
     return isinstance(value, Real) and not isinstance(value, bool)
 
 
+def _float(value: Any) -> float:
+    """``float(value)``, with an integer beyond the float range read as ±inf (not finite)."""
+    try:
+        return float(value)
+    except OverflowError:
+        return math.inf if value > 0 else -math.inf
+
+
 def finite(name: str, value: Any) -> float:
     """A finite real number (not a bool), as a float."""
-    if not _is_real(value) or not math.isfinite(float(value)):
+    if not _is_real(value) or not math.isfinite(_float(value)):
         raise InputError(f"{name}: must be a finite number; {got(value)}")
     return float(value)
 
 
 def positive(name: str, value: Any) -> float:
     """A finite number > 0, as a float."""
-    if not _is_real(value) or not math.isfinite(float(value)) or not float(value) > 0:
+    if not _is_real(value) or not math.isfinite(_float(value)) or not float(value) > 0:
         raise InputError(f"{name}: must be a positive number; {got(value)}")
     return float(value)
 
@@ -72,7 +80,7 @@ def length_or_auto(name: str, value: Any) -> float | None:
     """A positive number as a float, or ``None`` for the word ``"auto"``."""
     if isinstance(value, str) and value == "auto":
         return None
-    if not _is_real(value) or not math.isfinite(float(value)) or not float(value) > 0:
+    if not _is_real(value) or not math.isfinite(_float(value)) or not float(value) > 0:
         raise InputError(f"{name}: must be a positive number or 'auto'; {got(value)}")
     return float(value)
 
@@ -140,7 +148,7 @@ def numbers(name: str, values: Any, count: int | None = None, *,
         raise InputError(f"{name}: must be a list of {count} {what}; {got(values)}")
     out = []
     for i, v in enumerate(seq):
-        if not _is_real(v) or not math.isfinite(float(v)):
+        if not _is_real(v) or not math.isfinite(_float(v)):
             raise InputError(f"{name}[{i}]: must be a finite number; {got(v)}")
         out.append(float(v))
     return tuple(out)

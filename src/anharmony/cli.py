@@ -29,6 +29,10 @@ class _Parser(argparse.ArgumentParser):
         self.exit(EXIT_BAD_INPUT, f"{self.prog}: error: {message} (see {self.prog} --help)\n")
 
 
+#: Set this environment variable to see the traceback of an internal error.
+TRACEBACK_VARIABLE = "ANHARMONY_TRACEBACK"
+
+
 def _parser() -> argparse.ArgumentParser:
     p = _Parser(prog="anharmony",
                 description="Bound states, anharmonic shifts and perturbation series of "
@@ -60,13 +64,20 @@ def _parser() -> argparse.ArgumentParser:
                      help="also solve every channel with the cross-check solver of another "
                           "family (as convergence: {cross_check: true} in every case) and "
                           "store its difference from the basis result")
+    run.add_argument("--allow-long", action="store_true",
+                     help="accept a case whose estimated work is beyond the limit of a few "
+                          "hours on one core (refused otherwise, naming the setting)")
 
     check = sub.add_parser("check", help="validate case files and print the resolved cases",
                            description="Validate case files and print each resolved case: "
                                        "units, reference oscillator, channels and task count.")
     check.add_argument("cases", nargs="+", metavar="CASE.yaml", help="case files")
     check.add_argument("--no-reference", action="store_true",
-                       help="skip resolving the reference oscillator (validation only)")
+                       help="skip resolving the reference oscillator and building the "
+                            "Hamiltonians (validation only)")
+    check.add_argument("--allow-long", action="store_true",
+                       help="accept a case whose estimated work is beyond the limit of a few "
+                            "hours on one core (refused otherwise, naming the setting)")
 
     show = sub.add_parser("show", help="print the levels, shifts and perturbation verdict of "
                                        "a result file",
@@ -207,7 +218,8 @@ class _Progress:
 # --------------------------------------------------------------------------- run
 def _cmd_run(args: argparse.Namespace) -> int:
     from .cases import CaseError, load_cases
-    from .runner import run_batch
+    from .runner import preflight, run_batch
+    from .runner.preflight import WORK_LIMIT_SECONDS
 
     if args.jobs < 1:
         _err(f"--jobs: must be at least 1; got {args.jobs}")
@@ -216,6 +228,10 @@ def _cmd_run(args: argparse.Namespace) -> int:
         cases = load_cases(args.cases)
     except CaseError as exc:
         return _problems(exc)
+    found = [i for case in cases for i in preflight(
+        case, work_limit=None if args.allow_long else WORK_LIMIT_SECONDS)]
+    if found:  # what `check` refuses, `run` refuses before it starts
+        return _problems(CaseError(found))
     progress = _Progress(args.progress if args.progress != "off" else "off", sys.stderr)
     history = "anharmony " + " ".join(sys.argv[1:]) if sys.argv[1:] else None
     try:
@@ -252,7 +268,8 @@ def _cmd_run(args: argparse.Namespace) -> int:
 # --------------------------------------------------------------------------- check
 def _cmd_check(args: argparse.Namespace) -> int:
     from .cases import CaseError, estimate_work, load_cases
-    from .runner import describe
+    from .runner import describe, preflight
+    from .runner.preflight import WORK_LIMIT_SECONDS
 
     try:
         cases = load_cases(args.cases)
@@ -264,8 +281,11 @@ def _cmd_check(args: argparse.Namespace) -> int:
         for line in text.lines:
             print(line)
         print(f"  estimated work: {estimate_work(case).summary()}")
-        if text.problem is not None:
-            _err(f"{case.name}: reference: {text.problem}")
+        found = preflight(case, numbers=not args.no_reference,
+                          work_limit=None if args.allow_long else WORK_LIMIT_SECONDS)
+        for issue in found:
+            _err(str(issue))
+        if found:
             status = EXIT_BAD_INPUT
     return status
 
@@ -621,6 +641,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # e.g. `anharmony show x.nc | head`
         sys.stderr.close()
         return EXIT_OK
+    except Exception as exc:  # a bug of ours: one line, the traceback only when asked for
+        if os.environ.get(TRACEBACK_VARIABLE):
+            raise
+        _err(f"anharmony: internal error: {type(exc).__name__}: {str(exc)[:300]} -- this is a "
+             f"bug; please report it with the input that caused it ({TRACEBACK_VARIABLE}=1 "
+             "shows the traceback)")
+        return EXIT_FAILED
 
 
 if __name__ == "__main__":  # pragma: no cover

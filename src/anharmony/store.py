@@ -505,7 +505,47 @@ def read_dataset(path: str | Path) -> xr.Dataset:
     if int(version) > RESULT_SCHEMA:
         raise ResultFileError(f"{p}: written with result schema {int(version)}; this version "
                               f"of anharmony reads up to {RESULT_SCHEMA} (upgrade anharmony)")
+    problem = _core_problem(ds)
+    if problem:
+        raise ResultFileError(f"{p}: a damaged or incomplete result file: {problem}")
     return ds
+
+
+_LEVELS = ("scan", "channel", "level")
+#: The variables every result file holds (DESIGN §6): their dimensions and numpy kinds
+#: (f float, i/u integer, b bool, U/S/O text).
+CORE_VARIABLES: dict[str, tuple[tuple[str, ...], str]] = {
+    "energy": (_LEVELS, "f"), "bound": (_LEVELS, "iub"), "converged": (_LEVELS, "iub"),
+    "error_estimate": (_LEVELS, "f"), "reference_energy": (_LEVELS, "f"),
+    "shift": (_LEVELS, "f"), "threshold": (("scan", "channel"), "f"),
+    "series_coefficient": ((*_LEVELS, "order"), "f"),
+    "series_partial_sum": ((*_LEVELS, "order"), "f"),
+    "series_resummed": ((*_LEVELS, "method"), "f"),
+    "scan_value": (("scan",), "f"), "frequency": (("scan",), "f"), "length": (("scan",), "f"),
+    "l": (("channel",), "iuf"), "label": (("channel",), "USO"),
+}
+
+
+def _core_problem(ds: xr.Dataset) -> str | None:
+    """What is missing or malformed among the core variables, or ``None``."""
+    missing = [name for name in CORE_VARIABLES if name not in ds.variables]
+    if missing:
+        return (f"the variable {missing[0]} is missing" if len(missing) == 1 else
+                f"the variables {', '.join(missing)} are missing")
+    for name, (dims, kinds) in CORE_VARIABLES.items():
+        var = ds[name]
+        if tuple(var.dims) != dims:
+            return f"{name} has dimensions ({', '.join(map(str, var.dims))}); expected " \
+                   f"({', '.join(dims)})"
+        if var.dtype.kind not in kinds:
+            return f"{name} holds {var.dtype} values; expected " + (
+                "numbers" if "f" in kinds or "i" in kinds else "text")
+    empty = [d for d in _LEVELS if ds.sizes.get(d, 0) == 0]
+    if empty:
+        words = {"scan": "scan points", "channel": "channels", "level": "levels"}
+        return f"it holds no {' and no '.join(words[d] for d in empty)} (a dimension of " \
+               "length 0)"
+    return None
 
 
 def result_attrs(path: str | Path) -> dict[str, Any] | None:

@@ -23,7 +23,7 @@ from ..terms import TERMS, linear_parameters
 from ..units import UnitSystem, get_units
 from ..well import Well
 from .fitdata import FitData, datum_channel
-from .messages import suggest
+from .messages import Issue, display, suggest
 from .schema import CaseModel, FitParameter, Space, parse_half
 
 __all__ = [
@@ -146,6 +146,9 @@ class Case:
         What ``scan.parameter`` points at.
     fit_data : FitData or None
         The data of the ``fit:`` block (read from its CSV file where it names one).
+    line_offset, column_offset : int
+        Where ``text`` sits in ``file``: the lines above it and the indentation taken off
+        (0 for a file of one case); :meth:`issue` uses them to point into the file.
     """
 
     model: CaseModel
@@ -155,6 +158,26 @@ class Case:
     output: Path
     scan_target: ScanTarget = field(default=ScanTarget("coupling", linear=True))
     fit_data: FitData | None = None
+    line_offset: int = field(default=0, compare=False)
+    column_offset: int = field(default=0, compare=False)
+
+    def issue(self, path: Sequence[Any], message: str) -> Issue:
+        """The problem ``message`` at the field ``path`` of this case, at its file position.
+
+        ``path`` is a data path inside the case (``("well", 0)``, ``("output",)``); the issue
+        names the file, line and column of that node (or its nearest given ancestor) and the
+        field as the file spells it (``cases[1].output`` inside a ``cases:`` list).
+        """
+        from .loader import parse_yaml
+
+        prefix: tuple[Any, ...] = () if self.index is None else ("cases", self.index)
+        line = col = None
+        if self.file != "<dict>":
+            line, col = parse_yaml(self.text, self.file)[1].position(tuple(path))
+        if line is not None:
+            line += self.line_offset
+            col = (col or 1) + self.column_offset
+        return Issue(self.file, line, col, display((*prefix, *path)), message)
 
     # --------------------------------------------------------------- derived settings
     @property

@@ -29,7 +29,8 @@ __all__ = ["case_from_dict", "load_case", "load_cases"]
 
 
 def _validate(data: Any, name: str, marks: Marks, prefix: Path_, folder: Path,
-              index: int | None, text: str) -> tuple[Case | None, list[Issue]]:
+              index: int | None, text: str, offsets: tuple[int, int] = (0, 0)
+              ) -> tuple[Case | None, list[Issue]]:
     """One case: the schema, then the cross-field checks once the fields are right."""
     if not isinstance(data, Mapping):
         return None, [issue_at(marks, name, prefix, (), "a case must be a mapping of settings "
@@ -48,7 +49,7 @@ def _validate(data: Any, name: str, marks: Marks, prefix: Path_, folder: Path,
     out_name = model.output or (Path(name).stem + ("" if index is None else f"-{index + 1}")
                                 + ".nc")
     output = Path(out_name) if Path(out_name).is_absolute() else folder / out_name
-    case = Case(model, name, index, text, output, target, fit_data)
+    case = Case(model, name, index, text, output, target, fit_data, *offsets)
     found = case_issues(case)
     if not found:
         return case, []
@@ -92,13 +93,15 @@ def _position(marks: Marks, name: str, prefix: Path_, path: Path_, msg: str,
                  fit_data.columns[row].get(key, 1), display((*prefix, *path)), msg)
 
 
-def _case_text(text: str, node: yaml.Node | None) -> str:
-    """The YAML text of one entry of a ``cases:`` list, dedented into a document of its own."""
+def _case_text(text: str, node: yaml.Node | None) -> tuple[str, tuple[int, int]]:
+    """The YAML text of one entry of a ``cases:`` list, dedented into a document of its own,
+    and its offsets in the file: the lines above it and the columns taken off."""
     if node is None:
-        return text
+        return text, (0, 0)
     start, end = node.start_mark, node.end_mark
     chunk = " " * start.column + text[start.index:end.index]
-    return textwrap.dedent(chunk).rstrip() + "\n"
+    indents = [len(ln) - len(ln.lstrip(" ")) for ln in chunk.splitlines() if ln.strip()]
+    return textwrap.dedent(chunk).rstrip() + "\n", (start.line, min(indents, default=0))
 
 
 def _from_text(text: str, name: str, folder: Path) -> tuple[list[Case], list[Issue]]:
@@ -121,7 +124,7 @@ def _from_text(text: str, name: str, folder: Path) -> tuple[list[Case], list[Iss
             return [], problems
         for i, item in enumerate(items):
             case, found = _validate(item, name, marks, ("cases", i), folder, i,
-                                    _case_text(text, marks.nodes.get(("cases", i))))
+                                    *_case_text(text, marks.nodes.get(("cases", i))))
             problems += found
             if case is not None:
                 cases.append(case)
@@ -175,9 +178,8 @@ def load_cases(paths: str | Path | Sequence[str | Path]) -> list[Case]:
     for c in cases:
         key = c.output.resolve()
         if key in seen:
-            problems.append(Issue(c.file, None, None, "output" if c.index is None
-                                    else f"cases[{c.index}].output",
-                                    f"{c.name} and {seen[key].name} would both write {c.output}"))
+            problems.append(c.issue(("output",), f"{c.name} and {seen[key].name} would both "
+                                    f"write {c.output}"))
         seen.setdefault(key, c)
     if problems:
         raise CaseError(problems)

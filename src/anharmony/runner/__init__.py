@@ -4,9 +4,10 @@ The numbers come from the core functions a Python user calls (:func:`anharmony.s
 :func:`anharmony.series.series`, :func:`anharmony.convergence.converge`); result files are
 written and read by :mod:`anharmony.store`.
 
-Modules: :mod:`.plan` (jobs of a case, the description ``check`` prints), :mod:`.compute` (the
-core calls of one job), :mod:`.study` (one convergence-study cell), :mod:`.assemble` (a case's
-jobs merged into one result, with its warnings), :mod:`.executors` (serial, process pool,
+Modules: :mod:`.plan` (jobs of a case, the description ``check`` prints), :mod:`.preflight`
+(what a run would refuse, asked by ``check`` and ``run`` alike), :mod:`.compute` (the core
+calls of one job), :mod:`.study` (one convergence-study cell), :mod:`.assemble` (a case's jobs
+merged into one result, with its warnings), :mod:`.executors` (serial, process pool,
 dask.distributed) and :mod:`.batch` (:func:`run_batch`, :func:`run_case`).
 """
 
@@ -16,6 +17,7 @@ from .assemble import assemble
 from .batch import BatchReport, Interrupted, check_outputs, compute_case, run_batch, run_case
 from .compute import run_job
 from .plan import Description, Job, describe, output_path, plan_case, smaller_size
+from .preflight import geometry_refusal, preflight
 
 __all__ = [
     "BatchReport",
@@ -26,8 +28,10 @@ __all__ = [
     "check_outputs",
     "compute_case",
     "describe",
+    "geometry_refusal",
     "output_path",
     "plan_case",
+    "preflight",
     "run_batch",
     "run_case",
     "run_job",

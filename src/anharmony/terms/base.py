@@ -55,7 +55,11 @@ def number(term: str, name: str, value: Any, *, positive: bool = False,
     """A finite real parameter value, or a :class:`TermError` naming the parameter."""
     if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
         raise TermError(term, name, f"must be a number; got {value!r}")
-    x = float(value)
+    try:
+        x = float(value)
+    except OverflowError:  # an integer beyond the float range (10**400)
+        raise TermError(term, name, f"must be a finite number; got an integer of "
+                        f"{len(str(abs(int(value))))} digits") from None
     if not math.isfinite(x):
         raise TermError(term, name, f"must be finite; got {value!r}")
     if positive and not x > 0:

@@ -31,6 +31,17 @@ def _polynomial_limits(p: int, c: float) -> tuple[float, float]:
     return (-plus if p % 2 else plus, plus)
 
 
+#: Largest |exponent| of a power or polynomial term: beyond it the oscillator-basis matrix
+#: elements (about (N b²)^{p/2} for N states) leave the float range.
+MAX_POWER = 100
+
+
+def _too_high(p: float) -> str:
+    return (f"must be at most {MAX_POWER} in size; got {p:g}: the matrix elements of such a "
+            "power overflow in an oscillator basis (a steep wall is better made with a "
+            "woods_saxon or expression term)")
+
+
 @dataclass(frozen=True)
 class Harmonic(ExactTerm):
     """½ k (x − x₀)², with k = mω² given as ``stiffness`` or from ``frequency`` ħω."""
@@ -86,6 +97,8 @@ class Power(ExactTerm):
         e = number(cls.kind, "exponent", require(cls.kind, p, "exponent"))
         if e == 0:
             raise TermError(cls.kind, "exponent", "must not be zero (use a constant polynomial)")
+        if abs(e) > MAX_POWER:
+            raise TermError(cls.kind, "exponent", _too_high(e))
         g = number(cls.kind, "strength", require(cls.kind, p, "strength"))
         return cls(center=center(cls.kind, p), exponent=e, strength=g)
 
@@ -212,6 +225,8 @@ class Polynomial(ExactTerm):
             if isinstance(key, bool) or power < 0 or str(power) != str(key).strip():
                 raise TermError(cls.kind, f"coefficients[{key!r}]",
                                 "powers must be integers 0, 1, 2, …")
+            if power > MAX_POWER:
+                raise TermError(cls.kind, f"coefficients[{key!r}]", _too_high(power))
             items[power] = items.get(power, 0.0) + number(cls.kind, f"coefficients[{key}]", val)
         return cls(center=center(cls.kind, p), coefficients=tuple(sorted(items.items())))
 
