@@ -265,15 +265,15 @@ class _Basis(ABC):
         while True:
             m = _next_points(m)
             cur, fmax = self._quad_matrix(f, m, kind, breaks)
+            if not (np.all(np.isfinite(cur)) and np.all(np.isfinite(prev))):
+                raise NumericalError("a term of the well is not finite at some quadrature "
+                                     "points; check its formula and the basis length")
             scale = float(np.max(np.abs(cur))) or 1.0
             delta = float(np.max(np.abs(cur - prev)))
             # rounding floor: each element sums f u_q u_q' with Σ u_q² = 1, so its rounding
             # error is a few thousand ulp of max |f| at most
             floor = _NOISE_ULPS * np.finfo(float).eps * fmax
             delta = max(0.0, delta - floor)
-            if not np.all(np.isfinite(cur)):
-                raise NumericalError("a term of the well is not finite at some quadrature "
-                                     "points; check its formula and the basis length")
             if delta <= rtol * scale:
                 return cur
             if m > _MAX_POINTS:
@@ -299,7 +299,8 @@ class _Basis(ABC):
         if np.all(np.isfinite(fv[live])) and not np.all(np.isfinite(fv)):
             fu[~live] = 0.0
         fmax = float(np.max(np.abs(fv[live]), initial=0.0))
-        a = u.T @ fu
+        with np.errstate(over="ignore", invalid="ignore"):  # non-finite: the caller reports it
+            a = u.T @ fu
         return 0.5 * (a + a.T), fmax
 
 

@@ -10,6 +10,7 @@ import argparse
 import math
 import os
 import sys
+import warnings
 from collections.abc import Sequence
 from typing import Any, NoReturn, TextIO
 
@@ -633,6 +634,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
     _one_blas_thread()
+    shown = warnings.showwarning
+    warnings.showwarning = _warning_line
     try:
         return _COMMANDS[args.command](args)
     except KeyboardInterrupt:
@@ -648,6 +651,14 @@ def main(argv: Sequence[str] | None = None) -> int:
              f"bug; please report it with the input that caused it ({TRACEBACK_VARIABLE}=1 "
              "shows the traceback)")
         return EXIT_FAILED
+    finally:
+        warnings.showwarning = shown
+
+
+def _warning_line(message: Warning | str, category: type[Warning], filename: str,
+                  lineno: int, file: TextIO | None = None, line: str | None = None) -> None:
+    """A warning as one line ``warning: …`` on stderr, without Python's source location."""
+    _err(f"warning: {message}")
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -99,8 +99,13 @@ class UnitSystem:
         if not m > 0.0:
             raise InputError(f"mass must be positive; got {mass!r}")
         if self.energy_si is None:  # ħ = 1 and the mass unit is m (or mₑ)
-            return 0.5 / m
-        return sc.hbar**2 / (2.0 * m * self.mass_si) / (self.energy_si * self.length_si**2)
+            value = 0.5 / m
+        else:
+            value = sc.hbar**2 / (2.0 * m * self.mass_si) / (self.energy_si * self.length_si**2)
+        if not 1e-300 < value < 1e300:
+            raise InputError(f"mass {mass!r} {self.mass} gives hbar^2/2m = {value:g} "
+                             f"{self.energy} {self.length}^2, outside the float range")
+        return value
 
     @property
     def coulomb_constant(self) -> float:

@@ -264,7 +264,8 @@ def _reader_issue(exc: yaml.reader.ReaderError, text: str, name: str) -> Issue:
     pos = max(0, min(int(exc.position), len(text)))
     line = text.count("\n", 0, pos) + 1
     col = pos - (text.rfind("\n", 0, pos) + 1) + 1
-    char = exc.character
-    code = ord(char) if isinstance(char, str) else int(char[0]) if char else 0
+    char = exc.character  # PyYAML gives the code point (an int); bytes or text otherwise
+    code = (char if isinstance(char, int) else ord(char[:1]) if isinstance(char, str) and char
+            else char[0] if isinstance(char, bytes) and char else 0)
     return Issue(name, line, col, "", f"the character #x{code:04x} is not allowed in a YAML "
                  "file (control characters other than tab and newline are not); remove it")

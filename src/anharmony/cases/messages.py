@@ -161,7 +161,9 @@ def message(err: Mapping[str, Any], root: type[BaseModel]) -> str:
         return (f"must be one of {', '.join(names)}; {got(value)}"
                 + (suggest(value, names) if isinstance(value, str) else ""))
     if kind in _BOUNDS:
-        return f"must be {_BOUNDS[kind]} {next(iter(ctx.values()))}; {got(value)}"
+        bound = next(iter(ctx.values()))
+        bound = f"{bound:g}" if isinstance(bound, float) else bound
+        return f"must be {_BOUNDS[kind]} {bound}; {got(value)}"
     if kind == "too_short":
         return f"must have at least {ctx.get('min_length')} entries; got {len(value or [])}"
     if kind == "too_long":

@@ -122,10 +122,16 @@ Positive = Annotated[float, Field(gt=0)]
 Auto = Literal["auto"]
 
 
+#: Masses accepted, in the unit system's mass unit: from an electron in u (5.5e-4) to a
+#: levitated nanoparticle (about 1e10 u), with room on both sides; beyond them ħ²/2m leaves
+#: the range where the kinetic energy is meaningful in the system's units.
+MASS_RANGE = (1e-15, 1e15)
+
+
 class Particle(_Strict):
     """``particle:`` the mass in the unit system's mass unit, and an optional name."""
 
-    mass: Positive | None = None
+    mass: Annotated[float, Field(ge=MASS_RANGE[0], le=MASS_RANGE[1])] | None = None
     name: str | None = None
 
 

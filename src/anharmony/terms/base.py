@@ -43,7 +43,7 @@ from ..errors import InputError, TermError
 from ..units import UnitSystem, get_units
 
 __all__ = ["QUADRATURE_KINDS", "Context", "Term", "TermError", "arr", "center", "check_names",
-           "number", "positive", "radius", "require"]
+           "diffuseness", "number", "positive", "radius", "require"]
 
 QUADRATURE_KINDS = ("exact", "weight", "panels")
 _REGISTRY: dict[str, type[Term]] = {}  # filled by Term.__init_subclass__
@@ -95,6 +95,10 @@ def positive(term: str, params: Mapping[str, Any], name: str) -> float:
     return number(term, name, require(term, params, name), positive=True)
 
 
+MAX_MASS_NUMBER = 1000  # nucleons; common practice, no source (the heaviest known: ~300)
+MIN_SURFACE = 1e-6  # smallest diffuseness / radius of a Woods–Saxon form
+
+
 def radius(term: str, params: Mapping[str, Any], name: str = "radius") -> float:
     """A radius given directly or as r0 · A^(1/3) (common practice, no source)."""
     if name in params:
@@ -104,9 +108,23 @@ def radius(term: str, params: Mapping[str, Any], name: str = "radius") -> float:
     if "r0" in params and "mass_number" in params:
         r0 = number(term, "r0", params["r0"], positive=True)
         a = number(term, "mass_number", params["mass_number"], positive=True, integer=True)
+        if a > MAX_MASS_NUMBER:
+            raise TermError(term, "mass_number", f"must be at most {MAX_MASS_NUMBER}; got "
+                            f"{params['mass_number']!r} (the heaviest nuclei known have about "
+                            "300 nucleons)")
         return r0 * a ** (1.0 / 3.0)
     missing = "mass_number" if "r0" in params else "r0" if "mass_number" in params else name
     raise TermError(term, missing, f"is required (give {name}, or r0 with mass_number)")
+
+
+def diffuseness(term: str, params: Mapping[str, Any], radius_: float) -> float:
+    """The surface diffuseness a > 0 of a Woods–Saxon form, at least MIN_SURFACE · R."""
+    a = positive(term, params, "diffuseness")
+    if a < MIN_SURFACE * radius_:
+        raise TermError(term, "diffuseness", f"must be at least {MIN_SURFACE:g} times the "
+                        f"radius ({MIN_SURFACE * radius_:.3g}); got {params['diffuseness']!r}: "
+                        "a surface this sharp is a step no oscillator basis resolves")
+    return a
 
 
 def center(term: str, params: Mapping[str, Any]) -> float:

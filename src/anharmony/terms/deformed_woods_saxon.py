@@ -16,7 +16,7 @@ from typing import ClassVar
 
 import numpy as np
 
-from .base import number, positive, radius
+from .base import diffuseness, number, positive, radius
 from .noncentral import GeometryTerm
 
 __all__ = ["DeformedWoodsSaxon"]
@@ -44,8 +44,9 @@ class DeformedWoodsSaxon(GeometryTerm):
 
     @classmethod
     def _build(cls, p, ctx):
-        return cls(depth=positive(cls.kind, p, "depth"), radius=radius(cls.kind, p),
-                   diffuseness=positive(cls.kind, p, "diffuseness"),
+        big_r = radius(cls.kind, p)
+        return cls(depth=positive(cls.kind, p, "depth"), radius=big_r,
+                   diffuseness=diffuseness(cls.kind, p, big_r),
                    beta2=number(cls.kind, "beta2", p.get("beta2", 0.0)),
                    beta4=number(cls.kind, "beta4", p.get("beta4", 0.0)))
 

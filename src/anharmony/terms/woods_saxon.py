@@ -13,7 +13,7 @@ import numpy as np
 from scipy.special import expit
 
 from ..errors import InputError
-from .base import Term, arr, number, positive, radius, require
+from .base import Term, arr, diffuseness, number, positive, radius, require
 
 __all__ = ["SpinOrbit", "WoodsSaxon"]
 
@@ -33,8 +33,8 @@ class WoodsSaxon(Term):
     @classmethod
     def _build(cls, p, ctx):
         depth = positive(cls.kind, p, "depth")
-        a = positive(cls.kind, p, "diffuseness")
-        return cls(depth=depth, radius=radius(cls.kind, p), diffuseness=a)
+        big_r = radius(cls.kind, p)
+        return cls(depth=depth, radius=big_r, diffuseness=diffuseness(cls.kind, p, big_r))
 
     def _f(self, r):
         return expit(-(arr(r) - self.radius) / self.diffuseness)  # stable 1/(1+e^{(r-R)/a})
@@ -75,9 +75,10 @@ class SpinOrbit(Term):
     @classmethod
     def _build(cls, p, ctx):
         s = number(cls.kind, "strength", require(cls.kind, p, "strength"))
-        a = positive(cls.kind, p, "diffuseness")
+        big_r = radius(cls.kind, p)
         ls = number(cls.kind, "length", p.get("length", 1.0), positive=True)
-        return cls(strength=s, radius=radius(cls.kind, p), diffuseness=a, length=ls)
+        return cls(strength=s, radius=big_r, diffuseness=diffuseness(cls.kind, p, big_r),
+                   length=ls)
 
     def _form(self, r):
         """r, the prefactor V_ls r_ls², and f′, f″, f‴ of the Woods–Saxon form."""
