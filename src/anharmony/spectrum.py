@@ -251,7 +251,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
           units: str | UnitSystem = "oscillator", mass: float | None = None, levels: int = 5,
           reference: str | Mapping[str, float] = "auto",
           tolerance: float = unset(DEFAULT_TOLERANCE), geometry: str = "central",
-          omega: int | None = None, parity: Any = None, shells: int | None = None,
+          omega: int | float | str | None = None, parity: Any = None, shells: int | None = None,
           truncation: str | None = None) -> Spectrum | GeometrySpectrum:
     """Lowest levels of one channel of a well in an oscillator basis, each with an error bar.
 

@@ -26,7 +26,9 @@ A non-central term with an ``axis`` attribute (``"x"``, ``"y"`` or ``"z"``, like
 function of that coordinate alone: ``value(x_axis)``, its ``polynomial()`` in that coordinate,
 and ``min(limits())`` as its share of the threshold; it is axial when the axis is z. When the
 shares add up to ∞ − ∞ the threshold is found by probing V far out in 26 directions.
-Spin–orbit terms are refused here (the deformed spin–orbit term is not implemented yet).
+Spin–orbit terms (``spin_orbit`` and ``deformed_spin_orbit``) enter the axial geometry only,
+through ``gradient_axial(rho, z)`` (:mod:`anharmony.geometry.spin`); they are left out of the
+potential sums below.
 """
 
 from __future__ import annotations
@@ -73,8 +75,10 @@ def check_terms(well, dimension: int, geometry: str) -> None:
     for i, t in enumerate(well.terms):
         where = f"well[{i}].{t.kind}"
         if getattr(t, "spin_orbit", False):
-            raise InputError(f"{where}: spin-orbit terms are not available in the {geometry} "
-                             "geometry yet; solve spherical wells with anharmony.solve(..., j=)")
+            if geometry != "axial" or not hasattr(t, "gradient_axial"):
+                raise InputError(f"{where}: spin-orbit terms need the axial geometry (Ω "
+                                 "blocks with spin 1/2); the Cartesian basis has no spin")
+            continue
         if is_central(t):
             if getattr(t, "center", 0.0) != 0.0:
                 raise InputError(f"{where}.center: a central term in {dimension}D must be "
@@ -106,6 +110,8 @@ def cartesian_value(well, coords: Sequence[np.ndarray]) -> np.ndarray:
     out = np.zeros(np.broadcast_shapes(*(c.shape for c in coords)))
     r = None
     for t in well.terms:
+        if getattr(t, "spin_orbit", False):
+            continue
         if hasattr(t, "value_cartesian"):
             out = out + t.value_cartesian(*coords)
         elif axis_of(t) is not None:
@@ -118,10 +124,12 @@ def cartesian_value(well, coords: Sequence[np.ndarray]) -> np.ndarray:
 
 
 def axial_value(well, rho: np.ndarray, z: np.ndarray) -> np.ndarray:
-    """Sum of the terms at cylindrical points (every term symmetric about z)."""
+    """Sum of the terms (spin–orbit excluded) at cylindrical points (symmetric about z)."""
     rho, z = np.asarray(rho, dtype=float), np.asarray(z, dtype=float)
     out = np.zeros(np.broadcast_shapes(rho.shape, z.shape))
     for t in well.terms:
+        if getattr(t, "spin_orbit", False):
+            continue
         if hasattr(t, "value_axial"):
             out = out + t.value_axial(rho, z)
         elif axis_of(t) is not None:

@@ -35,6 +35,7 @@ from .potential import (
     needs_panels,
     reflection_symmetric,
 )
+from .spin import has_spin, so_diagonal, so_off_diagonal
 
 __all__ = ["GEOMETRIES", "GeometrySpectrum", "solve_geometry", "trap_frequencies"]
 
@@ -57,18 +58,20 @@ class GeometrySpectrum:
         Below the continuum threshold.
     labels : list of str
         Cartesian: the dominant quanta ``(n_x,n_y,n_z)``; axial: ``Ω^π[N n_z Λ]`` with the
-        dominant asymptotic quantum numbers (π left out when parity is not conserved).
+        dominant asymptotic quantum numbers (π left out when parity is not conserved; Ω
+        written ``1/2``, ``3/2`` … with spin).
     blocks : list of tuple
         The block of each level: per-axis parities (0 even, 1 odd, None) in the Cartesian
-        basis, (Λ, π or None) in the axial one.
+        basis, (Ω, π or None) in the axial one (Ω = Λ without spin, a half-integer float
+        with it).
     error_estimate : ndarray
         |E(N_max) − E(N_max − 2)| for the same level of the same block (``inf`` where the
         smaller basis has no such level); ``nan`` when not computed.
     vectors : ndarray
         Eigenvectors on :attr:`states`, shape (states, levels).
     states : ndarray
-        Quanta of every basis state of the requested blocks: (n_x, n_y[, n_z]) or
-        (n_ρ, Λ, n_z).
+        Quanta of every basis state of the requested blocks: (n_x, n_y[, n_z]), (n_ρ, Λ, n_z),
+        or with spin (n_ρ, Λ, n_z, 2Σ).
     """
 
     energies: np.ndarray
@@ -136,7 +139,8 @@ def _auto_lengths(well, dimension, geometry, c, levels):
     if all(is_central(t) for t in well.terms):
         from ..reference import reference_oscillator
 
-        b = reference_oscillator(well, dimension, 0, None, min(levels, 5)).length
+        b = reference_oscillator(well, dimension, 0, None, min(levels, 5),
+                                 j=0.5 if has_spin(well) else None).length
         return (b,) * (2 if geometry == "axial" else dimension), \
             (0.0,) * (1 if geometry == "axial" else dimension)
     tf = trap_frequencies_of(well, dimension, c)
@@ -174,8 +178,11 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
     geometry
         ``"cartesian"`` or ``"axial"``.
     omega
-        Axial only: the Ω block (= Λ without spin terms, an integer); ``None`` for every Λ,
-        each Λ ≠ 0 level listed for +Λ and −Λ.
+        Axial only: the Ω block; ``None`` for every block, each level listed for +Ω and −Ω
+        (Λ ≠ 0 without spin). Without spin–orbit terms Ω = Λ, an integer; with a
+        ``spin_orbit`` or ``deformed_spin_orbit`` term the particle has spin ½, Ω = Λ + Σ is a
+        half-integer (0.5 or ``"1/2"``), and each block joins Λ = Ω − ½ (spin up) and
+        Λ = Ω + ½ (spin down) (:mod:`anharmony.geometry.spin`).
     parity
         Cartesian: ``None`` (every block) or one entry per axis, +1, −1 or ``None`` (both);
         axial: ``None`` (both parities in one list), +1 or −1. A parity needs a well even
@@ -276,11 +283,13 @@ def _warn_unconverged(energies, err, labels, bound, shells) -> None:
 def _label(geometry, key, quanta):
     if geometry == "cartesian":
         return "(" + ",".join(str(int(n)) for n in quanta) + ")"
-    n_rho, lam, n_z = (int(v) for v in quanta)
+    n_rho, lam, n_z = (int(v) for v in quanta[:3])
     big_n = 2 * n_rho + abs(lam) + n_z
     pi = key[1]
     sign = "" if pi is None else ("+" if pi > 0 else "-")
-    return f"{key[0]}{sign}[{big_n}{n_z}{abs(lam)}]"
+    om = key[0]
+    shown = str(om) if float(om).is_integer() else f"{round(2 * om)}/2"
+    return f"{shown}{sign}[{big_n}{n_z}{abs(lam)}]"
 
 
 def _diagonalise(h, levels):
@@ -291,6 +300,8 @@ def _split(well, polynomial_of):
     """The polynomial terms summed (exact matrices), a well of the rest, and its rule kind."""
     exact, rest = {}, []
     for t in well.terms:
+        if getattr(t, "spin_orbit", False):  # enters through geometry.spin, not V
+            continue
         poly = polynomial_of(t)
         if poly is None:
             rest.append(t)
@@ -358,10 +369,14 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
         if not even:
             raise InputError(f"parity: the well is not even in z about z = {cz}, so parity is "
                              "not conserved; use parity=None")
-    if omega is not None and (isinstance(omega, bool) or not isinstance(omega, (int, np.integer))):
-        raise InputError(f"omega: without spin terms Ω = Λ, an integer; got {omega!r}")
-    lams = [int(omega)] if omega is not None else list(range(int(shells // weights[0]) + 1))
+    spin = has_spin(well)
+    omega = _check_omega(omega, spin)
     exact, rest_well, kind = _split(well, axial_polynomial)
+    top = int(shells // weights[0])
+    if spin:
+        return _omega_blocks(well, b, cz, shells, weights, parity, omega, c, levels, even,
+                             exact, rest_well, kind, top)
+    lams = [int(omega)] if omega is not None else list(range(top + 1))
     out = {}
     for lam in lams:
         st = axial_states(shells, lam, weights)
@@ -385,4 +400,91 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
                 f = full.copy()
                 f[:, 1] = s
                 out[(s, pi)] = (e, v, f)
+    return out
+
+
+def _check_omega(omega, spin):
+    """Ω as given: an integer Λ without spin terms, a half-integer (0.5 or "1/2") with them."""
+    if omega is None:
+        return None
+    if not spin:
+        if isinstance(omega, bool) or not isinstance(omega, (int, np.integer)):
+            raise InputError(f"omega: without spin terms Ω = Λ, an integer; got {omega!r}")
+        return int(omega)
+    from ..hamiltonian import parse_j
+
+    try:
+        value = parse_j(omega)
+    except (InputError, ValueError, TypeError):
+        value = None
+    if value is None or (2.0 * value) % 2.0 != 1.0:
+        raise InputError(f"omega: with spin-orbit terms Ω = Λ + Σ is a half-integer (0.5, "
+                         f"'3/2', …); got {omega!r}")
+    return value
+
+
+def _block_matrix(well, basis, idx, c, exact, rest_well, kind):
+    """Kinetic energy and potential of one Λ on the states ``idx`` (no spin–orbit)."""
+    h = basis.kinetic(idx, c) + basis.polynomial(exact, idx)
+    if rest_well is not None:
+        h = h + basis.quadrature(lambda r, z: axial_value(rest_well, r, z), idx, kind=kind)
+    return h
+
+
+def _omega_blocks(well, b, cz, shells, weights, parity, omega, c, levels, even, exact,
+                  rest_well, kind, top):
+    """The Ω^π blocks of a well with spin–orbit terms (:mod:`anharmony.geometry.spin`).
+
+    Block Ω > 0 joins |Λ = Ω − ½, ↑⟩ (part A) and |Λ = Ω + ½, ↓⟩ (part B); its levels are also
+    listed for −Ω (Kramers). States are (n_ρ, Λ, n_z, 2Σ). The matrices of one (Λ, π) serve
+    two blocks (as part A of Ω = Λ + ½ and part B of Ω = Λ − ½), so they are built once.
+    """
+    omegas = [abs(omega)] if omega is not None else [k + 0.5 for k in range(top + 1)]
+    parities = (1, -1) if even else (None,)
+    bases: dict[int, tuple[AxialBasis, np.ndarray]] = {}
+    parts: dict[tuple[int, Any], tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
+
+    def basis_of(lam):
+        if lam not in bases:
+            st = axial_states(shells, lam, weights)
+            bases[lam] = (AxialBasis(st, lam, b, cz), axial_parity(lam, st[:, 1]))
+        return bases[lam]
+
+    def part(lam, pi):
+        """States of (Λ, π), their H without spin–orbit, and Λ⟨C f_ρ/ρ⟩ (times Σ later)."""
+        if (lam, pi) not in parts:
+            basis, pis = basis_of(lam)
+            idx = np.flatnonzero(pis == pi) if pi is not None else np.arange(basis.size)
+            h = _block_matrix(well, basis, idx, c, exact, rest_well, kind) if len(idx) else \
+                np.zeros((0, 0))
+            d = so_diagonal(well, basis, idx, 1.0) if len(idx) else np.zeros((0, 0))
+            parts[(lam, pi)] = (idx, h, d)
+        return parts[(lam, pi)]
+
+    out = {}
+    for om in omegas:
+        lam_a = int(om - 0.5)
+        for pi in parities:
+            if parity is not None and pi != parity:
+                continue
+            ia, h_a, d_a = part(lam_a, pi)
+            ib, h_b, d_b = part(lam_a + 1, pi)
+            if len(ia) + len(ib) == 0:
+                continue
+            v = so_off_diagonal(well, basis_of(lam_a)[0], basis_of(lam_a + 1)[0], ia, ib)
+            h = np.block([[h_a + 0.5 * d_a, v], [v.T, h_b - 0.5 * d_b]])
+            e, vec = _diagonalise(h, levels)
+            st_a, st_b = basis_of(lam_a)[0].states, basis_of(lam_a + 1)[0].states
+            full = np.vstack([
+                np.column_stack([st_a[ia, 0], np.full(len(ia), lam_a), st_a[ia, 1],
+                                 np.full(len(ia), 1)]).reshape(-1, 4),
+                np.column_stack([st_b[ib, 0], np.full(len(ib), lam_a + 1), st_b[ib, 1],
+                                 np.full(len(ib), -1)]).reshape(-1, 4)])
+            for sign in (1, -1):
+                if omega is not None and np.sign(omega) != sign:  # only the Ω asked for
+                    continue
+                f = full.copy()
+                f[:, 1] *= sign
+                f[:, 3] *= sign
+                out[(sign * om, pi)] = (e, vec, f)
     return out

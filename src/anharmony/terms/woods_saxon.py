@@ -80,6 +80,16 @@ class SpinOrbit(Term):
         return cls(strength=s, radius=big_r, diffuseness=diffuseness(cls.kind, p, big_r),
                    length=ls)
 
+    def gradient_axial(self, rho, z):
+        """C f_ρ, C f_z and C f_ρ/ρ of the spherical form at cylindrical points (C = V_ls r_ls²):
+        ∇f = f′(r) r̂, so f_ρ = f′ ρ/r, f_z = f′ z/r, f_ρ/ρ = f′/r (axial geometry, spin ½)."""
+        rho, z = np.asarray(rho, dtype=float), np.asarray(z, dtype=float)
+        r = np.hypot(rho, z)
+        _, pre, f1, _, _ = self._form(r)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            over_r = np.where(r > 0.0, pre * f1 / np.where(r > 0.0, r, 1.0), 0.0)
+        return over_r * rho, over_r * z, over_r
+
     def _form(self, r):
         """r, the prefactor V_ls r_ls², and f′, f″, f‴ of the Woods–Saxon form."""
         r = arr(r)
