@@ -1,6 +1,7 @@
 """Wells without spherical symmetry: Cartesian and axial oscillator bases (DESIGN §10).
 
 Public names: :func:`solve_geometry`, :func:`trap_frequencies`, :class:`GeometrySpectrum`,
+:func:`degenerate_series` (degenerate perturbation theory, :class:`DegenerateSeries`),
 :class:`CartesianBasis`, :class:`AxialBasis`, and (re-exported from :mod:`anharmony.terms`) the
 non-central terms :class:`AnisotropicHarmonic` and :class:`FocusedBeam`. How terms enter: see
 :mod:`anharmony.geometry.potential`.
@@ -12,8 +13,10 @@ from ..terms.anisotropic_harmonic import AnisotropicHarmonic
 from ..terms.focused_beam import FocusedBeam
 from .axial import AxialBasis
 from .cartesian import CartesianBasis
+from .degenerate import DegenerateSeries, degenerate_series
 from .frequencies import TrapFrequencies
 from .solve import GEOMETRIES, GeometrySpectrum, solve_geometry, trap_frequencies
 
-__all__ = ["GEOMETRIES", "AnisotropicHarmonic", "AxialBasis", "CartesianBasis", "FocusedBeam",
-           "GeometrySpectrum", "TrapFrequencies", "solve_geometry", "trap_frequencies"]
+__all__ = ["GEOMETRIES", "AnisotropicHarmonic", "AxialBasis", "CartesianBasis",
+           "DegenerateSeries", "FocusedBeam", "GeometrySpectrum", "TrapFrequencies",
+           "degenerate_series", "solve_geometry", "trap_frequencies"]
