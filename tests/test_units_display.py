@@ -157,6 +157,17 @@ def test_show_converts_every_energy_column(trap_file, capsys):
     assert code == 2 and "--units: 'MeV'" in err and "Hz" in err
 
 
+def test_the_convergence_tolerance_is_shown_in_the_display_units(trap_file, capsys):
+    # the `conv` column compares the error with the tolerance: both in the same unit on screen
+    import xarray as xr
+
+    tol = float(xr.load_dataset(trap_file).attrs["tolerance"])  # in h·kHz
+    _, out_khz, _ = _run(capsys, "show", str(trap_file))
+    _, out_hz, _ = _run(capsys, "show", "--units", "Hz", str(trap_file))
+    assert f"converged = error below {tol:g} h·kHz" in out_khz
+    assert f"converged = error below {tol * 1e3:g} h·Hz" in out_hz  # SI prefix kilo
+
+
 # =========================================================================== show details
 def test_show_says_how_many_scan_points_it_hides(trap_file, capsys):
     code, out, _ = _run(capsys, "show", str(trap_file))

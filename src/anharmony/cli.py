@@ -436,7 +436,8 @@ def _cmd_show(args: argparse.Namespace) -> int:
               "operating hardware (see the README's caution)")
     print(f"  from {a.get('case_file', '?')}; {a.get('source', '')}; {a.get('history', '')}")
     if "convergence" in a:
-        print(f"  convergence: {a['convergence']}; converged = error below {tol:g}")
+        print(f"  convergence: {a['convergence']}; converged = error below {tol * scale:g}"
+              f"{_unit_suffix(symbol)}")
     param = ds.scan_value.attrs.get("parameter", "coupling")
     p_symbol = _symbol(ds.scan_value.attrs, a.get("unit_system"))
     b_symbol = _symbol(ds.length.attrs, a.get("unit_system"), "length")
