@@ -68,17 +68,28 @@ def test_level_labels_follow_the_unit_system(l, j, nuclear, atomic):
     assert level_label(3, l, j, 0, units="nuclear") == nuclear
     assert level_label(3, l, j, 0, units=ah.get_units("nuclear")) == nuclear
     assert Channel(3, l, j).level_label(0, units="nuclear") == nuclear
-    for system in ("oscillator", "molecular", "trap", "dot", "atomic"):
+    for system in ("oscillator", "molecular", "trap", "dot", "atomic"):  # j given: n l j
         assert level_label(3, l, j, 0, units=system) == atomic
     assert level_label(3, l, j, 0) == atomic  # callers without a unit system: atomic
 
 
 def test_unit_systems_name_their_convention():
-    # Nuclear units use the shell-model letters, every other system the atomic ones (our
-    # choice of which trade each system serves; DESIGN §5).
+    # Nuclear units use the shell-model letters, molecular units the spectroscopist's v, J,
+    # every other system the atomic letters (our choice of which trade each system serves;
+    # DESIGN §5).
     conventions = {name: s.label_convention for name, s in ah.SYSTEMS.items()}
     assert conventions.pop("nuclear") == "nuclear"
+    assert conventions.pop("molecular") == "molecular"
     assert set(conventions.values()) == {"atomic"}
+
+
+def test_molecular_units_label_radial_levels_by_v_and_j():
+    # the radial channel l = J of a rotating diatomic: level n is the vibrational v
+    # (common practice, no source); with spin (j given) the atomic n l j labels stay
+    assert level_label(3, 2, None, 0, units="molecular") == "v=0, J=2"
+    assert channel_label(3, 4, None, units="molecular") == "J=4"
+    assert level_label(3, 2, 2.5, 0, units="molecular") == "1d5/2"
+    assert level_label(1, 0, None, 3, units="molecular") == "v=6"
 
 
 def test_an_explicit_convention_overrides_the_unit_system():
@@ -106,6 +117,6 @@ def test_beyond_the_letters_the_label_names_l():
 
 
 def test_unknown_convention_is_refused_naming_the_argument():
-    with pytest.raises(InputError, match=r"convention: must be one of 'atomic', 'nuclear'; "
+    with pytest.raises(InputError, match=r"convention: must be one of 'atomic', 'nuclear', 'molecular'; "
                                          r"got 'spectroscopic'"):
         level_label(3, 2, 2.5, 0, convention="spectroscopic")

@@ -9,9 +9,13 @@ alphabet onwards. The two trades differ from l = 7 on:
   ``s p d f g h i j k l m n o …`` (l = 7 is ``j``, the orbit ``1j15/2``).
 
 Both skip the letters already taken (p, s) after o; beyond the last letter the label is
-``[l=N]``. A unit system names its convention (:attr:`anharmony.units.UnitSystem.label_convention`:
-``nuclear`` units use the nuclear letters, every other system the atomic ones), so the label
-functions take ``units=`` and follow it; ``convention=`` overrides it.
+``[l=N]``. A third convention, **molecular**, is the spectroscopist's for the radial channel
+l = J of a rotating diatomic: channels ``J=2``, levels ``v=0, J=2`` (the vibrational quantum
+number v is the radial index; common practice, no source); its orbital letters, where asked
+for, are the atomic ones. A unit system names its convention
+(:attr:`anharmony.units.UnitSystem.label_convention`: ``nuclear`` units use the nuclear
+letters, ``molecular`` units the molecular labels, every other system the atomic ones), so the
+label functions take ``units=`` and follow it; ``convention=`` overrides it.
 """
 
 from __future__ import annotations
@@ -35,7 +39,7 @@ __all__ = [
 ATOMIC_LETTERS = "spdfghiklmnoqrtuvwxyz"  # j skipped after i (Condon & Shortley; NIST)
 NUCLEAR_LETTERS = "spdfghijklmnoqrtuvwxyz"  # j kept after i (shell-model orbits, 1j15/2)
 L_LETTERS = ATOMIC_LETTERS  # the default sequence, under its earlier name
-_LETTERS = {"atomic": ATOMIC_LETTERS, "nuclear": NUCLEAR_LETTERS}
+_LETTERS = {"atomic": ATOMIC_LETTERS, "nuclear": NUCLEAR_LETTERS, "molecular": ATOMIC_LETTERS}
 CONVENTIONS = tuple(_LETTERS)
 
 
@@ -83,6 +87,8 @@ def channel_label(dimension: int, l: int | None, j: float | None = None, *,
         return ("even", "odd")[l]
     if dimension == 2:
         return f"m={l}"
+    if label_convention(convention, units) == "molecular" and j is None:
+        return f"J={l}"
     return orbital_letter(l, convention, units) + _spin(j)
 
 
@@ -97,6 +103,8 @@ def level_label(dimension: int, l: int, j: float | None, n: int, *,
     v = n without symmetry, l = −1).
     """
     if dimension == 3:
+        if label_convention(convention, units) == "molecular" and j is None:
+            return f"v={n}, J={l}"
         return f"{n + 1}{orbital_letter(l, convention, units)}{_spin(j)}"
     if dimension == 2:
         return f"n={n}, |m|={l}"

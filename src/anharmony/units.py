@@ -137,6 +137,7 @@ SYSTEMS: dict[str, UnitSystem] = {
         "molecular", "cm-1", "angstrom", "u", _WAVENUMBER, _ANGSTROM, _U, 1.0,
         "1 u (give the reduced mass)", "energy as wavenumber in cm-1", "length in angstrom",
         energy_note="energy divided by h*c: the wavenumber E/(hc)",
+        label_convention="molecular",
     ),
     "trap": UnitSystem(
         "trap", "kHz", "um", "u", _H_KHZ, _MICRON, _U, 1.0,
