@@ -39,6 +39,20 @@ def test_3d_oscillator_closed_shells_are_2_8_20_40_70():
     assert res.rms_radius == pytest.approx(1.5, rel=RTOL_EXACT)
 
 
+def test_the_table_prints_the_filling_it_describes():
+    # the 3D oscillator at N = 8 (textbook shells, as above): the printed read-outs are the
+    # numbers of the ShellFilling, one line per level
+    res = fill_shells(oscillator_channels(3, 6), particles=8)
+    lines = res.table()
+    assert len(lines) == 1 + len(res.levels) + 3
+    assert f"Fermi level {res.fermi_energy:.6f}" in lines[-3] and "closed shell" in lines[-3]
+    assert f"gap above it {res.gap:.4f}" in lines[-3]
+    assert f"{res.rms_radius:.4f}" in lines[-2]
+    assert lines[-1].endswith(", ".join(str(n) for n in res.magic_numbers(6)))
+    occupied = [float(line.split()[3]) for line in lines[1:1 + len(res.levels)]]
+    assert sum(occupied) == 8
+
+
 def test_spin_orbit_channels_hold_2j_plus_1_and_give_the_same_oscillator_shells():
     # Without a spin–orbit term the j = l ± ½ channels are degenerate: 2j+1 + 2j'+1 = 2(2l+1).
     res = fill_shells(oscillator_channels(3, 4, spin_orbit=True), particles=20)

@@ -18,6 +18,7 @@ asking for more particles than the bound levels hold is refused.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -78,6 +79,25 @@ class ShellFilling:
     rms_radius: float
     energy_unit: str
     length_unit: str
+
+    def table(self) -> list[str]:
+        """The filling as printable lines: each level with its occupancy, then the read-outs."""
+        from .units import units_symbol
+
+        e = units_symbol(self.energy_unit, None, "energy") or self.energy_unit
+        r = units_symbol(self.length_unit, None, "length") or self.length_unit
+        lines = [f"{'level':>10} {'energy (' + e + ')':>16} {'2j+1':>5} {'occupied':>9} "
+                 f"{'rms radius (' + r + ')':>18}"]
+        for lv in self.levels:
+            lines.append(f"{lv.label:>10} {lv.energy:16.6f} {lv.degeneracy:5d} "
+                         f"{lv.occupancy:9g} {lv.rms_radius:18.4f}")
+        shell = "closed" if self.closed else "open"
+        gap = f"{self.gap:.4f} {e}" if math.isfinite(self.gap) else "none"
+        lines += [f"{self.particles} particles: Fermi level {self.fermi_energy:.6f} {e} "
+                  f"({shell} shell), gap above it {gap}",
+                  f"rms radius of the filled orbitals {self.rms_radius:.4f} {r}",
+                  "largest gaps above N = " + ", ".join(str(n) for n in self.magic_numbers(6))]
+        return lines
 
     def magic_numbers(self, count: int) -> list[int]:
         """The ``count`` particle numbers with the largest gaps above them, ascending."""
