@@ -144,3 +144,23 @@ def test_omega_must_be_a_half_integer_with_spin_and_cartesian_refuses_spin():
     well = ah.Well.from_terms(terms, "nuclear")
     with pytest.raises(InputError, match="axial geometry"):
         solve_geometry(well, 3, geometry="cartesian", shells=4, units="nuclear")
+
+
+@pytest.mark.slow
+def test_a_deformed_nucleus_takes_its_default_lengths_from_its_spherical_counterpart():
+    # a deformed Woods–Saxon surface has no useful curvature at the centre (the Hessian there
+    # once gave b_perp = 0.25 fm and levels 40 MeV above the threshold); the default is the
+    # reference oscillator of the β = 0 well, and its error bars hold against a larger basis
+    beta = {"beta2": 0.2}
+    terms = [{"deformed_woods_saxon": {**WS, **beta}}, {"deformed_spin_orbit": {**SO, **beta}}]
+    well = ah.Well.from_terms(terms, "nuclear")
+    spherical = ah.Well.from_terms([{"woods_saxon": WS}, {"spin_orbit": SO}], "nuclear")
+    b0 = ah.reference_oscillator(spherical, 3, 0, levels=5, j=0.5).length
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ah.ConvergenceWarning)
+        small = solve_geometry(well, 3, geometry="axial", shells=8, units="nuclear", levels=8)
+        large = solve_geometry(well, 3, geometry="axial", shells=12, units="nuclear", levels=8,
+                               lengths=small.lengths, error_estimate=False)
+    assert small.lengths == pytest.approx((b0, b0), rel=1e-12)
+    assert np.all(small.bound) and small.energies[0] < -30.0  # MeV: the 1s1/2 of A = 40
+    assert np.all(np.abs(small.energies - large.energies) <= small.error_estimate)

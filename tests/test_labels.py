@@ -117,6 +117,6 @@ def test_beyond_the_letters_the_label_names_l():
 
 
 def test_unknown_convention_is_refused_naming_the_argument():
-    with pytest.raises(InputError, match=r"convention: must be one of 'atomic', 'nuclear', 'molecular'; "
-                                         r"got 'spectroscopic'"):
+    with pytest.raises(InputError, match=r"convention: must be one of 'atomic', 'nuclear', "
+                                         r"'molecular'; got 'spectroscopic'"):
         level_label(3, 2, 2.5, 0, convention="spectroscopic")

@@ -135,11 +135,15 @@ def trap_frequencies(well: Well, dimension: int = 3, *, units: str | UnitSystem 
 
 
 def _auto_lengths(well, dimension, geometry, c, levels):
-    """Basis lengths and centres: the reference oscillator (central wells) or the Hessian."""
-    if all(is_central(t) for t in well.terms):
+    """Basis lengths and centres: the reference oscillator of the well, or of its spherical
+    counterpart (deformed terms declare ``spherical()``: a deformed Woods–Saxon surface has
+    no useful curvature at the centre), else the Hessian at the minimum."""
+    if all(is_central(t) or hasattr(t, "spherical") for t in well.terms):
         from ..reference import reference_oscillator
 
-        b = reference_oscillator(well, dimension, 0, None, min(levels, 5),
+        central = [t if is_central(t) else t.spherical() for t in well.terms]
+        round_well = Well(terms=tuple(central), units=well.units, mass=well.mass)
+        b = reference_oscillator(round_well, dimension, 0, None, min(levels, 5),
                                  j=0.5 if has_spin(well) else None).length
         return (b,) * (2 if geometry == "axial" else dimension), \
             (0.0,) * (1 if geometry == "axial" else dimension)

@@ -59,6 +59,13 @@ class DeformedSpinOrbit(GeometryTerm):
     def is_axial(self) -> bool:
         return True
 
+    def spherical(self):
+        """The undeformed term: ``spin_orbit`` with the same V_ls, R₀, a, r_ls."""
+        from .woods_saxon import SpinOrbit
+
+        return SpinOrbit(strength=self.strength, radius=self.radius,
+                         diffuseness=self.diffuseness, length=self.length)
+
     def gradient_axial(self, rho, z):
         """C f_ρ, C f_z and C f_ρ/ρ at cylindrical points (C = V_ls r_ls²)."""
         rho, z = np.asarray(rho, dtype=float), np.asarray(z, dtype=float)

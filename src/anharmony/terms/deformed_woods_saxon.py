@@ -53,6 +53,14 @@ class DeformedWoodsSaxon(GeometryTerm):
     def is_axial(self) -> bool:
         return True
 
+    def spherical(self):
+        """The undeformed term (β₂ = β₄ = 0): ``woods_saxon`` with the same V₀, R₀, a; the
+        geometries choose their default basis length from it (a deformed surface has no
+        useful curvature at the centre)."""
+        from .woods_saxon import WoodsSaxon
+
+        return WoodsSaxon(depth=self.depth, radius=self.radius, diffuseness=self.diffuseness)
+
     def value_axial(self, rho, z):
         rho, z = np.asarray(rho, dtype=float), np.asarray(z, dtype=float)
         r = np.hypot(rho, z)
