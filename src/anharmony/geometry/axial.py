@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 import numpy as np
 
@@ -23,6 +23,17 @@ from ..basis import HermiteBasis, RadialBasis
 from .cartesian import PANEL_RTOL, QUADRATURE_RTOL, contract_first_axis, settle
 
 __all__ = ["AxialBasis"]
+
+
+@lru_cache(maxsize=256)
+def _rule(basis: RadialBasis | HermiteBasis, points: int, kind: str, breaks: tuple
+          ) -> tuple[np.ndarray, np.ndarray]:
+    """The 1D rule of a factor basis (frozen, hence a safe key): the settle loop, both parity
+    blocks and the potential and spin–orbit integrals of one Λ ask for the same rules."""
+    nodes, u = basis.quadrature(points, kind, breaks)
+    nodes.setflags(write=False)
+    u.setflags(write=False)
+    return nodes, u
 
 
 class AxialBasis:
@@ -119,8 +130,8 @@ class AxialBasis:
 
     def _quad(self, f, idx, points, kind="weight"):
         breaks = (0.0,) if kind == "panels" else ()
-        rho, ur = self.radial.quadrature(int(points[0]), kind)
-        z, uz = self.axis.quadrature(int(points[1]), kind, breaks)
+        rho, ur = _rule(self.radial, int(points[0]), kind, ())
+        z, uz = _rule(self.axis, int(points[1]), kind, breaks)
         with np.errstate(over="ignore", invalid="ignore"):
             v = np.broadcast_to(np.asarray(f(rho[:, None], z[None, :]), dtype=float),
                                 (len(rho), len(z)))
