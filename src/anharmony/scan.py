@@ -501,9 +501,9 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     if not isinstance(error_estimate, bool):
         raise InputError(f"error_estimate: must be True or False; got {error_estimate!r}")
     t = _target(well, parameter)
-    if t.coupling:
-        _refuse_term_orders(well)
     vals = _values(values)
+    if t.coupling and np.any(vals != 1.0):  # λ = 1 is the physical well, whatever the orders
+        _refuse_term_orders(well)
     radial = channel.l is not None
     wells = ([well] * len(vals) if t.coupling  # one basis for every λ: the physical well's
              else [set_parameter(well, _path(t), float(v)) for v in vals])

@@ -39,10 +39,10 @@ __all__ = [
     "exact_field",
     "hermite_bands",
     "radial_bands",
+    "reach",
     "rs_exact_1d",
     "rs_exact_banded",
     "rs_exact_radial",
-    "reach",
 ]
 
 try:  # optional speed-up; everything works with fractions.Fraction alone
