@@ -128,6 +128,20 @@ def test_the_quartic_at_second_order_is_bender_wu_in_lambda_squared():
     assert ser.term_orders == (1, 2)
 
 
+def test_radial_quartic_at_second_order_is_the_first_order_series_in_lambda_squared():
+    # exact identity (common practice, no source): W₁ = 0, W₂ = g r⁴ makes E(λ) = E_g(λ²);
+    # the plain series of the same 3D channel is the reference, itself checked in
+    # test_series_exact against Bender–Wu and sympy
+    ordered = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                                  {"power": {"exponent": 4, "strength": 0.2, "order": 2}}])
+    plain = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                                {"power": {"exponent": 4, "strength": 0.2}}])
+    a = ah.series(ordered, 3, 1, level=1, orders=8, reference={"frequency": 1.0}, exact=True)
+    b = ah.series(plain, 3, 1, level=1, orders=4, reference={"frequency": 1.0}, exact=True)
+    assert a.exact[0::2] == b.exact and a.exact[1::2] == [0, 0, 0, 0]
+    assert a.basis_size == 1 + 4 * 2 + 1  # reach 8: four W₂ of width 2 (t² = r⁴) in 8 orders
+
+
 # --------------------------------------------------------------------------- Morse and Dunham
 @pytest.mark.parametrize("level", range(5))
 def test_morse_taylor_at_second_order_gives_the_exact_morse_term_values(level):
