@@ -299,7 +299,8 @@ def rs_exact_banded(
         powers = [j for j in band_arrays if j <= k]
         big_d = dens[k - 1]  # Σ_j W'_j ψ_{k-j} over the common denominator D
         for j in powers:
-            big_d = lcm(big_d, dens[k - j])
+            if j != 1:
+                big_d = lcm(big_d, dens[k - j])
         u = np.empty(r1 - r0, dtype=object)
         u.fill(zero)
         for j in powers:
@@ -310,8 +311,7 @@ def rs_exact_banded(
                 a0, a1 = max(r0, lo - off), min(r1, hi - off)
                 if a1 > a0:
                     uj[a0 - r0 : a1 - r0] += b[a0:a1] * prev[a0 + off : a1 + off]
-            factor = big_d // dens[k - j]
-            u += uj if factor == 1 else uj * factor
+            u += uj if big_d is dens[k - j] else uj * (big_d // dens[k - j])
         num, den = u[level - r0], big_d  # E'_k = Σ_j (W'_j ψ_{k-j})_n
         common = gcd(num, den)
         e_num.append(num // common)
