@@ -64,6 +64,9 @@ class Well:
                    units: str | UnitSystem = "oscillator", mass: float | None = None) -> Well:
         """Build a well from ``[{"harmonic": {...}}, {"power": {...}}, …]``.
 
+        Besides its own parameters every term takes the generic key ``order``, its
+        perturbation order (:attr:`Term.order`, default 1; see :mod:`anharmony.terms.base`).
+
         Raises
         ------
         TermError
