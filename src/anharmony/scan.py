@@ -127,6 +127,17 @@ def _reference_well(well: Well, ref: Reference, radial: bool) -> Well:
     return Well.from_terms(terms, well.units, well.mass)
 
 
+def _refuse_term_orders(well: Well) -> None:
+    """A coupling scan follows H_ref + λ (H − H_ref): terms with an ``order`` ≠ 1 (W
+    polynomial in λ, the series' own path) are refused rather than scanned on another path."""
+    higher = [f"well[{i}].{t.kind}.order = {t.order}" for i, t in enumerate(well.terms)
+              if t.order != 1]
+    if higher:
+        raise InputError(f"scan: coupling: the scan follows H_ref + lambda (H - H_ref), with "
+                         f"every term at first order, but {', '.join(higher)}; drop the "
+                         "orders for a coupling scan, or scan a term parameter")
+
+
 def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> Well:
     """The well λ V + (1 − λ) V_ref of H_ref + λ (H − H_ref), as terms of the same kinds.
 
@@ -140,6 +151,7 @@ def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> 
     """
     if lam == 1.0:
         return well
+    _refuse_term_orders(well)
     units, mass = well.units, well.mass
     terms: list[Any] = []
     if lam != 0.0:
@@ -490,6 +502,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         raise InputError(f"error_estimate: must be True or False; got {error_estimate!r}")
     t = _target(well, parameter)
     vals = _values(values)
+    if t.coupling and np.any(vals != 1.0):  # λ = 1 is the physical well, whatever the orders
+        _refuse_term_orders(well)
     radial = channel.l is not None
     wells = ([well] * len(vals) if t.coupling  # one basis for every λ: the physical well's
              else [set_parameter(well, _path(t), float(v)) for v in vals])

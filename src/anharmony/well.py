@@ -64,6 +64,9 @@ class Well:
                    units: str | UnitSystem = "oscillator", mass: float | None = None) -> Well:
         """Build a well from ``[{"harmonic": {...}}, {"power": {...}}, …]``.
 
+        Besides its own parameters every term takes the generic key ``order``, its
+        perturbation order (:attr:`Term.order`, default 1; see :mod:`anharmony.terms.base`).
+
         Raises
         ------
         TermError
@@ -115,6 +118,28 @@ class Well:
             return self
         raw = [s if isinstance(s, Term) else {k: s} for k, s in self.specs]
         return Well.from_terms(raw, system, mass)
+
+    # perturbation orders --------------------------------------------------------------
+    @property
+    def orders(self) -> tuple[int, ...]:
+        """The perturbation order of each term (:attr:`Term.order`; 1 unless given)."""
+        return tuple(t.order for t in self.terms)
+
+    def by_order(self) -> dict[int, Well]:
+        """The terms grouped by perturbation order, ``{k: Well of the terms at order k}``.
+
+        Ascending in k; each part keeps the units, the mass and the terms' case-file specs.
+        The series (:func:`anharmony.series`) builds W_k from the part of order k; the
+        potentials of the parts add up to this well's (λ = 1 is the physical well).
+        """
+        parts: dict[int, tuple[list[Term], list[tuple[str, Any]]]] = {}
+        for t, spec in zip(self.terms, self.specs or [(t.kind, t) for t in self.terms],
+                           strict=True):
+            terms, specs = parts.setdefault(t.order, ([], []))
+            terms.append(t)
+            specs.append(spec)
+        return {k: Well(terms=tuple(ts), specs=tuple(ss), units=self.units, mass=self.mass)
+                for k, (ts, ss) in sorted(parts.items())}
 
     # central potential ----------------------------------------------------------------
     @property

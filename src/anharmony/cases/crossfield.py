@@ -157,7 +157,30 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
             target = parse_scan_path(model.scan.parameter, model.well)
         except ValueError as exc:
             out.append((("scan", "parameter"), str(exc)))
+        else:
+            out += _coupling_order_issues(model, target)
     return out, target
+
+
+def _coupling_order_issues(model: CaseModel, target: ScanTarget) -> Found:
+    """A coupling scan follows H_ref + λ(H − H_ref): terms with an ``order`` ≠ 1 (the series'
+    λ-polynomial) do not fit it away from λ = 1 (anharmony.scan refuses them as well)."""
+    if target.kind != "coupling" or model.scan is None:
+        return []
+    try:
+        if all(float(v) == 1.0 for v in model.scan.points()):
+            return []
+    except (TypeError, ValueError):  # the schema reports bad values
+        return []
+    out: Found = []
+    for i, spec in enumerate(model.well):
+        (kind, params), = spec.items()
+        order = (params or {}).get("order", 1)
+        if order != 1:
+            out.append((("well", i, kind, "order"), f"is {order}, but a coupling scan follows "
+                        "H_ref + lambda (H - H_ref) with every term at first order; drop the "
+                        "order for a coupling scan, or scan a term parameter"))
+    return out
 
 
 MIN_J_CONSTANTS = 3  # distinct J the Dunham constants need (De = -Y02 needs J(J+1) thrice)

@@ -8,6 +8,9 @@
 - :mod:`.growth`: large-order (ratio-test) analysis;
 - :mod:`.verdict`: the series against exact energies on a coupling grid;
 - :mod:`.front`: :func:`series`, the front end of DESIGN §8, and its :class:`Series` result.
+
+Both engines take a perturbation polynomial in λ, H(λ) = H₀ + Σ_k λ^k W_k (``higher=``), which
+is how terms with an ``order`` (:mod:`anharmony.terms.base`) enter the series.
 """
 
 from __future__ import annotations

@@ -3,6 +3,18 @@
 H(λ) = H_ref + λ W, with H_ref the reference oscillator (plus v_min) and W = V − V_ref, λ = 1
 the physical well. H_ref is diagonal in the reference oscillator's own basis (length b_ref,
 centre x_min), which is the basis used here.
+
+Terms may carry a perturbation order (the generic term key ``order``, see
+:mod:`anharmony.terms.base`); then the perturbation is a polynomial in λ,
+
+    H(λ) = H_ref + λ W₁ + Σ_{k≥2} λ^k W_k,   W₁ = T + V₁ − H_ref = V₁ − V_ref,  W_k = V_k,
+
+where V_k is the sum of the terms at order k (spin–orbit ones with their ⟨l·s⟩). H_ref stays
+the harmonic reference of the whole well at order 0 (chosen as without orders), and the part
+of V_ref that cancels the harmonic term belongs to order 1, as it does without orders. This is
+how spectroscopists count a diatomic's force constants: the cubic at first order and the
+quartic at second, so that E_2 holds the anharmonicity constant ωexe. λ = 1 is still the
+physical well, and with every term at order 1 (the default) nothing changes.
 """
 
 from __future__ import annotations
@@ -28,7 +40,7 @@ from ._values import as_float_array
 from .borel import BorelPade, borel_pade
 from .growth import LargeOrder, large_order
 from .resum import PadeApproximant, Resummed, pade_approximant, pade_sum
-from .rs_exact import rs_exact_1d, rs_exact_radial
+from .rs_exact import reach, rs_exact_1d, rs_exact_radial
 from .rs_numeric import ScaledCoefficients, rs_numeric
 from .truncation import OptimalTruncation, optimal_truncation, partial_sums
 
@@ -74,6 +86,9 @@ class Series:
         ``"dense"``: the largest relative change of any E_k at the last growth of N
         (see :data:`DENSE_RTOL`); 0.0 for the other methods (exact in N).
     units : UnitSystem
+    term_orders : tuple of int
+        The perturbation order of each term of the well (:attr:`anharmony.Well.orders`): the
+        power of λ at which it enters W (module docstring); all 1 by default.
     """
 
     coefficients: np.ndarray
@@ -86,6 +101,7 @@ class Series:
     basis_size: int
     precision: float
     units: UnitSystem
+    term_orders: tuple[int, ...] = ()
 
     @property
     def orders(self) -> int:
@@ -132,54 +148,112 @@ def _rational(x: float, scale: float) -> Fraction | None:
     return r if abs(float(r) - x) <= RATIONAL_RTOL * scale else None
 
 
-def _w_in_oscillator_units(
-    well: Well, channel: Channel, ref: Reference, center: float
-) -> tuple[dict[int, float] | None, str]:
-    """W = V − V_ref as Σ w_q ξ^q in units of ħω (ξ = (x − x₀)/b or r/b), or why not."""
-    if well.has_spin_orbit and channel.ls != 0.0:
-        return None, "the spin-orbit term is not a polynomial"
+def _parts(well: Well, channel: Channel) -> dict[int, Well]:
+    """The well split by the terms' orders, ``{k: V_k}``, each part solvable in the channel.
+
+    Raises
+    ------
+    InputError
+        For an inverse-square term absorbed into the basis (it belongs to H_ref, order 0)
+        given another order than 1, and for parity channels whose split is not symmetric.
+    """
+    parts = well.by_order()
+    if set(parts) == {1}:
+        return {1: well}
     lam, _ = effective_lambda(well, channel)
+    absorbed = tuple(t for t in well.central_terms if t.inverse_square is not None)
     if lam is not None:
-        return None, "an inverse-square term is absorbed into the basis"
-    poly = well.polynomial(center=center)
-    if poly is None:
-        return None, "the well is not a polynomial"
+        for i, t in enumerate(well.terms):
+            if t.inverse_square is not None and t.order != 1:
+                raise InputError(
+                    f"well[{i}].{t.kind}.order: an inverse-square term is absorbed into the "
+                    f"radial basis of this channel, i.e. into the reference H_ref, so it has "
+                    f"no perturbation order; drop its order (got {t.order})")
+    if channel.dimension == 1 and channel.l is not None:
+        for k, part in parts.items():
+            if not part.is_symmetric(0.0):
+                raise InputError(
+                    f"l: the terms at perturbation order {k} are not symmetric about x = 0, "
+                    "so the parity channels do not decouple order by order; use l=None")
+    out = {}
+    for k, part in parts.items():
+        if k != 1 and lam is not None:  # the same basis as order 1: carry the absorbed terms
+            part = Well(terms=part.terms + absorbed,
+                        specs=part.specs + tuple((t.kind, t) for t in absorbed),
+                        units=well.units, mass=well.mass)
+        out[k] = part
+    return out
+
+
+def _w_in_oscillator_units(
+    parts: dict[int, Well], channel: Channel, ref: Reference, center: float
+) -> tuple[dict[int, dict[int, float]] | None, str]:
+    """W_k = V_k (W₁ = V₁ − V_ref) as Σ w_q ξ^q in units of ħω (ξ = (x − x₀)/b or r/b) per
+    power k of λ, or why not."""
     hw, b = ref.frequency, ref.length
-    w = {q: c * b**q / hw for q, c in poly.items()}
+    out: dict[int, dict[int, float]] = {}
+    for k, part in parts.items():
+        if part.has_spin_orbit and channel.ls != 0.0:
+            return None, "the spin-orbit term is not a polynomial"
+        lam, _ = effective_lambda(part, channel)
+        if lam is not None:
+            return None, "an inverse-square term is absorbed into the basis"
+        poly = part.polynomial(center=center)
+        if poly is None:
+            return None, "the well is not a polynomial"
+        out[k] = {q: c * b**q / hw for q, c in poly.items()}
+    w = out.setdefault(1, {})
     w[0] = w.get(0, 0.0) - ref.v_min / hw
     w[2] = w.get(2, 0.0) - 0.5
-    return w, ""
+    return out, ""
 
 
-def _exact_series(w: dict[int, float], channel: Channel, level: int, orders: int
-                  ) -> tuple[list[Fraction] | None, int, str]:
-    scale = max((abs(v) for v in w.values()), default=0.0) or 1.0
-    rational = {}
-    for q, v in w.items():
-        r = _rational(v, scale)
-        if r is None:
-            return None, 0, (f"the coefficient of ξ^{q} in W is {v!r} ħω, not a rational with "
-                             f"denominator <= {EXACT_MAX_DENOMINATOR}")
-        if r:
-            rational[q] = r
-    top = max(rational, default=0)
+def _exact_series(parts: dict[int, dict[int, float]], channel: Channel, level: int,
+                  orders: int) -> tuple[list[Fraction] | None, int, str]:
+    scale = max((abs(v) for w in parts.values() for v in w.values()), default=0.0) or 1.0
+    rational: dict[int, dict[int, Fraction]] = {}
+    for k, w in parts.items():
+        rational[k] = {}
+        for q, v in w.items():
+            r = _rational(v, scale)
+            if r is None:
+                at = "" if set(parts) == {1} else f" (order {k})"
+                return None, 0, (f"the coefficient of ξ^{q} in W{at} is {v!r} ħω, not a "
+                                 f"rational with denominator <= {EXACT_MAX_DENOMINATOR}")
+            if r:
+                rational[k][q] = r
+    w1 = rational.pop(1)
+    higher = rational or None
     if channel.l is None:
-        size = level + orders * max(top, 1) + 1
-        return rs_exact_1d(rational, level, orders), size, ""
-    odd = [q for q in rational if q % 2]
+        widths = {k: max(w, default=0) for k, w in ((1, w1), *rational.items())}
+        size = level + reach(widths, orders) + 1
+        return rs_exact_1d(w1, level, orders, higher=higher), size, ""
+    odd = sorted({q for w in (w1, *rational.values()) for q in w if q % 2})
     if odd:
         return None, 0, f"W has odd powers {odd} of r, whose radial matrix elements are irrational"
-    size = level + orders * max(top // 2, 1) + 1
-    return rs_exact_radial(rational, level, orders, l=channel.l,
-                           dimension=channel.dimension), size, ""
+    widths = {k: max(w, default=0) // 2 for k, w in ((1, w1), *rational.items())}
+    size = level + reach(widths, orders) + 1
+    return rs_exact_radial(w1, level, orders, l=channel.l, dimension=channel.dimension,
+                           higher=higher), size, ""
 
 
-def _numeric_at(well: Well, channel: Channel, ref: Reference, center: float, level: int,
-                orders: int, size: int, bandwidth: int | None) -> ScaledCoefficients:
-    mats = channel_hamiltonian(well, channel, size, ref.length, center)
-    h_ref = ref.v_min + ref.frequency * mats.basis.oscillator_levels()
-    w = mats.total - np.diag(h_ref)
-    return rs_numeric(h_ref, w, level, orders, bandwidth=bandwidth)
+def _numeric_at(parts: dict[int, Well], channel: Channel, ref: Reference, center: float,
+                level: int, orders: int, size: int, bandwidth: int | None
+                ) -> ScaledCoefficients:
+    if set(parts) == {1}:  # every term at first order: W = H − H_ref
+        mats = channel_hamiltonian(parts[1], channel, size, ref.length, center)
+        h_ref = ref.v_min + ref.frequency * mats.basis.oscillator_levels()
+        w = mats.total - np.diag(h_ref)
+        return rs_numeric(h_ref, w, level, orders, bandwidth=bandwidth)
+    mats = {k: channel_hamiltonian(part, channel, size, ref.length, center)
+            for k, part in parts.items() if k <= orders or k == 1}
+    any_mats = next(iter(mats.values()))
+    h_ref = ref.v_min + ref.frequency * any_mats.basis.oscillator_levels()
+    w1 = any_mats.kinetic - np.diag(h_ref)  # T − H_ref = −V_ref
+    if 1 in mats:
+        w1 = w1 + mats[1].potential + mats[1].spin_orbit
+    higher = {k: m.potential + m.spin_orbit for k, m in mats.items() if k != 1}
+    return rs_numeric(h_ref, w1, level, orders, bandwidth=bandwidth, higher=higher)
 
 
 def _relative_change(old: list, new: list) -> float:
@@ -290,6 +364,13 @@ def series(
     channel matrices. A polynomial W of half-bandwidth h gives exact coefficients to order K
     with N = n + K·h + 1 states, which is the size used; otherwise N grows from 40 by factors
     of 1.5 until no coefficient moves by more than 1e-10.
+
+    Terms given an ``order`` (:mod:`anharmony.terms.base`) make W a polynomial in λ:
+    W₁ = T + V₁ + V_so,₁ − H_ref and W_k = V_k + V_so,k, V_k the terms at order k; H_ref is the
+    same reference of the whole well either way, and λ = 1 the physical well. The engines
+    then run the recursion E_k = Σ_j ⟨n|W_j|ψ_{k−j}⟩ (:func:`anharmony.series.rs_numeric`).
+    An inverse-square term absorbed into a radial basis belongs to H_ref and takes no order;
+    in 1D parity channels the terms of each order must be symmetric about 0.
     """
     _validate(well, dimension, l, level, orders, exact, max_size, levels)
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
@@ -298,10 +379,12 @@ def series(
                                reference, channel.j)
     center = ref.center if channel.l is None else 0.0
     hw = ref.frequency
+    parts = _parts(well, channel)
+    orders_of_terms = well.orders
 
     exact_values = None
     if exact is not False:
-        w, why = _w_in_oscillator_units(well, channel, ref, center)
+        w, why = _w_in_oscillator_units(parts, channel, ref, center)
         if w is not None:
             exact_values, size, why = _exact_series(w, channel, level, orders)
         if exact_values is None and exact is True:
@@ -311,21 +394,23 @@ def series(
         scale, offset = Fraction(hw), Fraction(ref.v_min)
         precise = tuple([offset + scale * exact_values[0]]
                         + [scale * e for e in exact_values[1:]])
-        return _make(precise, exact_values, ref, channel, level, "exact", size, 0.0, system)
+        return _make(precise, exact_values, ref, channel, level, "exact", size, 0.0, system,
+                     orders_of_terms)
 
     probe = channel_hamiltonian(well, channel, 4, ref.length, center)
     if probe.bandwidth is not None:
         h = probe.bandwidth
         size = level + orders * h + 1
-        res = _numeric_at(well, channel, ref, center, level, orders, size, h)
-        return _make(tuple(res.mp()), None, ref, channel, level, "banded", size, 0.0, system)
+        res = _numeric_at(parts, channel, ref, center, level, orders, size, h)
+        return _make(tuple(res.mp()), None, ref, channel, level, "banded", size, 0.0, system,
+                     orders_of_terms)
 
     size = min(max_size, max(DENSE_START, 2 * (level + orders) + 10))
     if size == max_size:  # leave room for one comparison below the cap
         size = max(level + 2, int(max_size / DENSE_GROWTH))
     previous, change = None, math.inf
     while True:
-        current = _numeric_at(well, channel, ref, center, level, orders, size, None).mp()
+        current = _numeric_at(parts, channel, ref, center, level, orders, size, None).mp()
         if previous is not None:
             change = _relative_change(previous, current)
             if change <= DENSE_RTOL:
@@ -340,15 +425,17 @@ def series(
             break
         previous = current
         size = min(max_size, math.ceil(size * DENSE_GROWTH))
-    return _make(tuple(current), None, ref, channel, level, "dense", size, change, system)
+    return _make(tuple(current), None, ref, channel, level, "dense", size, change, system,
+                 orders_of_terms)
 
 
 def _make(precise: tuple, exact_values: list[Fraction] | None, ref: Reference,
           channel: Channel, level: int, method: str, size: int, precision: float,
-          system: UnitSystem) -> Series:
+          system: UnitSystem, term_orders: tuple[int, ...]) -> Series:
     coeffs = as_float_array(precise)
     return Series(
         coefficients=coeffs, exact=None if exact_values is None else list(exact_values),
         precise=precise, reference=ref, channel=channel, level=int(level), method=method,
         basis_size=int(size), precision=float(precision), units=system,
+        term_orders=tuple(term_orders),
     )

@@ -39,6 +39,7 @@ __all__ = [
     "exact_field",
     "hermite_bands",
     "radial_bands",
+    "reach",
     "rs_exact_1d",
     "rs_exact_banded",
     "rs_exact_radial",
@@ -194,21 +195,26 @@ def rs_exact_banded(
     order: int,
     *,
     field: str = "auto",
+    higher: Mapping[int, Mapping[int, Sequence[Any]]] | None = None,
 ) -> list[Fraction]:
-    """Exact RS energy coefficients E_0..E_order for H = diag(diagonal) + λ W, W banded.
+    """Exact RS energy coefficients E_0..E_order for H = diag(diagonal) + Σ_k λ^k W_k, banded.
 
     Parameters
     ----------
     diagonal
         Exact eigenvalues of H_ref, one per basis state (H_ref is diagonal in the basis).
     bands
-        ``bands[d][i] = W[i, i + d]``; W need not be symmetric (unnormalised bases).
+        W₁ (the first-order part): ``bands[d][i] = W₁[i, i + d]``; need not be symmetric
+        (unnormalised bases).
     level
         Index of the reference state |n).
     order
         Highest order K.
     field
         Integer type for the arithmetic (see :func:`exact_field`).
+    higher
+        ``{k: bands_k}`` for the powers k ≥ 2 of λ at which the perturbation has parts, each
+        in the form of ``bands``; powers above K do not enter. None: W = λ W₁.
 
     Returns
     -------
@@ -222,17 +228,20 @@ def rs_exact_banded(
 
     Notes
     -----
-    Intermediate normalisation, reduced resolvent R = Q/(E_0 − H_ref):
-    E_k = (W ψ_{k−1})_n, ψ_k = R [W ψ_{k−1} − Σ_{j=1}^{k−1} E_j ψ_{k−j}], ψ_0 = |n).
-    ψ_k vanishes outside n ± k·h (h the half-bandwidth), so the basis must hold
-    n + (K−1)·h + 1 states for E_K to be exact; callers use n + K·h + 1, which makes
-    ψ_1..ψ_K exact as well. (Rayleigh 1894; Schrödinger 1926; e.g. Sakurai, *Modern Quantum
-    Mechanics*, §5.1.)
+    Intermediate normalisation, reduced resolvent R = Q/(E_0 − H_ref), ψ_0 = |n):
+    E_k = Σ_{j=1}^{k} (W_j ψ_{k−j})_n, ψ_k = R [Σ_{j=1}^{k} W_j ψ_{k−j}
+    − Σ_{j=1}^{k−1} E_j ψ_{k−j}] (the recursion for a perturbation polynomial in λ, derived
+    in :func:`anharmony.series.rs_numeric`; with W₁ alone the usual one of Rayleigh 1894,
+    Schrödinger 1926, e.g. Sakurai, *Modern Quantum Mechanics*, §5.1). ψ_k vanishes outside
+    n ± r_k, r_k = max_j (r_{k−j} + h_j) with h_j the half-bandwidth of W_j, so the basis must
+    hold n + r_{K−1} + 1 states for E_K to be exact; callers use n + r_K + 1, which makes
+    ψ_1..ψ_K exact as well (:func:`reach`).
 
-    The arithmetic is in integers: W and the level gaps are scaled to integer matrices
-    (W' = s W, so E_k = E'_k / s^k), and each ψ_k is an integer vector over one common
-    denominator, reduced by the gcd of the whole vector after every order. This avoids a gcd
-    per component and operation, which is what makes rational arithmetic slow.
+    The arithmetic is in integers: the W_j are scaled to integer matrices W'_j = s^j W_j with
+    one s (the series of λ/s, so E_k = E'_k / s^k), as are the level gaps, and each ψ_k is an
+    integer vector over one common denominator, reduced by the gcd of the whole vector after
+    every order. This avoids a gcd per component and operation, which is what makes rational
+    arithmetic slow.
     """
     integer, gcd, lcm = exact_field(field)
     size = len(diagonal)
@@ -248,16 +257,29 @@ def rs_exact_banded(
     gaps = [e0 - x for x in d]
     c = _lcm_of_denominators(gaps)  # R_i = 1/gap_i = c / g_i with integer g_i
     g = [int(x * c) for x in gaps]
-    entries = {int(off): [_as_rational(v, f"bands[{off}]") for v in vals]
-               for off, vals in bands.items()}
-    entries = {off: vals for off, vals in entries.items() if any(vals)}
-    s = _lcm_of_denominators([v for vals in entries.values() for v in vals])
-    band_arrays = {}
-    for off, vals in entries.items():
-        arr = np.empty(size, dtype=object)
-        arr[:] = [integer(int(v * s)) for v in vals]
-        band_arrays[off] = arr
-    h = max((abs(off) for off in band_arrays), default=0)
+    parts = {1: bands}
+    for k, bk in (higher or {}).items():
+        if isinstance(k, bool) or not isinstance(k, (int, np.integer)) or k < 2:
+            raise InputError(f"higher: powers of λ must be integers >= 2 (W₁ is the bands "
+                             f"argument); got {k!r}")
+        if int(k) <= order:
+            parts[int(k)] = bk
+    entries = {}
+    for k, bk in parts.items():
+        ek = {int(off): [_as_rational(v, f"bands[{off}]") for v in vals]
+              for off, vals in bk.items()}
+        entries[k] = {off: vals for off, vals in ek.items() if any(vals)}
+    s = _lcm_of_denominators([v for ek in entries.values() for vals in ek.values()
+                              for v in vals])
+    band_arrays: dict[int, dict[int, np.ndarray]] = {}
+    for k, ek in entries.items():
+        sk = s**k
+        band_arrays[k] = {}
+        for off, vals in ek.items():
+            arr = np.empty(size, dtype=object)
+            arr[:] = [integer(int(v * sk)) for v in vals]
+            band_arrays[k][off] = arr
+    h = max((abs(off) for bk in band_arrays.values() for off in bk), default=0)
 
     zero, one = integer(0), integer(1)
     vecs: list[np.ndarray] = []  # ψ_k = vecs[k] / dens[k]
@@ -271,28 +293,37 @@ def rs_exact_banded(
     e_den: list[Any] = [one]
     mult = np.empty(size, dtype=object)  # c·G/g_i over the support, G = lcm of |g_i| there
     big_g = 1
-    lo, hi = level, level + 1  # support of ψ_{k-1}
+    lo, hi = level, level + 1  # support of ψ_{k-1} (it contains that of every earlier ψ)
     for k in range(1, order + 1):
         r0, r1 = max(0, lo - h), min(size, hi + h)
+        powers = [j for j in band_arrays if j <= k]
+        big_d = dens[k - 1]  # Σ_j W'_j ψ_{k-j} over the common denominator D
+        for j in powers:
+            if j != 1:
+                big_d = lcm(big_d, dens[k - j])
         u = np.empty(r1 - r0, dtype=object)
         u.fill(zero)
-        prev = vecs[k - 1]
-        for off, b in band_arrays.items():  # rows i with lo <= i + off < hi
-            a0, a1 = max(r0, lo - off), min(r1, hi - off)
-            if a1 > a0:
-                u[a0 - r0 : a1 - r0] += b[a0:a1] * prev[a0 + off : a1 + off]
-        num, den = u[level - r0], dens[k - 1]  # E'_k = (W' ψ_{k-1})_n
+        for j in powers:
+            prev = vecs[k - j]
+            uj = np.empty(r1 - r0, dtype=object)
+            uj.fill(zero)
+            for off, b in band_arrays[j].items():  # rows i with lo <= i + off < hi
+                a0, a1 = max(r0, lo - off), min(r1, hi - off)
+                if a1 > a0:
+                    uj[a0 - r0 : a1 - r0] += b[a0:a1] * prev[a0 + off : a1 + off]
+            u += uj if big_d is dens[k - j] else uj * (big_d // dens[k - j])
+        num, den = u[level - r0], big_d  # E'_k = Σ_j (W'_j ψ_{k-j})_n
         common = gcd(num, den)
         e_num.append(num // common)
         e_den.append(den // common)
         if k == order:
             break
-        # W'ψ_{k-1} − Σ_j E'_j ψ_{k-j} over the common denominator L
-        big_l = dens[k - 1]
+        # Σ_j W'_j ψ_{k-j} − Σ_j E'_j ψ_{k-j} over the common denominator L
+        big_l = big_d
         for j in range(1, k):
             if e_num[j]:
                 big_l = lcm(big_l, e_den[j] * dens[k - j])
-        acc = u * (big_l // dens[k - 1])
+        acc = u * (big_l // big_d)
         for j in range(1, k):
             if e_num[j]:
                 factor = e_num[j] * (big_l // (e_den[j] * dens[k - j]))
@@ -321,6 +352,20 @@ def rs_exact_banded(
     return result
 
 
+def reach(widths: Mapping[int, int], order: int) -> int:
+    """r_K: how far ψ_K reaches from the reference state, for W_j of half-bandwidth h_j.
+
+    ``widths`` is ``{j: h_j}`` over the powers j of λ present; r_0 = 0 and
+    r_k = max_j (r_{k−j} + max(h_j, 1)) (a zero width counts as 1, so a constant W still
+    leaves room for one neighbour, as the first-order sizes always did). With W₁ alone,
+    r_K = K·max(h₁, 1).
+    """
+    r = [0] * (order + 1)
+    for k in range(1, order + 1):
+        r[k] = max((r[k - j] + max(h, 1) for j, h in widths.items() if j <= k), default=0)
+    return r[order]
+
+
 def _restrict_parity(
     diagonal: list[Fraction], bands: dict[int, list[Fraction]], parity: int
 ) -> tuple[list[Fraction], dict[int, list[Fraction]]]:
@@ -336,14 +381,15 @@ def _restrict_parity(
 
 
 def rs_exact_1d(
-    coefficients: Mapping[int, Any], level: int, order: int, *, field: str = "auto"
+    coefficients: Mapping[int, Any], level: int, order: int, *, field: str = "auto",
+    higher: Mapping[int, Mapping[int, Any]] | None = None,
 ) -> list[Fraction]:
-    """Exact E_0..E_K of level n of H = H_osc + λ Σ_q w_q ξ^q (1D, no symmetry).
+    """Exact E_0..E_K of level n of H = H_osc + λ Σ_q w_q ξ^q + Σ_k λ^k W_k (1D, no symmetry).
 
     Parameters
     ----------
     coefficients
-        ``{q: w_q}``: W in units of ħω as a polynomial in ξ = (x − x₀)/b, exact rationals,
+        ``{q: w_q}``: W₁ in units of ħω as a polynomial in ξ = (x − x₀)/b, exact rationals,
         any powers q ≥ 0 (odd ones included).
     level
         Oscillator quantum number n (E_0 = n + 1/2).
@@ -351,23 +397,29 @@ def rs_exact_1d(
         Highest order K.
     field
         Integer type for the arithmetic (see :func:`exact_field`).
+    higher
+        ``{k: {q: w_q}}``: the parts W_k at the powers k ≥ 2 of λ, in the form of
+        ``coefficients`` (e.g. ``{2: {4: w}}`` puts a quartic at second order). None: W = λ W₁.
 
     Notes
     -----
-    Basis size n + K·q_max + 1 (exact, see :func:`rs_exact_banded`). When W is even the odd
-    (or even) sub-lattice decouples and is dropped, which halves the work.
+    Basis size n + r_K + 1, r_K = K·q_max with W₁ alone (:func:`reach`; exact, see
+    :func:`rs_exact_banded`). When every part is even the odd (or even) sub-lattice
+    decouples and is dropped, which halves the work.
     """
     _check_level_order(level, order)
-    coeffs = _clean(coefficients)
-    top = max(coeffs, default=0)
-    size = level + order * max(top, 1) + 1
-    bands = hermite_bands(coeffs or {0: Fraction(0)}, size)
+    parts = _clean_parts(coefficients, higher, order)
+    size = level + reach({k: max(w, default=0) for k, w in parts.items()}, order) + 1
+    bands = {k: hermite_bands(w or {0: Fraction(0)}, size) for k, w in parts.items()}
     diagonal = [Fraction(2 * i + 1, 2) for i in range(size)]
-    if all(q % 2 == 0 for q in coeffs):
+    if all(q % 2 == 0 for w in parts.values() for q in w):
         parity = level % 2
-        diagonal, bands = _restrict_parity(diagonal, bands, parity)
+        restricted = {k: _restrict_parity(diagonal, bk, parity) for k, bk in bands.items()}
+        diagonal = restricted[1][0]
+        bands = {k: r[1] for k, r in restricted.items()}
         level = (level - parity) // 2
-    return rs_exact_banded(diagonal, bands, level, order, field=field)
+    return rs_exact_banded(diagonal, bands.pop(1), level, order, field=field,
+                           higher=bands or None)
 
 
 def rs_exact_radial(
@@ -378,8 +430,10 @@ def rs_exact_radial(
     l: int,
     dimension: int,
     field: str = "auto",
+    higher: Mapping[int, Mapping[int, Any]] | None = None,
 ) -> list[Fraction]:
-    """Exact E_0..E_K of radial level n of H = H_osc + λ Σ_q w_q (r/b)^q in channel l.
+    """Exact E_0..E_K of radial level n of H = H_osc + λ Σ_q w_q (r/b)^q + Σ_k λ^k W_k in
+    channel l.
 
     Parameters
     ----------
@@ -394,6 +448,9 @@ def rs_exact_radial(
         Channel: d = 1 (l = 0 even, l = 1 odd parity), d = 2 (l = |m|), d = 3.
     field
         Integer type for the arithmetic (see :func:`exact_field`).
+    higher
+        ``{k: {q: w_q}}``: the parts W_k at the powers k ≥ 2 of λ, in the form of
+        ``coefficients`` (even powers of r only). None: W = λ W₁.
     """
     _check_level_order(level, order)
     if dimension not in (1, 2, 3):
@@ -403,20 +460,23 @@ def rs_exact_radial(
             f"l must be an integer >= 0 (0 or 1 in dimension 1); got {l!r} in dimension "
             f"{dimension}"
         )
-    coeffs = _clean(coefficients)
-    odd = sorted(q for q in coeffs if q % 2)
-    if odd:
-        raise InputError(
-            f"coefficients: radial channels need even powers of r for exact matrix elements; "
-            f"got odd power(s) {odd}"
-        )
-    t_coeffs = {q // 2: c for q, c in coeffs.items()}
-    top = max(t_coeffs, default=0)
-    size = level + order * max(top, 1) + 1
+    parts = _clean_parts(coefficients, higher, order)
+    for k, coeffs in parts.items():
+        odd = sorted(q for q in coeffs if q % 2)
+        if odd:
+            where = "coefficients" if k == 1 else f"higher[{k}]"
+            raise InputError(
+                f"{where}: radial channels need even powers of r for exact matrix elements; "
+                f"got odd power(s) {odd}"
+            )
+    t_parts = {k: {q // 2: c for q, c in coeffs.items()} for k, coeffs in parts.items()}
+    size = level + reach({k: max(w, default=0) for k, w in t_parts.items()}, order) + 1
     alpha = Fraction(2 * l + dimension - 2, 2)
-    bands = radial_bands(t_coeffs or {0: Fraction(0)}, size, alpha=alpha)
+    bands = {k: radial_bands(w or {0: Fraction(0)}, size, alpha=alpha)
+             for k, w in t_parts.items()}
     diagonal = [2 * i + l + Fraction(dimension, 2) for i in range(size)]
-    return rs_exact_banded(diagonal, bands, level, order, field=field)
+    return rs_exact_banded(diagonal, bands.pop(1), level, order, field=field,
+                           higher=bands or None)
 
 
 def _clean(coefficients: Mapping[int, Any]) -> dict[int, Fraction]:
@@ -428,6 +488,23 @@ def _clean(coefficients: Mapping[int, Any]) -> dict[int, Fraction]:
         if value:
             out[int(q)] = value
     return out
+
+
+def _clean_parts(coefficients: Mapping[int, Any],
+                 higher: Mapping[int, Mapping[int, Any]] | None,
+                 order: int) -> dict[int, dict[int, Fraction]]:
+    """``{1: W₁, k: W_k, …}`` as cleaned coefficient maps (powers of λ above K left out)."""
+    parts = {1: _clean(coefficients)}
+    for k, coeffs in (higher or {}).items():
+        if isinstance(k, bool) or not isinstance(k, (int, np.integer)) or k < 2:
+            raise InputError(f"higher: powers of λ must be integers >= 2 (W₁ is the "
+                             f"coefficients argument); got {k!r}")
+        if not isinstance(coeffs, Mapping):
+            raise InputError(f"higher[{k}]: expected a mapping {{power: coefficient}}; got "
+                             f"{coeffs!r}")
+        if int(k) <= order:
+            parts[int(k)] = _clean(coeffs)
+    return parts
 
 
 def _check_level_order(level: int, order: int) -> None:

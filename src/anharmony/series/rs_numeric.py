@@ -11,12 +11,13 @@ double range simply underflow to zero, which is harmless.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import mpmath
 import numpy as np
 
-from anharmony.errors import DegenerateLevelError
+from anharmony.errors import DegenerateLevelError, InputError
 
 __all__ = ["ScaledCoefficients", "bands_of", "rs_numeric"]
 
@@ -107,24 +108,30 @@ def rs_numeric(
     *,
     bandwidth: int | None = None,
     vectors: bool = False,
+    higher: Mapping[int, np.ndarray] | None = None,
 ) -> ScaledCoefficients:
-    """RS energy coefficients E_0..E_K of one level of H = diag(diagonal) + λ W.
+    """RS energy coefficients E_0..E_K of one level of H = diag(diagonal) + λ W₁ + Σ λ^k W_k.
 
     Parameters
     ----------
     diagonal : ndarray, shape (N,)
         Eigenvalues of H_ref, diagonal in the basis.
     perturbation : ndarray, shape (N, N)
-        W in the same basis (need not be symmetric).
+        W₁, the part of the perturbation at first order in λ, in the same basis (need not be
+        symmetric).
     level : int
         Index n of the reference state.
     order : int
         Highest order K.
     bandwidth : int, optional
-        Half-bandwidth h of W: entries with |i − j| > h are taken as zero and ψ_k is
+        Half-bandwidth h of every W_k: entries with |i − j| > h are taken as zero and ψ_k is
         propagated only on its support n ± k·h. None: dense.
     vectors : bool
         Also return ψ_0..ψ_K.
+    higher : mapping, optional
+        ``{k: W_k}`` for the powers k ≥ 2 of λ at which the perturbation has parts (a
+        perturbation polynomial in λ, :attr:`anharmony.terms.base.Term.order`); arrays of
+        shape (N, N). Powers above K do not enter. None (the default): W = λ W₁.
 
     Returns
     -------
@@ -137,15 +144,35 @@ def rs_numeric(
 
     Notes
     -----
-    Intermediate normalisation ⟨n|ψ_k⟩ = δ_{k0}, reduced resolvent R = Q/(E_0 − H_ref):
-    E_k = ⟨n|W|ψ_{k−1}⟩,  ψ_k = R [W ψ_{k−1} − Σ_{j=1}^{k−1} E_j ψ_{k−j}]
-    (e.g. Sakurai, *Modern Quantum Mechanics*, §5.1). For banded W the result is exact for
-    the infinite basis once N ≥ n + (K − 1)·h + 1 (ψ_1..ψ_K exact for N ≥ n + K·h + 1).
-    Cost O(K²·N) for the sums plus K banded (or dense) products.
+    Intermediate normalisation ⟨n|ψ_k⟩ = δ_{k0}, reduced resolvent R = Q/(E_0 − H_ref).
+    Collecting the power λ^k of (H_ref + Σ_j λ^j W_j) Σ_m λ^m ψ_m = Σ_j λ^j E_j Σ_m λ^m ψ_m
+    gives (E_0 − H_ref) ψ_k = Σ_{j=1}^{k} W_j ψ_{k−j} − Σ_{j=1}^{k} E_j ψ_{k−j}; its
+    projection on ⟨n| and its Q-part are
+
+        E_k = Σ_{j=1}^{k} ⟨n|W_j|ψ_{k−j}⟩,
+        ψ_k = R [Σ_{j=1}^{k} W_j ψ_{k−j} − Σ_{j=1}^{k−1} E_j ψ_{k−j}]
+
+    (the j = k energy term is E_k |n⟩, which Q removes). With W₁ alone this is the usual
+    E_k = ⟨n|W|ψ_{k−1}⟩, ψ_k = R [W ψ_{k−1} − Σ_{j=1}^{k−1} E_j ψ_{k−j}] (e.g. Sakurai,
+    *Modern Quantum Mechanics*, §5.1), and it runs the same arithmetic as before `higher`
+    existed. Only the powers present cost a product. For banded W_k the result is exact for
+    the infinite basis once N ≥ n + (K − 1)·h + 1 (ψ_1..ψ_K exact for N ≥ n + K·h + 1): the
+    support of ψ_k grows by at most h per order whichever W_j made it. Cost O(K²·N) for the
+    sums plus one banded (or dense) product per order and power of λ present.
     """
     d = np.asarray(diagonal, dtype=float)
-    w = np.asarray(perturbation, dtype=float)
+    parts = {1: np.asarray(perturbation, dtype=float)}
+    for k, wk in (higher or {}).items():
+        if isinstance(k, bool) or not isinstance(k, (int, np.integer)) or k < 2:
+            raise InputError(f"higher: powers of λ must be integers >= 2 (W₁ is the "
+                             f"perturbation argument); got {k!r}")
+        if int(k) <= order:
+            parts[int(k)] = np.asarray(wk, dtype=float)
     size = d.shape[0]
+    for k, wk in parts.items():
+        if wk.shape != (size, size):
+            raise InputError(f"perturbation at order {k}: expected shape {(size, size)}; got "
+                             f"{wk.shape}")
     e0 = d[level]
     gaps = e0 - d
     gaps[level] = np.inf
@@ -158,7 +185,8 @@ def rs_numeric(
         )
     inv = 1.0 / gaps
     inv[level] = 0.0
-    bands = bands_of(w, bandwidth) if bandwidth is not None else None
+    bands = ({k: bands_of(wk, bandwidth) for k, wk in parts.items()}
+             if bandwidth is not None else None)
     h = size if bandwidth is None else bandwidth
 
     rows = max(order, 1) + (1 if vectors else 0)
@@ -172,23 +200,31 @@ def rs_numeric(
     lo, hi = level, level + 1
     for k in range(1, order + 1):
         r0, r1 = max(0, lo - h), min(size, hi + h)
-        if bands is None:
-            u = w[r0:r1, lo:hi] @ psi[k - 1, lo:hi]
-        else:
-            u = np.zeros(r1 - r0)
-            for off, b in bands.items():  # rows i with lo <= i + off < hi
-                a0, a1 = max(r0, lo - off), min(r1, hi - off)
-                if a1 > a0:
-                    u[a0 - r0 : a1 - r0] += b[a0:a1] * psi[k - 1, a0 + off : a1 + off]
-        m, e = np.frexp(u[level - r0])  # E_k = <n|W|ψ_{k-1}>
-        mant[k], expo[k] = m, (e + vexp[k - 1]) if m else 0
+        # Σ_j W_j ψ_{k-j} on rows r0:r1, scaled by 2^-top_w (top_w: largest exponent of ψ_{k-j})
+        powers = [j for j in parts if j <= k]
+        top_w = max(int(vexp[k - j]) for j in powers)
+        u = np.zeros(r1 - r0)
+        for j in powers:
+            prev = psi[k - j]
+            if bands is None:
+                uj = parts[j][r0:r1, lo:hi] @ prev[lo:hi]
+            else:
+                uj = np.zeros(r1 - r0)
+                for off, b in bands[j].items():  # rows i with lo <= i + off < hi
+                    a0, a1 = max(r0, lo - off), min(r1, hi - off)
+                    if a1 > a0:
+                        uj[a0 - r0 : a1 - r0] += b[a0:a1] * prev[a0 + off : a1 + off]
+            shift = int(vexp[k - j]) - top_w
+            u += uj if shift == 0 else np.ldexp(uj, max(shift, -2000))
+        m, e = np.frexp(u[level - r0])  # E_k = Σ_j <n|W_j|ψ_{k-j}>
+        mant[k], expo[k] = m, (e + top_w) if m else 0
         if k == order and not vectors:
             break
-        # v = W ψ_{k-1} − Σ_j E_j ψ_{k-j}, all scaled by 2^-top (top = largest exponent)
+        # v = Σ_j W_j ψ_{k-j} − Σ_j E_j ψ_{k-j}, all scaled by 2^-top (top = largest exponent)
         alive = mant[1:k] != 0.0
         term_exp = expo[1:k] + vexp[k - 1 : 0 : -1]
-        top = max(int(vexp[k - 1]), int(term_exp[alive].max()) if alive.any() else -(2**62))
-        v = np.ldexp(u, int(vexp[k - 1]) - top)
+        top = max(top_w, int(term_exp[alive].max()) if alive.any() else -(2**62))
+        v = np.ldexp(u, top_w - top)
         if alive.any():
             coef = np.where(alive, np.ldexp(mant[1:k], np.maximum(term_exp - top, -2000)), 0.0)
             v -= coef @ psi[k - 1 : 0 : -1, r0:r1]

@@ -26,6 +26,17 @@ fact                       meaning                                              
                            centrifugal term), else ``None``
 :meth:`check_channel`      refuse a channel the term cannot be solved in (raises)     see below
 =========================  =========================================================  =========
+
+Perturbation order
+------------------
+Every term, of every kind, takes one generic key besides its own parameters: ``order``, the
+power of λ with which it enters the perturbation series (:func:`anharmony.series`),
+H(λ) = H_ref + Σ_k λ^k W_k. It is read here, in :meth:`Term.from_params`, once for all terms
+(case files and :meth:`anharmony.Well.from_terms` dicts alike:
+``{"power": {"exponent": 4, "strength": 0.1, "order": 2}}``), and kept on the term as
+:attr:`Term.order` (a keyword-only field, default 1). It is not one of the term's
+``parameters``: it cannot be scanned or fitted, and it changes nothing but the series —
+λ = 1 is the physical well whatever the orders.
 """
 
 from __future__ import annotations
@@ -34,7 +45,7 @@ import difflib
 import math
 from abc import ABC, abstractmethod
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, ClassVar
 
 import numpy as np
@@ -42,10 +53,13 @@ import numpy as np
 from ..errors import InputError, TermError
 from ..units import UnitSystem, get_units
 
-__all__ = ["QUADRATURE_KINDS", "Context", "Term", "TermError", "arr", "center", "check_names",
-           "diffuseness", "number", "positive", "radius", "require"]
+__all__ = ["MAX_TERM_ORDER", "ORDER_KEY", "QUADRATURE_KINDS", "Context", "Term", "TermError",
+           "arr", "center", "check_names", "diffuseness", "number", "positive", "radius",
+           "require", "term_order"]
 
 QUADRATURE_KINDS = ("exact", "weight", "panels")
+ORDER_KEY = "order"  # the generic key of every term: its perturbation order (module docstring)
+MAX_TERM_ORDER = 100  # highest perturbation order a term may carry (series rarely pass ~200)
 _REGISTRY: dict[str, type[Term]] = {}  # filled by Term.__init_subclass__
 
 
@@ -81,6 +95,21 @@ def check_names(term: str, params: Mapping[str, Any], allowed: Sequence[str]) ->
             hint = f" (did you mean {near[0]!r}?)" if near else ""
             raise TermError(term, str(key), f"unknown parameter{hint}; "
                             f"valid parameters: {', '.join(allowed)}")
+
+
+def term_order(term: str, value: Any) -> int:
+    """The ``order`` of a term: an integer from 1 to :data:`MAX_TERM_ORDER`."""
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
+        if isinstance(value, float) and value.is_integer():
+            value = int(value)
+        else:
+            raise TermError(term, ORDER_KEY, "must be an integer from 1 (the default, first "
+                            f"order in λ) to {MAX_TERM_ORDER}; got {value!r}")
+    if not 1 <= value <= MAX_TERM_ORDER:
+        raise TermError(term, ORDER_KEY, f"must be an integer from 1 to {MAX_TERM_ORDER} "
+                        "(order 0 is the reference oscillator, which the series chooses "
+                        f"itself); got {value!r}")
+    return int(value)
 
 
 def require(term: str, params: Mapping[str, Any], name: str) -> Any:
@@ -169,6 +198,8 @@ class Term(ABC):
     spin_orbit: ClassVar[bool] = False
 
     center: float = 0.0
+    #: Power of λ with which the term enters the perturbation series (1: the default, W₁).
+    order: int = field(default=1, kw_only=True)
 
     def __init_subclass__(cls, **kwargs: Any) -> None:
         super().__init_subclass__(**kwargs)
@@ -189,9 +220,24 @@ class Term(ABC):
     @classmethod
     def from_params(cls, params: Mapping[str, Any], units: str | UnitSystem = "oscillator",
                     mass: float | None = None) -> Term:
-        """Build the term from its case-file parameters, checking each one."""
-        check_names(cls.kind, params, cls.parameters)
-        return cls._build(dict(params), Context(get_units(units), mass))
+        """Build the term from its case-file parameters, checking each one.
+
+        The generic key ``order`` (an integer from 1 to :data:`MAX_TERM_ORDER`, default 1) is
+        taken out here for every kind, before the term's own parameters are checked, and set
+        on the built term (:attr:`order`).
+        """
+        if not isinstance(params, Mapping):
+            raise TermError(cls.kind, None, f"parameters must be a mapping; got {params!r}")
+        own = {k: v for k, v in params.items() if k != ORDER_KEY}
+        check_names(cls.kind, own, (*cls.parameters, ORDER_KEY))
+        term = cls._build(own, Context(get_units(units), mass))
+        if ORDER_KEY in params:
+            k = term_order(cls.kind, params[ORDER_KEY])
+            if k != term.order:
+                # the instance was just made here and is not shared yet: set the field in
+                # place rather than rebuild it (a formula term compiles on construction)
+                object.__setattr__(term, "order", k)
+        return term
 
     @classmethod
     @abstractmethod
