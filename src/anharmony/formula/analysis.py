@@ -15,12 +15,15 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any
 
+import mpmath
 import numpy as np
 import scipy.special
 import sympy as sp
 
 from ..errors import FormulaError
+from .bounded import mp_value, within_budget
 from .parse import (
+    check_constant_parts,
     check_parameter_values,
     coordinate_symbol,
     exact_rational,
@@ -120,6 +123,7 @@ class Formula:
                 "that are neither the variable nor a parameter",
                 text=self.text,
             )
+        check_constant_parts(self.expr, self.text, self.parameters)
         numeric = self.expr.xreplace(values) if values else self.expr
         check_parameter_values(numeric, self.text, self.parameters)
         d1 = _drop_deltas(sp.diff(numeric, symbol))
@@ -255,9 +259,12 @@ class Formula:
 
     def _threshold(self, side: int) -> float:
         symbol = coordinate_symbol(self.variable)
+        point = sp.oo if side > 0 else -sp.oo
         try:
-            lim = sp.limit(self._numeric, symbol, sp.oo if side > 0 else -sp.oo)
-        except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError):
+            # bounded: past SYMPY_CALL_BUDGET Python calls the numeric fallback decides
+            _, lim = within_budget(lambda: sp.limit(self._numeric, symbol, point))
+        except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError,
+                ArithmeticError, MemoryError):
             lim = None
         value = _limit_to_float(lim)
         if not self._real_somewhere_far(side):
@@ -271,17 +278,17 @@ class Formula:
         return self._numeric_limit(side)
 
     def _real_somewhere_far(self, side: int) -> bool:
-        """Whether the formula is real at one of |x| = 1e2, 1e6, 1e12 (mpmath evalf: no
-        overflow). Guards against sympy's complex limits, e.g. log(x) -> oo as x -> -oo."""
+        """Whether the formula is real at one of |x| = 1e2, 1e6, 1e12 (guarded mpmath values,
+        no overflow and no exact folding of towers such as x**x**x). Guards against sympy's
+        complex limits, e.g. log(x) -> oo as x -> -oo."""
         symbol = coordinate_symbol(self.variable)
         for far in (10**2, 10**6, 10**12):
-            try:
-                value = self._numeric.xreplace({symbol: sp.Integer(side * far)}).evalf(30)
-                re, im = value.as_real_imag()
-                if im == 0 or bool(abs(im) <= 1e-20 * abs(re)):
-                    return True
-            except (TypeError, ValueError, ArithmeticError, RecursionError):
+            value = mp_value(self._numeric, {symbol: side * far})
+            if value is None or not mpmath.isfinite(value):
                 return True  # cannot tell: do not block the limit
+            re, im = mpmath.re(value), mpmath.im(value)
+            if im == 0 or abs(im) <= 1e-20 * abs(re):
+                return True
         return False
 
     def _numeric_limit(self, side: int) -> float:
