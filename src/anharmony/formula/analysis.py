@@ -128,7 +128,8 @@ class Formula:
         check_parameter_values(numeric, self.text, self.parameters)
         d1 = _drop_deltas(sp.diff(numeric, symbol))
         d2 = _drop_deltas(sp.diff(d1, symbol))
-        functions = tuple(sp.lambdify(symbol, e, modules=_MODULES) for e in (numeric, d1, d2))
+        functions = tuple(sp.lambdify(symbol, _for_numpy(e), modules=_MODULES)
+                          for e in (numeric, d1, d2))
         object.__setattr__(self, "_numeric", numeric)
         object.__setattr__(self, "_functions", functions)
 
@@ -180,7 +181,8 @@ class Formula:
         if key not in self._cache:
             values = {parameter_symbol(k): exact_rational(v) for k, v in self.parameters.items()}
             de = _drop_deltas(sp.diff(self.expr, parameter_symbol(name)).xreplace(values))
-            self._cache[key] = sp.lambdify(coordinate_symbol(self.variable), de, modules=_MODULES)
+            self._cache[key] = sp.lambdify(coordinate_symbol(self.variable), _for_numpy(de),
+                                           modules=_MODULES)
         return _evaluate(self._cache[key], x)
 
     # -- structure --------------------------------------------------------------------------
@@ -327,6 +329,13 @@ def _degree_bound(expr: sp.Expr, symbol: sp.Symbol) -> int | None:
         base = _degree_bound(expr.base, symbol)
         return None if base is None else base * int(expr.exp)
     return None
+
+
+def _for_numpy(expr: sp.Expr) -> sp.Expr:
+    """Integers beyond 2**53 as floats: printed as Python ints they would reach numpy ufuncs as
+    objects (``exp(-10**20)`` fails with a TypeError); smaller ones are exact as floats anyway."""
+    big = {n: sp.Float(n) for n in expr.atoms(sp.Integer) if abs(int(n)) > 2**53}
+    return expr.xreplace(big) if big else expr
 
 
 def _drop_deltas(expr: sp.Expr) -> sp.Expr:

@@ -61,6 +61,7 @@ def within_budget(call: Callable[[], T], budget: int = SYMPY_CALL_BUDGET) -> tup
         if event == "call":
             count += 1
             if count > budget:
+                sys.setprofile(None)  # once: generators closed while unwinding must not raise
                 raise _OverBudget
 
     previous = sys.getprofile()

@@ -15,6 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from ..cases import Case, resolve_reference
+from ..errors import NumericalError
 from ..reference import Reference
 from ..scan import linear_in, pencil_applies
 
@@ -156,7 +157,7 @@ def describe(case: Case, *, reference: bool = True) -> Description:
     if reference:
         try:
             ref = resolve_reference(case, values[0])
-        except (ValueError, ArithmeticError) as exc:
+        except (ValueError, ArithmeticError, NumericalError) as exc:  # e.g. a formula with NaN
             lines.append(f"  reference  cannot be resolved: {exc}")
             problem = str(exc)
         else:
