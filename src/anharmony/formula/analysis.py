@@ -21,7 +21,7 @@ import scipy.special
 import sympy as sp
 
 from ..errors import FormulaError
-from .bounded import mp_value, within_budget
+from .bounded import MAX_TOWER_FOR_SYMPY, mp_value, tower_height, within_budget
 from .parse import (
     check_constant_parts,
     check_parameter_values,
@@ -241,10 +241,13 @@ class Formula:
         Notes
         -----
         :func:`sympy.limit` (Gruntz algorithm) on the expression with the parameter values
-        substituted; if it fails or returns something that is not a real number, a numeric
-        fallback samples the formula at ``|x| = 10^2 … 10^300`` and accepts a limit when the
-        last tenth of the samples agree to 1e-9 relative, or ``±inf`` when they all exceed
-        1e100 in size with one sign.
+        substituted, under a work budget (:mod:`anharmony.formula.bounded`) and only for
+        towers of exponentials at most :data:`~anharmony.formula.bounded.MAX_TOWER_FOR_SYMPY`
+        high (``exp(exp(x))`` and ``x**x**x`` are 2 high); if it fails, runs out of budget or
+        returns something that is not a real number, a numeric fallback samples the formula at
+        ``|x| = 10^2 … 10^300`` and accepts a limit when the last tenth of the samples agree to
+        1e-9 relative, or ``±inf`` when they all exceed 1e100 in size with one sign; samples
+        in floats first, then (if undecided) guarded mpmath values, which do not overflow.
         """
         if side not in (1, -1):
             raise FormulaError(f"threshold: side must be +1 or -1; got {side!r}", text=self.text)
@@ -262,12 +265,15 @@ class Formula:
     def _threshold(self, side: int) -> float:
         symbol = coordinate_symbol(self.variable)
         point = sp.oo if side > 0 else -sp.oo
-        try:
-            # bounded: past SYMPY_CALL_BUDGET Python calls the numeric fallback decides
-            _, lim = within_budget(lambda: sp.limit(self._numeric, symbol, point))
-        except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError,
-                ArithmeticError, MemoryError):
-            lim = None
+        lim = None
+        # Bounded: towers of exponentials (x**x**x, exp(exp(exp(x)))) go straight to the numeric
+        # fallback; otherwise past SYMPY_CALL_BUDGET Python calls the numeric fallback decides.
+        if tower_height(self._numeric, symbol) <= MAX_TOWER_FOR_SYMPY:
+            try:
+                _, lim = within_budget(lambda: sp.limit(self._numeric, symbol, point))
+            except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError,
+                    ArithmeticError, MemoryError):
+                lim = None
         value = _limit_to_float(lim)
         if not self._real_somewhere_far(side):
             where = "+inf" if side > 0 else "-inf"
@@ -295,21 +301,32 @@ class Formula:
 
     def _numeric_limit(self, side: int) -> float:
         xs = side * np.logspace(2.0, 300.0, 2385)
-        fs = self.value(xs)
-        tail = fs[-len(fs) // 10 :]
-        if np.all(np.isfinite(tail)):
-            spread = float(np.max(tail) - np.min(tail))
-            if spread <= 1e-9 * max(1.0, float(np.max(np.abs(tail)))) and abs(tail[-1]) < 1e100:
-                return float(tail[-1])
-        big = np.abs(np.nan_to_num(tail, nan=0.0, posinf=np.inf, neginf=-np.inf)) > 1e100
-        if np.all(big) and (np.all(tail > 0) or np.all(tail < 0)):
-            return math.inf if tail[-1] > 0 else -math.inf
+        tail = self.value(xs)[-len(xs) // 10 :]
+        decided = _settled(tail)
+        if decided is None:
+            # floats can fail where the terms overflow separately (x**2*exp(-exp(exp(x))) is
+            # inf*0 at x = 1e300): guarded mpmath values of the same samples have no overflow
+            decided = _settled(np.array([self._mp_float(x) for x in xs[-len(xs) // 10 :]]))
+        if decided is not None:
+            return decided
         where = "+inf" if side > 0 else "-inf"
         raise FormulaError(
             f"formula {self.text!r}: cannot determine its limit as {self.variable} -> {where} "
             "(sympy.limit failed and the values do not settle)",
             text=self.text,
         )
+
+    def _mp_float(self, x: float) -> float:
+        """The formula at ``x`` from guarded mpmath values: a float, ±inf, or nan (no value)."""
+        v = mp_value(self._numeric, {coordinate_symbol(self.variable): x})
+        if v is None or not mpmath.isfinite(v):
+            if v is None or mpmath.isnan(v):
+                return math.nan
+            return math.copysign(math.inf, float(mpmath.re(v)))
+        re, im = mpmath.re(v), mpmath.im(v)
+        if im != 0 and abs(im) > 1e-20 * abs(re):
+            return math.nan
+        return float(re)  # beyond the float range: ±inf
 
 
 # ------------------------------------------------------------------------------ helpers
@@ -342,6 +359,18 @@ def _drop_deltas(expr: sp.Expr) -> sp.Expr:
     if expr.has(sp.DiracDelta):
         expr = expr.replace(sp.DiracDelta, lambda *args: sp.S.Zero)
     return expr
+
+
+def _settled(tail: np.ndarray) -> float | None:
+    """The limit the samples of the far tail settle to, ``±inf``, or ``None`` (undecided)."""
+    if np.all(np.isfinite(tail)):
+        spread = float(np.max(tail) - np.min(tail))
+        if spread <= 1e-9 * max(1.0, float(np.max(np.abs(tail)))) and abs(tail[-1]) < 1e100:
+            return float(tail[-1])
+    big = np.abs(np.nan_to_num(tail, nan=0.0, posinf=np.inf, neginf=-np.inf)) > 1e100
+    if np.all(big) and (np.all(tail > 0) or np.all(tail < 0)):
+        return math.inf if tail[-1] > 0 else -math.inf
+    return None
 
 
 def _limit_to_float(lim: Any) -> float | None:

@@ -28,8 +28,8 @@ from typing import Any, TypeVar
 import mpmath
 import sympy as sp
 
-__all__ = ["MAX_LOG2", "SYMPY_CALL_BUDGET", "is_finite_float", "mp_call", "mp_power", "mp_value",
-           "within_budget"]
+__all__ = ["MAX_LOG2", "MAX_TOWER_FOR_SYMPY", "SYMPY_CALL_BUDGET", "is_finite_float", "mp_call",
+           "mp_power", "mp_value", "tower_height", "within_budget"]
 
 # exp(z) and a**b are refused when |Re z| (|b log a|) exceeds this: the result's binary exponent
 # would exceed ~2**50, beyond which mpmath's exact exponents and later reductions get expensive.
@@ -41,7 +41,31 @@ _PREC = 113  # bits (quad precision): enough to tell a real value from a complex
 # few hundred thousand; 1.5 million is one to two seconds of sympy at worst.
 SYMPY_CALL_BUDGET = 1_500_000
 
+# sympy.limit is tried only on towers of exponentials at most this high (tower_height); higher
+# ones (exp(exp(exp(x))), x**x**x**x) can exhaust any budget, and floats decide them at once.
+MAX_TOWER_FOR_SYMPY = 2
+
 T = TypeVar("T")
+
+
+def tower_height(expr: sp.Expr, symbol: sp.Symbol) -> int:
+    """How many exponentials of the variable are stacked in ``expr``.
+
+    ``exp``, ``cosh`` and ``sinh`` of something that depends on ``symbol``, and a power whose
+    exponent depends on it (``a**b = exp(b log a)``), add one level; every other operation
+    keeps the highest level of its arguments. ``x**2`` is 0, ``exp(x)`` and ``x**x`` 1,
+    ``exp(exp(x))`` and ``x**x**x`` 2.
+    """
+    if not expr.has(symbol):
+        return 0
+    if expr.is_Pow:
+        if expr.exp.has(symbol):
+            return max(tower_height(expr.base, symbol), tower_height(expr.exp, symbol)) + 1
+        return tower_height(expr.base, symbol)
+    inner = max((tower_height(a, symbol) for a in expr.args), default=0)
+    if isinstance(expr, (sp.exp, sp.cosh, sp.sinh)):
+        return inner + 1
+    return inner
 
 
 class _OverBudget(BaseException):
