@@ -35,6 +35,7 @@ HOSTILE = {
     "constant overflow by product": ("exp(700)*exp(700)*x**2", {}),
     "cosh overflow": ("x**2*cosh(1e6)", {}),
     "parameter overflow": ("x**2*exp(b)", {"b": 1000.0}),
+    "parameter exponent": ("x**a", {"a": 1000000.0}),
     "parameter tower": ("a*x**2*exp(exp(exp(exp(b))))", {"a": 1.0, "b": 100.0}),
     "harmless underflow": ("x**2 + exp(-1e20)", {}),
     "sine of a huge integer": ("x**2 + sin(1e30)", {}),
@@ -126,6 +127,8 @@ def test_constants_that_overflow_a_float_are_refused_naming_the_piece(outcomes, 
 
 def test_refusals_of_other_hostile_text(outcomes):
     _refused(outcomes, "huge exponent", "exponent", "too large")
+    # the same bound whether the exponent is written or comes from a parameter
+    _refused(outcomes, "parameter exponent", "exponent of 'x**a' is too large", "1000000.0")
     _refused(outcomes, "power tower of numbers", "exponent", "too large")
     _refused(outcomes, "float literal overflow", "floating-point range")
     _refused(outcomes, "float product overflow", "floating-point range")

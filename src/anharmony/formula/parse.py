@@ -393,6 +393,16 @@ def check_constant_parts(expr: sp.Expr, text: str, parameters: Mapping[str, floa
     values = {parameter_symbol(k): v for k, v in parameters.items()}
     coordinates = {coordinate_symbol(v) for v in VARIABLES}
     for sub in sp.preorder_traversal(expr):
+        if sub.is_Pow and not sub.exp.free_symbols & coordinates and sub.exp.free_symbols:
+            size = mp_value(sub.exp, values)  # the rule for written exponents (MAX_EXPONENT)
+            if size is not None and not abs(size) <= MAX_EXPONENT:
+                raise FormulaError(
+                    f"formula {_short(text)!r}: the exponent of {_short(str(sub))!r} is too "
+                    f"large with the parameters {dict(parameters)}; numeric exponents must lie "
+                    f"within ±{MAX_EXPONENT}",
+                    text=text,
+                    piece=str(sub),
+                )
         if sub.is_Atom or sub.free_symbols & coordinates:
             continue
         if not is_finite_float(mp_value(sub, values)):
