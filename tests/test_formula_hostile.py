@@ -20,7 +20,10 @@ import textwrap
 from pathlib import Path
 
 import mpmath
+import numpy as np
 import pytest
+
+import anharmony as ah
 
 SRC = str(Path(__file__).resolve().parents[1] / "src")
 HARD_TIMEOUT = 120  # seconds for all formulas together; the bounded work takes a few seconds
@@ -210,8 +213,9 @@ output: out.nc
     # refused while the case is read: the line and column of the formula, and the field
     ("exp(exp(exp(exp(100))))*x**2",
      r"case\.yaml:8:\d+: well\[1\]\.formula: .*the constant 'exp\(exp\(100\)\)' overflows"),
-    # x**x is not real for negative non-integer x: the reference cannot be resolved
-    ("x**x**x**x**x", r"case\.yaml: reference: a term of the well is not finite"),
+    # x**x is not real for negative non-integer x (x = -0.001 is the first probe point)
+    ("x**x**x**x**x", r"case\.yaml:8:\d+: well\[1\]\.formula: 'x\*\*x\*\*x\*\*x\*\*x' has no "
+                      r"real value at x = -0\.001"),
 ])
 def test_check_refuses_a_hostile_formula_with_exit_2_and_one_line(tmp_path, formula, expected):
     path = tmp_path / "case.yaml"
@@ -226,3 +230,26 @@ def test_check_refuses_a_hostile_formula_with_exit_2_and_one_line(tmp_path, form
     assert len(lines) == 1, lines
 
     assert re.search(expected, lines[0]), lines[0]
+
+
+@pytest.mark.parametrize("formula", [
+    "sin(x)**x",  # (-sin(0.5))**(-0.5) is not real
+    "log(log(log(log(log(x)))))",  # log of a negative number for 0 < x < 1 and x < 0
+    "x**2 + (1+1/x)**(x**3)",  # 1 + 1/x < 0 for -1 < x < 0, raised to a fractional power
+    "sqrt(x)",  # a 1D well lives on the whole line
+])
+def test_a_formula_not_real_on_the_line_is_refused_when_the_well_is_built(formula):
+    with pytest.raises(ah.TermError, match=r"expression\.formula: .*has no real value at x = "):
+        ah.Well.from_terms([{"expression": {"formula": formula}}])
+
+
+@pytest.mark.parametrize("formula, x, expected", [
+    # NaN in floats from overflow, not from complex values: cosh(x) - sinh(x) = exp(-x)
+    ("cosh(x) - sinh(x) + x**2", 2.0, math.exp(-2.0) + 4.0),
+    # 0/0 at x = 0 only, which the probe avoids; sin(x)/x at 2 from math.sin
+    ("sin(x)/x + x**2", 2.0, math.sin(2.0) / 2.0 + 4.0),
+])
+def test_nan_from_overflow_or_at_one_point_is_not_refused(formula, x, expected):
+    well = ah.Well.from_terms([{"expression": {"formula": formula}}])
+    # same function by another operation order: rounding only
+    assert float(well.value(np.array([x]))[0]) == pytest.approx(expected, rel=1e-13)
