@@ -59,6 +59,8 @@ HOSTILE = {
     "deep unary minus": ("-" * 900 + "x", {}),
     "long tower text": ("x" + "**x" * 300, {}),
     "100 kB": ("+".join(["x**2"] * 25000), {}),
+    # the product rule makes 60*59 terms of 58 factors for the second derivative
+    "long product": ("*".join(f"(x+{i})" for i in range(60)), {}),
     "many nodes": ("*".join(["(x+x+x+x+x+x+x+x+x+x)"] * 30), {}),
 }
 
@@ -145,6 +147,7 @@ def test_refusals_of_other_hostile_text(outcomes):
     _refused(outcomes, "long tower text", "nested more than")
     _refused(outcomes, "100 kB", "characters long")
     _refused(outcomes, "many nodes", "syntax nodes")
+    _refused(outcomes, "long product", "too complex", "second derivative")
 
 
 def test_an_underflowing_constant_is_harmless(outcomes):

@@ -21,8 +21,15 @@ import scipy.special
 import sympy as sp
 
 from ..errors import FormulaError
-from .bounded import MAX_TOWER_FOR_SYMPY, mp_value, tower_height, within_budget
+from .bounded import (
+    MAX_TOWER_FOR_SYMPY,
+    SYMPY_CALL_BUDGET,
+    mp_value,
+    tower_height,
+    within_budget,
+)
 from .parse import (
+    _short,
     check_constant_parts,
     check_parameter_values,
     coordinate_symbol,
@@ -126,10 +133,14 @@ class Formula:
         check_constant_parts(self.expr, self.text, self.parameters)
         numeric = self.expr.xreplace(values) if values else self.expr
         check_parameter_values(numeric, self.text, self.parameters)
-        d1 = _drop_deltas(sp.diff(numeric, symbol))
-        d2 = _drop_deltas(sp.diff(d1, symbol))
-        functions = tuple(sp.lambdify(symbol, _for_numpy(e), modules=_MODULES)
-                          for e in (numeric, d1, d2))
+        ok, functions = within_budget(lambda: _functions_of(numeric, symbol))
+        if not ok:  # the product rule on (x+1)*(x+2)*...*(x+60) makes 3540 terms of 58 factors
+            raise FormulaError(
+                f"formula {_short(self.text)!r} is too complex: its second derivative takes "
+                f"more than {SYMPY_CALL_BUDGET} steps to build; simplify it (multiply out "
+                "long products, nest fewer functions)",
+                text=self.text,
+            )
         object.__setattr__(self, "_numeric", numeric)
         object.__setattr__(self, "_functions", functions)
 
@@ -346,6 +357,13 @@ def _degree_bound(expr: sp.Expr, symbol: sp.Symbol) -> int | None:
         base = _degree_bound(expr.base, symbol)
         return None if base is None else base * int(expr.exp)
     return None
+
+
+def _functions_of(numeric: sp.Expr, symbol: sp.Symbol) -> tuple[Callable[..., Any], ...]:
+    """numpy functions of the formula and its first two derivatives in ``symbol``."""
+    d1 = _drop_deltas(sp.diff(numeric, symbol))
+    d2 = _drop_deltas(sp.diff(d1, symbol))
+    return tuple(sp.lambdify(symbol, _for_numpy(e), modules=_MODULES) for e in (numeric, d1, d2))
 
 
 def _for_numpy(expr: sp.Expr) -> sp.Expr:
