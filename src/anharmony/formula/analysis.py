@@ -15,12 +15,22 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any
 
+import mpmath
 import numpy as np
 import scipy.special
 import sympy as sp
 
 from ..errors import FormulaError
+from .bounded import (
+    MAX_TOWER_FOR_SYMPY,
+    SYMPY_CALL_BUDGET,
+    mp_value,
+    tower_height,
+    within_budget,
+)
 from .parse import (
+    _short,
+    check_constant_parts,
     check_parameter_values,
     coordinate_symbol,
     exact_rational,
@@ -120,11 +130,17 @@ class Formula:
                 "that are neither the variable nor a parameter",
                 text=self.text,
             )
+        check_constant_parts(self.expr, self.text, self.parameters)
         numeric = self.expr.xreplace(values) if values else self.expr
         check_parameter_values(numeric, self.text, self.parameters)
-        d1 = _drop_deltas(sp.diff(numeric, symbol))
-        d2 = _drop_deltas(sp.diff(d1, symbol))
-        functions = tuple(sp.lambdify(symbol, e, modules=_MODULES) for e in (numeric, d1, d2))
+        ok, functions = within_budget(lambda: _functions_of(numeric, symbol))
+        if not ok:  # the product rule on (x+1)*(x+2)*...*(x+60) makes 3540 terms of 58 factors
+            raise FormulaError(
+                f"formula {_short(self.text)!r} is too complex: its second derivative takes "
+                f"more than {SYMPY_CALL_BUDGET} steps to build; simplify it (multiply out "
+                "long products, nest fewer functions)",
+                text=self.text,
+            )
         object.__setattr__(self, "_numeric", numeric)
         object.__setattr__(self, "_functions", functions)
 
@@ -176,7 +192,8 @@ class Formula:
         if key not in self._cache:
             values = {parameter_symbol(k): exact_rational(v) for k, v in self.parameters.items()}
             de = _drop_deltas(sp.diff(self.expr, parameter_symbol(name)).xreplace(values))
-            self._cache[key] = sp.lambdify(coordinate_symbol(self.variable), de, modules=_MODULES)
+            self._cache[key] = sp.lambdify(coordinate_symbol(self.variable), _for_numpy(de),
+                                           modules=_MODULES)
         return _evaluate(self._cache[key], x)
 
     # -- structure --------------------------------------------------------------------------
@@ -235,10 +252,13 @@ class Formula:
         Notes
         -----
         :func:`sympy.limit` (Gruntz algorithm) on the expression with the parameter values
-        substituted; if it fails or returns something that is not a real number, a numeric
-        fallback samples the formula at ``|x| = 10^2 … 10^300`` and accepts a limit when the
-        last tenth of the samples agree to 1e-9 relative, or ``±inf`` when they all exceed
-        1e100 in size with one sign.
+        substituted, under a work budget (:mod:`anharmony.formula.bounded`) and only for
+        towers of exponentials at most :data:`~anharmony.formula.bounded.MAX_TOWER_FOR_SYMPY`
+        high (``exp(exp(x))`` and ``x**x**x`` are 2 high); if it fails, runs out of budget or
+        returns something that is not a real number, a numeric fallback samples the formula at
+        ``|x| = 10^2 … 10^300`` and accepts a limit when the last tenth of the samples agree to
+        1e-9 relative, or ``±inf`` when they all exceed 1e100 in size with one sign; samples
+        in floats first, then (if undecided) guarded mpmath values, which do not overflow.
         """
         if side not in (1, -1):
             raise FormulaError(f"threshold: side must be +1 or -1; got {side!r}", text=self.text)
@@ -255,10 +275,16 @@ class Formula:
 
     def _threshold(self, side: int) -> float:
         symbol = coordinate_symbol(self.variable)
-        try:
-            lim = sp.limit(self._numeric, symbol, sp.oo if side > 0 else -sp.oo)
-        except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError):
-            lim = None
+        point = sp.oo if side > 0 else -sp.oo
+        lim = None
+        # Bounded: towers of exponentials (x**x**x, exp(exp(exp(x)))) go straight to the numeric
+        # fallback; otherwise past SYMPY_CALL_BUDGET Python calls the numeric fallback decides.
+        if tower_height(self._numeric, symbol) <= MAX_TOWER_FOR_SYMPY:
+            try:
+                _, lim = within_budget(lambda: sp.limit(self._numeric, symbol, point))
+            except (NotImplementedError, ValueError, TypeError, RecursionError, AttributeError,
+                    ArithmeticError, MemoryError):
+                lim = None
         value = _limit_to_float(lim)
         if not self._real_somewhere_far(side):
             where = "+inf" if side > 0 else "-inf"
@@ -271,36 +297,47 @@ class Formula:
         return self._numeric_limit(side)
 
     def _real_somewhere_far(self, side: int) -> bool:
-        """Whether the formula is real at one of |x| = 1e2, 1e6, 1e12 (mpmath evalf: no
-        overflow). Guards against sympy's complex limits, e.g. log(x) -> oo as x -> -oo."""
+        """Whether the formula is real at one of |x| = 1e2, 1e6, 1e12 (guarded mpmath values,
+        no overflow and no exact folding of towers such as x**x**x). Guards against sympy's
+        complex limits, e.g. log(x) -> oo as x -> -oo."""
         symbol = coordinate_symbol(self.variable)
         for far in (10**2, 10**6, 10**12):
-            try:
-                value = self._numeric.xreplace({symbol: sp.Integer(side * far)}).evalf(30)
-                re, im = value.as_real_imag()
-                if im == 0 or bool(abs(im) <= 1e-20 * abs(re)):
-                    return True
-            except (TypeError, ValueError, ArithmeticError, RecursionError):
+            value = mp_value(self._numeric, {symbol: side * far})
+            if value is None or not mpmath.isfinite(value):
                 return True  # cannot tell: do not block the limit
+            re, im = mpmath.re(value), mpmath.im(value)
+            if im == 0 or abs(im) <= 1e-20 * abs(re):
+                return True
         return False
 
     def _numeric_limit(self, side: int) -> float:
         xs = side * np.logspace(2.0, 300.0, 2385)
-        fs = self.value(xs)
-        tail = fs[-len(fs) // 10 :]
-        if np.all(np.isfinite(tail)):
-            spread = float(np.max(tail) - np.min(tail))
-            if spread <= 1e-9 * max(1.0, float(np.max(np.abs(tail)))) and abs(tail[-1]) < 1e100:
-                return float(tail[-1])
-        big = np.abs(np.nan_to_num(tail, nan=0.0, posinf=np.inf, neginf=-np.inf)) > 1e100
-        if np.all(big) and (np.all(tail > 0) or np.all(tail < 0)):
-            return math.inf if tail[-1] > 0 else -math.inf
+        tail = self.value(xs)[-len(xs) // 10 :]
+        decided = _settled(tail)
+        if decided is None:
+            # floats can fail where the terms overflow separately (x**2*exp(-exp(exp(x))) is
+            # inf*0 at x = 1e300): guarded mpmath values of the same samples have no overflow
+            decided = _settled(np.array([self._mp_float(x) for x in xs[-len(xs) // 10 :]]))
+        if decided is not None:
+            return decided
         where = "+inf" if side > 0 else "-inf"
         raise FormulaError(
             f"formula {self.text!r}: cannot determine its limit as {self.variable} -> {where} "
             "(sympy.limit failed and the values do not settle)",
             text=self.text,
         )
+
+    def _mp_float(self, x: float) -> float:
+        """The formula at ``x`` from guarded mpmath values: a float, ±inf, or nan (no value)."""
+        v = mp_value(self._numeric, {coordinate_symbol(self.variable): x})
+        if v is None or not mpmath.isfinite(v):
+            if v is None or mpmath.isnan(v):
+                return math.nan
+            return math.copysign(math.inf, float(mpmath.re(v)))
+        re, im = mpmath.re(v), mpmath.im(v)
+        if im != 0 and abs(im) > 1e-20 * abs(re):
+            return math.nan
+        return float(re)  # beyond the float range: ±inf
 
 
 # ------------------------------------------------------------------------------ helpers
@@ -322,10 +359,36 @@ def _degree_bound(expr: sp.Expr, symbol: sp.Symbol) -> int | None:
     return None
 
 
+def _functions_of(numeric: sp.Expr, symbol: sp.Symbol) -> tuple[Callable[..., Any], ...]:
+    """numpy functions of the formula and its first two derivatives in ``symbol``."""
+    d1 = _drop_deltas(sp.diff(numeric, symbol))
+    d2 = _drop_deltas(sp.diff(d1, symbol))
+    return tuple(sp.lambdify(symbol, _for_numpy(e), modules=_MODULES) for e in (numeric, d1, d2))
+
+
+def _for_numpy(expr: sp.Expr) -> sp.Expr:
+    """Integers beyond 2**53 as floats: printed as Python ints they would reach numpy ufuncs as
+    objects (``exp(-10**20)`` fails with a TypeError); smaller ones are exact as floats anyway."""
+    big = {n: sp.Float(n) for n in expr.atoms(sp.Integer) if abs(int(n)) > 2**53}
+    return expr.xreplace(big) if big else expr
+
+
 def _drop_deltas(expr: sp.Expr) -> sp.Expr:
     if expr.has(sp.DiracDelta):
         expr = expr.replace(sp.DiracDelta, lambda *args: sp.S.Zero)
     return expr
+
+
+def _settled(tail: np.ndarray) -> float | None:
+    """The limit the samples of the far tail settle to, ``±inf``, or ``None`` (undecided)."""
+    if np.all(np.isfinite(tail)):
+        spread = float(np.max(tail) - np.min(tail))
+        if spread <= 1e-9 * max(1.0, float(np.max(np.abs(tail)))) and abs(tail[-1]) < 1e100:
+            return float(tail[-1])
+    big = np.abs(np.nan_to_num(tail, nan=0.0, posinf=np.inf, neginf=-np.inf)) > 1e100
+    if np.all(big) and (np.all(tail > 0) or np.all(tail < 0)):
+        return math.inf if tail[-1] > 0 else -math.inf
+    return None
 
 
 def _limit_to_float(lim: Any) -> float | None:

@@ -32,6 +32,7 @@ import numpy as np
 import sympy as sp
 
 from ..errors import FormulaError
+from .bounded import is_finite_float, mp_call, mp_power, mp_value
 
 __all__ = [
     "CONSTANTS",
@@ -43,6 +44,7 @@ __all__ = [
     "MAX_NODES",
     "MAX_NUMBER_BITS",
     "VARIABLES",
+    "check_constant_parts",
     "check_parameter_values",
     "coordinate_symbol",
     "exact_rational",
@@ -174,6 +176,17 @@ class _Builder:
         msg += f"; {_allowed(self.variable, self.params)}"
         return FormulaError(msg, text=self.text, piece=piece)
 
+    def finite(self, node: ast.AST, value: object) -> None:
+        """Refuse a constant part whose value (guarded mpmath, or None) does not fit a float."""
+        if not is_finite_float(value):
+            piece = self.piece(node)
+            raise FormulaError(
+                f"formula {_short(self.text)!r}: the constant {_short(piece)!r} overflows a float "
+                "(its size exceeds 1.8e308)",
+                text=self.text,
+                piece=piece,
+            )
+
     def checked(self, node: ast.AST, result: sp.Expr) -> sp.Expr:
         """Reject complex, infinite and oversized numbers the moment they appear."""
         piece = self.piece(node)
@@ -192,6 +205,8 @@ class _Builder:
                 text=self.text,
                 piece=piece,
             )
+        if result.is_number and not result.is_Rational:
+            self.finite(node, mp_value(result))
         for atom in result.atoms(sp.Rational):
             if _bits(atom) > MAX_NUMBER_BITS or not math.isfinite(_float(atom)):
                 raise FormulaError(
@@ -298,6 +313,8 @@ class _Builder:
                     text=self.text,
                     piece=self.piece(node),
                 )
+        if a.is_number and b.is_number:
+            self.finite(node, mp_power(mp_value(a), mp_value(b)))
         return self.checked(node, sp.Pow(a, b))
 
     def call(self, node: ast.Call) -> sp.Expr:
@@ -324,6 +341,8 @@ class _Builder:
                 text=self.text,
                 piece=self.piece(node),
             )
+        if arg.is_number:  # before sympy folds it: exp(exp(exp(100))) would never finish
+            self.finite(node, mp_call(name, mp_value(arg)))
         return self.checked(node, FUNCTIONS[name](arg))
 
 
@@ -363,6 +382,36 @@ def _check_parameters(parameters: Mapping[str, float] | None, variable: str) -> 
             raise FormulaError(f"parameter {name!r} must be finite; got {value!r}")
         out[name] = value
     return out
+
+
+def check_constant_parts(expr: sp.Expr, text: str, parameters: Mapping[str, float]) -> None:
+    """Refuse a part free of the coordinate whose value with the parameters does not fit a
+    float (``exp(a)`` with ``a = 1000``); run before the values are substituted, so that sympy
+    never folds a tower of huge constants."""
+    if not parameters:
+        return
+    values = {parameter_symbol(k): v for k, v in parameters.items()}
+    coordinates = {coordinate_symbol(v) for v in VARIABLES}
+    for sub in sp.preorder_traversal(expr):
+        if sub.is_Pow and not sub.exp.free_symbols & coordinates and sub.exp.free_symbols:
+            size = mp_value(sub.exp, values)  # the rule for written exponents (MAX_EXPONENT)
+            if size is not None and not abs(size) <= MAX_EXPONENT:
+                raise FormulaError(
+                    f"formula {_short(text)!r}: the exponent of {_short(str(sub))!r} is too "
+                    f"large with the parameters {dict(parameters)}; numeric exponents must lie "
+                    f"within ±{MAX_EXPONENT}",
+                    text=text,
+                    piece=str(sub),
+                )
+        if sub.is_Atom or sub.free_symbols & coordinates:
+            continue
+        if not is_finite_float(mp_value(sub, values)):
+            raise FormulaError(
+                f"formula {_short(text)!r}: {_short(str(sub))!r} overflows a float with the "
+                f"parameters {dict(parameters)} (its size exceeds 1.8e308)",
+                text=text,
+                piece=str(sub),
+            )
 
 
 def check_parameter_values(numeric: sp.Expr, text: str, parameters: Mapping[str, float]) -> None:

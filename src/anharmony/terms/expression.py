@@ -9,6 +9,8 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any, ClassVar
 
+import numpy as np
+
 from .base import Term, TermError, arr, center, number, require
 
 __all__ = ["Expression"]
@@ -40,6 +42,7 @@ class Expression(Term):
             f = compile_formula(text, variable=variable, parameters=values)
         except FormulaError as exc:
             raise TermError(cls.kind, "formula", str(exc)) from None
+        _check_real(f, text)
         return cls(center=center(cls.kind, p), formula=f, text=text)
 
     def value(self, x):
@@ -71,6 +74,35 @@ class Expression(Term):
 
     def polynomial(self):
         return self.formula.polynomial()
+
+
+# Where a formula must be real: |x| (or r) from 1e-3 to 1e3, ten points a decade, not 0 itself
+# (sin(x)/x is 0/0 there but has a limit). Wider than the wells of any unit system in use.
+_PROBE = np.logspace(-3.0, 3.0, 61)
+
+
+def _check_real(f: Any, text: str) -> None:
+    """Refuse a formula that is not real where a well lives (``sin(x)**x`` at x = -0.5): the
+    quadrature of ``run`` would otherwise fail on NaN. NaN from overflow in floats
+    (``cosh(x) - sinh(x)`` at x = 1e3) is told apart by guarded mpmath values at those points."""
+    import mpmath
+
+    from ..formula.bounded import mp_value
+    from ..formula.parse import coordinate_symbol
+
+    xs = _PROBE if f.variable == "r" else np.concatenate([-_PROBE[::-1], _PROBE])
+    values = f.value(xs)
+    symbol = coordinate_symbol(f.variable)
+    for x in sorted(xs[np.isnan(values)], key=abs):
+        v = mp_value(f.numeric_expr, {symbol: float(x)})
+        if v is None or mpmath.isnan(v):
+            continue  # cannot tell: the quadrature decides
+        im, re = mpmath.im(v), mpmath.re(v)
+        if im != 0 and abs(im) > 1e-12 * abs(re):
+            raise TermError("expression", "formula",
+                            f"{text!r} has no real value at {f.variable} = {x:.3g} (a fractional "
+                            "power or the logarithm of a negative number); a well must be real "
+                            + ("for every r > 0" if f.variable == "r" else "for every x"))
 
 
 def _uses_name(text: str, name: str) -> bool:
