@@ -49,7 +49,8 @@ def _parser() -> argparse.ArgumentParser:
                      help="skip cases whose result exists and was made from the same case "
                           "text")
     run.add_argument("--overwrite", action="store_true",
-                     help="replace existing results (otherwise they are never overwritten)")
+                     help="replace existing results (otherwise they are never overwritten); "
+                          "not with --resume")
     run.add_argument("--scheduler", metavar="ADDRESS",
                      help="run on a dask.distributed scheduler at ADDRESS (needs the "
                           "[cluster] extra); overrides --jobs")
@@ -211,6 +212,10 @@ def _cmd_run(args: argparse.Namespace) -> int:
 
     if args.jobs < 1:
         _err(f"--jobs: must be at least 1; got {args.jobs}")
+        return EXIT_BAD_INPUT
+    if args.resume and args.overwrite:
+        _err("--resume and --overwrite contradict each other (--resume keeps existing results, "
+             "--overwrite replaces them): give one of them")
         return EXIT_BAD_INPUT
     try:
         cases = load_cases(args.cases)

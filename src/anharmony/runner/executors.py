@@ -12,7 +12,9 @@ import sys
 import traceback
 import uuid
 from collections.abc import Iterator, Sequence
+from typing import Any
 
+from .._atomic import close_inherited_claims
 from ..cases import Case
 from .compute import run_job
 from .plan import Job
@@ -23,7 +25,9 @@ __all__ = ["distributed", "failure", "pool", "serial"]
 def _init_worker() -> None:
     # the parent decides when to stop; workers must not die half-way on a Ctrl-C of the group
     signal.signal(signal.SIGINT, signal.SIG_IGN)
-    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)  # Pool.terminate() stops a worker at once
+    # the parent's lock files stay the parent's: a worker outliving it must not hold them
+    close_inherited_claims()
     # one BLAS thread per worker: the pool already fills the cores (PITFALLS §6); the
     # environment only reaches libraries loaded later, threadpoolctl (if present) the loaded
     for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
@@ -55,21 +59,50 @@ def serial(items: Sequence[tuple[Case, Job]]) -> Iterator[tuple]:
         yield _guarded(item)
 
 
-def pool(items: Sequence[tuple[Case, Job]], jobs: int) -> Iterator[tuple]:
-    import multiprocessing as mp
+class _Pool:
+    """Results of a process pool in completion order; :meth:`close` stops it.
 
-    method = "fork" if sys.platform.startswith("linux") else "spawn"
-    ctx = mp.get_context(method)
-    pool = ctx.Pool(processes=jobs, initializer=_init_worker)
-    try:
-        # largest jobs first so that the pool does not end on one long job
-        yield from pool.imap_unordered(_guarded, items, chunksize=1)
-        pool.close()
-    except BaseException:
-        pool.terminate()
-        raise
-    finally:
+    The workers are forked when this is made (call it where no signal is raised: a worker
+    forked in the middle of an exception would start with its parent's state), and
+    :meth:`close` stops them whether or not the iteration started.
+    """
+
+    def __init__(self, items: Sequence[tuple[Case, Job]], jobs: int) -> None:
+        import multiprocessing as mp
+
+        method = "fork" if sys.platform.startswith("linux") else "spawn"
+        self._pool: Any = mp.get_context(method).Pool(processes=jobs, initializer=_init_worker)
+        # largest jobs first (the batch sorts them) so that the pool does not end on one
+        self._results = self._pool.imap_unordered(_guarded, items, chunksize=1)
+
+    def __iter__(self) -> _Pool:
+        return self
+
+    def __next__(self) -> tuple:
+        if self._pool is None:
+            raise StopIteration
+        try:
+            return next(self._results)
+        except StopIteration:
+            self._stop(clean=True)
+            raise
+
+    def close(self) -> None:
+        self._stop(clean=False)
+
+    def _stop(self, *, clean: bool) -> None:
+        pool, self._pool = self._pool, None
+        if pool is None:
+            return
+        if clean:
+            pool.close()
+        else:
+            pool.terminate()  # SIGTERM to each worker; their default action ends them
         pool.join()
+
+
+def pool(items: Sequence[tuple[Case, Job]], jobs: int) -> _Pool:
+    return _Pool(items, jobs)
 
 
 def distributed(items: Sequence[tuple[Case, Job]], address: str) -> Iterator[tuple]:
