@@ -18,6 +18,7 @@
 
 from __future__ import annotations
 
+import atexit
 import contextlib
 import datetime as _dt
 import errno
@@ -177,6 +178,13 @@ def lock_path(target: Path) -> Path:
 
 
 _CLAIMS: dict[Path, Claim] = {}  # the claims this process holds, by resolved target
+
+
+@atexit.register
+def _release_all() -> None:  # a process that ends normally leaves no lock file behind
+    for c in list(_CLAIMS.values()):
+        c._depth = 1
+        c.release()
 
 
 class Claim:
