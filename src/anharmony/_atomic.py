@@ -245,7 +245,10 @@ def claim(target: str | os.PathLike) -> Claim:
     OSError
         If the lock file cannot be created (e.g. the folder is not writable).
     """
-    import fcntl
+    try:
+        import fcntl
+    except ImportError:  # not POSIX: the lock file's contents alone decide
+        fcntl = None
 
     target = Path(target)
     key = target.resolve()
@@ -255,8 +258,11 @@ def claim(target: str | os.PathLike) -> Claim:
         return held
     lock = lock_path(target)
     for _ in range(100):  # retries only when a holder released the lock file under us
-        fd = os.open(lock, os.O_RDWR | os.O_CREAT | os.O_CLOEXEC, 0o666 & ~_umask())
+        fd = os.open(lock, os.O_RDWR | os.O_CREAT | getattr(os, "O_CLOEXEC", 0),
+                     0o666 & ~_umask())
         try:
+            if fcntl is None:
+                raise OSError(errno.ENOLCK, "no flock")
             fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except BlockingIOError:
             holder = _read_holder(fd)

@@ -62,9 +62,10 @@ def serial(items: Sequence[tuple[Case, Job]]) -> Iterator[tuple]:
 class _Pool:
     """Results of a process pool in completion order; :meth:`close` stops it.
 
-    The workers are forked when this is made (call it where no signal is raised: a worker
-    forked in the middle of an exception would start with its parent's state), and
-    :meth:`close` stops them whether or not the iteration started.
+    The workers are forked when this is made: call it where a signal is only recorded (an
+    exception raised during the fork can be swallowed by an at-fork hook, e.g. logging's:
+    "Exception ignored in _releaseLock"). :meth:`close` stops the workers whether or not the
+    iteration started, and also after a clean end whose ``join`` was cut short.
     """
 
     def __init__(self, items: Sequence[tuple[Case, Job]], jobs: int) -> None:
@@ -73,17 +74,18 @@ class _Pool:
         method = "fork" if sys.platform.startswith("linux") else "spawn"
         self._pool: Any = mp.get_context(method).Pool(processes=jobs, initializer=_init_worker)
         # largest jobs first (the batch sorts them) so that the pool does not end on one
-        self._results = self._pool.imap_unordered(_guarded, items, chunksize=1)
+        self._results: Any = self._pool.imap_unordered(_guarded, items, chunksize=1)
 
     def __iter__(self) -> _Pool:
         return self
 
     def __next__(self) -> tuple:
-        if self._pool is None:
+        if self._pool is None or self._results is None:
             raise StopIteration
         try:
             return next(self._results)
         except StopIteration:
+            self._results = None
             self._stop(clean=True)
             raise
 
@@ -91,7 +93,7 @@ class _Pool:
         self._stop(clean=False)
 
     def _stop(self, *, clean: bool) -> None:
-        pool, self._pool = self._pool, None
+        pool = self._pool
         if pool is None:
             return
         if clean:
@@ -99,6 +101,7 @@ class _Pool:
         else:
             pool.terminate()  # SIGTERM to each worker; their default action ends them
         pool.join()
+        self._pool = None  # only now: a join cut short is followed by close() → terminate
 
 
 def pool(items: Sequence[tuple[Case, Job]], jobs: int) -> _Pool:
