@@ -206,10 +206,40 @@ class _Progress:
 
 
 # --------------------------------------------------------------------------- run
-def _cmd_run(args: argparse.Namespace) -> int:
-    from .cases import CaseError, load_cases
-    from .runner import run_batch
+def _held_signals() -> tuple[list[int], Any]:
+    """Record SIGINT and SIGTERM (those not ignored at start) instead of acting on them;
+    returns (the signals received, a function that puts the old handlers back).
 
+    For the imports and the reading of the cases before a batch takes the signals over: an
+    exception raised inside the import of a compiled module is turned into an ImportError
+    with a traceback ("initialization failed"), and a SIGTERM there would end the run
+    without a word.
+    """
+    import signal
+
+    got: list[int] = []
+    old: dict[int, Any] = {}
+
+    def record(signum: int, frame: Any) -> None:
+        got.append(signum)
+
+    for signum in (signal.SIGINT, signal.SIGTERM):
+        handler = signal.getsignal(signum)
+        if handler not in (signal.SIG_IGN, None):  # ignored at start stays ignored
+            old[signum] = signal.signal(signum, record)
+
+    def restore() -> None:
+        for signum, handler in old.items():
+            signal.signal(signum, handler)
+
+    return got, restore
+
+
+def _stopped_line(signum: int) -> str:
+    return "Ctrl-C" if signum == 2 else f"signal {signum}"
+
+
+def _cmd_run(args: argparse.Namespace) -> int:
     if args.jobs < 1:
         _err(f"--jobs: must be at least 1; got {args.jobs}")
         return EXIT_BAD_INPUT
@@ -217,10 +247,20 @@ def _cmd_run(args: argparse.Namespace) -> int:
         _err("--resume and --overwrite contradict each other (--resume keeps existing results, "
              "--overwrite replaces them): give one of them")
         return EXIT_BAD_INPUT
+    got, restore = _held_signals()
     try:
-        cases = load_cases(args.cases)
-    except CaseError as exc:
-        return _problems(exc)
+        from .cases import CaseError, load_cases
+        from .runner import run_batch
+
+        try:
+            cases = load_cases(args.cases)
+        except CaseError as exc:
+            return _problems(exc)
+    finally:
+        restore()
+    if got:  # nothing was written or claimed yet
+        _err(f"stopped by {_stopped_line(got[0])} before the run started")
+        return 128 + got[0]
     progress = _Progress(args.progress if args.progress != "off" else "off", sys.stderr)
     history = "anharmony " + " ".join(sys.argv[1:]) if sys.argv[1:] else None
     try:
@@ -242,7 +282,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     progress.close()
     written = len(report.written)
     if report.interrupted is not None:
-        name = "Ctrl-C" if report.interrupted == 2 else f"signal {report.interrupted}"
+        name = _stopped_line(report.interrupted)
         done = ", ".join(str(p) for _, p in report.written) or "none"
         left = ", ".join(c.name for c in report.not_run) or "none"
         _err(f"stopped by {name}: finished {done}; not finished: {left}")
