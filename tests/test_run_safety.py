@@ -364,32 +364,62 @@ def test_sigint_ignored_at_start_stays_ignored(tmp_path, monkeypatch):
     assert report.interrupted is None and len(report.written) == 2
 
 
-STOP_DELAYS_S = (0.0, 0.6, 1.2, 1.8)  # from start-up (imports) to the writes of a short run
+# (signal, the line of the run's output after which it is sent or None: at once, --jobs)
+STOPS = [(signal.SIGTERM, None, "2"),  # start-up: before any handler (default action)
+         (signal.SIGINT, "running ", "2"),  # planned, the jobs start
+         (signal.SIGTERM, "3/", "1"),  # the first jobs are in, the others run
+         (signal.SIGINT, "wrote ", "1"),  # just after the first write
+         (signal.SIGINT, "wrote ", "2"),
+         (signal.SIGTERM, "wrote ", "2")]
 
 
-@pytest.mark.slow  # eight short real runs, ~1.5 s each
-@pytest.mark.parametrize("jobs", ["1", "2"])
-def test_a_stop_at_any_moment_leaves_only_whole_files(tmp_path, jobs):
+@pytest.mark.slow  # six short real runs, ~1 s each
+def test_a_stop_at_any_moment_leaves_only_whole_files(tmp_path):
     # SIGINT or SIGTERM to the main process alone (as a batch scheduler sends it), at
-    # delays spread from start-up to the last write: the run ends (or had finished), with
-    # no traceback, every file readable and no temporary or lock file left
-    for k, delay in enumerate(STOP_DELAYS_S):
-        folder = tmp_path / f"d{k}"
+    # moments from start-up to the writes: the run ends (or had finished), with no
+    # traceback, every file readable and no temporary or lock file left
+    import queue
+    import threading
+
+    stopped = 0
+    for k, (signum, after, jobs) in enumerate(STOPS):
+        folder = tmp_path / f"s{k}"
         folder.mkdir()
         paths = _cases(folder, 4)
-        # SIGTERM first: a SIGINT in the first instants (Python's own start-up, before any
-        # of our code) is Python's KeyboardInterrupt traceback, outside the program
-        signum = (signal.SIGTERM, signal.SIGINT)[k % 2]
         proc = _popen([sys.executable, "-m", "anharmony.cli", "run", "--progress", "lines",
                        "--jobs", jobs, *map(str, paths)], folder,
-                      stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-        time.sleep(delay)
-        if proc.poll() is None:
+                      stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+        lines: queue.Queue[str | None] = queue.Queue()
+
+        def pump(stream=proc.stderr, lines=lines):
+            for line in stream:
+                lines.put(line)
+            lines.put(None)
+
+        reader = threading.Thread(target=pump, daemon=True)
+        reader.start()
+        seen: list[str] = []
+        if after is None:
             proc.send_signal(signum)
-        _, err = _finish(proc)
+        deadline = time.monotonic() + HARD_S
+        try:
+            while (line := lines.get(timeout=max(0.0, deadline - time.monotonic()))) is not None:
+                seen.append(line)
+                if after is not None and line.startswith(after):
+                    proc.send_signal(signum)
+                    after = "never again"
+            proc.wait(timeout=max(0.0, deadline - time.monotonic()))
+        except (queue.Empty, subprocess.TimeoutExpired):
+            os.killpg(proc.pid, signal.SIGKILL)
+            proc.wait(timeout=HARD_S)
+            pytest.fail(f"stop {k} hung for {HARD_S} s:\n" + "".join(seen))
+        reader.join(timeout=HARD_S)
+        err = "".join(seen)
         # stopped (128 + n, or killed by it before the handlers were set), or already done
-        assert proc.returncode in (0, 128 + signum, -signum), (delay, err)
-        assert "Traceback" not in err, (delay, err)
+        assert proc.returncode in (0, 128 + signum, -signum), (k, err)
+        assert "Traceback" not in err, (k, err)
         for p in folder.glob("*.nc"):
             read_dataset(p)
-        assert _dotfiles(folder) == [], (delay, err)
+        assert _dotfiles(folder) == [], (k, err)
+        stopped += proc.returncode == 128 + signum and "stopped by" in err
+    assert stopped >= 4  # the moments after a line of output reach a running batch
