@@ -247,17 +247,24 @@ def _cmd_run(args: argparse.Namespace) -> int:
         _err("--resume and --overwrite contradict each other (--resume keeps existing results, "
              "--overwrite replaces them): give one of them")
         return EXIT_BAD_INPUT
+    # held for the whole command: the batch takes them over while it runs; before it (the
+    # imports, reading the cases) they end the run with one line, after it (the summary; a
+    # second signal of a stop) they are only recorded
     got, restore = _held_signals()
     try:
-        from .cases import CaseError, load_cases
-        from .runner import run_batch
-
-        try:
-            cases = load_cases(args.cases)
-        except CaseError as exc:
-            return _problems(exc)
+        return _run_held(args, got)
     finally:
         restore()
+
+
+def _run_held(args: argparse.Namespace, got: list[int]) -> int:
+    from .cases import CaseError, load_cases
+    from .runner import run_batch
+
+    try:
+        cases = load_cases(args.cases)
+    except CaseError as exc:
+        return _problems(exc)
     if got:  # nothing was written or claimed yet
         _err(f"stopped by {_stopped_line(got[0])} before the run started")
         return 128 + got[0]

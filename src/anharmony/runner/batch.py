@@ -240,8 +240,8 @@ class _Stops:
     """SIGINT and SIGTERM while a batch runs, as a stop request that never hangs the stop.
 
     A signal raises :class:`Interrupted` at once only inside an interruptible section (a job
-    computed in this process, the wait for workers, planning, assembling): code that holds no
-    lock. Elsewhere (writing a file: xarray holds a lock that the clean-up after an exception
+    computed in this process, planning, assembling, the wait for dask): code that holds no
+    lock. The wait for pool workers needs no such exception: it polls :meth:`check`. Elsewhere (writing a file: xarray holds a lock that the clean-up after an exception
     raised inside it would take again; forking the workers; printing) it is recorded and
     raised at the next :meth:`check` or section. Once the batch handles the stop
     (:attr:`stopping`), a further signal is only recorded: the clean stop is never cut short.
@@ -428,17 +428,22 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         parts: dict[int, list[dict]] = {key: [] for key in pending}
         failed: dict[int, str] = {}
         stops.check()
+        polled = scheduler is None and jobs > 1 and len(items) > 1
         if scheduler is not None:
             stream = distributed(items, scheduler)
-        elif jobs > 1 and len(items) > 1:
-            stream = pool(items, min(jobs, len(items)))  # workers forked outside a section
+        elif polled:
+            # forked outside a section; the wait polls for a stop instead of being cut
+            stream = pool(items, min(jobs, len(items)), poll=stops.check)
         else:
             stream = serial(items)
         done = dict.fromkeys(pending, 0)
         results = iter(stream)
         while True:
-            with stops:
+            if polled:
                 got = next(results, None)
+            else:
+                with stops:  # a job computed here, or the wait for dask
+                    got = next(results, None)
             if got is None:
                 break
             key, job, part, error = got

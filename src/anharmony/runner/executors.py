@@ -11,7 +11,7 @@ import signal
 import sys
 import traceback
 import uuid
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from typing import Any
 
 from .._atomic import close_inherited_claims
@@ -20,6 +20,8 @@ from .compute import run_job
 from .plan import Job
 
 __all__ = ["distributed", "failure", "pool", "serial"]
+
+POLL_S = 0.1  # s: the longest a stop request waits while the pool's workers compute
 
 
 def _init_worker() -> None:
@@ -68,9 +70,12 @@ class _Pool:
     iteration started, and also after a clean end whose ``join`` was cut short.
     """
 
-    def __init__(self, items: Sequence[tuple[Case, Job]], jobs: int) -> None:
+    def __init__(self, items: Sequence[tuple[Case, Job]], jobs: int,
+                 poll: Callable[[], None] | None = None) -> None:
         import multiprocessing as mp
 
+        self._timeout = mp.TimeoutError
+        self._poll = poll
         method = "fork" if sys.platform.startswith("linux") else "spawn"
         self._pool: Any = mp.get_context(method).Pool(processes=jobs, initializer=_init_worker)
         # largest jobs first (the batch sorts them) so that the pool does not end on one
@@ -83,7 +88,13 @@ class _Pool:
         if self._pool is None or self._results is None:
             raise StopIteration
         try:
-            return next(self._results)
+            if self._poll is None:
+                return next(self._results)
+            while True:  # wait in short steps and look for a stop request in between
+                try:
+                    return self._results.next(timeout=POLL_S)
+                except self._timeout:
+                    self._poll()
         except StopIteration:
             self._results = None
             self._stop(clean=True)
@@ -104,8 +115,15 @@ class _Pool:
         self._pool = None  # only now: a join cut short is followed by close() → terminate
 
 
-def pool(items: Sequence[tuple[Case, Job]], jobs: int) -> _Pool:
-    return _Pool(items, jobs)
+def pool(items: Sequence[tuple[Case, Job]], jobs: int,
+         poll: Callable[[], None] | None = None) -> _Pool:
+    """The results of ``items`` run by ``jobs`` worker processes, in completion order.
+
+    With ``poll``, the wait for a result is cut into steps of ``POLL_S`` and ``poll()`` is
+    called between them (it raises to stop): the stop needs no exception raised by a signal
+    handler in the middle of whatever the main thread runs.
+    """
+    return _Pool(items, jobs, poll)
 
 
 def distributed(items: Sequence[tuple[Case, Job]], address: str) -> Iterator[tuple]:
