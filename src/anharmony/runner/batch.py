@@ -241,9 +241,10 @@ class _Stops:
 
     A signal raises :class:`Interrupted` at once only inside an interruptible section (a job
     computed in this process, planning, assembling, the wait for dask): code that holds no
-    lock. The wait for pool workers needs no such exception: it polls :meth:`check`. Elsewhere (writing a file: xarray holds a lock that the clean-up after an exception
-    raised inside it would take again; forking the workers; printing) it is recorded and
-    raised at the next :meth:`check` or section. Once the batch handles the stop
+    lock. The wait for pool workers needs no such exception: it polls :meth:`check`.
+    Elsewhere (writing a file: xarray holds a lock that the clean-up after an exception raised
+    inside it would take again; forking the workers; printing) it is recorded and raised at
+    the next :meth:`check` or section. Once the batch handles the stop
     (:attr:`stopping`), a further signal is only recorded: the clean stop is never cut short.
     A raise that a library swallowed ("Exception ignored in ...") is raised again at the
     next check. A signal that was ignored when the batch started stays ignored (a background
