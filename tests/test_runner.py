@@ -337,12 +337,21 @@ def test_distributed_executor_matches_serial(tmp_path):
 def _start(paths, cwd, *extra):
     env = {**os.environ, "PYTHONUNBUFFERED": "1"}
     env.pop("CI", None)
+    # a session of its own (a hang kills the whole group, workers too), and SIGINT as in a
+    # terminal whoever started the tests: a background job inherits it ignored, honoured
     return subprocess.Popen([sys.executable, "-m", "anharmony.cli", "run", "--progress",
                              "lines", *extra, *map(str, paths)], cwd=cwd, env=env,
-                            stderr=subprocess.PIPE, stdout=subprocess.PIPE, text=True)
+                            stderr=subprocess.PIPE, stdout=subprocess.PIPE, text=True,
+                            start_new_session=True,
+                            preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
 
 
 WAIT_S = 120  # s: a hang guard, not a speed check; the whole batch takes ~5 s alone
+
+
+def _kill(proc) -> None:
+    os.killpg(proc.pid, signal.SIGKILL)
+    proc.wait(timeout=WAIT_S)
 
 
 def _stop_after_first_file(proc, signum) -> str:
@@ -369,10 +378,9 @@ def _stop_after_first_file(proc, signum) -> str:
                 proc.send_signal(signum)
                 sent = True
                 deadline = time.monotonic() + WAIT_S  # now wait for the clean stop
-        proc.wait(timeout=WAIT_S)
+        proc.wait(timeout=max(0.0, deadline - time.monotonic()))
     except (queue.Empty, subprocess.TimeoutExpired):
-        proc.kill()
-        proc.wait()
+        _kill(proc)
         pytest.fail(f"the batch hung (no output for {WAIT_S} s):\n" + "".join(seen))
     reader.join(timeout=WAIT_S)
     return "".join(seen)
@@ -398,8 +406,7 @@ def test_interrupted_batch_leaves_whole_files_and_resume_finishes(tmp_path, sign
     try:
         _, err = proc.communicate(timeout=WAIT_S)
     except subprocess.TimeoutExpired:
-        proc.kill()
-        proc.communicate()
+        _kill(proc)
         pytest.fail(f"the resumed batch hung for {WAIT_S} s")
     assert proc.returncode == 0, err
     assert err.count("up to date:") == len(done)

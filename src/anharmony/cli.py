@@ -54,7 +54,8 @@ def _parser() -> argparse.ArgumentParser:
                      help="skip cases whose result exists and was made from the same case "
                           "text")
     run.add_argument("--overwrite", action="store_true",
-                     help="replace existing results (otherwise they are never overwritten)")
+                     help="replace existing results (otherwise they are never overwritten); "
+                          "not with --resume")
     run.add_argument("--scheduler", metavar="ADDRESS",
                      help="run on a dask.distributed scheduler at ADDRESS (needs the "
                           "[cluster] extra); overrides --jobs")
@@ -217,20 +218,71 @@ class _Progress:
 
 
 # --------------------------------------------------------------------------- run
+def _held_signals() -> tuple[list[int], Any]:
+    """Record SIGINT and SIGTERM (those not ignored at start) instead of acting on them;
+    returns (the signals received, a function that puts the old handlers back).
+
+    For the imports and the reading of the cases before a batch takes the signals over: an
+    exception raised inside the import of a compiled module is turned into an ImportError
+    with a traceback ("initialization failed"), and a SIGTERM there would end the run
+    without a word.
+    """
+    import signal
+
+    got: list[int] = []
+    old: dict[int, Any] = {}
+
+    def record(signum: int, frame: Any) -> None:
+        got.append(signum)
+
+    for signum in (signal.SIGINT, signal.SIGTERM):
+        handler = signal.getsignal(signum)
+        if handler not in (signal.SIG_IGN, None):  # ignored at start stays ignored
+            old[signum] = signal.signal(signum, record)
+
+    def restore() -> None:
+        for signum, handler in old.items():
+            signal.signal(signum, handler)
+
+    return got, restore
+
+
+def _stopped_line(signum: int) -> str:
+    return "Ctrl-C" if signum == 2 else f"signal {signum}"
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
+    if args.jobs < 1:
+        _err(f"--jobs: must be at least 1; got {args.jobs}")
+        return EXIT_BAD_INPUT
+    if args.resume and args.overwrite:
+        _err("--resume and --overwrite contradict each other (--resume keeps existing results, "
+             "--overwrite replaces them): give one of them")
+        return EXIT_BAD_INPUT
+    # held for the whole command: the batch takes them over while it runs; before it (the
+    # imports, reading the cases) they end the run with one line, after it (the summary; a
+    # second signal of a stop) they are only recorded
+    got, restore = _held_signals()
+    try:
+        return _run_held(args, got)
+    finally:
+        restore()
+
+
+def _run_held(args: argparse.Namespace, got: list[int]) -> int:
     from .cases import CaseError, load_cases
     from .runner import preflight, run_batch
     from .runner.preflight import WORK_LIMIT_SECONDS
 
-    if args.jobs < 1:
-        _err(f"--jobs: must be at least 1; got {args.jobs}")
-        return EXIT_BAD_INPUT
     try:
         cases = load_cases(args.cases)
     except CaseError as exc:
         return _problems(exc)
-    found = [i for case in cases for i in preflight(
+    found = [] if got else [i for case in cases for i in preflight(
         case, work_limit=None if args.allow_long else WORK_LIMIT_SECONDS)]
+    if got:  # nothing was written or claimed yet
+        _err(f"stopped by {_stopped_line(got[0])} before the run started")
+        return 128 + got[0]
     if found:  # what `check` refuses, `run` refuses before it starts
         return _problems(CaseError(found))
     progress = _Progress(args.progress if args.progress != "off" else "off", sys.stderr)
@@ -254,7 +306,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     progress.close()
     written = len(report.written)
     if report.interrupted is not None:
-        name = "Ctrl-C" if report.interrupted == 2 else f"signal {report.interrupted}"
+        name = _stopped_line(report.interrupted)
         done = ", ".join(str(p) for _, p in report.written) or "none"
         left = ", ".join(c.name for c in report.not_run) or "none"
         _err(f"stopped by {name}: finished {done}; not finished: {left}")

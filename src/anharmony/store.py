@@ -20,7 +20,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ._atomic import atomic_write
+from ._atomic import OutputHeldError, atomic_write, claim, remove_stale_temporaries
 from .axes import (  # noqa: F401  (re-exported: the store's public names)
     ScanAxis,
     energy_attrs,
@@ -48,6 +48,7 @@ __all__ = [
     "RESULT_SCHEMA",
     "CaseResult",
     "FitOutcome",
+    "OutputHeldError",
     "ResultFileError",
     "RotationOutcome",
     "ScanAxis",
@@ -64,7 +65,7 @@ __all__ = [
 
 RESULT_SCHEMA = 1  # version of the result-file layout; stored as attribute `anharmony_schema`
 CONVENTIONS = "CF-1.11"
-TEMP_SUFFIX = ".nc.tmp"  # temporary files are ".<name>.<random>.nc.tmp" in the target folder
+TEMP_SUFFIX = ".nc.tmp"  # temporaries: ".<name>.<host>-<pid>.<random>.nc.tmp" beside the target
 
 # Every name of DESIGN §6 that a result file carries.
 CORE_NAMES = (
@@ -462,10 +463,18 @@ def _encoding(ds: xr.Dataset) -> dict[str, dict[str, Any]]:
 def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) -> Path:
     """Write ``ds`` to ``path`` atomically: a temporary file in the same folder, then a rename.
 
+    The file is claimed for the write (the lock file ``.<name>.lock`` beside it; a batch holds
+    the claim for the whole run of the case), so two processes never write one file at once;
+    temporaries of writers that were killed are removed first (``anharmony._atomic``).
+    Without ``overwrite`` the final name is created exclusively: a file that appeared
+    meanwhile is never replaced.
+
     Raises
     ------
     FileExistsError
-        If ``path`` exists and ``overwrite`` is false.
+        If ``path`` exists (or appears during the write) and ``overwrite`` is false.
+    OutputHeldError
+        If another process holds the claim on ``path`` (an ``OSError``; pid and host named).
     OSError
         If the folder cannot be written; no temporary file is left behind.
     """
@@ -474,8 +483,11 @@ def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) 
         raise FileExistsError(f"{target}: exists; pass overwrite=True (--overwrite) to "
                               "replace it")
     encoding = _encoding(ds)
-    return atomic_write(target, lambda tmp: ds.drop_encoding().to_netcdf(
-        tmp, engine="netcdf4", format="NETCDF4", encoding=encoding), TEMP_SUFFIX)
+    with claim(target):
+        remove_stale_temporaries(target, TEMP_SUFFIX)
+        return atomic_write(target, lambda tmp: ds.drop_encoding().to_netcdf(
+            tmp, engine="netcdf4", format="NETCDF4", encoding=encoding), TEMP_SUFFIX,
+            exclusive=not overwrite)
 
 
 def read_dataset(path: str | Path) -> xr.Dataset:

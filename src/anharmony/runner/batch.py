@@ -7,16 +7,27 @@ executor and writes each case's result through the store once its last job is in
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
+import threading
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from .._atomic import Claim, OutputHeldError, claim, lock_path, remove_stale_temporaries
 from ..cases import Case, CaseError, Problem, load_case, load_cases
 from ..errors import InputError
-from ..store import CaseResult, build_dataset, result_attrs, write_dataset
+from ..store import (
+    CORE_NAMES,
+    TEMP_SUFFIX,
+    CaseResult,
+    ResultFileError,
+    build_dataset,
+    read_dataset,
+    write_dataset,
+)
 from .assemble import assemble
 from .compute import run_job
 from .executors import distributed, failure, pool, serial
@@ -129,6 +140,39 @@ def _folder_problem(folder: Path) -> str | None:
     return None
 
 
+def _resume_problem(case: Case, path: Path) -> str | None:
+    """Why the existing ``path`` cannot be kept as the result of ``case``, or None."""
+    again = "; --resume cannot keep it: use --overwrite to replace it"
+    try:
+        ds = read_dataset(path)  # the store's own reader and its words for a bad file
+    except ResultFileError as exc:
+        return f"{exc}{again}"
+    missing = [name for name in CORE_NAMES if name not in ds.variables]
+    if missing:
+        return (f"{path}: an anharmony result without the variable(s) {', '.join(missing)} "
+                f"(damaged or made by another program){again}")
+    attrs = ds.attrs
+    if "case" not in attrs:
+        return f"{path}: holds no case text (global attribute `case`){again}"
+    if str(attrs["case"]) != case.text:
+        return (f"{path} exists and was made from another case text; use --overwrite to "
+                "replace it")
+    if case.model.convergence.cross_check and int(attrs.get("cross_check", 0)) != 1:
+        return f"{path} was made without the cross-check; use --overwrite to replace it"
+    return None
+
+
+def _existing_state(case: Case, path: Path, *, resume: bool, overwrite: bool) -> str | None:
+    """What to do about the output ``path`` of ``case``: None (run it), ``"skip"`` (an up to
+    date result kept by ``resume``) or the problem that forbids running it."""
+    if overwrite or not path.exists():
+        return None
+    if not resume:
+        return f"{path} exists; use --resume to keep it or --overwrite to replace it"
+    problem = _resume_problem(case, path)
+    return "skip" if problem is None else problem
+
+
 def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: bool,
                   overwrite: bool) -> tuple[list[Case], list[tuple[Case, Path]]]:
     """Decide what to run before any work: (cases to run, cases skipped as up to date).
@@ -136,9 +180,14 @@ def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: 
     Raises
     ------
     CaseError
-        For an output folder that cannot be written, or an existing result that would be
-        overwritten without ``overwrite``.
+        For an output folder that cannot be written, an existing result that would be
+        overwritten without ``overwrite``, or (with ``resume``) one that cannot be kept: made
+        from another case text, or unreadable (the message says what is wrong with it).
+    InputError
+        For ``resume`` and ``overwrite`` together.
     """
+    if resume and overwrite:
+        raise InputError(_BOTH)
     problems: list[Problem] = []
     todo: list[Case] = []
     skipped: list[tuple[Case, Path]] = []
@@ -169,26 +218,12 @@ def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: 
         if folder_checked[folder]:
             problems.append(Problem(case.file, None, None, where, folder_checked[folder]))
             continue
-        if path.exists() and not overwrite:
-            if resume:
-                attrs = result_attrs(path) or {}
-                same = str(attrs.get("case")) == case.text if "case" in attrs else False
-                if same and case.model.convergence.cross_check \
-                        and int(attrs.get("cross_check", 0)) != 1:
-                    problems.append(Problem(case.file, None, None, where,
-                                            f"{path} was made without the cross-check; use "
-                                            "--overwrite to replace it"))
-                    continue
-                if same:
-                    skipped.append((case, path))
-                    continue
-                problems.append(Problem(case.file, None, None, where,
-                                        f"{path} exists and was made from another case text; "
-                                        "use --overwrite to replace it"))
-            else:
-                problems.append(Problem(case.file, None, None, where,
-                                        f"{path} exists; use --resume to keep it or "
-                                        "--overwrite to replace it"))
+        state = _existing_state(case, path, resume=resume, overwrite=overwrite)
+        if state == "skip":
+            skipped.append((case, path))
+            continue
+        if state is not None:
+            problems.append(Problem(case.file, None, None, where, state))
             continue
         todo.append(case)
     if problems:
@@ -197,6 +232,84 @@ def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: 
 
 
 Event = Callable[..., None]
+_BOTH = ("--resume and --overwrite contradict each other (keep existing results, or replace "
+         "them): give one of them")
+
+
+class _Stops:
+    """SIGINT and SIGTERM while a batch runs, as a stop request that never hangs the stop.
+
+    A signal raises :class:`Interrupted` at once only inside an interruptible section (a job
+    computed in this process, planning, assembling, the wait for dask): code that holds no
+    lock. The wait for pool workers needs no such exception: it polls :meth:`check`.
+    Elsewhere (writing a file: xarray holds a lock that the clean-up after an exception raised
+    inside it would take again; forking the workers; printing) it is recorded and raised at
+    the next :meth:`check` or section. Once the batch handles the stop
+    (:attr:`stopping`), a further signal is only recorded: the clean stop is never cut short.
+    A raise that a library swallowed ("Exception ignored in ...") is raised again at the
+    next check. A signal that was ignored when the batch started stays ignored (a background
+    job of a non-interactive shell inherits SIGINT ignored), and a forked worker that still
+    has these handlers dies of the signal at once.
+    """
+
+    def __init__(self, *, term: bool) -> None:
+        self.requested: int | None = None
+        self.stopping = False
+        self.depth = 0  # nesting of interruptible sections
+        self.pid = os.getpid()
+        self._old: dict[int, Any] = {}
+        if threading.current_thread() is not threading.main_thread():
+            return  # handlers can only be set, and run, in the main thread
+        for signum in (signal.SIGINT, signal.SIGTERM):
+            old = signal.getsignal(signum)
+            if old in (signal.SIG_IGN, None):
+                continue  # ignored at start (honoured), or a handler set outside Python
+            if signum == signal.SIGTERM and not term:
+                continue
+            if signum == signal.SIGINT and not term and old is not signal.default_int_handler:
+                continue  # a caller's own Ctrl-C handler is theirs
+            self._old[signum] = old
+            signal.signal(signum, self._on_signal)
+
+    def _on_signal(self, signum: int, frame: Any) -> None:
+        if os.getpid() != self.pid:  # a forked worker before its initializer: just stop
+            signal.signal(signum, signal.SIG_DFL)
+            os.kill(os.getpid(), signum)
+            return
+        if self.requested is None:
+            self.requested = signum
+        if self.depth and not self.stopping:
+            raise Interrupted(self.requested)
+
+    def check(self) -> None:
+        """Raise :class:`Interrupted` for a signal recorded outside the sections."""
+        if self.requested is not None and not self.stopping:
+            raise Interrupted(self.requested)
+
+    def __enter__(self) -> _Stops:  # ``with stops:`` is an interruptible section
+        # open first, then look: a signal in between is raised here, not lost for the section
+        # (if check raises, the section stays counted open; harmless: the batch is stopping)
+        self.depth += 1
+        self.check()
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.depth = max(0, self.depth - 1)
+
+    def restore(self) -> None:
+        self.stopping = True  # from here on a signal is only recorded
+        for signum, old in self._old.items():
+            signal.signal(signum, old)
+        self._old.clear()
+
+
+def _tidy(path: Path) -> None:
+    """Remove what killed writers left beside a kept result: their temporaries, and a lock
+    file nobody holds (a live holder's lock stays)."""
+    remove_stale_temporaries(path, TEMP_SUFFIX)
+    if lock_path(path).exists():
+        with contextlib.suppress(OSError):
+            claim(path).release()
 
 
 def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
@@ -220,23 +333,38 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
     resume
         Skip cases whose result exists and was made from the same case text.
     overwrite
-        Replace existing results.
+        Replace existing results (not together with ``resume``).
     on_event
         ``on_event(kind, **info)`` for progress: ``start`` (tasks, cases), ``tasks`` (n),
         ``written`` (case, path), ``skipped`` (case, path), ``failed`` (case, message),
         ``warning`` (case, message: a level that is not converged, after ``written``).
     handle_signals
-        Turn SIGTERM into :class:`Interrupted` while the batch runs (SIGINT is caught as
-        ``KeyboardInterrupt``); a stopped batch keeps every finished file whole.
+        Stop on SIGTERM as on SIGINT while the batch runs (without it only a SIGINT whose
+        handler is Python's default is taken over). A signal stops the workers and the batch
+        within seconds; it never lands inside a write, so every written file is whole, and
+        ``report.interrupted`` holds its number. A signal ignored at start stays ignored.
     cross_check
         Run every case as if its ``convergence:`` block had ``cross_check: true`` (a case
         without a study gets one); a resumed result made without it is not up to date.
 
+    Every output is claimed (the lock file ``.<name>.lock`` beside it) before any work: a case
+    whose output another process holds fails with a message naming that process (pid, host)
+    and the others run; temporaries of killed writers of a claimed output are removed.
+
     Returns
     -------
     BatchReport
+
+    Raises
+    ------
+    InputError
+        For ``resume`` and ``overwrite`` together, or a bad ``jobs``.
+    CaseError
+        For invalid cases or outputs (see :func:`check_outputs`).
     """
     emit = on_event or (lambda kind, **info: None)
+    if resume and overwrite:
+        raise InputError(_BOTH)
     if cases and not isinstance(cases[0], Case):
         cases = load_cases(list(cases))
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
@@ -244,29 +372,55 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
     refuse_geometries(cases)
     if cross_check:
         cases = [c.with_cross_check() for c in cases]
-    todo, skipped = check_outputs(cases, out_dir, resume=resume, overwrite=overwrite)
-    report = BatchReport(skipped=skipped)
-    for case, path in skipped:
-        emit("skipped", case=case, path=path)
-
-    old_term = None
-    if handle_signals:
-        def _on_term(signum: int, frame: Any) -> None:
-            raise Interrupted(signum)
-        old_term = signal.signal(signal.SIGTERM, _on_term)
-
-    pending = dict(enumerate(todo))
+    report = BatchReport()
+    stops = _Stops(term=handle_signals)
+    pending: dict[int, Case] = {}
+    claims: dict[int, Claim] = {}
     stream: Any = None
+
+    def fail(key: int, case: Case, message: str) -> None:
+        pending.pop(key, None)
+        if key in claims:
+            claims.pop(key).release()
+        report.failed.append((case, message))
+        emit("failed", case=case, message=message)
+
     try:
+        todo, skipped = check_outputs(cases, out_dir, resume=resume, overwrite=overwrite)
+        for case, path in skipped:
+            _tidy(path)
+            report.skipped.append((case, path))
+            emit("skipped", case=case, path=path)
+        pending.update(enumerate(todo))
+        for key, case in enumerate(todo):  # claim every output: one writer per file
+            path = output_path(case, out_dir)
+            try:
+                claims[key] = claim(path)
+            except OutputHeldError as exc:
+                fail(key, case, f"{exc}; not run")
+                continue
+            except OSError as exc:
+                fail(key, case, f"{path}: cannot take the lock file ({exc.strerror or exc})")
+                continue
+            remove_stale_temporaries(path, TEMP_SUFFIX)
+            # decided again now that no other run can write it: it may have appeared since
+            state = _existing_state(case, path, resume=resume, overwrite=overwrite)
+            if state == "skip":
+                pending.pop(key)
+                claims.pop(key).release()
+                report.skipped.append((case, path))
+                emit("skipped", case=case, path=path)
+            elif state is not None:
+                fail(key, case, f"{state} (written meanwhile by another run)")
+        stops.check()
         items: list[tuple[Case, Job]] = []
         counts: dict[int, int] = {}
-        for key, case in enumerate(todo):
+        for key, case in list(pending.items()):
             try:
-                plan = plan_case(case, key)
+                with stops:
+                    plan = plan_case(case, key)
             except Exception as exc:  # e.g. no reference oscillator
-                report.failed.append((case, failure(exc)))
-                emit("failed", case=case, message=failure(exc))
-                del pending[key]
+                fail(key, case, failure(exc))
                 continue
             counts[key] = len(plan)
             items += [(case, job) for job in plan]
@@ -274,14 +428,26 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         emit("start", tasks=sum(job.weight for _, job in items), cases=len(pending))
         parts: dict[int, list[dict]] = {key: [] for key in pending}
         failed: dict[int, str] = {}
+        stops.check()
+        polled = scheduler is None and jobs > 1 and len(items) > 1
         if scheduler is not None:
             stream = distributed(items, scheduler)
-        elif jobs > 1 and len(items) > 1:
-            stream = pool(items, min(jobs, len(items)))
+        elif polled:
+            # forked outside a section; the wait polls for a stop instead of being cut
+            stream = pool(items, min(jobs, len(items)), poll=stops.check)
         else:
             stream = serial(items)
         done = dict.fromkeys(pending, 0)
-        for key, job, part, error in stream:
+        results = iter(stream)
+        while True:
+            if polled:
+                got = next(results, None)
+            else:
+                with stops:  # a job computed here, or the wait for dask
+                    got = next(results, None)
+            if got is None:
+                break
+            key, job, part, error = got
             emit("tasks", n=job.weight)
             done[key] += 1
             if error is not None:
@@ -289,37 +455,47 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
             else:
                 parts[key].append(part)
             if done[key] < counts[key] or key not in pending:
+                stops.check()
                 continue
             case = pending[key]
             if key in failed:
-                del pending[key]
-                report.failed.append((case, failed[key]))
-                emit("failed", case=case, message=failed[key])
+                fail(key, case, failed[key])
+                stops.check()
                 continue
             try:
-                result = assemble(case, parts.pop(key))
-                ds = build_dataset(case, result, history=history)
+                with stops:
+                    result = assemble(case, parts.pop(key))
+                    ds = build_dataset(case, result, history=history)
+                # not interruptible: a signal waits until the file is whole and renamed
                 path = write_dataset(ds, output_path(case, out_dir), overwrite=overwrite)
             except (OSError, ValueError, TypeError) as exc:
-                del pending[key]
-                report.failed.append((case, failure(exc)))
-                emit("failed", case=case, message=failure(exc))
+                fail(key, case, failure(exc))
+                stops.check()
                 continue
             del pending[key]
+            claims.pop(key).release()
             report.written.append((case, path))
             emit("written", case=case, path=path)
             for line in [*result.warnings, *(result.fit.warnings if result.fit else ())]:
                 report.warnings.append((case, line))
                 emit("warning", case=case, message=line)
-    except KeyboardInterrupt:
+            stops.check()
+    except KeyboardInterrupt:  # SIGINT where a caller's own handler raised it
+        stops.stopping = True
         report.interrupted = int(signal.SIGINT)
     except Interrupted as exc:
+        stops.stopping = True
         report.interrupted = exc.signal
     finally:
-        if stream is not None:
-            stream.close()  # stops the workers of an interrupted batch
-        if handle_signals:
-            signal.signal(signal.SIGTERM, old_term or signal.SIG_DFL)
+        stops.stopping = True  # the stop itself is never interrupted
+        try:
+            if stream is not None:
+                stream.close()  # stops the workers of an interrupted batch
+        finally:
+            for c in claims.values():
+                c.release()
+            stops.restore()
+    if report.interrupted is None and stops.requested is not None:
+        report.interrupted = stops.requested  # arrived while the batch was ending
     report.not_run = list(pending.values())
     return report
-
