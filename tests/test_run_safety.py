@@ -295,7 +295,8 @@ def test_resume_says_what_is_wrong_with_an_unreadable_result(tmp_path):
     with netCDF4.Dataset(out, "w") as f:  # the schema tag but none of the variables
         f.setncattr("anharmony_schema", 1)
         f.setncattr("case", case.read_text())
-    with pytest.raises(CaseError, match=r"without the variable\(s\) scan_value, l,") as info:
+    with pytest.raises(CaseError, match=r"a damaged or incomplete result file: the variables "
+                                        r"energy, .*scan_value.* are missing") as info:
         run_batch([case], resume=True)
     assert "another case text" not in str(info.value)
 

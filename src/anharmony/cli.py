@@ -686,10 +686,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
-    _one_blas_thread()
     shown = warnings.showwarning
     warnings.showwarning = _warning_line
     try:
+        _one_blas_thread()  # inside: a Ctrl-C while it imports ends with one line too
         return _COMMANDS[args.command](args)
     except KeyboardInterrupt:
         _err("stopped by Ctrl-C")

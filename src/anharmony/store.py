@@ -67,14 +67,6 @@ RESULT_SCHEMA = 1  # version of the result-file layout; stored as attribute `anh
 CONVENTIONS = "CF-1.11"
 TEMP_SUFFIX = ".nc.tmp"  # temporaries: ".<name>.<host>-<pid>.<random>.nc.tmp" beside the target
 
-# Every name of DESIGN §6 that a result file carries.
-CORE_NAMES = (
-    "scan_value", "l", "label", "energy", "bound", "converged", "reference_energy", "shift",
-    "series_coefficient", "series_partial_sum", "series_resummed", "error_estimate",
-    "frequency", "length",
-)
-
-
 
 
 def sanitize_attrs(attrs: Mapping[Any, Any]) -> dict[str, Any]:
@@ -536,6 +528,7 @@ CORE_VARIABLES: dict[str, tuple[tuple[str, ...], str]] = {
     "scan_value": (("scan",), "f"), "frequency": (("scan",), "f"), "length": (("scan",), "f"),
     "l": (("channel",), "iuf"), "label": (("channel",), "USO"),
 }
+CORE_NAMES = tuple(CORE_VARIABLES)  # every name of DESIGN §6 that a result file carries
 
 
 def _core_problem(ds: xr.Dataset) -> str | None:

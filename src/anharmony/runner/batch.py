@@ -20,7 +20,6 @@ from .._atomic import Claim, OutputHeldError, claim, lock_path, remove_stale_tem
 from ..cases import Case, CaseError, Problem, load_case, load_cases
 from ..errors import InputError
 from ..store import (
-    CORE_NAMES,
     TEMP_SUFFIX,
     CaseResult,
     ResultFileError,
@@ -32,6 +31,7 @@ from .assemble import assemble
 from .compute import run_job
 from .executors import distributed, failure, pool, serial
 from .plan import Job, output_path, plan_case
+from .preflight import geometry_refusal
 
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr
@@ -57,26 +57,10 @@ def refuse_geometries(cases: Sequence[Case]) -> None:
     Raises
     ------
     CaseError
-        One line per such case, naming ``space.geometry``.
+        One line per such case, at its ``space.geometry``
+        (:func:`~anharmony.runner.preflight.geometry_refusal`).
     """
-    problems = []
-    for case in cases:
-        geometry = case.model.space.geometry
-        if geometry == "central":
-            continue
-        line = col = None
-        if case.index is None:  # a file of one case: its text is the file
-            from ..cases.loader import parse_yaml
-
-            line, col = parse_yaml(case.text, case.name)[1].position(("space", "geometry"))
-        where = "space.geometry" if case.index is None else f"cases[{case.index}].space.geometry"
-        shells = case.model.space.shells
-        problems.append(Problem(
-            case.file, line, col, where,
-            f"{geometry} cases are checked but not run from case files yet (result files hold "
-            f"central channels); solve it from Python: anharmony.solve(well, "
-            f"{case.dimension}, geometry={geometry!r}"
-            + (f", shells={shells}" if shells is not None else "") + ")"))
+    problems = [p for p in map(geometry_refusal, cases) if p is not None]
     if problems:
         raise CaseError(problems)
 
@@ -145,12 +129,8 @@ def _resume_problem(case: Case, path: Path) -> str | None:
     again = "; --resume cannot keep it: use --overwrite to replace it"
     try:
         ds = read_dataset(path)  # the store's own reader and its words for a bad file
-    except ResultFileError as exc:
+    except ResultFileError as exc:  # not netCDF, no schema tag, core variables missing
         return f"{exc}{again}"
-    missing = [name for name in CORE_NAMES if name not in ds.variables]
-    if missing:
-        return (f"{path}: an anharmony result without the variable(s) {', '.join(missing)} "
-                f"(damaged or made by another program){again}")
     attrs = ds.attrs
     if "case" not in attrs:
         return f"{path}: holds no case text (global attribute `case`){again}"
@@ -204,26 +184,24 @@ def check_outputs(cases: Sequence[Case], out_dir: str | Path | None, *, resume: 
                                          f"({exc.strerror or exc})")]) from None
     for case in cases:
         path = output_path(case, out_dir)
-        where = "output" if case.index is None else f"cases[{case.index}].output"
         key = path.resolve()
         if key in seen:
-            problems.append(Problem(case.file, None, None, where,
-                                    f"{case.name} and {seen[key].name} would both write "
-                                    f"{path}"))
+            problems.append(case.issue(("output",), f"{case.name} and {seen[key].name} would "
+                                       f"both write {path}"))
             continue
         seen[key] = case
         folder = path.parent
         if folder not in folder_checked:
             folder_checked[folder] = _folder_problem(folder)
         if folder_checked[folder]:
-            problems.append(Problem(case.file, None, None, where, folder_checked[folder]))
+            problems.append(case.issue(("output",), folder_checked[folder]))
             continue
         state = _existing_state(case, path, resume=resume, overwrite=overwrite)
         if state == "skip":
             skipped.append((case, path))
             continue
         if state is not None:
-            problems.append(Problem(case.file, None, None, where, state))
+            problems.append(case.issue(("output",), state))
             continue
         todo.append(case)
     if problems:
