@@ -74,6 +74,7 @@ class ScanTarget:
     term: int | None = None
     keys: tuple[Any, ...] = ()
     linear: bool = False
+    linked: tuple[ScanTarget, ...] = ()  # more targets set to the same value (scan.linked)
 
 
 _SETTINGS = {("particle", "mass"), ("reference", "frequency"), ("reference", "length"),
@@ -222,19 +223,8 @@ class Case:
         t = self.scan_target
         if value is None or t.kind == "coupling":
             return data
-        if t.kind == "term":
-            term, *keys = t.keys
-            well = list(data["well"])
-            params = dict(well[t.term][term] or {})
-            if len(keys) == 2:
-                params[keys[0]] = {**params[keys[0]], keys[1]: value}
-            else:
-                params[keys[0]] = value
-            well[t.term] = {term: params}
-            data["well"] = well
-        else:
-            section, key = t.keys
-            data[section] = {**data.get(section, {}), key: value}
+        for target in (t, *t.linked):
+            _set_target(data, target, value)
         return data
 
     def well_at(self, value: float | None = None) -> Well:
@@ -367,6 +357,23 @@ class Case:
         """The same case with ``convergence.cross_check: true`` (the text is kept)."""
         conv = self.model.convergence.model_copy(update={"cross_check": True})
         return dataclasses.replace(self, model=self.model.model_copy(update={"convergence": conv}))
+
+
+def _set_target(data: dict[str, Any], t: ScanTarget, value: float) -> None:
+    """Set the parameter ``t`` points at to ``value`` in ``data`` (copying what it changes)."""
+    if t.kind == "term":
+        term, *keys = t.keys
+        well = list(data["well"])
+        params = dict(well[t.term][term] or {})
+        if len(keys) == 2:
+            params[keys[0]] = {**params[keys[0]], keys[1]: value}
+        else:
+            params[keys[0]] = value
+        well[t.term] = {term: params}
+        data["well"] = well
+    else:
+        section, key = t.keys
+        data[section] = {**data.get(section, {}), key: value}
 
 
 def _ladder_down(top: int, levels: int) -> tuple[int, ...]:

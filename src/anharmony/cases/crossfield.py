@@ -15,6 +15,7 @@ Both return ``(data path, message)`` pairs; :mod:`.files` gives them positions.
 
 from __future__ import annotations
 
+import dataclasses
 import re
 from fractions import Fraction
 from typing import Any
@@ -159,7 +160,36 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
             out.append((("scan", "parameter"), str(exc)))
         else:
             out += _coupling_order_issues(model, target)
+            target, found = _linked(model, target)
+            out += found
     return out, target
+
+
+def _linked(model: CaseModel, target: ScanTarget) -> tuple[ScanTarget, Found]:
+    """The scan target with its ``linked`` paths (each a term or setting, named once)."""
+    paths = model.scan.linked or []
+    found: Found = []
+    linked = []
+    seen = {model.scan.parameter.strip()}
+    for i, path in enumerate(paths):
+        where = ("scan", "linked", i)
+        if path.strip() in seen:
+            found.append((where, f"{path!r} is already scanned; name each parameter once"))
+            continue
+        seen.add(path.strip())
+        try:
+            t = parse_scan_path(path, model.well)
+        except ValueError as exc:
+            found.append((where, str(exc)))
+            continue
+        if t.kind == "coupling" or target.kind == "coupling":
+            found.append((where, "the coupling λ cannot be linked with other parameters; scan "
+                          "it alone"))
+            continue
+        linked.append(t)
+    if found or not linked:
+        return target, found
+    return dataclasses.replace(target, linear=False, linked=tuple(linked)), []
 
 
 def _coupling_order_issues(model: CaseModel, target: ScanTarget) -> Found:

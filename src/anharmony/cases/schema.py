@@ -230,10 +230,13 @@ ScanValues = Annotated[
 
 
 class Scan(_Strict):
-    """``scan:`` one parameter by its path in the file (or ``coupling``) and its values."""
+    """``scan:`` one parameter by its path in the file (or ``coupling``) and its values;
+    ``linked`` lists more paths set to the same value at every point (the deformation of a
+    ``deformed_spin_orbit`` term beside its ``deformed_woods_saxon``)."""
 
     parameter: str
     values: ScanValues
+    linked: Annotated[list[str], Field(min_length=1)] | None = None
 
     def points(self) -> list[float]:
         """The scan values as floats."""

@@ -65,7 +65,7 @@ def _scan_call(case: Case, ch: ChannelSpec, points: tuple[int, ...],
     """The core scan of one channel over the given scan points."""
     values = case.scan_values()
     kind = case.scan_target.kind
-    if kind == "setting":  # particle, reference or basis settings: the case's well per point
+    if kind == "setting" or case.scan_target.linked:  # the case's well at each point
         (k,) = points
         value = values[k]
         well, parameter, at, mass = case.well_at(value), "coupling", [1.0], case.mass_at(value)

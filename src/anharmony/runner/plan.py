@@ -55,7 +55,8 @@ def references(case: Case) -> tuple[Reference, ...]:
 
 def _scanned_in_core(case: Case) -> bool:
     """Whether the scan parameter is one the core scan sets (coupling or a term's)."""
-    return case.model.scan is not None and case.scan_target.kind in ("coupling", "term")
+    return (case.model.scan is not None and case.scan_target.kind in ("coupling", "term")
+            and not case.scan_target.linked)
 
 
 def _one_pencil(case: Case, refs: tuple[Reference, ...]) -> bool:
