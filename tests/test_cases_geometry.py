@@ -1,10 +1,12 @@
-"""Case files with ``space: {geometry: cartesian | axial}``: validated, refused by run."""
+"""Case files with ``space: {geometry: cartesian | axial}``: validated, checked and run."""
 
 from __future__ import annotations
 
 import textwrap
+import warnings
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 import anharmony as ah
@@ -80,22 +82,26 @@ def test_a_term_that_breaks_the_axial_symmetry_is_named(tmp_path):
     assert any("well[1].tilt.axis: only a term along z" in p for p in problems), problems
 
 
-def test_run_refuses_a_geometry_case_with_exit_2(tmp_path, capsys):
-    # never run silently as central: the result file holds (l, j) channels only (DESIGN §6)
+def test_run_stores_the_blocks_of_a_geometry_case(tmp_path, capsys):
+    # the blocks are the channels of the result (DESIGN §10); the same levels as solve_blocks
+    from anharmony.geometry.by_block import solve_blocks
+
     path = _write(tmp_path, BEAM)
-    assert main(["run", str(path), "-o", str(tmp_path)]) == 2
-    err = capsys.readouterr().err
-    assert "space.geometry: axial cases are checked but not run" in err
-    assert "anharmony.solve(well, 3, geometry='axial', shells=10)" in err
-    assert not list(tmp_path.glob("*.nc"))
-    with pytest.raises(CaseError, match=r"space\.geometry"):
-        ah.run_case(path)
+    assert main(["run", str(path), "-o", str(tmp_path), "--progress", "off"]) == 0
+    ds = ah.read_dataset(tmp_path / "case.nc")
+    well = ah.Well.from_terms([{"focused_beam": {"depth": 100.0, "waist": 1.0,
+                                                 "rayleigh_length": 3.0}}])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ah.ConvergenceWarning)
+        direct = solve_blocks(well, 3, geometry="axial", shells=10, truncation="energy",
+                              levels=4)
+    assert [str(x) for x in ds.label.values] == direct.labels
+    np.testing.assert_array_equal(ds.energy.values[0], direct.energies)
+    assert set(ds.l.values) == {-1} and "block_degeneracy" in ds
 
 
 def test_check_describes_the_blocks(tmp_path, capsys):
-    # check describes the blocks and refuses as run does (not run from case files yet)
     path = _write(tmp_path, BEAM)
-    assert main(["check", str(path)]) == 2
-    out, err = capsys.readouterr()
-    assert f"{path}:" in err and "space.geometry: axial cases are checked but not run" in err
+    assert main(["check", str(path)]) == 0
+    out = capsys.readouterr().out
     assert "geometry   axial" in out and "N_max = 10 (energy truncation)" in out

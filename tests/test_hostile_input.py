@@ -115,11 +115,6 @@ REFUSED = [
      "must be at most 100"),
     ("particle mass 1e300", MINI.replace("space:", "particle: {mass: 1e300}\nspace:"), 4,
      "particle.mass", "must be at most"),
-    ("axial geometry (not run from files)",
-     MINI.replace("space: {dimension: 1}", "space: {dimension: 3, geometry: axial, shells: 4}")
-     .replace("  - power: {exponent: 4, strength: 0.1}\n", "").replace("basis: {size: 20}\n",
-                                                                       ""), 4, "space.geometry",
-     "not run from case files"),
 ]
 
 

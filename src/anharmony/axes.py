@@ -21,13 +21,15 @@ _PARAMETER_WORDS = {
     "range": "range a", "waist": "waist w", "center": "centre x₀", "r0": "radius constant r₀",
     "length": "length", "width": "width α", "mass_number": "mass number A",
     "charge": "charge Z", "exponent": "exponent p", "rayleigh_length": "Rayleigh length z_R",
-    "wavelength": "wavelength λ", "force": "force F",
+    "wavelength": "wavelength λ", "force": "force F", "beta2": "quadrupole deformation β₂",
+    "beta4": "hexadecapole deformation β₄",
 }
 _TERM_WORDS = {
     "woods_saxon": "Woods–Saxon", "gaussian": "Gaussian", "morse": "Morse",
     "poschl_teller": "Pöschl–Teller", "spin_orbit": "spin–orbit", "coulomb": "Coulomb",
     "focused_beam": "beam", "harmonic": "harmonic", "tilt": "tilt", "polynomial": "polynomial",
     "anisotropic_harmonic": "harmonic", "expression": "formula",
+    "deformed_woods_saxon": "Woods–Saxon", "deformed_spin_orbit": "spin–orbit",
 }
 _POWER_WORDS = {1: "linear", 2: "quadratic", 3: "cubic", 4: "quartic", 5: "quintic",
                 6: "sextic", 8: "octic"}
@@ -42,6 +44,7 @@ _PARAMETER_DIMS = {
     "diffuseness": (0, 1), "range": (0, 1), "waist": (0, 1), "center": (0, 1), "r0": (0, 1),
     "length": (0, 1), "width": (0, -1), "mass_number": (0, 0), "charge": (0, 0),
     "exponent": (0, 0), "rayleigh_length": (0, 1), "wavelength": (0, 1), "force": (1, -1),
+    "beta2": (0, 0), "beta4": (0, 0),
 }
 
 

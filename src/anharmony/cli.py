@@ -531,9 +531,13 @@ def _cmd_show(args: argparse.Namespace) -> int:
                 x = scale * float(xdiff[k, c, n])
                 extra = f" {x:+9.1e}" if math.isfinite(x) else f" {'-':>9}"
             name = _level_name(ds, dim, c, n)
+            if "level_asymptotic_label" in ds:  # a geometry block: Ω^π[N n_z Λ] at this point
+                asym, block = str(ds.level_asymptotic_label.values[k, c, n]), labels[c]
+                name = asym if asym.startswith(block) else f"{block} {asym}".strip()
             parity = f" {('even', 'odd')[int(ds.l.values[c])]:>6}" if ladder else ""
-            print(f"  {name:>12}{parity} {e:14.8g} {ref:14.8g} "
-                  f"{e - ref:12.5g} {bound:>6} {errs} {conv:>5}{extra}  "
+            refs = (f"{ref:14.8g} {e - ref:12.5g}" if math.isfinite(ref)
+                    else f"{'-':>14} {'-':>12}")  # no reference oscillator (geometries)
+            print(f"  {name:>12}{parity} {e:14.8g} {refs} {bound:>6} {errs} {conv:>5}{extra}  "
                   f"{_verdict(ds, k, c, n, tol)}")
     if "fit_value" in ds:
         _print_fit(ds, shown_units)

@@ -148,6 +148,9 @@ class CaseResult:
     rotation : RotationOutcome or None
         The rovibrational levels and constants of a ``rotation:`` case (``rovib_*`` and
         ``constant_*`` variables).
+    extra : mapping
+        More variables, ``name → (dims, values, attrs)``: the block degeneracies, asymptotic
+        labels, basis lengths and trap frequencies of a Cartesian or axial case.
     """
 
     scan_value: np.ndarray
@@ -184,6 +187,9 @@ class CaseResult:
     level_labels: Sequence[Sequence[str]] | None = None  # (C, L) spectroscopic labels
     fit: FitOutcome | None = None  # the fit of a case with a fit: block
     rotation: RotationOutcome | None = None  # the levels E(v, J) of a rotation: block
+    # more variables, name → (dims, values, attrs): the blocks of a geometry case
+    extra: Mapping[str, tuple[tuple[str, ...], np.ndarray, Mapping[str, Any]]] = field(
+        default_factory=dict)
 
 
 # --------------------------------------------------------------------------- attributes

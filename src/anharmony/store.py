@@ -219,7 +219,7 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
                                           dtype=str),
                                {"units": "1", "long_name": "spectroscopic label of the level "
                                 "(1D: v, the oscillator quantum number)"})
-    for name, (dims, values, var_attrs) in result.convergence.items():
+    for name, (dims, values, var_attrs) in {**result.convergence, **result.extra}.items():
         if name in data or name in coords:
             raise InputError(f"{name}: a convergence variable may not replace a core variable")
         if "basis_size" in dims and not sizes.size:
@@ -409,6 +409,8 @@ def _rotation_variables(u: Any, rot: RotationOutcome) -> tuple[dict, dict, dict]
 def _convergence_mode(case: Case) -> str:
     """How the case's levels were checked, in words (global attribute ``convergence``)."""
     conv = case.model.convergence
+    if case.model.space.geometry != "central":
+        return "change of each level from shells - 2 to shells"
     if not conv.study:
         return {"smaller_basis": "quick estimate: changes from smaller bases",
                 "none": "not estimated"}[conv.method]

@@ -77,6 +77,19 @@ def _geometry_issues(model: CaseModel) -> Found:
         out.append((("reference",), f"the {geometry} geometry takes its basis lengths from the "
                     "Hessian at the minimum (or a central well's reference oscillator); leave "
                     "reference out (basis.length sets one length for every axis)"))
+    for key, what in (("perturbation", "perturbation series"), ("fit", "fits"),
+                      ("rotation", "rotation")):
+        if getattr(model, key) is not None:
+            out.append(((key,), f"{what} of the {geometry} geometry are not run from case files "
+                        "yet; leave it out (Python: anharmony.degenerate_series for the "
+                        "series)"))
+    if model.scan is not None and model.scan.parameter.strip() in ("coupling", "lambda"):
+        out.append((("scan", "parameter"), f"a coupling scan needs a reference oscillator, "
+                    f"which the {geometry} geometry has not; scan a parameter of the well"))
+    study = set(model.convergence.model_fields_set) - {"tolerance"}
+    if study:
+        out.append((("convergence", sorted(study)[0]), f"the {geometry} geometry's error bar is "
+                    "the change from shells - 2 to shells; only convergence.tolerance applies"))
     well = _well_of(model)
     if out or well is None:
         return out

@@ -174,6 +174,8 @@ def estimate_work(case: Case) -> WorkEstimate:
     a study that grows is counted as if every channel reaches its size limit, so the figures
     are then an upper bound. Perturbation series are not counted.
     """
+    if case.model.space.geometry != "central":
+        return _geometry_work(case)
     tasks = len(case.scan_values()) * len(case.channels())
     n = case.model.basis.size
     conv = case.model.convergence
@@ -194,3 +196,31 @@ def estimate_work(case: Case) -> WorkEstimate:
     return WorkEstimate(tasks=tasks, solves=solves, builds=builds,
                         largest_size=max(per_task), seconds=float(seconds),
                         upper_bound=bool(settings is not None and conv.grows))
+
+
+def _geometry_work(case: Case) -> WorkEstimate:
+    """A Cartesian or axial case: every block at N_max and N_max − 2 shells per scan point.
+
+    The states up to N_max shells number C(N + d, d) in d dimensions (twice with spin); the
+    axial blocks are about 2(N + 1) (Λ or Ω, and parity), the Cartesian ones up to 2^d. The
+    largest block is taken as twice the average, and each block costs a build and a solve.
+    """
+    space = case.model.space
+    shells = space.shells if space.shells is not None else 12
+    d = space.dimension
+    spin = any(name.endswith("spin_orbit") for spec in case.model.well for name in spec)
+    points = len(case.scan_values())
+    solves = builds = 0
+    seconds = 0.0
+    largest = 1
+    for n_max in (shells, max(shells - 2, 0)):
+        states = math.comb(n_max + d, d) * (2 if spin else 1)
+        blocks = 2 * (n_max + 1) if space.geometry == "axial" else 2**d
+        size = max(1, 2 * states // blocks)
+        largest = max(largest, size)
+        solves += blocks
+        builds += blocks
+        seconds += blocks * (SOLVE_SECONDS_N3 * size**3 + BUILD_SECONDS_N2 * size**2
+                             * (4 if spin else 1))
+    return WorkEstimate(tasks=points, solves=points * solves, builds=points * builds,
+                        largest_size=largest, seconds=points * seconds, upper_bound=False)

@@ -17,7 +17,7 @@ from .assemble import assemble
 from .batch import BatchReport, Interrupted, check_outputs, compute_case, run_batch, run_case
 from .compute import run_job
 from .plan import Description, Job, describe, output_path, plan_case, smaller_size
-from .preflight import geometry_refusal, preflight
+from .preflight import preflight
 
 __all__ = [
     "BatchReport",
@@ -28,7 +28,6 @@ __all__ = [
     "check_outputs",
     "compute_case",
     "describe",
-    "geometry_refusal",
     "output_path",
     "plan_case",
     "preflight",

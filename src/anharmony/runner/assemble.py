@@ -16,7 +16,7 @@ from ..cases import Case
 from ..errorbars import ESTIMATE_SAFETY, nested_sizes
 from ..errors import InputError
 from ..labels import channel_label, level_label
-from ..store import CaseResult
+from ..store import CaseResult, empty_like_series
 from .compute import core_estimate, empty
 from .plan import smaller_size
 
@@ -34,6 +34,8 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
     The part of a ``"fit"`` job carries the fit and the parts of the fitted case's jobs: the
     result holds the levels of the fitted well and the fit.
     """
+    if case.model.space.geometry != "central":
+        return _assemble_geometry(case, parts)
     fits = [p for p in parts if "fit" in p]
     if fits:
         (part,) = fits
@@ -287,3 +289,93 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
                      f"states flagged bound = 0 and converged = 0: {', '.join(names)}; request "
                      "fewer levels (levels.count), or raise basis.size if one should be bound")
     return lines
+
+
+def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
+    """The blocks of a Cartesian or axial case as the channels of a result (DESIGN §10).
+
+    The channel dimension holds every block found at any scan point (ordered by Ω or Λ, then
+    parity); ``l`` is −1 (no angular quantum number), ``block_degeneracy`` says that a block
+    stands for ±Ω; the asymptotic label of each level, which changes along a deformation
+    scan, is ``level_asymptotic_label`` (scan, channel, level); ``level_label`` holds the one
+    at the last scan point (where a level figure writes its labels).
+    """
+    from ..geometry.by_block import _order, block_label
+
+    geometry = case.model.space.geometry
+    values = case.scan_values()
+    s, n = len(values), case.model.levels.count
+    by_point = {p["points"][0]: p for p in parts}
+    keys = sorted({key for p in parts for key in p["geometry"].keys},
+                  key=lambda key: _order(geometry, key))
+    nb = len(keys)
+    energy = np.full((s, nb, n), np.nan)
+    error = np.full((s, nb, n), np.nan)
+    bound = np.zeros((s, nb, n), dtype=bool)
+    threshold = np.full((s, nb), np.nan)
+    names = np.full((s, nb, n), "", dtype=object)
+    naxes = 2 if geometry == "axial" else case.dimension
+    lengths = np.full((s, naxes), np.nan)
+    trap = np.full((s, case.dimension), np.nan)
+    degeneracy = np.ones(nb, dtype=np.int64)
+    messages: list[str] = []
+    for k, part in sorted(by_point.items()):
+        res = part["geometry"]
+        for i, key in enumerate(res.keys):
+            b = keys.index(key)
+            energy[k, b] = res.energies[i]
+            error[k, b] = res.error_estimate[i]
+            bound[k, b] = res.bound[i]
+            names[k, b] = res.level_labels[i]
+            degeneracy[b] = res.degeneracy[i]
+        threshold[k] = res.threshold
+        lengths[k] = res.lengths
+        trap[k] = part["trap"]
+        messages += part["messages"]
+    tol = case.model.convergence.tolerance
+    converged = bound & (error <= tol)
+    hw = 2.0 * case.units.hbar2_over_2m(case.mass) / lengths[:, 0] ** 2
+    labels = [block_label(geometry, key) for key in keys]
+    warnings_ = []
+    at = case.scan_parameter
+    for k in range(s):
+        bad = [str(names[k, b, m]) or f"{labels[b]} #{m}" for b in range(nb) for m in range(n)
+               if bound[k, b, m] and not converged[k, b, m]]
+        if bad:
+            where = f" at {at} = {values[k]:g}" if case.model.scan is not None else ""
+            warnings_.append(f"{len(bad)} bound level(s) not converged{where} (change from "
+                             f"shells - 2 to shells above {tol:g}): {', '.join(bad[:8])}"
+                             + (", …" if len(bad) > 8 else "") + "; raise space.shells")
+    u = case.units
+    axes = ("perp", "z") if geometry == "axial" else ("x", "y", "z")[:case.dimension]
+    extra = {
+        "block_degeneracy": (("channel",), degeneracy,
+                             {"units": "1", "long_name": "levels each block stands for: 2 for "
+                              "+-Omega (or +-Lambda), 1 otherwise"}),
+        "level_asymptotic_label": (("scan", "channel", "level"), names.astype(str),
+                                   {"units": "1", "long_name": "dominant basis state of the "
+                                    "level: Omega^pi[N n_z Lambda] (axial) or (n_x,n_y,n_z)"}),
+        "basis_lengths": (("scan", "basis_axis"), lengths,
+                          {"units": u.length, "long_name": "oscillator length of the basis "
+                           "along each axis (" + ", ".join(axes) + ")"}),
+        "trap_frequency": (("scan", "axis"), trap,
+                           {"units": u.energy, "long_name": "hbar*omega of the principal "
+                            "axes of the Hessian at the minimum, ascending (NaN for wells "
+                            "without a curved minimum, such as a deformed Woods-Saxon well)"}),
+    }
+    nan = np.full(s, np.nan)
+    series = empty_like_series(s, nb, n, 0, 0)
+    return CaseResult(
+        scan_value=np.asarray(values, dtype=float), l=np.full(nb, -1, dtype=np.int64), j=None,
+        label=labels, energy=energy, bound=bound, converged=converged,
+        reference_energy=np.full((s, nb, n), np.nan), error_estimate=error, frequency=hw,
+        length=lengths[:, 0], center=nan, v_min=nan, reference_method=["geometry"] * s,
+        reference_reason=[f"{geometry} basis: lengths from the reference oscillator of the "
+                          "(undeformed) well or the Hessian at the minimum"] * s,
+        threshold=threshold, basis_size=int(case.model.space.shells or 12),
+        resum_methods=[], level_labels=[[str(names[-1, b, m]) or f"{labels[b]} #{m}"
+                                         for m in range(n)] for b in range(nb)],
+        notes=[f"{geometry} geometry: channels are the blocks ({', '.join(labels)}); "
+               "error_estimate is the change of each level from shells - 2 to shells; "
+               "basis_size is N_max; frequency and length are those of the first axis"],
+        warnings=warnings_ + sorted(set(messages)), extra=extra, **series)

@@ -31,12 +31,11 @@ from .assemble import assemble
 from .compute import run_job
 from .executors import distributed, failure, pool, serial
 from .plan import Job, output_path, plan_case
-from .preflight import geometry_refusal
 
 if TYPE_CHECKING:  # pragma: no cover
     import xarray as xr
 
-__all__ = ["BatchReport", "Interrupted", "check_outputs", "compute_case", "refuse_geometries",
+__all__ = ["BatchReport", "Interrupted", "check_outputs", "compute_case",
            "run_batch", "run_case"]
 
 
@@ -48,26 +47,8 @@ class Interrupted(BaseException):
         self.signal = signum
 
 
-def refuse_geometries(cases: Sequence[Case]) -> None:
-    """Refuse cases with ``space.geometry`` cartesian or axial: not run from files yet.
-
-    Their levels sit in blocks (parity triples, Λ^π), not in the (l, j) channels of the result
-    file (DESIGN §6), so they are never run as central cases: the Python API solves them.
-
-    Raises
-    ------
-    CaseError
-        One line per such case, at its ``space.geometry``
-        (:func:`~anharmony.runner.preflight.geometry_refusal`).
-    """
-    problems = [p for p in map(geometry_refusal, cases) if p is not None]
-    if problems:
-        raise CaseError(problems)
-
-
 def compute_case(case: Case) -> CaseResult:
     """All numbers of one case, computed serially in this process."""
-    refuse_geometries([case])
     return assemble(case, [run_job(case, job) for job in plan_case(case)])
 
 
@@ -347,7 +328,6 @@ def run_batch(cases: Sequence[Case] | Sequence[str | Path], *,
         cases = load_cases(list(cases))
     if isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1:
         raise InputError(f"jobs: must be an integer >= 1; got {jobs!r}")
-    refuse_geometries(cases)
     if cross_check:
         cases = [c.with_cross_check() for c in cases]
     report = BatchReport()

@@ -173,12 +173,43 @@ def run_job(case: Case, job: Job) -> dict[str, Any]:
     """Compute one job (runs in a worker); returns its partial arrays."""
     if job.kind == "fit":
         return _run_fit(case)
+    if job.kind == "geometry":
+        return _run_geometry(case, job)
     if job.kind == "rotation":
         return {"rotation": _run_rotation(case)}
     return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
 
 
 # =========================================================================== fit
+def _run_geometry(case: Case, job: Job) -> dict[str, Any]:
+    """One scan point of a Cartesian or axial case: every block (geometry.solve_blocks), and
+    the trap frequencies where the well has a minimum with positive curvature."""
+    from ..geometry import trap_frequencies
+    from ..geometry.by_block import solve_blocks
+
+    (k,) = job.points
+    value = case.scan_values()[k]
+    well, mass = case.well_at(value), case.mass_at(value)
+    space = case.model.space
+    given = case.model.basis.length
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = solve_blocks(well, case.dimension, geometry=space.geometry,
+                           shells=space.shells if space.shells is not None else 12,
+                           truncation=space.truncation or "shells", units=case.units,
+                           mass=mass, levels=case.model.levels.count,
+                           lengths=None if given == "auto" else given)
+    frequencies = np.full(case.dimension, np.nan)
+    if not any(hasattr(t, "spherical") for t in well.terms):  # no curvature at a deformed centre
+        with contextlib.suppress(ValueError, ArithmeticError, NumericalError,
+                                 np.linalg.LinAlgError), warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            tf = trap_frequencies(well, case.dimension, units=case.units, mass=mass)
+            frequencies = np.sort(np.asarray(tf.frequencies, dtype=float))
+    return {"geometry": res, "points": job.points, "trap": frequencies,
+            "messages": [str(w.message) for w in caught]}
+
+
 def _run_fit(case: Case) -> dict[str, Any]:
     """The fit of a case's ``fit:`` block, then the ordinary levels of the fitted well.
 

@@ -28,7 +28,8 @@ class Job:
     """One unit sent to a worker.
 
     ``kind`` is ``"linear"`` (one channel, all scan points, references given),
-    ``"points"`` (the listed scan points, every channel), ``"fit"`` (the case's fit, then
+    ``"points"`` (the listed scan points, every channel), ``"geometry"`` (one scan point of a
+    Cartesian or axial case, every block), ``"fit"`` (the case's fit, then
     every level of the fitted well) or ``"rotation"`` (the rovibrational levels and Dunham
     constants of a case with a ``rotation:`` block).
     """
@@ -41,8 +42,8 @@ class Job:
 
     @property
     def weight(self) -> int:
-        """Number of tasks (scan point × channel) in the job."""
-        return len(self.points) * len(self.channels)
+        """Number of tasks (scan point × channel, or scan point for a geometry job)."""
+        return len(self.points) * max(1, len(self.channels))
 
 
 def references(case: Case) -> tuple[Reference, ...]:
@@ -74,6 +75,8 @@ def plan_case(case: Case, case_key: int = 0) -> list[Job]:
     """
     if case.model.fit is not None:
         return [Job(case_key, "fit", (0,), tuple(range(len(case.channels()))))]
+    if case.model.space.geometry != "central":  # blocks, not channels: one job per point
+        return [Job(case_key, "geometry", (k,), ()) for k in range(len(case.scan_values()))]
     jobs = level_jobs(case, case_key)
     if case.model.rotation is not None:
         jobs.append(Job(case_key, "rotation", (0,), (0,)))
@@ -146,14 +149,20 @@ def describe(case: Case, *, reference: bool = True) -> Description:
              f"  well       {' + '.join(_term_text(t) for t in m.well)}"]
     problem = None
     geometry = m.space.geometry
-    if geometry != "central":  # blocks instead of channels; `run` refuses these (batch.py)
+    if geometry != "central":  # blocks instead of channels (runner/assemble.py)
         shells = m.space.shells if m.space.shells is not None else 12
-        lines += [f"  geometry   {geometry}, dimension {m.space.dimension}: blocks are "
-                  + ("parity triples" if geometry == "cartesian" else "Λ^π")
-                  + f"; N_max = {shells} ({m.space.truncation or 'shells'} truncation), "
-                  f"length {m.basis.length}; {m.levels.count} levels",
-                  "  run        not from case files yet: use anharmony.solve(well, "
-                  f"geometry={geometry!r}, shells={shells}) in Python"]
+        spin = any(name.endswith("spin_orbit") for spec in m.well for name in spec)
+        blocks = ("parity triples" if geometry == "cartesian" else
+                  "Ω^π (spin 1/2)" if spin else "Λ^π")
+        lines += [f"  geometry   {geometry}, dimension {m.space.dimension}: blocks are {blocks}"
+                  f"; N_max = {shells} ({m.space.truncation or 'shells'} truncation), "
+                  f"length {m.basis.length}; {m.levels.count} levels per block",
+                  f"  errors     change from {max(shells - 2, 0)} to {shells} shells; converged "
+                  f"below {m.convergence.tolerance:g} {u.energy_text}"]
+        if m.scan is not None:
+            lines.append(f"  scan       {case.scan_parameter}: {len(values)} values "
+                         f"{values[0]:g} … {values[-1]:g} (one solve of every block per point)")
+        lines.append(f"  output     {output_path(case, None)}")
         return Description(lines, None)
     if reference:
         try:

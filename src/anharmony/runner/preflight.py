@@ -12,13 +12,15 @@ Hamiltonian, not its eigenvalues — and returns each failure as an
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 
 from ..cases import Case, Issue, WorkEstimate, estimate_work, resolve_length, resolve_reference
 from ..errors import AnharmonyError
 from ..hamiltonian import Channel, channel_hamiltonian
 
-__all__ = ["WORK_LIMIT_SECONDS", "geometry_refusal", "preflight", "work_refusal"]
+__all__ = ["WORK_LIMIT_SECONDS", "preflight", "work_refusal"]
 
 #: Estimated work (seconds on one core, :func:`~anharmony.cases.estimate_work`) beyond which
 #: ``check`` and ``run`` refuse a case unless told ``--allow-long``: the demo cases take
@@ -30,20 +32,26 @@ WORK_LIMIT_SECONDS = 4 * 3600.0
 _FAILURES = (AnharmonyError, ValueError, ArithmeticError, np.linalg.LinAlgError)
 
 
-def geometry_refusal(case: Case) -> Issue | None:
-    """The refusal of a Cartesian or axial case: checked, but not run from case files yet.
+def _geometry_problems(case: Case) -> list[Issue]:
+    """A Cartesian or axial case: its blocks in a small basis at the first and last point."""
+    from ..geometry.by_block import solve_blocks
 
-    Their levels sit in blocks (parity triples, Λ^π), not in the (l, j) channels of the result
-    file (DESIGN §6); the Python API solves them.
-    """
-    geometry = case.model.space.geometry
-    if geometry == "central":
-        return None
-    shells = case.model.space.shells
-    return case.issue(("space", "geometry"), (
-        f"{geometry} cases are checked but not run from case files yet (result files hold "
-        f"central channels); solve it from Python: anharmony.solve(well, {case.dimension}, "
-        f"geometry={geometry!r}" + (f", shells={shells}" if shells is not None else "") + ")"))
+    values = case.scan_values()
+    space = case.model.space
+    given = case.model.basis.length
+    for value in sorted({values[0], values[-1]}):
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                solve_blocks(case.well_at(value), case.dimension, geometry=space.geometry,
+                             shells=min(2, space.shells if space.shells is not None else 2),
+                             truncation=space.truncation or "shells", units=case.units,
+                             mass=case.mass_at(value), levels=1,
+                             lengths=None if given == "auto" else given)
+        except _FAILURES as exc:
+            return [case.issue(("well",), f"the {space.geometry} blocks{_at(case, value)} "
+                               f"cannot be made: {exc}")]
+    return []
 
 
 def _heaviest(case: Case) -> tuple[tuple[str, ...], str]:
@@ -102,15 +110,16 @@ def preflight(case: Case, *, work_limit: float | None = WORK_LIMIT_SECONDS,
     Returns
     -------
     list of Issue
-        Empty when the case's geometry can be run, its work is within the limit, and the
+        Empty when its work is within the limit and the blocks of a Cartesian or axial case
+        can be made in a small basis, or, for a central case, the
         reference, the basis length and the Hamiltonians of the first and last scan point in
         the first and last channel can be made and are finite.
     """
-    refusal = geometry_refusal(case)
-    if refusal is None and work_limit is not None:
-        refusal = work_refusal(case, limit=work_limit)
+    refusal = None if work_limit is None else work_refusal(case, limit=work_limit)
     if refusal is not None or not numbers:
         return [] if refusal is None else [refusal]
+    if case.model.space.geometry != "central":
+        return _geometry_problems(case)
     values = case.scan_values()
     channels = case.channels()
     kind = case.scan_target.kind

@@ -1,0 +1,128 @@
+"""Running Cartesian and axial case files: blocks as the channels of the result (DESIGN §10).
+
+References: the anisotropic oscillator's exact levels E = Σ ħω_i (n_i + ½) and frequencies
+(common practice, no source); rotational invariance — a spherical well in the axial basis of
+N_max shells spans the same space as the central (l, j) channels of 2n + l ≤ N_max, so its
+Ω^π blocks hold the central levels (anharmony.solve, checked against published values
+elsewhere); Kramers degeneracy of ±Ω.
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pytest
+
+import anharmony as ah
+from anharmony.cli import main
+
+OSCILLATOR = """\
+schema: 1
+title: anisotropic oscillator
+units: oscillator
+space: {dimension: 3, geometry: cartesian, shells: 4}
+well:
+  - anisotropic_harmonic: {frequencies: [1.0, 1.3, 1.7]}
+levels: {count: 3}
+output: osc.nc
+"""
+
+NUCLEUS = """\
+schema: 1
+title: deformed nucleus
+units: nuclear
+space: {dimension: 3, geometry: axial, shells: 4}
+well:
+  - deformed_woods_saxon: {depth: 50.0, r0: 1.25, mass_number: 40, diffuseness: 0.65}
+  - deformed_spin_orbit: {strength: 20.0, r0: 1.25, mass_number: 40, diffuseness: 0.65}
+levels: {count: 2}
+scan:
+  parameter: well[0].beta2
+  values: [0.0, 0.2]
+  linked: ['well[1].beta2']
+output: nucleus.nc
+"""
+
+
+def _run(tmp_path, text, name):
+    path = tmp_path / name
+    path.write_text(text)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ah.ConvergenceWarning)
+        assert main(["run", str(path), "--progress", "off"]) == 0
+    return ah.read_dataset(path.with_suffix(".nc"))
+
+
+def test_cartesian_blocks_hold_the_exact_oscillator_levels(tmp_path, capsys):
+    ds = _run(tmp_path, OSCILLATOR, "osc.yaml")
+    w = np.array([1.0, 1.3, 1.7])
+    # every state of N ≤ 4 quanta, by parity triple (−1)^{n_i}: the exact levels per block
+    expected = {}
+    for n in np.ndindex(5, 5, 5):
+        if sum(n) <= 4:
+            key = "(" + ",".join("+-"[q % 2] for q in n) + ")"
+            expected.setdefault(key, []).append(float(np.dot(w, np.add(n, 0.5))))
+    labels = [str(x) for x in ds.label.values]
+    assert sorted(labels) == sorted(expected)
+    for c, label in enumerate(labels):
+        exact = sorted(expected[label])[:3]
+        got = ds.energy.values[0, c, :len(exact)]
+        np.testing.assert_allclose(got, exact, rtol=1e-12)  # polynomial terms: exact matrices
+    np.testing.assert_allclose(ds.trap_frequency.values[0], w, rtol=1e-6)  # Hessian, numeric
+    err = ds.error_estimate.values[0]
+    finite = np.isfinite(err)  # inf: the level has no partner at shells - 2 (no error bar)
+    assert np.all(err[finite] < 1e-12) and np.all(ds.converged.values[0][finite] == 1)
+    assert np.all(ds.converged.values[0][~finite & np.isfinite(ds.energy.values[0])] == 0)
+    capsys.readouterr()
+    assert main(["show", str(tmp_path / "osc.nc")]) == 0
+    out = capsys.readouterr().out
+    assert "(+,+,+)" in out and "(0,0,0)" in out  # block and dominant quanta of the level
+
+
+def test_axial_blocks_of_a_spherical_nucleus_hold_its_central_levels(tmp_path, capsys):
+    ds = _run(tmp_path, NUCLEUS, "nucleus.yaml")
+    b = float(ds.basis_lengths.values[0, 0])
+    assert ds.basis_lengths.values[0, 1] == b  # one length: the undeformed well's
+    well = ah.Well.from_terms([
+        {"woods_saxon": {"depth": 50.0, "r0": 1.25, "mass_number": 40, "diffuseness": 0.65}},
+        {"spin_orbit": {"strength": 20.0, "r0": 1.25, "mass_number": 40,
+                        "diffuseness": 0.65}}], "nuclear")
+    central = []
+    for l in range(5):
+        size = (4 - l) // 2 + 1
+        for j in (l - 0.5, l + 0.5):
+            if j > 0:
+                with warnings.catch_warnings():
+                    warnings.simplefilter("ignore", ah.ConvergenceWarning)
+                    s = ah.solve(well, 3, l, j, size=size, length=b, units="nuclear",
+                                 levels=size)
+                central += [(float(e), j) for e in s.energies]
+    # at β₂ = 0 each Ω^π block's levels are central levels with j ≥ Ω, same parity
+    for c, label in enumerate(str(x) for x in ds.label.values):
+        omega = float(label[:-1].split("/")[0]) / 2
+        for e in ds.energy.values[0, c]:
+            if np.isfinite(e):
+                assert min(abs(e - ec) for ec, j in central if j >= omega) < 1e-8
+    assert set(ds.block_degeneracy.values) == {2}  # ±Ω
+    # the deformation splits the spherical 1p3/2 into Ω = 1/2 and 3/2 (not degenerate)
+    p32 = {str(x): ds.energy.values[1, c, 0] for c, x in enumerate(ds.label.values)}
+    assert abs(p32["1/2-"] - p32["3/2-"]) > 0.1
+    labels = ds.level_asymptotic_label.values[1]
+    assert any(str(x).startswith("1/2-[1") for x in labels.ravel())
+    capsys.readouterr()
+    assert main(["plot", str(tmp_path / "nucleus.nc"), "--kind", "flow", "-o",
+                 str(tmp_path / "f.png")]) == 0
+
+
+@pytest.mark.parametrize("bad,field,words", [
+    ("perturbation: {orders: 4}\n", "perturbation", "not run from case files"),
+    ("convergence: {sizes: [10, 20]}\n", "convergence.sizes", "only convergence.tolerance"),
+])
+def test_what_the_geometries_do_not_run_is_refused_at_its_line(tmp_path, capsys, bad, field,
+                                                               words):
+    path = tmp_path / "bad.yaml"
+    path.write_text(OSCILLATOR + bad)
+    assert main(["check", str(path)]) == 2
+    err = capsys.readouterr().err
+    assert f"{path}:9:" in err and f"{field}: " in err and words in err
