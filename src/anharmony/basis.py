@@ -344,17 +344,23 @@ class _Basis(ABC):
         n = u.shape[1]
         if fr.size == 0:
             return np.zeros((n, n)), fmax
-        top, bottom = float(np.max(fr)), float(np.min(fr))
-        if math.isfinite(top) and math.isfinite(bottom) and (bottom >= 0.0 or top <= 0.0):
-            # one sign: A = ±BᵀB, B = √|f| U, by the symmetric rank-k update (half the flops)
-            b = np.sqrt(np.abs(fr))[:, None] * ur
-            c = _SYRK(1.0 if top > 0.0 else -1.0, b.T, trans=0, lower=0)
-            a = c + c.T
-            a[np.diag_indices(n)] *= 0.5
-            return a, fmax
-        with np.errstate(over="ignore", invalid="ignore"):  # non-finite: the caller reports it
-            a = ur.T @ (fr[:, None] * ur)
-        return 0.5 * (a + a.T), fmax
+        if not np.all(np.isfinite(fr)):
+            with np.errstate(over="ignore", invalid="ignore"):  # the caller reports it
+                a = ur.T @ (fr[:, None] * ur)
+            return 0.5 * (a + a.T), fmax
+        # A = Σ_q f_q u_q u_qᵀ = B₊ᵀB₊ − B₋ᵀB₋ with B = √|f| U on the nodes of each sign: the
+        # symmetric rank-k update (syrk) does half the flops of a general product
+        b = np.sqrt(np.abs(fr))[:, None] * ur
+        neg = fr < 0.0
+        n_neg = int(np.count_nonzero(neg))
+        if n_neg == 0 or n_neg == fr.size:
+            c = _SYRK(-1.0 if n_neg else 1.0, b.T, trans=0, lower=0)
+        else:
+            c = _SYRK(1.0, b[~neg].T, trans=0, lower=0)
+            c = _SYRK(-1.0, b[neg].T, beta=1.0, c=c, trans=0, lower=0, overwrite_c=1)
+        a = c + c.T
+        a[np.diag_indices(n)] *= 0.5
+        return a, fmax
 
     def _quad_probe(self, f, m, kind, breaks, v):
         """A(m) V for the probe vectors V (columns), without building A(m)."""
