@@ -330,10 +330,12 @@ class _Basis(ABC):
             else:
                 return fv, u, 0, fv.size, float(np.max(np.abs(fv[live & finite]), initial=0.0))
         fmax = float(np.max(np.abs(fv[live]), initial=0.0))
-        # |f_q u_qm u_qn| ≤ |f_q| max_n u_qn²: skip the tails of nodes whose summed bound is
-        # below half an ulp of max |f| on each side (far below the rounding floor)
+        # |f_q u_qm u_qn| ≤ |f_q| max_n u_qn² =: c_q, and max_q c_q ≤ max_n Σ_q |f_q| u_qn²,
+        # the size of the largest |f|-weighted element, whose rounding is ~eps of it: skip the
+        # tails of nodes whose summed c_q stays below half an ulp of max_q c_q on each side
+        # (not of max |f|, which a wall at the far, barely live nodes can make huge)
         bound = np.abs(fv) * peak
-        tiny = 0.5 * np.finfo(float).eps * fmax
+        tiny = 0.5 * np.finfo(float).eps * float(np.max(bound, initial=0.0))
         lo = int(np.searchsorted(np.cumsum(bound), tiny, side="right"))
         hi = fv.size - int(np.searchsorted(np.cumsum(bound[::-1]), tiny, side="right"))
         return fv, u, lo, max(lo, hi), fmax
