@@ -92,12 +92,18 @@ def _decode(var: Any) -> tuple[np.ndarray, dict[str, Any]]:
     values = np.asarray(var[...])
     fill = attrs.get("_FillValue", attrs.get("missing_value"))
     if fill is not None and values.dtype.kind in "iuf":
+        # xarray's CF masking: a variable with a fill value is floating point (float32 for
+        # integers of up to 2 bytes, float64 otherwise) with NaN where it holds the fill
         hole = values == fill
-        if hole.any():  # xarray's CF masking: a filled integer becomes a float NaN
-            values = values.astype(float) if values.dtype.kind != "f" else values.copy()
-            values[hole] = np.nan
+        if values.dtype.kind != "f":
+            values = values.astype(np.float32 if values.dtype.itemsize <= 2 else np.float64)
+        elif hole.any():
+            values = values.copy()
+        values[hole] = np.nan
     if attrs.get("dtype") == "bool" and values.dtype.kind in "iu":
         values = values.astype(bool)
+    if values.dtype == object and all(isinstance(v, str) for v in values.flat):
+        values = values.astype(str)  # variable-length text: fixed-width, as xarray gives it
     return values, {k: v for k, v in attrs.items() if k not in _ENCODING_ATTRS}
 
 
