@@ -609,14 +609,23 @@ def _cached_rule(basis, m, kind, breaks):
     return getattr(basis, "center", 0.0) + basis.length * xi, u, live, peak
 
 
+_UNITS: dict = {}  # basis value → the same basis at b = 1, x₀ = 0 (pure: cached by value)
+
+
 def _unit_basis(basis, breaks):
     """The same basis with b = 1 and x₀ = 0, and ``breaks`` in its scaled coordinate."""
     center = getattr(basis, "center", 0.0)
     scaled = tuple((c - center) / basis.length for c in breaks)
     if basis.length == 1.0 and center == 0.0:
         return basis, scaled
-    changes = {"length": 1.0, **({"center": 0.0} if hasattr(basis, "center") else {})}
-    return dataclasses.replace(basis, **changes), scaled
+    unit = _UNITS.get(basis)
+    if unit is None:
+        changes = {"length": 1.0, **({"center": 0.0} if hasattr(basis, "center") else {})}
+        unit = dataclasses.replace(basis, **changes)
+        if len(_UNITS) >= 256:
+            _UNITS.clear()
+        _UNITS[basis] = unit
+    return unit, scaled
 
 
 def _with_live(coords: np.ndarray, u: np.ndarray
