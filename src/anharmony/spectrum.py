@@ -183,8 +183,13 @@ class Spectrum:
     def bound_count_estimate(self) -> float:
         """Bound levels the channel holds, independent of the basis (see
         :func:`bound_count_estimate`); ``inf`` for a confining well."""
-        return bound_count_estimate(self.well, self.channel.dimension, self.channel.l,
-                                    self.channel.j)
+        # the well and channel are resolved already: the same count as
+        # bound_count_estimate(well, dimension, l, j) without resolving them again
+        center = 0.0
+        if self.channel.l is None:
+            center = _cached("reference", (_well_key(self.well), "minimum", False),
+                             lambda: self.well.minimum(radial=False)[:2])[0]
+        return _phase_space(self.well, self.channel, center).count()
 
     @property
     def shifts(self) -> np.ndarray:
