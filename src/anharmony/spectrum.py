@@ -67,7 +67,7 @@ from .reference import (
     reference_oscillator,
 )
 from .request import _check_levels, _positive, resolve_channel
-from .semiclassical import _phase_space, bound_count_estimate  # noqa: F401  (re-exported)
+from .semiclassical import _phase_space, bound_count_estimate
 from .units import UnitSystem
 from .well import Well
 
