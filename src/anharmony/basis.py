@@ -320,7 +320,7 @@ class _Basis(ABC):
         and max |f| over the nodes where some basis function lives."""
         coords, u, live, peak = _cached_rule(self, m, kind, tuple(breaks))
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-            fv = np.asarray(f(coords), dtype=float)
+            fv = np.broadcast_to(np.asarray(f(coords), dtype=float), coords.shape)
         finite = np.isfinite(fv)
         # f infinite only where every function has underflowed to 0: those nodes add nothing
         # (a non-finite f at a live node stays, and the caller reports the matrix not finite)
