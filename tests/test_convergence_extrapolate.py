@@ -167,3 +167,28 @@ def test_settings_errors_name_the_field_and_the_value(block, fragment):
     with pytest.raises(ValueError) as info:
         ConvergenceSettings.from_mapping(block)
     assert fragment in str(info.value)
+
+
+@pytest.mark.parametrize("last", [-0.4, 0.0, 0.3])  # the last change in units of the noise
+def test_a_rounding_level_last_change_after_shrinking_ones_is_converged_not_refused(last):
+    # E(N) = 2 + 3 e^{-0.9 N} down to rounding: the last step is at the noise level (here
+    # slightly up, zero or down). No three-point model passes through a non-positive last
+    # change, but the sequence has converged: the limit 2 (by construction) must lie within the
+    # uncertainty, which must stay at the noise scale.
+    noise = 1e-9
+    n = np.array([8, 12, 17, 25, 35, 49])
+    e = 2.0 + 3.0 * np.exp(-0.9 * n)
+    e[-1] = e[-2] - last * noise
+    fit = extrapolate_exponential(n, e, noise=noise)
+    assert fit.valid
+    assert abs(fit.value - 2.0) <= fit.uncertainty
+    assert fit.uncertainty <= 3.0 * noise
+
+
+def test_a_plateau_after_one_large_step_is_still_refused():
+    # a single large drop and then a flat step (a level still entering the basis) is not
+    # evidence of convergence: the changes must have been shrinking before the flat one
+    noise = 1e-9
+    e = np.array([5.0, 4.0, 3.9, 3.0, 3.0])
+    fit = extrapolate_exponential(np.array([8, 12, 17, 25, 35]), e, noise=noise)
+    assert not fit.valid

@@ -444,7 +444,7 @@ def _cmd_show(args: argparse.Namespace) -> int:
     from .store import ResultFileError, read_dataset
 
     try:
-        ds = read_dataset(args.result)
+        ds = read_dataset(args.result, plain=True)  # netCDF4 alone: no xarray import
     except ResultFileError as exc:
         _err(str(exc))
         return EXIT_BAD_INPUT

@@ -16,6 +16,9 @@ ESTIMATE_WINDOW = 0.25  # nested sub-blocks N − q, N − 2q with q = N/4 (cost
 ESTIMATE_SAFETY = 12.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
 ESTIMATE_RATIO_CAP = 0.9  # convergence ratio per window assumed at most this
 ESTIMATE_FLOOR = 0.03  # remainder never taken below this fraction of the last difference
+DENSE_ALL_ROWS = 12  # dense, eigenvalues only: all of them (syev) beat a selection (syevr)
+# below about 12 rows per wanted level (measured on Woods–Saxon and Morse blocks, m = 30…300:
+# benchmarks/RESULTS.md, 2026-12-04)
 
 
 def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
@@ -65,6 +68,9 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
         if band is not None and bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * m:
             return band_eigenvalues(band, m, top)
         block = np.ascontiguousarray(h[:m, :m])
+        if m < DENSE_ALL_ROWS * top:  # all eigenvalues (syev: QR on the tridiagonal form)
+            return eigh(block, eigvals_only=True, driver="ev", overwrite_a=True,
+                        check_finite=False)[:top]
         return eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
                     overwrite_a=True, check_finite=False)
 

@@ -98,7 +98,12 @@ class Channel:
 
 @dataclass(frozen=True)
 class ChannelMatrices:
-    """The Hamiltonian of one channel, split by origin, in the well's energy unit."""
+    """The Hamiltonian of one channel, split by origin, in the well's energy unit.
+
+    ``combined``: the spin–orbit part ⟨l·s⟩ V_ls was integrated together with the potential's
+    panel terms (one quadrature, see :func:`channel_hamiltonian`); ``potential`` then holds
+    both and ``spin_orbit`` is zero.
+    """
 
     kinetic: np.ndarray
     potential: np.ndarray
@@ -106,6 +111,7 @@ class ChannelMatrices:
     basis: HermiteBasis | RadialBasis
     bandwidth: int | None
     hbar_omega: float
+    combined: bool = False
 
     @property
     def total(self) -> np.ndarray:
@@ -152,7 +158,8 @@ def make_basis(well: Well, channel: Channel, size: int, length: float, center: f
 
 
 def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
-                        center: float = 0.0, mass: float | None = None) -> ChannelMatrices:
+                        center: float = 0.0, mass: float | None = None, *,
+                        combined: bool = False) -> ChannelMatrices:
     """Matrices of one channel in the oscillator basis of length ``length``.
 
     Parameters
@@ -170,6 +177,9 @@ def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
         term's centre there is a radius).
     mass
         Particle mass; defaults to the well's.
+    combined
+        Integrate the spin–orbit term and the potential's panel terms as one function on one
+        quadrature rule (half the work of a first build; :attr:`ChannelMatrices.combined`).
     """
     if mass is not None:
         well = well.with_context(well.units, mass)
@@ -205,16 +215,34 @@ def channel_hamiltonian(well: Well, channel: Channel, size: int, length: float,
     potential = exact
     if by_kind["weight"]:
         potential = potential + basis.matrix(_summed(by_kind["weight"]), kind="weight")
-    if by_kind["panels"]:
-        breaks = sorted({x for t in by_kind["panels"] for x in t.breaks(radial)})
-        potential = potential + basis.matrix(_summed(by_kind["panels"]), kind="panels",
-                                             breaks=breaks)
     so = np.zeros((n, n))
-    if well.has_spin_orbit and channel.ls != 0.0:
+    with_so = well.has_spin_orbit and channel.ls != 0.0
+    panels: list = list(by_kind["panels"])
+    fuse = combined and with_so
+    if fuse:
+        panels.append(_SpinOrbitPart(well.spin_orbit_value, channel.ls))
+    if panels:
+        breaks = sorted({x for t in panels for x in t.breaks(radial)})
+        potential = potential + basis.matrix(_summed(panels), kind="panels", breaks=breaks)
+    if with_so and not fuse:
         so = channel.ls * basis.matrix(well.spin_orbit_value, kind="panels")
-    quadrature = by_kind["weight"] or by_kind["panels"]
+    quadrature = by_kind["weight"] or panels
     bandwidth = band if not (quadrature or np.any(so)) else None
-    return ChannelMatrices(kinetic, potential, so, basis, bandwidth, hw)
+    return ChannelMatrices(kinetic, potential, so, basis, bandwidth, hw, fuse)
+
+
+@dataclass(frozen=True)
+class _SpinOrbitPart:
+    """⟨l·s⟩ V_ls(r) as one more panel term of a combined quadrature."""
+
+    value_of: object
+    ls: float
+
+    def value(self, r):
+        return self.ls * self.value_of(r)  # type: ignore[operator]
+
+    def breaks(self, radial):
+        return ()
 
 
 def _summed(terms):

@@ -15,6 +15,7 @@ from here.
 
 from __future__ import annotations
 
+import functools
 import math
 import warnings
 from collections.abc import Callable, Mapping
@@ -66,7 +67,7 @@ from .reference import (
     reference_oscillator,
 )
 from .request import _check_levels, _positive, resolve_channel
-from .semiclassical import _phase_space, bound_count_estimate  # noqa: F401  (re-exported)
+from .semiclassical import _phase_space, bound_count_estimate
 from .units import UnitSystem
 from .well import Well
 
@@ -182,8 +183,13 @@ class Spectrum:
     def bound_count_estimate(self) -> float:
         """Bound levels the channel holds, independent of the basis (see
         :func:`bound_count_estimate`); ``inf`` for a confining well."""
-        return bound_count_estimate(self.well, self.channel.dimension, self.channel.l,
-                                    self.channel.j)
+        # the well and channel are resolved already: the same count as
+        # bound_count_estimate(well, dimension, l, j) without resolving them again
+        center = 0.0
+        if self.channel.l is None:
+            center = _cached("reference", (_well_key(self.well), "minimum", False),
+                             lambda: self.well.minimum(radial=False)[:2])[0]
+        return _phase_space(self.well, self.channel, center).count()
 
     @property
     def shifts(self) -> np.ndarray:
@@ -227,15 +233,22 @@ class Spectrum:
 
 def _channel_matrices(well: Well, channel: Channel, size: int, length: float, center: float
                       ) -> tuple[ChannelMatrices, np.ndarray]:
-    """Channel matrices and their (read-only) sum, from the LRU when the same value was built."""
+    """Channel matrices and their (read-only) sum, from the LRU when the same value was built
+    (spin–orbit and potential panel terms integrated together: only the sum is used)."""
     def make():
-        mats = channel_hamiltonian(well, channel, size, length, center)
+        mats = channel_hamiltonian(well, channel, size, length, center, combined=True)
         total = mats.total
         total.setflags(write=False)
         return mats, total
 
     return _cached("matrices", (_well_key(well), channel, int(size), float(length),
                                 float(center)), make)
+
+
+@functools.lru_cache(maxsize=256)
+def _labels(channel: Channel, levels: int, system: UnitSystem) -> tuple[str, ...]:
+    """Spectroscopic labels of the lowest ``levels`` levels (pure: cached by value)."""
+    return tuple(channel.level_label(n, units=system) for n in range(levels))
 
 
 def _check_tolerance(tolerance: Any) -> float:
@@ -344,9 +357,13 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     else:
         # a given length needs no reference: its search is made when it is first read
         # (Spectrum.reference, shifts); centre and V_min are those it will take
-        center, v_min = _cached("reference", (_well_key(well), "minimum", radial),
-                                lambda: well.minimum(radial=radial)[:2])
-        center = 0.0 if radial else center
+        def minimum() -> tuple[float, float]:
+            return _cached("reference", (_well_key(well), "minimum", radial),
+                           lambda: well.minimum(radial=radial)[:2])
+
+        # a radial basis is centred at r = 0 whatever the minimum: V_min is then only the
+        # scale of the rounding warning, found below if that warning is in question
+        center, v_min = (0.0, None) if radial else minimum()
         made: list[Reference] = []
 
         def make_reference() -> Reference:
@@ -363,6 +380,8 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     mats, h = _channel_matrices(well, channel, size, b, center)
     energies, vectors = diagonalize(h, levels, mats.bandwidth)
     rounding = matrix_rounding(h)
+    if v_min is None:  # scale ≥ ħω: no warning below ROUNDING_WARN · ħω whatever V_min is
+        v_min = minimum()[1] if rounding > ROUNDING_WARN * mats.hbar_omega else 0.0
     scale = max(float(np.max(np.abs(energies - v_min))), mats.hbar_omega)
     unit = "" if system.energy == "1" else " " + system.energy
     if rounding > ROUNDING_WARN * scale:
@@ -392,7 +411,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
         or mats.hbar_omega
     tol = tolerance * spacing
     converged = bound & (errors <= tol)
-    labels = tuple(channel.level_label(n, units=system) for n in range(levels))
+    labels = _labels(channel, levels, system)
     spec = Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
                     mass=mass, well=well, reference_energies=ref_levels, rounding=rounding,

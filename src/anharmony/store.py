@@ -484,8 +484,18 @@ def write_dataset(ds: xr.Dataset, path: str | Path, *, overwrite: bool = False) 
             exclusive=not overwrite)
 
 
-def read_dataset(path: str | Path) -> xr.Dataset:
+def read_dataset(path: str | Path, *, plain: bool = False) -> xr.Dataset:
     """Load a result file into memory and check its result-schema version.
+
+    Parameters
+    ----------
+    path
+        The result file.
+    plain
+        Read it with netCDF4 alone into a :class:`~anharmony._ncread.PlainDataset` (the
+        same variables, values and attributes behind the part of the xarray interface that
+        read-only commands use: sizes, attrs, ``ds[name]``/``ds.name`` with ``values``,
+        ``dims``, ``attrs``), without importing xarray; for ``anharmony show``.
 
     Raises
     ------
@@ -493,13 +503,18 @@ def read_dataset(path: str | Path) -> xr.Dataset:
         If the file is missing, is not netCDF, is not an anharmony result, or was written with
         a newer result schema.
     """
-    import xarray as xr
-
     p = Path(path)
     if not p.is_file():
         raise ResultFileError(f"{p}: no such result file")
     try:
-        ds = xr.load_dataset(p, engine="netcdf4")
+        if plain:
+            from ._ncread import load_plain
+
+            ds = load_plain(p)
+        else:
+            import xarray as xr
+
+            ds = xr.load_dataset(p, engine="netcdf4")
     except (OSError, ValueError, RuntimeError) as exc:
         raise ResultFileError(f"{p}: not a readable netCDF file ({exc})") from None
     version = ds.attrs.get("anharmony_schema")

@@ -38,6 +38,7 @@ from typing import Any, Literal
 import numpy as np
 
 from .._checks import integer, length_or_auto
+from ..basis import _cached_rule
 from ..eigensolvers import diagonalize
 from ..errors import InputError
 from ..units import UnitSystem
@@ -153,8 +154,15 @@ def _variance(problem: Problem, size: int, length: float, e: np.ndarray, v: np.n
     points = 2 * (size + extra) + 48
     prev = None
     s2 = None
-    for _ in range(_MAX_REFINE):
-        coords, u = basis.quadrature(points, kind="panels", breaks=problem.breaks)
+    for step in range(_MAX_REFINE):
+        if step < 2:
+            # the first pair of rules from the basis module's cache: stored at unit length,
+            # they serve every length of a scan at this size (the same nodes and U as
+            # basis.quadrature(points, "panels", breaks)); the rarer, larger refinements are
+            # made once and not kept
+            coords, u, _, _ = _cached_rule(basis, points, "panels", tuple(problem.breaks))
+        else:
+            coords, u = basis.quadrature(points, kind="panels", breaks=problem.breaks)
         psi = u[:, :size] @ v
         pot = problem.potential(coords)
         pot = np.where(np.isfinite(pot), pot, 0.0)  # infinite only where ψ vanishes to 0

@@ -193,6 +193,13 @@ def fit_decay(x: Sequence[float], y: Sequence[float], noise: float = 0.0) -> _De
         return _Decay(float(y[-1]), noise + max(float(d[-1]), 0.0), math.nan, math.nan,
                       "converged to rounding: the last two changes are below the noise", True)
     last = _three_point(x[-3:], y[-3:])
+    if last is None and abs(d[-1]) <= noise and n >= 4 and d[-3] > d[-2] > noise:
+        # no three-point model through a rounding-level (here negative or zero) last change,
+        # but that step is already within rounding after steadily shrinking ones: a decaying
+        # tail from here is below |d[-1]|·r/(1 − r) with r ≤ noise/d[-2] ≪ 1
+        return _Decay(float(y[-1]), noise + max(float(d[-1]), 0.0), math.nan, math.nan,
+                      "converged to rounding at the last size: its change is below the noise "
+                      "after shrinking ones", True)
     if last is None:
         return _Decay(math.nan, math.inf, math.nan, math.nan,
                       "the last three values do not decay like the model", False)
