@@ -72,6 +72,8 @@ BAD = [
     ("scan.values.steps", "steps: 3", "steps: 0"),
     ("scan.values.from", "from: 0.0", "from: zero"),
     ("scan.values.to", "to: 0.2", "to: end"),
+    ("scan.linked", "values: {from: 0.0, to: 0.2, steps: 3}",
+     "linked: []\n  values: {from: 0.0, to: 0.2, steps: 3}"),
     ("perturbation.orders", "orders: 4", "orders: -1"),
     ("perturbation.exact", "exact: auto", "exact: sometimes"),
     ("perturbation.resum[0]", "resum: [pade]", "resum: [magic]"),
