@@ -126,3 +126,42 @@ def test_what_the_geometries_do_not_run_is_refused_at_its_line(tmp_path, capsys,
     assert main(["check", str(path)]) == 2
     err = capsys.readouterr().err
     assert f"{path}:9:" in err and f"{field}: " in err and words in err
+
+
+BEAM = """\
+schema: 1
+title: tilted beam
+units: trap
+particle: {mass: 40.0}
+space: {dimension: 3, geometry: axial, shells: 8, truncation: energy}
+well:
+  - focused_beam: {depth: 200.0, waist: 1.0, wavelength: 1.064}
+  - tilt: {force: 0.98304, axis: z}
+levels: {count: 2}
+output: beam.nc
+"""
+
+
+def test_a_tilted_trap_is_open_and_its_levels_are_quasi_bound_below_the_barrier(tmp_path,
+                                                                                capsys):
+    # Gravity along the beam makes V → −∞ downwards: no level is bound (DESIGN §2), and the
+    # escape barrier is the on-axis maximum of −U₀/(1 + z²/z_R²) + F z below the minimum,
+    # z_R = π w₀²/λ (Grimm, Weidemüller & Ovchinnikov 2000), found here by scipy alone
+    from scipy.optimize import minimize_scalar
+
+    ds = _run(tmp_path, BEAM, "beam.yaml")
+    u0, w0, lam, force = 200.0, 1.0, 1.064, 0.98304
+    z_r = np.pi * w0**2 / lam
+
+    def v(z):
+        return -u0 / (1 + (z / z_r) ** 2) + force * z
+
+    z_min = minimize_scalar(v, bounds=(-5, 5), method="bounded").x
+    top = -minimize_scalar(lambda z: -v(z), bounds=(-1e4, z_min), method="bounded",
+                           options={"xatol": 1e-10}).fun
+    assert float(ds.escape_barrier.values[0]) == pytest.approx(top, abs=1e-6)  # h·kHz
+    assert int(ds.bound.values.sum()) == 0
+    assert np.all(ds.energy.values[0][np.isfinite(ds.energy.values[0])] < top)
+    capsys.readouterr()
+    assert main(["show", str(tmp_path / "beam.nc")]) == 0
+    assert "quasi-bound" in capsys.readouterr().out

@@ -176,6 +176,12 @@ def cmd_show(args: argparse.Namespace) -> int:
         print(f"\n{param} = {sv:g}{_unit_suffix(p_symbol)}: hbar*omega = "
               f"{hw:.6g}{_unit_suffix(symbol)}, b = {float(ds.length.values[k]):.6g}"
               f"{_unit_suffix(b_symbol)} ({ds.reference_method.values[k]})")
+        if "escape_barrier" in ds and math.isfinite(float(ds.escape_barrier.values[k])):
+            eb = float(ds.escape_barrier.values[k])
+            below = int(np.sum(ds.energy.values[k] < eb))
+            print(f"  open well (V falls without bound one way): no level is bound; {below} "
+                  f"level(s) lie below the escape barrier {scale * eb:.6g}{_unit_suffix(symbol)}"
+                  " and are quasi-bound")
         if grown:
             reached = ", ".join(f"{labels[c]} {int(ds.convergence_size.values[k, c])}"
                                 for c in chans)

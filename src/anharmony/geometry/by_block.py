@@ -19,7 +19,7 @@ import numpy as np
 from ..errors import InputError
 from ..units import UnitSystem
 from .blocks import quanta_weights
-from .potential import check_terms, geometry_threshold
+from .potential import check_terms, escape_barrier, geometry_threshold
 from .solve import (
     GEOMETRIES,
     _auto_lengths,
@@ -53,6 +53,10 @@ class BlockSpectra:
     level_labels : list of list of str (B, L)
         Ω^π[N n_z Λ] or (n_x,n_y,n_z) of the dominant basis state; ``""`` where no level.
     threshold : float
+    barrier : float
+        For an open well (threshold −∞, e.g. a trap tilted by gravity): its escape energy along
+        straight rays from the minimum (:func:`~anharmony.geometry.potential.escape_barrier`);
+        the levels below it are quasi-bound. NaN for a well with a finite threshold.
     lengths, centers : tuple of float
         The basis lengths (b_⊥, b_z or b_x, b_y[, b_z]) and centres used.
     """
@@ -65,6 +69,7 @@ class BlockSpectra:
     bound: np.ndarray
     level_labels: list[list[str]]
     threshold: float
+    barrier: float
     lengths: tuple[float, ...]
     centers: tuple[float, ...]
 
@@ -133,9 +138,15 @@ def solve_blocks(well, dimension: int = 3, *, geometry: str = "axial", shells: i
             errors[i, k] = abs(e[k] - es[k]) if k < len(es) else math.inf
             names[i][k] = _label(geometry, key, states[np.argmax(vec[:, k] ** 2)])
     degeneracy = np.array([2 if geometry == "axial" and k[0] > 0 else 1 for k in keys])
+    barrier = math.nan
+    if threshold == -math.inf:
+        from .frequencies import trap_frequencies_of
+
+        minimum = trap_frequencies_of(well, dimension, c).minimum
+        barrier = escape_barrier(well, dimension, minimum)
     with np.errstate(invalid="ignore"):
         bound = energies < threshold
     return BlockSpectra(keys=keys, labels=[block_label(geometry, k) for k in keys],
                         degeneracy=degeneracy, energies=energies, error_estimate=errors,
-                        bound=bound, level_labels=names, threshold=threshold,
+                        bound=bound, level_labels=names, threshold=threshold, barrier=barrier,
                         lengths=tuple(float(v) for v in b), centers=tuple(float(v) for v in x0))

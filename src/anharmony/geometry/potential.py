@@ -47,6 +47,7 @@ __all__ = [
     "cartesian_polynomial",
     "cartesian_value",
     "check_terms",
+    "escape_barrier",
     "geometry_threshold",
     "is_central",
     "needs_panels",
@@ -240,6 +241,42 @@ def geometry_threshold(well, dimension: int = 3) -> float:
     fall = v2 < -2.0 * np.abs(v1)
     lim = np.where(grow, np.inf, np.where(fall, -np.inf, v2))
     return float(np.min(lim))
+
+
+def escape_barrier(well, dimension: int, start) -> float:
+    """The escape energy of an open well (a tilt makes V → −∞ one way), along straight rays.
+
+    The lowest, over 26 directions (8 in 2D) from ``start`` (the minimum), of the highest value
+    of V along the ray out to 10³ times the well's length scale: an upper bound on the energy
+    of the mountain pass through which a particle leaves (equal to it when the pass lies on one
+    of the rays, as on the axis of a tilted axial trap). Levels below it are quasi-bound.
+    """
+    start = np.asarray(start, dtype=float).reshape(dimension)
+    dirs = np.array([d for d in product((-1.0, 0.0, 1.0), repeat=dimension) if any(d)])
+    dirs /= np.linalg.norm(dirs, axis=1)[:, None]
+    r = np.concatenate([[0.0], np.geomspace(1e-3, 1e3, 600) * well.scale])
+    pts = start[None, None, :] + r[:, None, None] * dirs[None, :, :]
+    with np.errstate(all="ignore"):
+        v = cartesian_value(well, [pts[..., i] for i in range(dimension)])
+    v = np.where(np.isnan(v), -np.inf, v)
+    from scipy.optimize import minimize_scalar
+
+    peaks = []
+    for j, d in enumerate(dirs):  # refine each ray's highest sample between its neighbours
+        i = int(np.argmax(v[:, j]))
+        lo, hi = r[max(i - 1, 0)], r[min(i + 1, len(r) - 1)]
+        if not np.isfinite(v[i, j]) or hi <= lo:
+            peaks.append(float(v[i, j]))
+            continue
+
+        def along(t, d=d):
+            with np.errstate(all="ignore"):
+                return -float(cartesian_value(well, list(start + t * d)))
+
+        best = minimize_scalar(along, bounds=(lo, hi), method="bounded",
+                               options={"xatol": 1e-10 * max(hi, 1.0)})
+        peaks.append(max(float(v[i, j]), -float(best.fun)))
+    return float(np.min(peaks))
 
 
 def reflection_symmetric(well, axis: int, centers: Sequence[float], extent: Sequence[float],

@@ -317,6 +317,7 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
     naxes = 2 if geometry == "axial" else case.dimension
     lengths = np.full((s, naxes), np.nan)
     trap = np.full((s, case.dimension), np.nan)
+    barrier = np.full(s, np.nan)
     degeneracy = np.ones(nb, dtype=np.int64)
     messages: list[str] = []
     for k, part in sorted(by_point.items()):
@@ -329,6 +330,7 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
             names[k, b] = res.level_labels[i]
             degeneracy[b] = res.degeneracy[i]
         threshold[k] = res.threshold
+        barrier[k] = res.barrier
         lengths[k] = res.lengths
         trap[k] = part["trap"]
         messages += part["messages"]
@@ -363,6 +365,17 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
                             "axes of the Hessian at the minimum, ascending (NaN for wells "
                             "without a curved minimum, such as a deformed Woods-Saxon well)"}),
     }
+    notes = [f"{geometry} geometry: channels are the blocks ({', '.join(labels)}); "
+             "error_estimate is the change of each level from shells - 2 to shells; "
+             "basis_size is N_max; frequency and length are those of the first axis"]
+    if np.any(np.isfinite(barrier)):
+        extra["escape_barrier"] = (("scan",), barrier, {
+            "units": u.energy, "long_name": "escape energy of the open well (threshold -inf) "
+            "along straight rays from the minimum, an upper bound on its mountain pass; "
+            "levels below it are quasi-bound"})
+        notes.append("the well is open (V falls without bound one way, as under gravity): no "
+                     "level is bound (bound = 0); levels below escape_barrier are quasi-bound "
+                     "states that leave by tunnelling")
     nan = np.full(s, np.nan)
     series = empty_like_series(s, nb, n, 0, 0)
     return CaseResult(
@@ -375,7 +388,5 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
         threshold=threshold, basis_size=int(case.model.space.shells or 12),
         resum_methods=[], level_labels=[[str(names[-1, b, m]) or f"{labels[b]} #{m}"
                                          for m in range(n)] for b in range(nb)],
-        notes=[f"{geometry} geometry: channels are the blocks ({', '.join(labels)}); "
-               "error_estimate is the change of each level from shells - 2 to shells; "
-               "basis_size is N_max; frequency and length are those of the first axis"],
+        notes=notes,
         warnings=warnings_ + sorted(set(messages)), extra=extra, **series)
