@@ -98,6 +98,8 @@ REFUSED = [
      "cannot read '12abc' as int"),
     ("!!timestamp that is no date", MINI.replace("title: t", "title: !!timestamp 2001-13-45"),
      2, "title", "as timestamp"),
+    ("!!timestamp that is no timestamp", MINI.replace("title: t", "title: !!timestamp soon"), 2,
+     "title", "not in the form this tag reads"),
     ("5000-digit integer", MINI.replace("size: 20", "size: " + "9" * 5000), 8, "basis.size",
      "5000 characters"),
     ("integer beyond the float range", MINI.replace("frequency: 1.0", "frequency: 1" + "0" * 400),

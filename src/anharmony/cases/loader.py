@@ -106,12 +106,15 @@ class StrictLoader(yaml.SafeLoader):
             return value
         except yaml.MarkedYAMLError:
             raise
-        except (ValueError, OverflowError, TypeError, RecursionError) as exc:
+        except (ValueError, OverflowError, TypeError, AttributeError, KeyError, IndexError,
+                RecursionError) as exc:
             shown = str(node.value) if isinstance(node, yaml.ScalarNode) else node.tag
             if len(shown) > 40:
                 shown = f"{shown[:20]}…({len(shown)} characters)"
             tag = node.tag.rsplit(":", 1)[-1]
-            why = str(exc).split(": value has")[0].split("; use sys.")[0]
+            why = (str(exc).split(": value has")[0].split("; use sys.")[0]
+                   if isinstance(exc, (ValueError, OverflowError)) else
+                   "not in the form this tag reads")
             raise UnreadableValue(None, None, f"cannot read {shown!r} as {tag} ({why})",
                                   node.start_mark) from None
 
