@@ -39,6 +39,7 @@ convergence:
   bounds: true
   ir_length: eigenvalue
   estimate: extrapolate
+filling: {particles: 4}
 output: every.nc
 """
 
@@ -74,6 +75,7 @@ BAD = [
     ("scan.values.to", "to: 0.2", "to: end"),
     ("scan.linked", "values: {from: 0.0, to: 0.2, steps: 3}",
      "linked: []\n  values: {from: 0.0, to: 0.2, steps: 3}"),
+    ("filling.particles", "particles: 4", "particles: -1"),
     ("perturbation.orders", "orders: 4", "orders: -1"),
     ("perturbation.exact", "exact: auto", "exact: sometimes"),
     ("perturbation.resum[0]", "resum: [pade]", "resum: [magic]"),

@@ -143,3 +143,22 @@ def test_fill_shells_refuses_bad_input():
         fill_shells(spectra + spectra[:1], particles=2)
     with pytest.raises(InputError, match="particles"):
         fill_shells(spectra, particles=-1)
+
+
+def test_a_filling_case_key_stores_the_shells_of_every_scan_point(tmp_path):
+    # 3D oscillator, 20 particles: the shells N = 0, 1, 2 full (2 + 6 + 12; Mayer & Jensen
+    # 1955, textbook), Fermi level 3.5 ħω, gap ħω, ⟨r²⟩ = b²(N + 3/2) per orbital gives an rms
+    # radius √3 b (virial theorem); the scanned frequency scales energies and b² = 1/ħω
+    path = tmp_path / "fill.yaml"
+    path.write_text("schema: 1\nspace: {dimension: 3, l: [0, 1, 2, 3]}\nwell:\n"
+                    "  - harmonic: {frequency: 1.0}\nbasis: {size: 12}\nlevels: {count: 3}\n"
+                    "scan: {parameter: 'well[0].frequency', values: [1.0, 2.0]}\n"
+                    "filling: {particles: 20}\noutput: fill.nc\n")
+    ds = ah.run_case(path)
+    hw = ds.scan_value.values
+    np.testing.assert_allclose(ds.shell_fermi_energy.values, 3.5 * hw, rtol=RTOL_EXACT)
+    np.testing.assert_allclose(ds.shell_gap.values, hw, rtol=RTOL_EXACT)
+    np.testing.assert_allclose(ds.shell_rms_radius.values, np.sqrt(3.0 / hw), rtol=RTOL_EXACT)
+    assert list(ds.shell_closed.values) == [1, 1]
+    np.testing.assert_array_equal(ds.shell_occupancy.values.sum(axis=(1, 2)), [20, 20])
+    assert ds.shell_occupancy.values[0, 3].sum() == 0  # the f shell (N = 3) stays empty

@@ -165,6 +165,14 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
         out.append((("fit",), "a fit does not combine with scan: in this version; fit the "
                     "well in a case without scan:, then scan the fitted well in another case"))
     out += _rotation_issues(model)
+    if model.filling is not None:
+        for key in ("fit", "rotation"):
+            if getattr(model, key) is not None:
+                out.append((("filling",), f"filling: does not combine with {key}: in this "
+                            "version"))
+        if model.space.geometry != "central":
+            out.append((("filling",), "filling: fills the (l, j) channels of a central space; "
+                        f"got geometry {model.space.geometry}"))
     target = ScanTarget("coupling", linear=True)
     if model.scan is not None:
         try:

@@ -259,6 +259,17 @@ class JRange(_Strict):
     to: Annotated[int, Field(ge=0, le=MAX_J)]
 
 
+MAX_PARTICLES = 10_000  # particles a filling accepts (the heaviest nuclei hold about 300)
+
+
+class Filling(_Strict):
+    """``filling:`` independent particles placed in the levels of every channel, lowest first
+    (:func:`anharmony.fill_shells`): the Fermi level, the gap above it, the occupancies and
+    the rms radius of the filled orbitals, per scan point."""
+
+    particles: Annotated[int, Field(ge=0, le=MAX_PARTICLES)]
+
+
 class Rotation(_Strict):
     """``rotation:`` rovibrational levels E(v, J) of a diatomic and its Dunham constants.
 
@@ -429,6 +440,7 @@ class CaseModel(_Strict):
     convergence: Convergence = Field(default_factory=Convergence)
     fit: Fit | None = None
     rotation: Rotation | None = None
+    filling: Filling | None = None
     output: Annotated[str, AfterValidator(_netcdf_name)] | None = None
 
     def to_dict(self) -> dict[str, Any]:

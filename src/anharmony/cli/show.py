@@ -212,6 +212,8 @@ def cmd_show(args: argparse.Namespace) -> int:
                     else f"{'-':>14} {'-':>12}")  # no reference oscillator (geometries)
             print(f"  {name:>12}{parity} {e:14.8g} {refs} {bound:>6} {errs} {conv:>5}{extra}  "
                   f"{_verdict(ds, k, c, n, tol)}")
+    if "shell_occupancy" in ds:
+        _print_filling(ds, points, scale, symbol, b_symbol)
     if "fit_value" in ds:
         _print_fit(ds, shown_units)
     if "rovib_energy" in ds:
@@ -298,3 +300,22 @@ def _print_rotation(ds: Any, scale: float, energy_units: str) -> None:
     for w in str(ds.attrs.get("rovib_warnings", "")).splitlines():
         if w:
             print(f"  warning: {w}")
+
+
+def _print_filling(ds: Any, points: list[int], scale: float, symbol: str,
+                   b_symbol: str) -> None:
+    """The shell filling of each shown scan point, in one line, and the filled levels."""
+    n = int(ds.shell_occupancy.attrs.get("particles", 0))
+    print(f"\nshell filling: {n} particles in the levels of every channel, lowest first")
+    for k in points:
+        fermi = scale * float(ds.shell_fermi_energy.values[k])
+        gap = float(ds.shell_gap.values[k])
+        closed = "closed" if int(ds.shell_closed.values[k]) else "open"
+        gap_text = f"{scale * gap:.6g}{_unit_suffix(symbol)}" if math.isfinite(gap) else "-"
+        occ = ds.shell_occupancy.values[k]
+        filled = ", ".join(f"{_level_name(ds, int(ds.attrs.get('dimension', 3)), c, m)}"
+                           f" {occ[c, m]:g}" for c in range(occ.shape[0])
+                           for m in range(occ.shape[1]) if occ[c, m] > 0)
+        print(f"  [{k}] Fermi level {fermi:.6g}{_unit_suffix(symbol)} ({closed} shell), gap "
+              f"{gap_text}, rms radius {float(ds.shell_rms_radius.values[k]):.5g}"
+              f"{_unit_suffix(b_symbol)}; occupied: {filled}")

@@ -41,6 +41,11 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         (part,) = fits
         result = assemble(case.fitted(part["values"]), part["parts"])
         return dataclasses.replace(result, fit=part["fit"])
+    fillings = [p["filling"] for p in parts if "filling" in p]
+    if fillings:
+        result = assemble(case, [p for p in parts if "filling" not in p])
+        return dataclasses.replace(result, extra={**result.extra,
+                                                  **_filling_variables(case, fillings)})
     rotations = [p["rotation"] for p in parts if "rotation" in p]
     if rotations:
         result = assemble(case, [p for p in parts if "rotation" not in p])
@@ -390,3 +395,33 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
                                          for m in range(n)] for b in range(nb)],
         notes=notes,
         warnings=warnings_ + sorted(set(messages)), extra=extra, **series)
+
+
+def _filling_variables(case: Case, fillings: Sequence[dict[str, Any]]) -> dict[str, Any]:
+    """The ``shell_*`` variables of a case with a ``filling:`` block, per scan point."""
+    s = len(case.scan_values())
+    shape = (s, len(case.channels()), case.model.levels.count)
+    fermi, gap, rms = (np.full(s, np.nan) for _ in range(3))
+    closed = np.zeros(s, dtype=np.int8)
+    occupancy = np.zeros(shape)
+    for f in fillings:
+        k = f["point"]
+        fermi[k], gap[k], rms[k], closed[k] = f["fermi"], f["gap"], f["rms"], int(f["closed"])
+        occupancy[k] = f["occupancy"]
+    u = case.units
+    n = case.model.filling.particles
+    return {
+        "shell_occupancy": (("scan", "channel", "level"), occupancy,
+                            {"units": "1", "long_name": f"particles in the level when {n} "
+                             "fill the levels of every channel from the lowest (2j + 1 each)",
+                             "particles": n}),
+        "shell_fermi_energy": (("scan",), fermi, {"units": u.energy, "long_name": "energy of "
+                               "the highest occupied level"}),
+        "shell_gap": (("scan",), gap, {"units": u.energy, "long_name": "from the Fermi level "
+                      "to the next empty level (NaN when the shell is open or none is bound)"}),
+        "shell_closed": (("scan",), closed, {"units": "1", "long_name": "1 when the highest "
+                         "occupied shell is full", "flag_values": np.array([0, 1], np.int8),
+                         "flag_meanings": "open closed"}),
+        "shell_rms_radius": (("scan",), rms, {"units": u.length, "long_name": "rms radius of "
+                             "the filled orbitals, sqrt(sum occ <r^2> / N)"}),
+    }

@@ -175,6 +175,8 @@ def run_job(case: Case, job: Job) -> dict[str, Any]:
         return _run_fit(case)
     if job.kind == "geometry":
         return _run_geometry(case, job)
+    if job.kind == "filling":
+        return _run_filling(case, job)
     if job.kind == "rotation":
         return {"rotation": _run_rotation(case)}
     return _run_linear(case, job) if job.kind == "linear" else _run_points(case, job)
@@ -208,6 +210,34 @@ def _run_geometry(case: Case, job: Job) -> dict[str, Any]:
             frequencies = np.sort(np.asarray(tf.frequencies, dtype=float))
     return {"geometry": res, "points": job.points, "trap": frequencies,
             "messages": [str(w.message) for w in caught]}
+
+
+def _run_filling(case: Case, job: Job) -> dict[str, Any]:
+    """The shell filling of one scan point: every channel solved (anharmony.solve, with the
+    case's basis and the point's reference), then anharmony.fill_shells."""
+    from ..shells import fill_shells
+    from ..spectrum import solve
+
+    (k,) = job.points
+    value = case.scan_values()[k]
+    ref = resolve_reference(case, value)
+    length = resolve_length(case, value, ref)
+    well, mass = case.well_at(value), case.mass_at(value)
+    chans = case.channels()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # the levels' own warnings come from the level jobs
+        spectra = [solve(well, ch.dimension, ch.l, ch.j, size=case.model.basis.size,
+                         length=length, units=case.units, mass=mass,
+                         levels=case.model.levels.count, reference=case.reference_spec(value))
+                   for ch in chans]
+    res = fill_shells(spectra, particles=case.model.filling.particles)
+    occupancy = np.zeros((len(chans), case.model.levels.count))
+    labels = [spec.channel.label for spec in spectra]
+    for level in res.levels:
+        occupancy[labels.index(level.channel), level.n] = level.occupancy
+    return {"filling": {"point": k, "fermi": res.fermi_energy, "gap": res.gap,
+                        "closed": res.closed, "rms": res.rms_radius, "occupancy": occupancy,
+                        "placed": float(occupancy.sum())}}
 
 
 def _run_fit(case: Case) -> dict[str, Any]:

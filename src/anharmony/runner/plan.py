@@ -29,7 +29,8 @@ class Job:
 
     ``kind`` is ``"linear"`` (one channel, all scan points, references given),
     ``"points"`` (the listed scan points, every channel), ``"geometry"`` (one scan point of a
-    Cartesian or axial case, every block), ``"fit"`` (the case's fit, then
+    Cartesian or axial case, every block), ``"filling"`` (the shell filling of one scan
+    point), ``"fit"`` (the case's fit, then
     every level of the fitted well) or ``"rotation"`` (the rovibrational levels and Dunham
     constants of a case with a ``rotation:`` block).
     """
@@ -80,6 +81,9 @@ def plan_case(case: Case, case_key: int = 0) -> list[Job]:
     jobs = level_jobs(case, case_key)
     if case.model.rotation is not None:
         jobs.append(Job(case_key, "rotation", (0,), (0,)))
+    if case.model.filling is not None:  # the spectra again, with their vectors, per point
+        jobs += [Job(case_key, "filling", (k,), tuple(range(len(case.channels()))))
+                 for k in range(len(case.scan_values()))]
     return jobs
 
 
