@@ -16,20 +16,9 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InputError
 from ..units import UnitSystem
-from .blocks import quanta_weights
-from .potential import check_terms, escape_barrier, geometry_threshold
-from .solve import (
-    GEOMETRIES,
-    _auto_lengths,
-    _axial,
-    _cartesian,
-    _check_dimension,
-    _check_lengths,
-    _label,
-    _resolve,
-)
+from .potential import escape_barrier, geometry_threshold
+from .solve import _axial, _cartesian, _label, prepare
 
 __all__ = ["BlockSpectra", "block_label", "solve_blocks"]
 
@@ -99,25 +88,8 @@ def solve_blocks(well, dimension: int = 3, *, geometry: str = "axial", shells: i
     Parameters are those of :func:`~anharmony.geometry.solve.solve_geometry` (every block is
     solved; the error bar of each level is its change from ``shells − 2`` to ``shells``).
     """
-    well = _resolve(well, units, mass)
-    if geometry not in GEOMETRIES:
-        raise InputError(f"geometry: expected one of {', '.join(GEOMETRIES)}; got {geometry!r}")
-    dimension = _check_dimension(dimension)
-    if isinstance(shells, bool) or not isinstance(shells, (int, np.integer)) or shells < 0:
-        raise InputError(f"shells: must be an integer >= 0; got {shells!r}")
-    if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)) or levels < 1:
-        raise InputError(f"levels: must be an integer >= 1; got {levels!r}")
-    check_terms(well, dimension, geometry)
-    c = well.units.hbar2_over_2m(well.mass)
-    naxes = 2 if geometry == "axial" else dimension
-    ncent = 1 if geometry == "axial" else dimension
-    if lengths is None:
-        b, x0 = _auto_lengths(well, dimension, geometry, c, levels)
-    else:
-        b, x0 = _check_lengths(lengths, naxes, "lengths"), (0.0,) * ncent
-    if centers is not None:
-        x0 = _check_lengths(centers, ncent, "centers")
-    weights = quanta_weights([2.0 * c / v**2 for v in b], truncation)
+    well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
+                                                 lengths, centers, truncation, units, mass)
     solver = _cartesian if geometry == "cartesian" else _axial
     main = solver(well, dimension, b, x0, shells, weights, None, None, c, levels)
     small = solver(well, dimension, b, x0, shells - 2, weights, None, None, c, levels) \

@@ -166,6 +166,35 @@ def _check_lengths(lengths, n, name):
     return tuple(float(v) for v in np.broadcast_to(vals, (n,)))
 
 
+def prepare(well, dimension, geometry, shells, levels, lengths, centers, truncation, units,
+            mass):
+    """The checked request of a geometry solve: the well in its units, the dimension, ħ²/2m,
+    the basis lengths and centres (given, or ``_auto_lengths``) and the quanta weights."""
+    well = _resolve(well, units, mass)
+    if geometry not in GEOMETRIES:
+        raise InputError(f"geometry: expected one of {', '.join(GEOMETRIES)}; got {geometry!r}")
+    dimension = _check_dimension(dimension)
+    if geometry == "axial" and dimension != 3:
+        raise InputError(f"dimension: the axial basis is 3D; got {dimension} (a 2D well "
+                         "symmetric about its centre is central: use anharmony.solve)")
+    if isinstance(shells, bool) or not isinstance(shells, (int, np.integer)) or shells < 0:
+        raise InputError(f"shells: must be an integer >= 0; got {shells!r}")
+    if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)) or levels < 1:
+        raise InputError(f"levels: must be an integer >= 1; got {levels!r}")
+    check_terms(well, dimension, geometry)
+    c = well.units.hbar2_over_2m(well.mass)
+    naxes = 2 if geometry == "axial" else dimension
+    ncent = 1 if geometry == "axial" else dimension
+    if lengths is None:
+        b, x0 = _auto_lengths(well, dimension, geometry, c, levels)
+    else:
+        b, x0 = _check_lengths(lengths, naxes, "lengths"), (0.0,) * ncent
+    if centers is not None:
+        x0 = _check_lengths(centers, ncent, "centers")
+    weights = quanta_weights([2.0 * c / v**2 for v in b], truncation)
+    return well, dimension, c, b, x0, weights
+
+
 def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian",
                    omega: int | None = None, parity: Any = None, shells: int = 12,
                    lengths: Any = None, centers: Any = None, truncation: str = "shells",
@@ -206,31 +235,10 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
     error_estimate
         Also solve with N_max − 2 shells and report the change of each level.
     """
-    well = _resolve(well, units, mass)
-    if geometry not in GEOMETRIES:
-        raise InputError(f"geometry: expected one of {', '.join(GEOMETRIES)}; got {geometry!r}")
-    dimension = _check_dimension(dimension)
-    if geometry == "axial" and dimension != 3:
-        raise InputError(f"dimension: the axial basis is 3D; got {dimension} (a 2D well "
-                         "symmetric about its centre is central: use anharmony.solve)")
-    if isinstance(shells, bool) or not isinstance(shells, (int, np.integer)) or shells < 0:
-        raise InputError(f"shells: must be an integer >= 0; got {shells!r}")
-    if isinstance(levels, bool) or not isinstance(levels, (int, np.integer)) or levels < 1:
-        raise InputError(f"levels: must be an integer >= 1; got {levels!r}")
     if omega is not None and geometry != "axial":
         raise InputError("omega: only the axial geometry has Ω blocks")
-    check_terms(well, dimension, geometry)
-    c = well.units.hbar2_over_2m(well.mass)
-    naxes = 2 if geometry == "axial" else dimension
-    ncent = 1 if geometry == "axial" else dimension
-    if lengths is None:
-        b, x0 = _auto_lengths(well, dimension, geometry, c, levels)
-    else:
-        b, x0 = _check_lengths(lengths, naxes, "lengths"), (0.0,) * ncent
-    if centers is not None:
-        x0 = _check_lengths(centers, ncent, "centers")
-    freqs = [2.0 * c / v**2 for v in b]
-    weights = quanta_weights(freqs, truncation)
+    well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
+                                                 lengths, centers, truncation, units, mass)
     solver = _cartesian if geometry == "cartesian" else _axial
     main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
     if error_estimate:
