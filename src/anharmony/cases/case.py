@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import dataclasses
 import functools
+import math
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -297,10 +298,10 @@ class Case:
         if length != "auto":
             return length
         spec = self.reference_spec(None)
-        if isinstance(spec, dict) and ("frequency" in spec or "length" in spec):
-            from .tasks import resolve_reference
-
-            return float(resolve_reference(self, None).length)
+        if isinstance(spec, dict) and "length" in spec:
+            return float(spec["length"])
+        if isinstance(spec, dict) and "frequency" in spec:  # b = sqrt(ħ/mω) = sqrt(2 (ħ²/2m)/ħω)
+            return math.sqrt(2.0 * self.units.hbar2_over_2m(self.mass) / float(spec["frequency"]))
         return "auto"
 
     def fitted(self, values: Mapping[str, float]) -> Case:

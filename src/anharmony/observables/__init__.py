@@ -2,6 +2,7 @@
 
 - :mod:`.levels` — one spectrum: the phase convention, ψ on a grid, ⟨i|op|j⟩, ⟨r²⟩^{1/2};
 - :mod:`.pairs` — two wells: overlaps, Franck–Condon factors, transition matrices;
+- :mod:`.integrals` — the joint Gauss rule of two bases and its exact power matrices;
 - :mod:`.multipoles` — 3D channels: reduced E1/E2 (Eλ) matrix elements and B(Eλ).
 
 Every function takes a :class:`~anharmony.Spectrum` first and returns arrays or floats.
@@ -9,6 +10,7 @@ Every function takes a :class:`~anharmony.Spectrum` first and returns arrays or 
 
 from __future__ import annotations
 
+from .integrals import radial_power_matrix
 from .levels import (
     PHASE_LOBE,
     expectation,
@@ -25,7 +27,7 @@ from .multipoles import (
     reduced_multipole,
     transition_strength,
 )
-from .pairs import FranckCondon, franck_condon, overlaps, radial_power_matrix, transition_matrix
+from .pairs import FranckCondon, franck_condon, overlaps, transition_matrix
 
 __all__ = ["PHASE_LOBE", "FranckCondon", "coupled_reduced_y", "expectation", "fix_phases",
            "franck_condon", "matrix_element", "operator_matrix", "orbital_reduced_y",

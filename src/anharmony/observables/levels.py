@@ -174,7 +174,7 @@ def _basis_power(spec, var: str, k: int) -> np.ndarray:
         return np.zeros((n, n))
     if k % 2 == 0:
         return b**k * basis.coordinate_power(k)
-    from .pairs import radial_power_matrix
+    from .integrals import radial_power_matrix
 
     return radial_power_matrix(basis, basis, k)
 

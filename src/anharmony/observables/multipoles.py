@@ -16,7 +16,7 @@ Conventions (stated once, used everywhere here)
   e² length^{2λ} of the unit system (e² fm^{2λ} in nuclear units).
 - Radial wavefunctions in the phase convention of :mod:`anharmony.observables.levels`
   (positive near the origin); the radial integral ∫ R_f r^λ R_i r² dr is exact for the
-  truncated expansions (generalised Gauss–Laguerre, :mod:`anharmony.observables.pairs`).
+  truncated expansions (generalised Gauss–Laguerre, :mod:`anharmony.observables.integrals`).
 
 3j and 6j symbols come from :mod:`sympy.physics.wigner` (imported on first use).
 """
@@ -28,8 +28,8 @@ from fractions import Fraction
 from functools import lru_cache
 
 from ..errors import InputError
+from .integrals import radial_power_matrix
 from .levels import _level, _warn_unbound, fix_phases
-from .pairs import radial_power_matrix
 
 __all__ = ["coupled_reduced_y", "orbital_reduced_y", "reduced_multipole", "transition_strength"]
 
