@@ -15,22 +15,6 @@ if TYPE_CHECKING:  # pragma: no cover
 __all__ = ["ScanAxis", "energy_attrs", "parameter_axis", "parameter_units", "scan_axis",
            "scan_units"]
 
-_PARAMETER_WORDS = {
-    "strength": "strength g", "frequency": "frequency ħω", "stiffness": "stiffness k",
-    "depth": "depth V₀", "radius": "radius R", "diffuseness": "diffuseness a",
-    "range": "range a", "waist": "waist w", "center": "centre x₀", "r0": "radius constant r₀",
-    "length": "length", "width": "width α", "mass_number": "mass number A",
-    "charge": "charge Z", "exponent": "exponent p", "rayleigh_length": "Rayleigh length z_R",
-    "wavelength": "wavelength λ", "force": "force F", "beta2": "quadrupole deformation β₂",
-    "beta4": "hexadecapole deformation β₄",
-}
-_TERM_WORDS = {
-    "woods_saxon": "Woods–Saxon", "gaussian": "Gaussian", "morse": "Morse",
-    "poschl_teller": "Pöschl–Teller", "spin_orbit": "spin–orbit", "coulomb": "Coulomb",
-    "focused_beam": "beam", "harmonic": "harmonic", "tilt": "tilt", "polynomial": "polynomial",
-    "anisotropic_harmonic": "harmonic", "expression": "formula",
-    "deformed_woods_saxon": "Woods–Saxon", "deformed_spin_orbit": "spin–orbit",
-}
 _POWER_WORDS = {1: "linear", 2: "quadratic", 3: "cubic", 4: "quartic", 5: "quintic",
                 6: "sextic", 8: "octic"}
 _SETTING_WORDS = {("particle", "mass"): ("particle mass m", (0, 0)),
@@ -38,14 +22,6 @@ _SETTING_WORDS = {("particle", "mass"): ("particle mass m", (0, 0)),
                   ("reference", "length"): ("reference length b", (0, 1)),
                   ("reference", "center"): ("reference centre x₀", (0, 1)),
                   ("basis", "length"): ("basis length b", (0, 1))}
-# (energy power, length power) of each parameter
-_PARAMETER_DIMS = {
-    "depth": (1, 0), "frequency": (1, 0), "stiffness": (1, -2), "radius": (0, 1),
-    "diffuseness": (0, 1), "range": (0, 1), "waist": (0, 1), "center": (0, 1), "r0": (0, 1),
-    "length": (0, 1), "width": (0, -1), "mass_number": (0, 0), "charge": (0, 0),
-    "exponent": (0, 0), "rayleigh_length": (0, 1), "wavelength": (0, 1), "force": (1, -1),
-    "beta2": (0, 0), "beta4": (0, 0),
-}
 
 
 @dataclass(frozen=True)
@@ -101,28 +77,32 @@ def scan_axis(case: Case) -> ScanAxis:
 
 
 def parameter_axis(case: Case, index: int, name: str, *sub: Any) -> ScanAxis:
-    """Units, long name and trade name of parameter ``name`` of term ``well[index]``."""
+    """Units, long name and trade name of parameter ``name`` of term ``well[index]``.
+
+    The words and dimensions come from the term class (:meth:`Term.fact`,
+    :meth:`Term.trade_name`): the registry is the one place a term's facts live.
+    """
+    from .terms import TERMS
+
     u = case.units
     (term, params), = case.model.well[index].items()
     params = params or {}
+    cls = TERMS[term]
     where = f"well[{index}]"
     long_name = f"{name} of the {term} term {where}"
-    words = _PARAMETER_WORDS.get(name, name.replace("_", " "))
+    words, dims = cls.fact(name)
     if name == "strength" and term == "power":
         exponent = float(params.get("exponent", 0))
         power = _POWER_WORDS.get(int(exponent)) if exponent.is_integer() else None
         return _axis(u, (1, -exponent), long_name, f"{power or f'x^{exponent:g}'} {words}")
-    if name == "strength":
-        return _axis(u, (1, 0), long_name, f"{_TERM_WORDS.get(term, term)} {words}")
     if name == "coefficients":
         k = float(sub[0])
-        return _axis(u, (1, -k), long_name, f"{_TERM_WORDS.get(term, term)} coefficient "
+        return _axis(u, (1, -k), long_name, f"{cls.trade_name()} coefficient "
                      f"c_{int(k) if k.is_integer() else k}")
     if name == "parameters":
         return _axis(u, (0, 0), f"parameter {sub[0]} of the formula of {where}",
                      f"formula parameter {sub[0]}")
-    return _axis(u, _PARAMETER_DIMS.get(name, (0, 0)), long_name,
-                 f"{_TERM_WORDS.get(term, term)} {words}")
+    return _axis(u, dims, long_name, f"{cls.trade_name()} {words}")
 
 
 def parameter_units(case: Case, index: int, name: str, *sub: Any) -> tuple[str, str]:

@@ -26,6 +26,9 @@ class AnisotropicHarmonic(GeometryTerm):
     """Σ ½ k_i (x_i − c_i)², k_i = mω_i² from ``frequencies`` (ħω_i), optional ``centers``."""
 
     kind: ClassVar[str] = "anisotropic_harmonic"
+    display_name: ClassVar[str] = "harmonic"
+    parameter_facts: ClassVar[dict] = {"frequencies": ("frequencies ħω_i", (1, 0)),
+                                       "centers": ("centres x₀ᵢ", (0, 1))}
     parameters: ClassVar[tuple[str, ...]] = ("frequencies", "centers")
     stiffness: tuple[float, ...] = (1.0, 1.0, 1.0)
     centers: tuple[float, ...] = (0.0, 0.0, 0.0)

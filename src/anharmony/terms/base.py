@@ -58,6 +58,23 @@ __all__ = ["MAX_TERM_ORDER", "ORDER_KEY", "QUADRATURE_KINDS", "Context", "Term",
            "require", "term_order"]
 
 QUADRATURE_KINDS = ("exact", "weight", "panels")
+
+#: Words (for axis labels) and dimensions (energy power, length power: a scan or fit of the
+#: parameter is stored in energy^e length^l of the unit system) of parameter names that mean
+#: the same in every term. A term declares others in ``parameter_facts``.
+PARAMETER_FACTS: dict[str, tuple[str, tuple[float, float]]] = {
+    "strength": ("strength g", (1, 0)), "frequency": ("frequency ħω", (1, 0)),
+    "stiffness": ("stiffness k", (1, -2)), "depth": ("depth V₀", (1, 0)),
+    "radius": ("radius R", (0, 1)), "diffuseness": ("diffuseness a", (0, 1)),
+    "range": ("range a", (0, 1)), "waist": ("waist w", (0, 1)),
+    "center": ("centre x₀", (0, 1)), "r0": ("radius constant r₀", (0, 1)),
+    "length": ("length", (0, 1)), "width": ("width α", (0, -1)),
+    "mass_number": ("mass number A", (0, 0)), "charge": ("charge Z", (0, 0)),
+    "exponent": ("exponent p", (0, 0)), "rayleigh_length": ("Rayleigh length z_R", (0, 1)),
+    "wavelength": ("wavelength λ", (0, 1)), "force": ("force F", (1, -1)),
+    "beta2": ("quadrupole deformation β₂", (0, 0)),
+    "beta4": ("hexadecapole deformation β₄", (0, 0)),
+}
 ORDER_KEY = "order"  # the generic key of every term: its perturbation order (module docstring)
 MAX_TERM_ORDER = 100  # highest perturbation order a term may carry (series rarely pass ~200)
 _REGISTRY: dict[str, type[Term]] = {}  # filled by Term.__init_subclass__
@@ -191,6 +208,10 @@ class Term(ABC):
 
     kind: ClassVar[str] = ""
     parameters: ClassVar[tuple[str, ...]] = ()
+    # the term's name in axis labels ("Woods–Saxon"); default: its kind with spaces
+    display_name: ClassVar[str | None] = None
+    # words and dimensions of parameters not in PARAMETER_FACTS (or that differ here)
+    parameter_facts: ClassVar[dict[str, tuple[str, tuple[float, float]]]] = {}
     quadrature_1d: ClassVar[str] = "panels"
     quadrature_radial: ClassVar[str] = "panels"
     linear_parameter: ClassVar[str | None] = None
@@ -216,6 +237,26 @@ class Term(ABC):
             raise TypeError(f"term kind {cls.kind!r} is defined twice ({other.__module__} and "
                             f"{cls.__module__})")
         _REGISTRY[cls.kind] = cls
+
+    @classmethod
+    def trade_name(cls) -> str:
+        """The term's name in axis labels and tables."""
+        return cls.display_name or cls.kind.replace("_", " ")
+
+    @classmethod
+    def fact(cls, name: str) -> tuple[str, tuple[float, float]]:
+        """Words and (energy power, length power) of parameter ``name``: the term's own
+        ``parameter_facts``, else the shared :data:`PARAMETER_FACTS`.
+
+        Raises
+        ------
+        KeyError
+            For a parameter neither knows (a test holds every term to having all of them,
+            so that no scan or fit of a new parameter is stored with a wrong unit).
+        """
+        if name in cls.parameter_facts:
+            return cls.parameter_facts[name]
+        return PARAMETER_FACTS[name]
 
     @classmethod
     def from_params(cls, params: Mapping[str, Any], units: str | UnitSystem = "oscillator",

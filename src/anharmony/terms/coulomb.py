@@ -17,6 +17,7 @@ class Coulomb(Term):
     """Coulomb field of a uniformly charged sphere of charge Z (times the particle's)."""
 
     kind: ClassVar[str] = "coulomb"
+    display_name: ClassVar[str] = "Coulomb"
     parameters: ClassVar[tuple[str, ...]] = ("charge", "radius", "r0", "mass_number")
     linear_parameter: ClassVar[str | None] = "charge"
     charge: float = 1.0

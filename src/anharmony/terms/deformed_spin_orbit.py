@@ -35,6 +35,7 @@ class DeformedSpinOrbit(GeometryTerm):
     ``length`` r_ls (default 1 length unit), ``beta2``, ``beta4``."""
 
     kind: ClassVar[str] = "deformed_spin_orbit"
+    display_name: ClassVar[str] = "spin–orbit"
     parameters: ClassVar[tuple[str, ...]] = ("strength", "radius", "r0", "mass_number",
                                              "diffuseness", "length", "beta2", "beta4")
     linear_parameter: ClassVar[str | None] = "strength"

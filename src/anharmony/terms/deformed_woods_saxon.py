@@ -31,6 +31,7 @@ class DeformedWoodsSaxon(GeometryTerm):
     ``beta2``, ``beta4``."""
 
     kind: ClassVar[str] = "deformed_woods_saxon"
+    display_name: ClassVar[str] = "Woods–Saxon"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "radius", "r0", "mass_number",
                                              "diffuseness", "beta2", "beta4")
     linear_parameter: ClassVar[str | None] = "depth"

@@ -21,6 +21,9 @@ class Expression(Term):
     """A formula in ``x`` (1D) or ``r`` (radial) and named parameters, parsed safely."""
 
     kind: ClassVar[str] = "expression"
+    display_name: ClassVar[str] = "formula"
+    parameter_facts: ClassVar[dict] = {"formula": ("formula", (0, 0)),
+                                       "parameters": ("formula parameter", (0, 0))}
     parameters: ClassVar[tuple[str, ...]] = ("formula", "parameters", "center")
     formula: Any = None  # anharmony.formula.Formula
     text: str = ""

@@ -26,6 +26,7 @@ class FocusedBeam(GeometryTerm):
     """``depth`` U₀ > 0, ``waist`` w₀, and ``rayleigh_length`` z_R or ``wavelength`` λ."""
 
     kind: ClassVar[str] = "focused_beam"
+    display_name: ClassVar[str] = "beam"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "waist", "rayleigh_length", "wavelength")
     linear_parameter: ClassVar[str | None] = "depth"
     dimensions: ClassVar[tuple[int, ...]] = (3,)

@@ -18,6 +18,7 @@ class Gaussian(AnalyticDepthTerm):
     """−V₀ exp(−(x − x₀)²/a²); ``waist`` w means a = w/√2 (V = −V₀ e^{−2r²/w²})."""
 
     kind: ClassVar[str] = "gaussian"
+    display_name: ClassVar[str] = "Gaussian"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "range", "waist", "center")
     range: float = 1.0
 

@@ -18,6 +18,7 @@ class Morse(DepthTerm):
     """D (1 − e^{−α(x − x₀)})²; in a radial channel the centre is the bond length r_e."""
 
     kind: ClassVar[str] = "morse"
+    display_name: ClassVar[str] = "Morse"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "width", "center")
     quadrature_1d: ClassVar[str] = "weight"  # analytic in x
     quadrature_radial: ClassVar[str] = "panels"  # e^{−αr} is not analytic in r²

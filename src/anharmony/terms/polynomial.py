@@ -47,6 +47,7 @@ class Harmonic(ExactTerm):
     """½ k (x − x₀)², with k = mω² given as ``stiffness`` or from ``frequency`` ħω."""
 
     kind: ClassVar[str] = "harmonic"
+    display_name: ClassVar[str] = "harmonic"
     parameters: ClassVar[tuple[str, ...]] = ("frequency", "stiffness", "center")
     linear_parameter: ClassVar[str | None] = "stiffness"
     stiffness: float = 1.0
@@ -87,6 +88,7 @@ class Power(ExactTerm):
     """g (x − x₀)^p; a non-integer p uses |x − x₀|^p."""
 
     kind: ClassVar[str] = "power"
+    display_name: ClassVar[str] = "power"
     parameters: ClassVar[tuple[str, ...]] = ("exponent", "strength", "center")
     linear_parameter: ClassVar[str | None] = "strength"
     exponent: float = 4.0
@@ -207,6 +209,8 @@ class Polynomial(ExactTerm):
     """Σ c_p (x − x₀)^p with non-negative integer powers p."""
 
     kind: ClassVar[str] = "polynomial"
+    display_name: ClassVar[str] = "polynomial"
+    parameter_facts: ClassVar[dict] = {"coefficients": ("coefficient c_p", (1, 0))}
     parameters: ClassVar[tuple[str, ...]] = ("coefficients", "center")
     coefficients: tuple[tuple[int, float], ...] = ()
 

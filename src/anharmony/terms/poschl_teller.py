@@ -18,6 +18,7 @@ class PoschlTeller(AnalyticDepthTerm):
     """−V₀ / cosh²((x − x₀)/a)."""
 
     kind: ClassVar[str] = "poschl_teller"
+    display_name: ClassVar[str] = "Pöschl–Teller"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "range", "center")
     range: float = 1.0
 

@@ -25,6 +25,8 @@ class Tilt(Term):
     """F · x_axis; ``force`` F (energy per length), ``axis`` x, y or z (only x in 1D)."""
 
     kind: ClassVar[str] = "tilt"
+    display_name: ClassVar[str] = "tilt"
+    parameter_facts: ClassVar[dict] = {"axis": ("axis", (0, 0))}
     parameters: ClassVar[tuple[str, ...]] = ("force", "axis")
     quadrature_1d: ClassVar[str] = "exact"
     linear_parameter: ClassVar[str | None] = "force"

@@ -23,6 +23,7 @@ class WoodsSaxon(Term):
     """−V₀ / (1 + exp((r − R)/a)), R given or R = r₀ A^(1/3)."""
 
     kind: ClassVar[str] = "woods_saxon"
+    display_name: ClassVar[str] = "Woods–Saxon"
     parameters: ClassVar[tuple[str, ...]] = ("depth", "radius", "r0", "mass_number",
                                              "diffuseness")
     linear_parameter: ClassVar[str | None] = "depth"
@@ -63,6 +64,7 @@ class SpinOrbit(Term):
     """
 
     kind: ClassVar[str] = "spin_orbit"
+    display_name: ClassVar[str] = "spin–orbit"
     parameters: ClassVar[tuple[str, ...]] = ("strength", "radius", "r0", "mass_number",
                                              "diffuseness", "length")
     linear_parameter: ClassVar[str | None] = "strength"
