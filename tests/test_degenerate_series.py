@@ -105,6 +105,12 @@ def test_partial_sums_and_refusals():
         ah.degenerate_series(well, 2, level=-1)
     with pytest.raises(InputError, match="shells"):
         ah.degenerate_series(well, 2, level=2, shells=1, frequencies=1.0)
+    with pytest.raises(InputError, match="shells"):
+        ah.degenerate_series(well, 2, level=2, shells=1000, frequencies=1.0)
+    with pytest.raises(InputError, match="beyond the levels"):  # no long count of states
+        ah.degenerate_series(well, 2, level=3000, frequencies=1.0)
+    with pytest.raises(InputError, match="exact"):  # sympy sums are for small bases
+        ah.degenerate_series(well, 2, level=2, shells=30, frequencies=1.0, exact=True)
     gauss = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
                                 {"gaussian": {"depth": 0.3, "range": 1.5}}])
     with pytest.raises(InputError, match="polynomial"):

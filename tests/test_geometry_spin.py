@@ -141,6 +141,10 @@ def test_omega_must_be_a_half_integer_with_spin_and_cartesian_refuses_spin():
     terms = [{"woods_saxon": WS}, {"spin_orbit": SO}]
     with pytest.raises(InputError, match="half-integer"):
         _axial(terms, omega=1)
+    minus = _axial(terms, omega="-3/2", levels=2)  # the Kramers partner of Ω = 3/2
+    plus = _axial(terms, omega=1.5, levels=2)
+    np.testing.assert_array_equal(minus.energies, plus.energies)
+    assert all(k[0] == -1.5 for k in minus.blocks)
     well = ah.Well.from_terms(terms, "nuclear")
     with pytest.raises(InputError, match="axial geometry"):
         solve_geometry(well, 3, geometry="cartesian", shells=4, units="nuclear")

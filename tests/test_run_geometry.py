@@ -165,3 +165,12 @@ def test_a_tilted_trap_is_open_and_its_levels_are_quasi_bound_below_the_barrier(
     capsys.readouterr()
     assert main(["show", str(tmp_path / "beam.nc")]) == 0
     assert "quasi-bound" in capsys.readouterr().out
+
+
+def test_a_scan_of_the_basis_length_sets_the_lengths_of_every_point(tmp_path):
+    text = OSCILLATOR.replace("levels: {count: 3}", "levels: {count: 3}\n"
+                              "scan: {parameter: basis.length, values: [0.7, 1.0]}")
+    ds = _run(tmp_path, text, "osc.yaml")
+    np.testing.assert_array_equal(ds.basis_lengths.values, [[0.7] * 3, [1.0] * 3])
+    # the exact oscillator levels hold at either length (polynomial terms: exact matrices)
+    np.testing.assert_allclose(ds.energy.values[0], ds.energy.values[1], rtol=1e-10)

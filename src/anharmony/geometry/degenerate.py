@@ -35,6 +35,8 @@ __all__ = ["DegenerateSeries", "degenerate_series"]
 
 _GROUP_RTOL = 1e-9  # first-order values closer than this (relative to max |W_DD|) are one set
 MAX_EXACT_STATES = 400  # the exact (sympy) path is for small bases: W's shells around D
+MAX_QUANTA = 40  # highest reference level asked for, in quanta (beyond: a long state count)
+MAX_SHELLS = 60  # largest basis, as the geometries' space.shells
 
 
 @dataclass(frozen=True)
@@ -161,14 +163,17 @@ def degenerate_series(well, dimension: int = 2, *, level: int = 1, shells: int |
     top = 0
     while len(_distinct(_energies(cartesian_states(top, weights), hw))) <= level:
         top += 1
+        if top > MAX_QUANTA:
+            raise InputError(f"level: {level} is beyond the levels of the reference with up to "
+                             f"{MAX_QUANTA} quanta; ask for a lower level")
     e_ref = _distinct(_energies(cartesian_states(top, weights), hw))[level]
     level_quanta = top
     if shells is None:
         shells = level_quanta + (degree if degree is not None else 12)
     if isinstance(shells, bool) or not isinstance(shells, (int, np.integer)) or \
-            shells < level_quanta:
-        raise InputError(f"shells: must be an integer >= {level_quanta} (the level's "
-                         f"quanta); got {shells!r}")
+            not level_quanta <= shells <= MAX_SHELLS:
+        raise InputError(f"shells: must be an integer from {level_quanta} (the level's "
+                         f"quanta) to {MAX_SHELLS}; got {shells!r}")
     states = cartesian_states(int(shells), weights)
     e0 = _energies(states, hw)
     in_d = np.isclose(e0, e_ref, rtol=1e-12, atol=1e-12 * float(hw.max()))
@@ -188,6 +193,10 @@ def degenerate_series(well, dimension: int = 2, *, level: int = 1, shells: int |
                              and len(states) <= MAX_EXACT_STATES)
     if exact is True and not (poly is not None and well.units.name == "oscillator"):
         raise InputError("exact: the exact series needs a polynomial well in oscillator units")
+    if exact is True and len(states) > MAX_EXACT_STATES:
+        raise InputError(f"exact: the basis has {len(states)} states, more than the "
+                         f"{MAX_EXACT_STATES} the exact (sympy) sums are made for; lower shells "
+                         "or use exact='auto'")
     exact_values = _exact(poly, hw, x0, v_min, states, d, q, dimension, e_ref) if want else None
     if exact_values is not None:
         exact_values.sort(key=lambda t: (float(t[1]), float(t[2])))

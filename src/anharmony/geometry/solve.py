@@ -425,14 +425,17 @@ def _check_omega(omega, spin):
         return int(omega)
     from ..hamiltonian import parse_j
 
+    negative = (isinstance(omega, str) and omega.strip().startswith("-")) or (
+        isinstance(omega, (int, float, np.integer, np.floating)) and omega < 0)
     try:
-        value = parse_j(omega)
+        text = omega.strip().lstrip("-") if isinstance(omega, str) else abs(omega)
+        value = parse_j(text)
     except (InputError, ValueError, TypeError):
         value = None
     if value is None or (2.0 * value) % 2.0 != 1.0:
         raise InputError(f"omega: with spin-orbit terms Ω = Λ + Σ is a half-integer (0.5, "
                          f"'3/2', …); got {omega!r}")
-    return value
+    return -value if negative else value
 
 
 def _block_matrix(well, basis, idx, c, exact, rest_well, kind):

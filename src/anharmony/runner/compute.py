@@ -193,7 +193,7 @@ def _run_geometry(case: Case, job: Job) -> dict[str, Any]:
     value = case.scan_values()[k]
     well, mass = case.well_at(value), case.mass_at(value)
     space = case.model.space
-    given = case.model.basis.length
+    given = case.basis_length_at(value)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         res = solve_blocks(well, case.dimension, geometry=space.geometry,

@@ -38,8 +38,8 @@ def _geometry_problems(case: Case) -> list[Issue]:
 
     values = case.scan_values()
     space = case.model.space
-    given = case.model.basis.length
     for value in sorted({values[0], values[-1]}):
+        given = case.basis_length_at(value)
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
