@@ -2,6 +2,7 @@
 
 Public names: :func:`solve_geometry`, :func:`trap_frequencies`, :class:`GeometrySpectrum`,
 :func:`degenerate_series` (degenerate perturbation theory, :class:`DegenerateSeries`),
+:func:`mode_shifts` (anharmonic shifts of a trap's modes and their cross terms),
 :class:`CartesianBasis`, :class:`AxialBasis`, and (re-exported from :mod:`anharmony.terms`) the
 non-central terms :class:`AnisotropicHarmonic` and :class:`FocusedBeam`. How terms enter: see
 :mod:`anharmony.geometry.potential`.
@@ -15,8 +16,10 @@ from .axial import AxialBasis
 from .cartesian import CartesianBasis
 from .degenerate import DegenerateSeries, degenerate_series
 from .frequencies import TrapFrequencies
+from .modes import ModeShifts, mode_shifts
 from .solve import GEOMETRIES, GeometrySpectrum, solve_geometry, trap_frequencies
 
 __all__ = ["GEOMETRIES", "AnisotropicHarmonic", "AxialBasis", "CartesianBasis",
-           "DegenerateSeries", "FocusedBeam", "GeometrySpectrum", "TrapFrequencies",
-           "degenerate_series", "solve_geometry", "trap_frequencies"]
+           "DegenerateSeries", "FocusedBeam", "GeometrySpectrum", "ModeShifts",
+           "TrapFrequencies", "degenerate_series", "mode_shifts", "solve_geometry",
+           "trap_frequencies"]
