@@ -108,7 +108,8 @@ def trap_frequencies_of(well, dimension: int, hbar2_2m: float,
     k, vecs = np.linalg.eigh(0.5 * (h + h.T))
     if not np.all(k > 0):
         raise InputError(f"the well has no minimum near {np.round(x, 6).tolist()} (Hessian "
-                         f"eigenvalues {k.tolist()}); give start= nearer to a minimum")
+                         f"eigenvalues {k.tolist()}): it holds nothing there — a tilt stronger "
+                         "than the trap, say; or, from Python, give start= nearer to a minimum")
     hw = np.sqrt(2.0 * hbar2_2m * k)
     for i in range(vecs.shape[1]):  # sign convention: largest component positive
         if vecs[np.argmax(np.abs(vecs[:, i])), i] < 0:
