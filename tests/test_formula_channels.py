@@ -64,12 +64,13 @@ def test_well_check_channel_answers_per_dimension():
 
 
 @pytest.mark.parametrize("name", ["y", "z"])
-def test_y_and_z_are_refused_naming_the_coordinates_that_are_allowed(name):
-    with pytest.raises(ah.TermError) as err:
-        W([expression(f"0.5*{name}**2")])
-    message = str(err.value)
-    assert f"{name!r} is not a coordinate" in message
-    assert "'x' for a 1D well" in message and "radius 'r'" in message
+def test_y_and_z_make_a_formula_of_the_geometries_not_of_a_channel(name):
+    # a formula in y or z is a well off the line (tests/test_formula_fields.py); a line or
+    # radial channel refuses it and says where it belongs
+    well = W([expression(f"0.5*{name}**2")])
+    for dimension, l in ((1, None), (3, 0)):
+        with pytest.raises(ah.TermError, match="coordinates of a well off the line"):
+            ah.solve(well, dimension, l, size=8, levels=2)
 
 
 @pytest.mark.parametrize(("dimension", "l"), [(3, 0), (3, 3), (2, 1)])

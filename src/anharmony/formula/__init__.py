@@ -8,7 +8,7 @@ holds the resulting :class:`Formula` (values, derivatives, polynomial form, limi
 """
 
 from ..errors import FormulaError
-from .analysis import MAX_POLYNOMIAL_DEGREE, Formula, compile_formula
+from .analysis import MAX_POLYNOMIAL_DEGREE, FieldFormula, Formula, compile_field, compile_formula
 from .parse import (
     CONSTANTS,
     FUNCTIONS,
@@ -22,5 +22,5 @@ from .parse import (
 )
 
 __all__ = ["CONSTANTS", "FUNCTIONS", "MAX_DEPTH", "MAX_EXPONENT", "MAX_LENGTH", "MAX_NESTING",
-           "MAX_NODES", "MAX_NUMBER_BITS", "MAX_POLYNOMIAL_DEGREE", "VARIABLES", "Formula",
-           "FormulaError", "compile_formula"]
+           "MAX_NODES", "MAX_NUMBER_BITS", "MAX_POLYNOMIAL_DEGREE", "VARIABLES", "FieldFormula",
+           "Formula", "FormulaError", "compile_field", "compile_formula"]

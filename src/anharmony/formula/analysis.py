@@ -38,7 +38,8 @@ from .parse import (
     parse,
 )
 
-__all__ = ["MAX_POLYNOMIAL_DEGREE", "Formula", "compile_formula"]
+__all__ = ["MAX_POLYNOMIAL_DEGREE", "FieldFormula", "Formula", "compile_field",
+           "compile_formula"]
 
 MAX_POLYNOMIAL_DEGREE = 100  # above this, polynomial() answers None (use quadrature)
 
@@ -419,3 +420,53 @@ def _evaluate(function: Callable[..., Any], x: Any) -> np.ndarray:
     if np.iscomplexobj(out):
         out = np.where(np.imag(out) == 0, np.real(out), np.nan)
     return np.array(np.broadcast_to(out.astype(float, copy=False), xs.shape), dtype=float)
+
+
+def compile_field(text: str, coordinates: tuple[str, ...],
+                  parameters: Mapping[str, float] | None = None) -> FieldFormula:
+    """A formula of a well off the line, in ``("x", "y"[, "z"])`` or ``("rho", "z")``.
+
+    The grammar, the parameters and the checks are those of :func:`compile_formula`; a field
+    formula has values only (the geometries integrate it by quadrature and find its threshold
+    by probing far out).
+    """
+    expr, params = parse(text, coordinates[0], parameters, tuple(coordinates))
+    return FieldFormula(text=text, coordinates=tuple(coordinates),
+                        parameters=MappingProxyType(params), expr=expr)
+
+
+@dataclass(frozen=True)
+class FieldFormula:
+    """A validated formula in several coordinates (build it with :func:`compile_field`)."""
+
+    text: str
+    coordinates: tuple[str, ...]
+    parameters: Mapping[str, float]
+    expr: sp.Expr
+    _function: Callable[..., Any] = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        symbols = [coordinate_symbol(c) for c in self.coordinates]
+        values = {parameter_symbol(k): exact_rational(v) for k, v in self.parameters.items()}
+        unknown = self.expr.free_symbols - {*symbols, *values}
+        if unknown:
+            raise FormulaError(f"formula {self.text!r}: expression has symbols "
+                               f"{sorted(map(str, unknown))} that are neither coordinates nor "
+                               "parameters", text=self.text)
+        check_constant_parts(self.expr, self.text, self.parameters)
+        numeric = self.expr.xreplace(values) if values else self.expr
+        check_parameter_values(numeric, self.text, self.parameters)
+        ok, fn = within_budget(lambda: sp.lambdify(symbols, numeric, modules=_MODULES))
+        if not ok:
+            raise FormulaError(f"formula {_short(self.text)!r} is too complex to evaluate; "
+                               "simplify it", text=self.text)
+        object.__setattr__(self, "_function", fn)
+
+    def value(self, *coords: Any) -> np.ndarray:
+        """The formula at points (arrays that broadcast against each other); numpy's rules for
+        NaN and inf, no warnings."""
+        arrays = [np.asarray(c, dtype=float) for c in coords]
+        shape = np.broadcast_shapes(*(a.shape for a in arrays))
+        with np.errstate(all="ignore"):
+            out = np.asarray(self._function(*arrays), dtype=float)
+        return np.broadcast_to(out, shape).copy()

@@ -36,6 +36,7 @@ from .bounded import is_finite_float, mp_call, mp_power, mp_value
 
 __all__ = [
     "CONSTANTS",
+    "FIELD_COORDINATES",
     "FUNCTIONS",
     "MAX_DEPTH",
     "MAX_EXPONENT",
@@ -61,6 +62,8 @@ MAX_EXPONENT = 100  # |p| for a numeric exponent p in a ** p (so 9**9**9 is reje
 MAX_NUMBER_BITS = 20000  # size of exact rationals built while folding constants
 
 VARIABLES = ("x", "r")
+#: The coordinate sets of formulas off the line: Cartesian (2D, 3D) and axial (ρ, z).
+FIELD_COORDINATES = (("x", "y"), ("x", "y", "z"), ("rho", "z"))
 
 FUNCTIONS: Mapping[str, Callable[[sp.Expr], sp.Expr]] = MappingProxyType(
     {
@@ -101,18 +104,28 @@ _NODE_NAMES = {
 
 
 def parse(
-    text: str, variable: str = "x", parameters: Mapping[str, float] | None = None
+    text: str, variable: str = "x", parameters: Mapping[str, float] | None = None,
+    coordinates: tuple[str, ...] = (),
 ) -> tuple[sp.Expr, dict[str, float]]:
     """Parse ``text`` into a sympy expression (parameters as symbols) and checked parameters.
 
     The arguments and errors are those of :func:`anharmony.formula.compile_formula`; the
-    grammar is in the module docstring.
+    grammar is in the module docstring. ``coordinates`` names more coordinates a formula of
+    a well off the line may use (``("x", "y", "z")`` or ``("rho", "z")``, from
+    :data:`FIELD_COORDINATES`); ``variable`` is then the first of them.
     """
     if not isinstance(text, str):
         raise TypeError(f"formula must be a string; got {type(text).__name__} {text!r}")
-    if variable not in VARIABLES:
+    if coordinates:
+        if tuple(coordinates) not in FIELD_COORDINATES:
+            raise FormulaError(f"coordinates must be one of {list(FIELD_COORDINATES)}; got "
+                               f"{coordinates!r}")
+    elif variable not in VARIABLES:
         raise FormulaError(f"variable must be one of {list(VARIABLES)}; got {variable!r}")
     params = _check_parameters(parameters, variable)
+    for name in coordinates:
+        if name in params:
+            raise FormulaError(f"parameter name {name!r} is a coordinate of the formula")
     if len(text) > MAX_LENGTH:
         raise FormulaError(
             f"formula {_short(text)!r} is {len(text)} characters long; at most {MAX_LENGTH} "
@@ -137,7 +150,7 @@ def parse(
             text=text,
         ) from None
     _check_size(tree, source, text)
-    builder = _Builder(source, text, variable, params)
+    builder = _Builder(source, text, variable, params, coordinates)
     try:
         expr = builder.build(tree.body)
     except (RecursionError, MemoryError) as exc:
@@ -151,13 +164,15 @@ def parse(
 class _Builder:
     """Turns an allow-listed syntax tree into a sympy expression, node by node."""
 
-    def __init__(self, source: str, text: str, variable: str, params: dict[str, float]):
+    def __init__(self, source: str, text: str, variable: str, params: dict[str, float],
+                 coordinates: tuple[str, ...] = ()):
         self.source = source
         self.text = text
         self.lead = len(text) - len(text.lstrip())
         self.variable = variable
         self.params = params
         self.names: dict[str, sp.Expr] = {variable: coordinate_symbol(variable), **CONSTANTS}
+        self.names.update({c: coordinate_symbol(c) for c in coordinates})
         self.names.update({k: parameter_symbol(k) for k in params})
 
     # -- helpers ----------------------------------------------------------------------------
@@ -391,7 +406,7 @@ def check_constant_parts(expr: sp.Expr, text: str, parameters: Mapping[str, floa
     if not parameters:
         return
     values = {parameter_symbol(k): v for k, v in parameters.items()}
-    coordinates = {coordinate_symbol(v) for v in VARIABLES}
+    coordinates = {coordinate_symbol(v) for v in (*VARIABLES, "y", "z", "rho")}
     for sub in sp.preorder_traversal(expr):
         if sub.is_Pow and not sub.exp.free_symbols & coordinates and sub.exp.free_symbols:
             size = mp_value(sub.exp, values)  # the rule for written exponents (MAX_EXPONENT)
@@ -509,8 +524,10 @@ def _suggest(name: str, candidates: list[str]) -> str:
 
 
 def coordinate_symbol(variable: str) -> sp.Symbol:
-    # r is a radial coordinate (positive); x a real line coordinate.
-    return sp.Symbol("r", positive=True) if variable == "r" else sp.Symbol(variable, real=True)
+    # r and rho are radial coordinates (positive); x, y, z real line coordinates.
+    if variable in ("r", "rho"):
+        return sp.Symbol(variable, positive=True)
+    return sp.Symbol(variable, real=True)
 
 
 def parameter_symbol(name: str) -> sp.Symbol:

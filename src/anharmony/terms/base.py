@@ -224,8 +224,8 @@ class Term(ABC):
 
     def __init_subclass__(cls, **kwargs: Any) -> None:
         super().__init_subclass__(**kwargs)
-        if not cls.kind:
-            return
+        if not cls.kind or not cls.__dict__.get("registered", True):
+            return  # a form another term's _build returns (not a case-file name of its own)
         for name in ("quadrature_1d", "quadrature_radial"):
             if getattr(cls, name) not in QUADRATURE_KINDS:
                 raise TypeError(f"{cls.__name__}.{name} must be one of {QUADRATURE_KINDS}")

@@ -12,6 +12,7 @@ from typing import Any, ClassVar
 import numpy as np
 
 from .base import Term, TermError, arr, center, number, require
+from .noncentral import GeometryTerm
 
 __all__ = ["Expression"]
 
@@ -40,6 +41,9 @@ class Expression(Term):
             raise TermError(cls.kind, "parameters",
                             f"must be a mapping name: value; got {params!r}")
         values = {str(k): number(cls.kind, f"parameters.{k}", v) for k, v in params.items()}
+        coordinates = _field_coordinates(text)
+        if coordinates:  # a formula off the line: the geometries' form of the term
+            return FieldExpression.build(text, coordinates, values, p)
         variable = "r" if _uses_name(text, "r") else "x"
         try:
             f = compile_formula(text, variable=variable, parameters=values)
@@ -110,3 +114,85 @@ def _check_real(f: Any, text: str) -> None:
 
 def _uses_name(text: str, name: str) -> bool:
     return re.search(rf"(?<![A-Za-z0-9_]){name}(?![A-Za-z0-9_])", text) is not None
+
+
+def _field_coordinates(text: str) -> tuple[str, ...]:
+    """The coordinates of a formula off the line: ``rho, z`` (axial) or ``x, y[, z]``."""
+    if _uses_name(text, "rho"):
+        return ("rho", "z")
+    if _uses_name(text, "z"):
+        return ("x", "y", "z")
+    if _uses_name(text, "y"):
+        return ("x", "y")
+    return ()
+
+
+@dataclass(frozen=True)
+class FieldExpression(GeometryTerm):
+    """An ``expression`` in x, y[, z] (Cartesian geometry) or ρ, z (axial, symmetric about z):
+    the form :meth:`Expression._build` returns for such a formula. Integrated by quadrature;
+    its threshold is found by probing the well far out (``limits`` is unknown)."""
+
+    kind: ClassVar[str] = "expression"
+    registered: ClassVar[bool] = False
+    display_name: ClassVar[str] = "formula"
+    parameters: ClassVar[tuple[str, ...]] = Expression.parameters
+    parameter_facts: ClassVar[dict] = Expression.parameter_facts
+    formula: Any = None  # anharmony.formula.FieldFormula
+    text: str = ""
+    coordinates: tuple[str, ...] = ()
+
+    @classmethod
+    def _build(cls, p, ctx):  # made by Expression._build, never from a case-file name
+        raise TypeError("FieldExpression is built by the expression term")
+
+    @classmethod
+    def build(cls, text, coordinates, values, p):
+        from ..formula import FormulaError, compile_field
+
+        if "center" in p:
+            raise TermError(cls.kind, "center", "a formula in x, y, z or rho, z is written "
+                            "about the origin; shift its coordinates in the formula instead")
+        try:
+            f = compile_field(text, coordinates, values)
+        except FormulaError as exc:
+            raise TermError(cls.kind, "formula", str(exc)) from None
+        probe = np.concatenate([-_PROBE[::-1], _PROBE])
+        grid = [np.abs(probe) if c == "rho" else probe for c in coordinates]
+        if np.any(np.isnan(f.value(*grid))):
+            raise TermError(cls.kind, "formula", f"{text!r} has no real value at some points "
+                            f"along the diagonal ({', '.join(coordinates)} from -1e3 to 1e3); "
+                            "a well must be real everywhere")
+        return cls(formula=f, text=text, coordinates=tuple(coordinates))
+
+    def check_coordinate(self, dimension: int) -> None:
+        # a line or radial channel has one coordinate: say where this formula belongs
+        where = ("space: {geometry: axial}" if self.coordinates[0] == "rho" else
+                 "space: {geometry: cartesian}")
+        raise TermError(self.kind, "formula", f"{self.text!r} uses {', '.join(self.coordinates)}"
+                        f", the coordinates of a well off the line; solve it with {where} (or "
+                        "anharmony.solve(..., geometry=...)); a 1D well takes 'x', a central "
+                        "channel the radius 'r'")
+
+    @property
+    def dimensions(self):
+        return (3,) if len(self.coordinates) == 3 or self.coordinates[0] == "rho" else (2,)
+
+    def is_axial(self) -> bool:
+        return self.coordinates[0] == "rho"
+
+    def value_axial(self, rho, z):
+        return self.formula.value(rho, z)
+
+    def value_cartesian(self, *xs):
+        if self.coordinates[0] == "rho":
+            x, y, z = xs
+            return self.formula.value(np.hypot(x, y), z)
+        return self.formula.value(*xs)
+
+    def limits(self):
+        return (math.nan, math.nan)
+
+    @property
+    def scale(self):
+        return 1.0
