@@ -177,3 +177,23 @@ def test_a_scan_of_the_basis_length_sets_the_lengths_of_every_point(tmp_path):
     # upper bound of the exact 0.5 (1.0 + 1.3 + 1.7) = 2.0)
     assert not np.allclose(ds.energy.values[0], ds.energy.values[1], equal_nan=True)
     assert np.all(np.nanmin(ds.energy.values, axis=(1, 2)) >= 2.0 - 1e-12)
+
+
+def test_a_count_of_states_cuts_the_cartesian_basis_at_whole_shells(tmp_path, capsys):
+    # basis.size in a Cartesian case: the smallest N_max with at least that many states; the
+    # 3D shells hold C(N + 3, 3) states up to N (common practice, no source): 50 → N_max = 5
+    # (56 states), and the exact oscillator levels stay exact
+    from math import comb
+
+    from anharmony.geometry import shells_for_count
+
+    assert shells_for_count(50, "cartesian", np.ones(3)) == 5 and comb(5 + 3, 3) == 56
+    text = OSCILLATOR.replace("space: {dimension: 3, geometry: cartesian, shells: 4}",
+                              "space: {dimension: 3, geometry: cartesian}\nbasis: {size: 50}")
+    ds = _run(tmp_path, text, "osc.yaml")
+    assert int(ds.attrs["basis_size"]) == 5
+    assert float(np.nanmin(ds.energy.values)) == pytest.approx(2.0, rel=1e-12)
+    bad = tmp_path / "bad.yaml"
+    bad.write_text(text.replace("geometry: cartesian}", "geometry: cartesian, shells: 4}"))
+    assert main(["check", str(bad)]) == 2
+    assert "give space.shells or basis.size" in capsys.readouterr().err

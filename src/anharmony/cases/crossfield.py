@@ -70,9 +70,12 @@ def _geometry_issues(model: CaseModel) -> Found:
         if getattr(space, key) is not None:
             out.append((("space", key), f"the {geometry} geometry has no (l, j) channels (its "
                         f"blocks are {blocks}); leave {key} out"))
-    if "size" in model.basis.model_fields_set:
-        out.append((("basis", "size"), f"the {geometry} basis is cut by space.shells (N_max), "
-                    "not by a count of states; use shells instead"))
+    if "size" in model.basis.model_fields_set and geometry == "axial":
+        out.append((("basis", "size"), "the axial basis is cut by space.shells (N_max), not by "
+                    "a count of states; use shells instead"))
+    if "size" in model.basis.model_fields_set and space.shells is not None:
+        out.append((("basis", "size"), "give space.shells or basis.size (a count of states, "
+                    "rounded up to whole shells), not both"))
     if model.reference.model_fields_set:
         out.append((("reference",), f"the {geometry} geometry takes its basis lengths from the "
                     "Hessian at the minimum (or a central well's reference oscillator); leave "

@@ -17,9 +17,15 @@ from .cartesian import CartesianBasis
 from .degenerate import DegenerateSeries, degenerate_series
 from .frequencies import TrapFrequencies
 from .modes import ModeShifts, mode_shifts
-from .solve import GEOMETRIES, GeometrySpectrum, solve_geometry, trap_frequencies
+from .solve import (
+    GEOMETRIES,
+    GeometrySpectrum,
+    shells_for_count,
+    solve_geometry,
+    trap_frequencies,
+)
 
 __all__ = ["GEOMETRIES", "AnisotropicHarmonic", "AxialBasis", "CartesianBasis",
            "DegenerateSeries", "FocusedBeam", "GeometrySpectrum", "ModeShifts",
-           "TrapFrequencies", "degenerate_series", "mode_shifts", "solve_geometry",
-           "trap_frequencies"]
+           "TrapFrequencies", "degenerate_series", "mode_shifts", "shells_for_count",
+           "solve_geometry", "trap_frequencies"]

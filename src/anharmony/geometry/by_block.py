@@ -18,7 +18,7 @@ import numpy as np
 
 from ..units import UnitSystem
 from .potential import escape_barrier, geometry_threshold
-from .solve import _axial, _cartesian, _label, prepare
+from .solve import _axial, _cartesian, _label, prepare, shells_for_count
 
 __all__ = ["BlockSpectra", "block_label", "solve_blocks"]
 
@@ -48,6 +48,8 @@ class BlockSpectra:
         the levels below it are quasi-bound. NaN for a well with a finite threshold.
     lengths, centers : tuple of float
         The basis lengths (b_⊥, b_z or b_x, b_y[, b_z]) and centres used.
+    shells : int
+        N_max of the basis (given, or chosen from ``count``).
     """
 
     keys: list[tuple]
@@ -61,6 +63,7 @@ class BlockSpectra:
     barrier: float
     lengths: tuple[float, ...]
     centers: tuple[float, ...]
+    shells: int = 0
 
 
 def block_label(geometry: str, key: tuple) -> str:
@@ -82,14 +85,17 @@ def _order(geometry: str, key: tuple) -> tuple:
 def solve_blocks(well, dimension: int = 3, *, geometry: str = "axial", shells: int = 12,
                  lengths: Any = None, centers: Any = None, truncation: str = "shells",
                  units: str | UnitSystem = "oscillator", mass: float | None = None,
-                 levels: int = 5) -> BlockSpectra:
+                 levels: int = 5, count: int | None = None) -> BlockSpectra:
     """The lowest ``levels`` of every block of a well in a Cartesian or axial basis.
 
     Parameters are those of :func:`~anharmony.geometry.solve.solve_geometry` (every block is
-    solved; the error bar of each level is its change from ``shells − 2`` to ``shells``).
+    solved; the error bar of each level is its change from ``shells − 2`` to ``shells``;
+    ``count`` chooses ``shells`` from a count of Cartesian states).
     """
     well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
                                                  lengths, centers, truncation, units, mass)
+    if count is not None:
+        shells = shells_for_count(count, geometry, weights)
     solver = _cartesian if geometry == "cartesian" else _axial
     main = solver(well, dimension, b, x0, shells, weights, None, None, c, levels)
     small = solver(well, dimension, b, x0, shells - 2, weights, None, None, c, levels) \
@@ -121,4 +127,5 @@ def solve_blocks(well, dimension: int = 3, *, geometry: str = "axial", shells: i
     return BlockSpectra(keys=keys, labels=[block_label(geometry, k) for k in keys],
                         degeneracy=degeneracy, energies=energies, error_estimate=errors,
                         bound=bound, level_labels=names, threshold=threshold, barrier=barrier,
-                        lengths=tuple(float(v) for v in b), centers=tuple(float(v) for v in x0))
+                        lengths=tuple(float(v) for v in b), centers=tuple(float(v) for v in x0),
+                        shells=int(shells))

@@ -37,7 +37,8 @@ from .potential import (
 )
 from .spin import has_spin, so_diagonal, so_off_diagonal
 
-__all__ = ["GEOMETRIES", "GeometrySpectrum", "solve_geometry", "trap_frequencies"]
+__all__ = ["GEOMETRIES", "GeometrySpectrum", "shells_for_count", "solve_geometry",
+           "trap_frequencies"]
 
 GEOMETRIES = ("cartesian", "axial")
 # a bound level whose change from N_max − 2 to N_max exceeds this share of the mean level
@@ -166,6 +167,24 @@ def _check_lengths(lengths, n, name):
     return tuple(float(v) for v in np.broadcast_to(vals, (n,)))
 
 
+MAX_COUNT = 100_000  # states a count truncation accepts (a dense block of that is hours)
+
+
+def shells_for_count(count: Any, geometry: str, weights: np.ndarray) -> int:
+    """The smallest N_max whose Cartesian basis (weighted by ``weights``) holds ``count``
+    states or more; the shell it ends in is kept whole."""
+    if geometry != "cartesian":
+        raise InputError("count: a count of states cuts the Cartesian basis; the axial basis is "
+                         "cut by shells")
+    if isinstance(count, bool) or not isinstance(count, (int, np.integer)) or \
+            not 1 <= count <= MAX_COUNT:
+        raise InputError(f"count: must be an integer from 1 to {MAX_COUNT}; got {count!r}")
+    top = 0
+    while len(cartesian_states(top, weights)) < count:
+        top += 1
+    return top
+
+
 def prepare(well, dimension, geometry, shells, levels, lengths, centers, truncation, units,
             mass):
     """The checked request of a geometry solve: the well in its units, the dimension, ħ²/2m,
@@ -199,7 +218,8 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
                    omega: int | None = None, parity: Any = None, shells: int = 12,
                    lengths: Any = None, centers: Any = None, truncation: str = "shells",
                    units: str | UnitSystem = "oscillator", mass: float | None = None,
-                   levels: int = 10, error_estimate: bool = True) -> GeometrySpectrum:
+                   levels: int = 10, error_estimate: bool = True,
+                   count: int | None = None) -> GeometrySpectrum:
     """Lowest levels of a well in a Cartesian or axial oscillator basis.
 
     Parameters
@@ -234,11 +254,17 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
         Number of levels returned (fewer if the blocks hold fewer states).
     error_estimate
         Also solve with N_max − 2 shells and report the change of each level.
+    count
+        Cartesian only: instead of ``shells``, the smallest N_max (of the ``truncation``)
+        whose basis holds at least this many states; the last shell is kept whole, so that
+        no symmetry is cut (:func:`shells_for_count`).
     """
     if omega is not None and geometry != "axial":
         raise InputError("omega: only the axial geometry has Ω blocks")
     well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
                                                  lengths, centers, truncation, units, mass)
+    if count is not None:
+        shells = shells_for_count(count, geometry, weights)
     solver = _cartesian if geometry == "cartesian" else _axial
     main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
     if error_estimate:

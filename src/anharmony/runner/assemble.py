@@ -390,7 +390,7 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
         length=lengths[:, 0], center=nan, v_min=nan, reference_method=["geometry"] * s,
         reference_reason=[f"{geometry} basis: lengths from the reference oscillator of the "
                           "(undeformed) well or the Hessian at the minimum"] * s,
-        threshold=threshold, basis_size=int(case.model.space.shells or 12),
+        threshold=threshold, basis_size=max(p["geometry"].shells for p in parts),
         resum_methods=[], level_labels=[[str(names[-1, b, m]) or f"{labels[b]} #{m}"
                                          for m in range(n)] for b in range(nb)],
         notes=notes,

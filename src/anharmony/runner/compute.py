@@ -200,7 +200,9 @@ def _run_geometry(case: Case, job: Job) -> dict[str, Any]:
                            shells=space.shells if space.shells is not None else 12,
                            truncation=space.truncation or "shells", units=case.units,
                            mass=mass, levels=case.model.levels.count,
-                           lengths=None if given == "auto" else given)
+                           lengths=None if given == "auto" else given,
+                           count=case.model.basis.size if "size" in
+                           case.model.basis.model_fields_set else None)
     frequencies = np.full(case.dimension, np.nan)
     if not any(hasattr(t, "spherical") for t in well.terms):  # no curvature at a deformed centre
         with contextlib.suppress(ValueError, ArithmeticError, NumericalError,

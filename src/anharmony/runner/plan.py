@@ -159,10 +159,14 @@ def describe(case: Case, *, reference: bool = True) -> Description:
         blocks = ("parity triples" if geometry == "cartesian" else
                   "Ω^π (spin 1/2)" if spin else "Λ^π")
         lines += [f"  geometry   {geometry}, dimension {m.space.dimension}: blocks are {blocks}"
-                  f"; N_max = {shells} ({m.space.truncation or 'shells'} truncation), "
+                  + (f"; N_max = {shells}" if "size" not in m.basis.model_fields_set else
+                     f"; at least {m.basis.size} states, whole shells")
+                  + f" ({m.space.truncation or 'shells'} truncation), "
                   f"length {m.basis.length}; {m.levels.count} levels per block",
-                  f"  errors     change from {max(shells - 2, 0)} to {shells} shells; converged "
-                  f"below {m.convergence.tolerance:g} {u.energy_text}"]
+                  ("  errors     change from N_max - 2 to N_max shells" if "size" in
+                   m.basis.model_fields_set else
+                   f"  errors     change from {max(shells - 2, 0)} to {shells} shells")
+                  + f"; converged below {m.convergence.tolerance:g} {u.energy_text}"]
         if m.scan is not None:
             lines.append(f"  scan       {case.scan_parameter}: {len(values)} values "
                          f"{values[0]:g} … {values[-1]:g} (one solve of every block per point)")
