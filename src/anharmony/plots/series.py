@@ -134,7 +134,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
             kf, yf, formula = est
             left.plot(kf, yf, color=col, lw=1.0, ls=_style.dash(0), alpha=0.85,
                       gid=f"large_order:{c}:{n}", zorder=2)
-            name += f"   large orders: {formula}"
+            # lines of their own (the formula, then its remark): the legend stays narrow
+            name += "\nlarge orders: " + formula.replace(" (", "\n(", 1)
         ps = psum[p, c, n]
         right.plot(k, ps, color=col, lw=0.9, marker="s", ms=2.8, gid=f"partial_sum:{c}:{n}",
                    zorder=3)
@@ -181,5 +182,11 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     if has_opt:
         handles.append(proxy(ls="none", marker="*", ms=8, mec=_style.INK, mew=0.5,
                              label="optimal truncation"))
-    left.legend(handles=level_handles, loc="best", fontsize=6.5, handlelength=1.6)
+    # inside the axes, away from the y axis, in the corner the coefficients leave empty:
+    # upper right when they fall with k (a convergent-looking series), lower right otherwise
+    falling = [np.nanmax(np.abs(coef[p, c, n][:2])) > np.nanmax(np.abs(coef[p, c, n][-2:]))
+               for n in levels if np.isfinite(coef[p, c, n]).any()]
+    left.legend(handles=level_handles, loc="upper right" if all(falling) else "lower right",
+                fontsize=6.5, handlelength=1.6, borderaxespad=0.8, frameon=True,
+                framealpha=0.85, edgecolor="none")
     return view.finish(fig, handles, req.title, ncols=4)

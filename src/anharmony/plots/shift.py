@@ -3,9 +3,11 @@
 The shift is ``energy − reference_energy`` (solid, with the scan points marked); the RS shift
 to order k is ``series_partial_sum[k] − series_coefficient[0]`` = Σ_{1≤i≤k} E_i (dashed; for
 a coupling scan Σ_{1≤i≤k} E_i λ^i).
-With ``log=True`` the axes are log–log, |shift| against the parameter, and each curve gets a
-guide (a broad faint segment) of the local log–log slope of the lowest-order RS shift at its
-small-parameter end.
+With ``log=True`` the axes are log–log, |shift| against the parameter, the RS shift to first
+order only unless ``orders`` asks for more, and each curve gets a guide (a broad faint
+segment) of the local log–log slope of the lowest-order RS shift at its small-parameter end;
+the slope is written beside a level only where it differs from 1 (first order) by more than
+``SLOPE_SHOWN``.
 """
 
 from __future__ import annotations
@@ -27,6 +29,8 @@ __all__ = ["DEFAULT_ORDERS", "OPTIONS", "SIZE", "draw", "loglog_slope"]
 OPTIONS = frozenset({"channel", "levels", "orders", "log", "size", "title"})
 SIZE = (6.4, 4.6)
 DEFAULT_ORDERS = (1, 2)
+LOG_ORDERS = (1,)  # the default orders of the log–log view
+SLOPE_SHOWN = 0.05  # a slope is written beside its level only where it differs from 1 by more
 GUIDE_DECADES = 0.6  # length of a slope guide, in decades of the parameter
 
 
@@ -46,7 +50,10 @@ def loglog_slope(x: np.ndarray, y: np.ndarray) -> float:
 
 def draw(view: ResultView, req: FigureRequest) -> Any:
     """The ``shift`` figure."""
-    x, shift, bound, chans, levels, ords = curves(view, req, "shift", DEFAULT_ORDERS)
+    # log–log: first order only unless asked (second-order shifts change sign, and their
+    # |·| dips to zero on a log axis say nothing)
+    x, shift, bound, chans, levels, ords = curves(view, req, "shift",
+                                                  LOG_ORDERS if req.log else DEFAULT_ORDERS)
     order_values = [int(k) for k in view.coord("order")] if ords else []
     if ords:
         psum = perturbative(view, ords)
@@ -83,7 +90,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
                 ref = pt_first if pt_first is not None else ys
                 p = loglog_slope(xs, ref)
                 if math.isfinite(p):
-                    label += f"  slope {p:.2f}"
+                    if abs(p - 1.0) > SLOPE_SHOWN:  # slope 1 (first order) is the rule
+                        label += f"  slope {p:.2f}"
                     guides.append((c, n, p, xs, ys, col))
             last = np.flatnonzero(np.isfinite(ys) & np.isfinite(xs))
             if last.size:
