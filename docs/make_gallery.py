@@ -65,10 +65,16 @@ ENTRIES = [
           "values exist at λ = 1 only."),
     Entry("shift-quartic", "quartic-3d.yaml", "shift", "Anharmonic shifts, log–log",
           "|E − E_ref| of the s levels against the quartic strength on log–log axes, with "
-          "the first- and second-order RS shifts. The broad faint guides show the local "
-          "slope of the first-order shift at small strength (slope 1: the shift is linear "
-          "in the strength there).",
+          "the first-order RS shift. The broad faint guides show the local slope of the "
+          "first-order shift at small strength; a slope is written beside a level only where "
+          "it is not 1 (the shift linear in the strength).",
           options={"log": True, "channel": "s"}),
+    Entry("flow-deformed", "deformed-nucleus.yaml", "flow", "Neutron levels against the "
+          "quadrupole deformation",
+          "The Ω^π blocks of a deformed Woods–Saxon well with its deformed spin–orbit term "
+          "(axial basis, spin ½) from oblate to prolate shapes; each level is labelled by its "
+          "asymptotic quantum numbers Ω^π[N n_z Λ] at the prolate end, and the spherical j "
+          "multiplets meet at β₂ = 0."),
     Entry("shift-dot", "dot-2d.yaml", "shift", "Anharmonic shifts in a 2D quantum dot",
           "Shifts of the |m| = 0, 1, 2 levels of a parabolic dot with a quartic correction, "
           "in units of ħω₀, beside the low-order perturbative shifts."),
