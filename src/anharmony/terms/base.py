@@ -386,5 +386,13 @@ class AnalyticDepthTerm(DepthTerm):
     quadrature_1d: ClassVar[str] = "weight"
     quadrature_radial: ClassVar[str] = "weight"  # analytic in r² when centred at 0
 
+
+@dataclass(frozen=True)
+class StrengthTerm(Term):
+    """Base of terms proportional to a strength (a strength scan reuses one pencil)."""
+
+    linear_parameter: ClassVar[str | None] = "strength"
+    strength: float = 0.0
+
 def _channel_name(dimension: int) -> str:
     return "parity" if dimension == 1 else f"{dimension}D central"

@@ -14,23 +14,19 @@ f_z = cosθ ∂_r f − sinθ (1/r)∂_θ f.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import ClassVar
 
 import numpy as np
 
-from .base import diffuseness, number, radius, require
-from .noncentral import GeometryTerm
+from .deformed_woods_saxon import DeformedSurface
+from .woods_saxon import SpinOrbit, SpinOrbitShape
 
 __all__ = ["DeformedSpinOrbit"]
 
-_Y20 = math.sqrt(5.0 / (16.0 * math.pi))
-_Y40 = 3.0 / 16.0 * math.sqrt(1.0 / math.pi)
-
 
 @dataclass(frozen=True)
-class DeformedSpinOrbit(GeometryTerm):
+class DeformedSpinOrbit(DeformedSurface, SpinOrbitShape):
     """``strength`` V_ls, ``radius`` R₀ (or ``r0`` with ``mass_number``), ``diffuseness`` a,
     ``length`` r_ls (default 1 length unit), ``beta2``, ``beta4``."""
 
@@ -38,32 +34,13 @@ class DeformedSpinOrbit(GeometryTerm):
     display_name: ClassVar[str] = "spin–orbit"
     parameters: ClassVar[tuple[str, ...]] = ("strength", "radius", "r0", "mass_number",
                                              "diffuseness", "length", "beta2", "beta4")
-    linear_parameter: ClassVar[str | None] = "strength"
-    spin_orbit: ClassVar[bool] = True
-    dimensions: ClassVar[tuple[int, ...]] = (3,)
-    strength: float = 0.0
-    radius: float = 4.0
-    diffuseness: float = 0.65
-    length: float = 1.0
-    beta2: float = 0.0
-    beta4: float = 0.0
 
     @classmethod
     def _build(cls, p, ctx):
-        big_r = radius(cls.kind, p)
-        return cls(strength=number(cls.kind, "strength", require(cls.kind, p, "strength")),
-                   radius=big_r, diffuseness=diffuseness(cls.kind, p, big_r),
-                   length=number(cls.kind, "length", p.get("length", 1.0), positive=True),
-                   beta2=number(cls.kind, "beta2", p.get("beta2", 0.0)),
-                   beta4=number(cls.kind, "beta4", p.get("beta4", 0.0)))
-
-    def is_axial(self) -> bool:
-        return True
+        return cls(**cls._checked(p))
 
     def spherical(self):
         """The undeformed term: ``spin_orbit`` with the same V_ls, R₀, a, r_ls."""
-        from .woods_saxon import SpinOrbit
-
         return SpinOrbit(strength=self.strength, radius=self.radius,
                          diffuseness=self.diffuseness, length=self.length)
 
@@ -75,27 +52,18 @@ class DeformedSpinOrbit(GeometryTerm):
         c = np.where(r > 0.0, z / safe, 0.0)
         s = np.where(r > 0.0, rho / safe, 0.0)
         c2 = c * c
-        surface = self.radius * (1.0 + self.beta2 * _Y20 * (3.0 * c2 - 1.0)
-                                 + self.beta4 * _Y40 * (35.0 * c2 * c2 - 30.0 * c2 + 3.0))
+        surface = self._surface(c2)
         # R′(θ) = −sinθ · q(cosθ): q is smooth, so (1/r)∂_θ f = f′ s q / (a r) and its share of
         # f_ρ/ρ is f′ c q / (a r²) (s/ρ = 1/r), finite on the axis
-        q = self.radius * (6.0 * self.beta2 * _Y20 * c
-                           + self.beta4 * _Y40 * (140.0 * c2 * c - 60.0 * c))
+        q = self._surface_slope(c)
         with np.errstate(over="ignore"):
             f = 1.0 / (1.0 + np.exp((r - surface) / self.diffuseness))
         fp = -f * (1.0 - f)
         a = self.diffuseness
-        pre = self.strength * self.length**2
+        pre = self._prefactor
         d_r = fp / a
         d_theta = np.where(r > 0.0, fp * s * q / (a * safe), 0.0)
         f_rho = s * d_r + c * d_theta
         f_z = c * d_r - s * d_theta
         over_rho = np.where(r > 0.0, d_r / safe + fp * c * q / (a * safe * safe), 0.0)
         return pre * f_rho, pre * f_z, pre * over_rho
-
-    def limits(self):
-        return (0.0, 0.0)
-
-    @property
-    def scale(self):
-        return self.radius
