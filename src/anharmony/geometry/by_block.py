@@ -18,7 +18,7 @@ import numpy as np
 
 from ..units import UnitSystem
 from .potential import escape_barrier, geometry_threshold
-from .solve import _axial, _cartesian, _label, prepare, shells_for_count
+from .solve import _label, solve_shells
 
 __all__ = ["BlockSpectra", "block_label", "solve_blocks"]
 
@@ -92,14 +92,9 @@ def solve_blocks(well, dimension: int = 3, *, geometry: str = "axial", shells: i
     solved; the error bar of each level is its change from ``shells − 2`` to ``shells``;
     ``count`` chooses ``shells`` from a count of Cartesian states).
     """
-    well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
-                                                 lengths, centers, truncation, units, mass)
-    if count is not None:
-        shells = shells_for_count(count, geometry, weights)
-    solver = _cartesian if geometry == "cartesian" else _axial
-    main = solver(well, dimension, b, x0, shells, weights, None, None, c, levels)
-    small = solver(well, dimension, b, x0, shells - 2, weights, None, None, c, levels) \
-        if shells >= 2 else {}
+    well, dimension, c, b, x0, shells, main, small = solve_shells(
+        well, dimension, geometry, shells, levels, lengths, centers, truncation, units, mass,
+        count)
     keys = sorted((k for k in main if geometry == "cartesian" or k[0] >= 0),
                   key=lambda k: _order(geometry, k))
     threshold = geometry_threshold(well, dimension)

@@ -214,6 +214,27 @@ def prepare(well, dimension, geometry, shells, levels, lengths, centers, truncat
     return well, dimension, c, b, x0, weights
 
 
+def solve_shells(well, dimension, geometry, shells, levels, lengths, centers, truncation,
+                 units, mass, count, parity=None, omega=None, error_estimate=True):
+    """The blocks of a geometry solve at N_max = ``shells`` (chosen from ``count`` when given)
+    and, for the error bars, at N_max − 2: the work :func:`solve_geometry` and
+    :func:`~anharmony.geometry.by_block.solve_blocks` share.
+
+    Returns the well in its units, the dimension, ħ²/2m, the basis lengths and centres, N_max
+    and two dictionaries block key → (energies, vectors, states): at N_max, and at N_max − 2
+    (empty below 2 shells or without ``error_estimate``).
+    """
+    well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
+                                                 lengths, centers, truncation, units, mass)
+    if count is not None:
+        shells = shells_for_count(count, geometry, weights)
+    solver = _cartesian if geometry == "cartesian" else _axial
+    main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
+    small = solver(well, dimension, b, x0, shells - 2, weights, parity, omega, c, levels) \
+        if error_estimate and shells >= 2 else {}
+    return well, dimension, c, b, x0, shells, main, small
+
+
 def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian",
                    omega: int | None = None, parity: Any = None, shells: int = 12,
                    lengths: Any = None, centers: Any = None, truncation: str = "shells",
@@ -261,15 +282,9 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
     """
     if omega is not None and geometry != "axial":
         raise InputError("omega: only the axial geometry has Ω blocks")
-    well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
-                                                 lengths, centers, truncation, units, mass)
-    if count is not None:
-        shells = shells_for_count(count, geometry, weights)
-    solver = _cartesian if geometry == "cartesian" else _axial
-    main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
-    if error_estimate:
-        small = solver(well, dimension, b, x0, shells - 2, weights, parity, omega, c, levels) \
-            if shells >= 2 else {}
+    well, dimension, _, b, x0, shells, main, small = solve_shells(
+        well, dimension, geometry, shells, levels, lengths, centers, truncation, units, mass,
+        count, parity, omega, error_estimate)
     energies, where = [], []
     for key, (e, _, _) in main.items():
         energies += list(e)
