@@ -110,6 +110,14 @@ def _field_path(field: str | None) -> tuple[Any, ...]:
     return keys
 
 
+def _listed_once(v: list, what: str) -> None:
+    """A list of quantum numbers names at least one, and each once (``what``: "an l")."""
+    if not v:
+        raise ValueError(f"must list at least one {what.split()[-1]}")
+    if len(set(v)) != len(v):
+        raise ValueError(f"lists {what} twice; got {v}")
+
+
 # --------------------------------------------------------------------------- models
 class _Strict(BaseModel):
     """Base of every case-file model: unknown keys forbidden, numbers strict, frozen."""
@@ -158,10 +166,7 @@ class Space(_Strict):
     @classmethod
     def _unique(cls, v: Any) -> Any:
         if isinstance(v, list):
-            if not v:
-                raise ValueError("must list at least one l")
-            if len(set(v)) != len(v):
-                raise ValueError(f"lists an l twice; got {v}")
+            _listed_once(v, "an l")
         return v
 
     @field_validator("j")
@@ -283,10 +288,7 @@ class Rotation(_Strict):
     @classmethod
     def _distinct(cls, v: Any) -> Any:
         if isinstance(v, list):
-            if not v:
-                raise ValueError("must list at least one J")
-            if len(set(v)) != len(v):
-                raise ValueError(f"lists a J twice; got {v}")
+            _listed_once(v, "a J")
         elif v.to < v.from_:
             raise ValueError(f"to must not be below from; got from: {v.from_}, to: {v.to}")
         return v
