@@ -110,12 +110,12 @@ def _field_path(field: str | None) -> tuple[Any, ...]:
     return keys
 
 
-def _listed_once(v: list, what: str) -> None:
-    """A list of quantum numbers names at least one, and each once (``what``: "an l")."""
+def _listed_once(v: list, name: str, article: str = "a") -> None:
+    """A list of quantum numbers ``name`` holds at least one, and each once."""
     if not v:
-        raise ValueError(f"must list at least one {what.split()[-1]}")
+        raise ValueError(f"must list at least one {name}")
     if len(set(v)) != len(v):
-        raise ValueError(f"lists {what} twice; got {v}")
+        raise ValueError(f"lists {article} {name} twice; got {v}")
 
 
 # --------------------------------------------------------------------------- models
@@ -166,7 +166,7 @@ class Space(_Strict):
     @classmethod
     def _unique(cls, v: Any) -> Any:
         if isinstance(v, list):
-            _listed_once(v, "an l")
+            _listed_once(v, "l", "an")
         return v
 
     @field_validator("j")
@@ -288,7 +288,7 @@ class Rotation(_Strict):
     @classmethod
     def _distinct(cls, v: Any) -> Any:
         if isinstance(v, list):
-            _listed_once(v, "a J")
+            _listed_once(v, "J")
         elif v.to < v.from_:
             raise ValueError(f"to must not be below from; got from: {v.from_}, to: {v.to}")
         return v
