@@ -223,10 +223,25 @@ class _Basis(ABC):
     size: int
     length: float
 
-    @abstractmethod
+    family: OrthogonalFamily
+
     def quadrature(self, points: int, kind: str = "weight", breaks: Sequence[float] = ()
                    ) -> tuple[np.ndarray, np.ndarray]:
-        """Nodes (physical coordinate) and U[q, n] = √w_q φ_n(node_q) of an m-point rule."""
+        """Nodes (physical coordinate) and U[q, n] = √w_q φ_n(node_q) of an m-point rule.
+
+        ``kind="weight"`` is the Gauss rule of the family's own weight, at whose nodes the
+        normalised recurrence values are U itself; otherwise the panel rule of ``breaks``.
+        """
+        if kind == "weight":
+            nodes = self.family.gauss_nodes(points)
+            vals, logs, lognorm = self.family.values(nodes, self.size, norm_terms=points)
+            u = logs.scaled(vals, -lognorm[None, :])
+            return self._physical(nodes), u.T
+        return self._panel_u(*self._panel_nodes(points, breaks))
+
+    @abstractmethod
+    def _physical(self, nodes: np.ndarray) -> np.ndarray:
+        """The physical coordinate of the family's variable (x, or r)."""
 
     @abstractmethod
     def _panel_nodes(self, points: int, breaks: Sequence[float]
@@ -423,15 +438,9 @@ class HermiteBasis(_Basis):
         off = -0.25 * np.sqrt((n[:-2] + 1.0) * (n[:-2] + 2.0))
         return t + np.diag(off, 2) + np.diag(off, -2)
 
-    def quadrature(self, points, kind="weight", breaks=()):
-        """Nodes (physical x) and U[q, n] = √w_q φ_n(x_q) of an m-point rule."""
-        fam = self.family
-        if kind == "weight":
-            xi = fam.gauss_nodes(points)
-            vals, logs, lognorm = fam.values(xi, self.size, norm_terms=points)
-            u = logs.scaled(vals, -lognorm[None, :])
-            return self.center + self.length * xi, u.T
-        return self._panel_u(*self._panel_nodes(points, breaks))
+    def _physical(self, xi):
+        """x = x₀ + b ξ."""
+        return self.center + self.length * xi
 
     def _panel_nodes(self, points, breaks):
         top = math.sqrt(2.0 * self.size + 1.0) + _PANEL_MARGIN
@@ -524,15 +533,9 @@ class RadialBasis(_Basis):
         off = np.sqrt((n[:-1] + 1.0) * (n[:-1] + a + 1.0))
         return 0.5 * (np.diag(2.0 * n + a + 1.0) + np.diag(off, 1) + np.diag(off, -1))
 
-    def quadrature(self, points, kind="weight", breaks=()):
-        """Nodes (physical r) and U[q, n] = √w_q R_n(r_q) r_q^{(d−1)/2} of an m-point rule."""
-        fam = self.family
-        if kind == "weight":
-            t = fam.gauss_nodes(points)
-            vals, logs, lognorm = fam.values(t, self.size, norm_terms=points)
-            u = logs.scaled(vals, -lognorm[None, :])
-            return self.length * np.sqrt(t), u.T
-        return self._panel_u(*self._panel_nodes(points, breaks))
+    def _physical(self, t):
+        """r = b √t (t = r²/b²; U of the quadrature is √w_q R_n(r_q) r_q^{(d−1)/2})."""
+        return self.length * np.sqrt(t)
 
     def _panel_nodes(self, points, breaks):
         top = math.sqrt(4.0 * self.size + 2.0 * self.alpha + 2.0) + _PANEL_MARGIN
