@@ -9,6 +9,21 @@ from ._common import SHOW_ALL_UP_TO, Parser
 
 __all__ = ["build_parser"]
 
+#: Arguments that more than one command takes, written once: name → (flags, keywords).
+_SHARED = {
+    "cases": (("cases",), {"nargs": "+", "metavar": "CASE.yaml", "help": "case files"}),
+    "result": (("result",), {"metavar": "RESULT.nc", "help": "a result file of anharmony run"}),
+    "allow-long": (("--allow-long",), {
+        "action": "store_true",
+        "help": "accept a case whose estimated work is beyond the limit of a few hours on one "
+                "core (refused otherwise, naming the setting)"}),
+}
+
+
+def _add_shared(parser: argparse.ArgumentParser, name: str) -> None:
+    flags, keywords = _SHARED[name]
+    parser.add_argument(*flags, **keywords)
+
 
 def build_parser() -> argparse.ArgumentParser:
     p = Parser(prog="anharmony",
@@ -20,7 +35,7 @@ def build_parser() -> argparse.ArgumentParser:
     run = sub.add_parser("run", help="run case files and write one netCDF result per case",
                          description="Run every case of the given files and write one netCDF "
                                      "result per case (to the case's `output`).")
-    run.add_argument("cases", nargs="+", metavar="CASE.yaml", help="case files")
+    _add_shared(run, "cases")
     run.add_argument("-o", "--output-dir", metavar="DIR",
                      help="write every result into DIR (created if missing) instead of beside "
                           "its case file")
@@ -42,26 +57,22 @@ def build_parser() -> argparse.ArgumentParser:
                      help="also solve every channel with the cross-check solver of another "
                           "family (as convergence: {cross_check: true} in every case) and "
                           "store its difference from the basis result")
-    run.add_argument("--allow-long", action="store_true",
-                     help="accept a case whose estimated work is beyond the limit of a few "
-                          "hours on one core (refused otherwise, naming the setting)")
+    _add_shared(run, "allow-long")
 
     check = sub.add_parser("check", help="validate case files and print the resolved cases",
                            description="Validate case files and print each resolved case: "
                                        "units, reference oscillator, channels and task count.")
-    check.add_argument("cases", nargs="+", metavar="CASE.yaml", help="case files")
+    _add_shared(check, "cases")
     check.add_argument("--no-reference", action="store_true",
                        help="skip resolving the reference oscillator and building the "
                             "Hamiltonians (validation only)")
-    check.add_argument("--allow-long", action="store_true",
-                       help="accept a case whose estimated work is beyond the limit of a few "
-                            "hours on one core (refused otherwise, naming the setting)")
+    _add_shared(check, "allow-long")
 
     show = sub.add_parser("show", help="print the levels, shifts and perturbation verdict of "
                                        "a result file",
                           description="Print levels, shifts and the perturbation verdict of a "
                                       "result file as a table.")
-    show.add_argument("result", metavar="RESULT.nc", help="a result file of anharmony run")
+    _add_shared(show, "result")
     show.add_argument("--scan", default="auto", metavar="K|all|auto",
                       help="scan point(s) to print: an index, `all`, or `auto` (all up to "
                            f"{SHOW_ALL_UP_TO}, else first, middle and last)")
@@ -75,7 +86,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     plot = sub.add_parser("plot", help="draw a figure from a result file",
                           description="Draw a figure from a result file (needs anharmony.plots).")
-    plot.add_argument("result", metavar="RESULT.nc", help="a result file of anharmony run")
+    _add_shared(plot, "result")
     plot.add_argument("--kind", required=True,
                       choices=("flow", "shift", "series", "convergence", "well", "scheme",
                                "residuals"),
