@@ -157,6 +157,11 @@ def cmd_show(args: argparse.Namespace) -> int:
     if "convergence" in a:
         print(f"  convergence: {a['convergence']}; converged = error below {tol * scale:g}"
               f"{_unit_suffix(symbol)}")
+    if "series_term_order" in ds and any(int(o) != 1 for o in ds.series_term_order.values):
+        print("  series: terms at orders " + ", ".join(
+            f"well[{i}] {kind} {int(o)}" for i, (kind, o) in enumerate(zip(
+                ds.series_term_kind.values, ds.series_term_order.values, strict=True)))
+            + " (W(lambda) = sum_k lambda^k W_k)")
     param = ds.scan_value.attrs.get("parameter", "coupling")
     p_symbol = _symbol(ds.scan_value.attrs, a.get("unit_system"))
     b_symbol = _symbol(ds.length.attrs, a.get("unit_system"), "length")
