@@ -100,6 +100,25 @@ def test_the_well_at_each_value_and_its_potential_follow_the_path():
     assert res.threshold.tolist() == [np.inf] * 3  # x⁴ with λ² > 0 confines at every λ
 
 
+@pytest.mark.parametrize(("terms", "l"), [
+    ([{"power": {"exponent": 4, "strength": -0.01, "order": 2}}], None),
+    ([{"power": {"exponent": 3, "strength": 0.05, "order": 2}}], None),
+    ([{"power": {"exponent": 4, "strength": -0.01, "order": 2}}], 0),
+    ([{"power": {"exponent": 2, "strength": -1.0, "order": 2}}], 0),
+    ([{"gaussian": {"depth": 0.5, "range": 1.0, "order": 2}}], None),
+])
+def test_thresholds_are_those_of_the_well_at_each_value(terms, l):
+    # the pencil's thresholds (from the leading powers, or the well at λ) against
+    # Well.threshold of the well the scan says it solved (our contract: the threshold of V_λ)
+    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}}, *terms])
+    lams = [-1.5, -0.5, 0.0, 0.3, 1.0, 2.0, 4.0]  # past λ = 3.3, (1 − λ) V_ref + λ ½x² opens
+    res = scan(well, 1, l, parameter="coupling", values=lams, size=20, length=1.0, levels=2,
+               reference={"frequency": 1.2, "center": 0.0})
+    expected = [res.well_at(k).threshold(1, symmetric=l is not None) for k in range(len(lams))]
+    assert res.threshold.tolist() == expected
+    assert len(set(expected)) > 1  # the path crosses from confining to open or finite
+
+
 @pytest.mark.parametrize(("dimension", "l", "mass"), [(1, None, 1.0), (1, 1, 2.0), (3, 0, 1.0),
                                                       (3, 2, 0.5)])
 def test_a_quadratic_term_at_second_order_is_the_exact_oscillator(dimension, l, mass):

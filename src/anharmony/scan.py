@@ -207,6 +207,40 @@ def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> 
     return Well.from_terms(terms, units, mass)
 
 
+def _polynomial_thresholds(well: Well, ref: Reference, channel: Channel,
+                           lams: np.ndarray) -> np.ndarray | None:
+    """Thresholds of (1 − λ) V_ref + Σ λ^k V_k at every λ from the leading power of the
+    polynomial on each side, when every central term is a polynomial (else None): what
+    :meth:`Well.threshold` gives, without building a well per value."""
+    radial = channel.l is not None
+    polys = {}
+    for order, part in well.by_order().items():
+        poly = part.polynomial()
+        if poly is None:
+            return None
+        polys[order] = poly
+    k = ref.frequency ** 2 / (2.0 * well.units.hbar2_over_2m(well.mass))
+    degree = max([2, *(p for poly in polys.values() for p in poly)])
+    coeffs = np.zeros((len(lams), degree + 1))
+    coeffs[:, 0] += (1.0 - lams) * ref.v_min  # the centre shifts no leading power
+    coeffs[:, 2] += (1.0 - lams) * 0.5 * k
+    for order, poly in polys.items():
+        for p, c in poly.items():
+            coeffs[:, p] += lams**order * c
+    out = np.empty(len(lams))
+    for i, row in enumerate(coeffs):
+        nz = np.flatnonzero(row)
+        d = int(nz[-1]) if nz.size else 0
+        lead = float(row[d])
+        if d == 0:
+            out[i] = lead
+            continue
+        hi = math.copysign(math.inf, lead)
+        lo = math.copysign(math.inf, lead * (-1) ** d)
+        out[i] = hi if radial else min(lo, hi)
+    return out
+
+
 def _coupling_threshold(well: Well, thr: float, lam: float, ref: Reference,
                         channel: Channel) -> float:
     """Threshold of the coupling path's well at λ: from the physical well's ``thr`` alone
@@ -585,6 +619,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         b, center = bases[0]
         pen, thr_a, thr_b, basis = _split(well, t, channel, refs[0], size, b, center)
         basis_objs = [basis] * s
+        fast = (_polynomial_thresholds(well, refs[0], channel, vals)
+                if t.coupling and has_term_orders(well) else None)
         for k, v in enumerate(vals):
             h = pen.at(v)
             out_e[k], vec = pen.levels(h, size, count, vectors)
@@ -595,7 +631,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
             if out_err is not None and out_round is not None:
                 out_err[k], out_round[k] = pen.error_estimate(h, out_e[k], channel.l is None)
             if t.coupling:
-                out_thr[k] = _coupling_threshold(well, thr_a, float(v), refs[k], channel)
+                out_thr[k] = (fast[k] if fast is not None and v != 1.0 else
+                              _coupling_threshold(well, thr_a, float(v), refs[k], channel))
                 continue
             thr = linear_threshold(thr_a, thr_b, v)
             out_thr[k] = thr if not math.isnan(thr) else float(
