@@ -180,3 +180,26 @@ def test_one_channel_needs_no_channel_key():
     handles = {t.get_text(): h for leg in fig.legends
                for t, h in zip(leg.get_texts(), leg.legend_handles, strict=True)}
     assert _dash(handles["diagonaliser"]) == CHANNEL_DASH  # the key shows the line as drawn
+
+
+def test_more_keys_than_hues_never_share_a_colour():
+    # seven l: the palette's six hues would give l = 6 the colour of l = 0
+    ds = _dataset([f"l{k}" for k in range(7)], list(range(7)), orders=0)
+    fig = plots.make_figure(ds, "flow")
+    by_l = {}
+    for gid, ln in _level_lines(fig, "energy").items():
+        by_l.setdefault(int(gid.split(":")[1]), set()).add(ln.get_color())
+    assert all(len(c) == 1 for c in by_l.values())  # one colour per l
+    assert len({c for cs in by_l.values() for c in cs}) == 7
+
+
+def test_blocks_of_continuum_states_alone_get_no_swatch_and_no_colour_rank():
+    labels = ["1/2+", "3/2-", "5/2+"]
+    ds = _dataset(labels, [-1] * 3, geometry=True, orders=0)
+    ds["bound"].values[:, 1] = 0  # the 3/2- block holds only discretised-continuum states
+    fig = plots.make_figure(ds, "flow")
+    texts = _legend_texts(fig)
+    assert "Ω = 3/2" not in texts and {"Ω = 1/2", "Ω = 5/2"} <= set(texts)
+    lines = _level_lines(fig, "energy")
+    assert lines["energy:2:0"].get_color() == _style.colour(1)  # next rank after 1/2
+    assert not any("π = −" in t for t in texts)  # no dashed block is drawn as a level

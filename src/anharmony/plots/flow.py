@@ -100,7 +100,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     shown = []
     ends = []
     any_continuum = False
-    enc = channel_encoding(view, chans, lw=1.6)
+    drawn = bound[:, :, levels] & np.isfinite(energy[:, :, levels])
+    enc = channel_encoding(view, chans, lw=1.6, visible=[drawn[:, c].any() for c in chans])
     for i, c in enumerate(chans):
         col, ls = enc.styles[i].colour, enc.styles[i].linestyle
         for n in levels:

@@ -66,7 +66,9 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     ax = axes[0, 0]
     xs = np.where(x > 0, x, np.nan) if log else x
     ends, shown, guides = [], [], []
-    enc = channel_encoding(view, chans, lw=1.5, marker="o", ms=2.6)
+    drawn = bound[:, :, levels] & np.isfinite(shift[:, :, levels])
+    enc = channel_encoding(view, chans, lw=1.5, marker="o", ms=2.6,
+                           visible=[drawn[:, c].any() for c in chans])
     for i, c in enumerate(chans):
         col, ls = enc.styles[i].colour, enc.styles[i].linestyle
         for n in levels:
