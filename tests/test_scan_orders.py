@@ -13,6 +13,7 @@ behaviour E(λ) − Σ_{n≤K} E_n λ^n = O(λ^{K+1}), Taylor's theorem, common 
 
 from __future__ import annotations
 
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -237,6 +238,7 @@ def test_a_case_scans_the_coupling_of_a_well_with_orders_and_stores_them(tmp_pat
     np.testing.assert_allclose(ds.energy.values[:, 0], res.energies, rtol=RTOL_SAME,
                                atol=ATOL_SAME)
     ser = ah.series(well, 1, None, level=2, orders=6, reference=REF)
+    ser_0 = ah.series(well, 1, None, level=0, orders=6, reference=REF)
     np.testing.assert_allclose(ds.series_coefficient.values[0, 0, 2], ser.coefficients,
                                rtol=1e-12, atol=1e-15)
     # the stored series says which orders its terms had (read back from the file)
@@ -255,6 +257,13 @@ def test_a_case_scans_the_coupling_of_a_well_with_orders_and_stores_them(tmp_pat
     assert shown.returncode == 0, shown.stderr
     assert ("series: terms at orders well[0] harmonic 1, well[1] power 1, well[2] power 2"
             in shown.stdout)
+    # the verdict of a coupling point compares its level with Σ_{i≤k} E_i λ^i at its own λ
+    # (the stored partial sums are at λ = 1): the distance it names is the smallest one
+    row = shown.stdout.split("coupling = 0.5:")[1].splitlines()[2]
+    assert row.split()[0] == "v=0"
+    said = float(re.search(r"off by (\S+)", row)[1])
+    sums = np.cumsum(ser_0.coefficients * 0.5 ** np.arange(7))
+    assert said == pytest.approx(np.min(np.abs(sums - ds.energy.values[1, 0, 0])), rel=0.05)
 
 
 def test_a_case_without_orders_stores_first_order_and_show_is_silent(tmp_path):

@@ -18,6 +18,12 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
         return "-"
     e = float(ds.energy.values[k, c, n])
     sums = ds.series_partial_sum.values[k, c, n]
+    if str(ds.scan_value.attrs.get("parameter", "")) in ("coupling", "lambda"):
+        # the stored sums are at λ = 1; the level of this point is that of its own λ
+        lam = float(ds.scan_value.values[k])
+        coef = ds.series_coefficient.values[k, c, n].astype(float)
+        with np.errstate(all="ignore"):
+            sums = np.cumsum(coef * lam ** np.arange(coef.size, dtype=float))
     if not (math.isfinite(e) and np.any(np.isfinite(sums))):
         return "n/a"
     d = np.abs(sums - e)
