@@ -273,6 +273,18 @@ def test_a_case_without_orders_stores_first_order_and_show_is_silent(tmp_path):
     p.write_text(CASE.replace(", order: 2", ""))
     ds = run_case(p)
     assert ds.series_term_order.values.tolist() == [1, 1, 1]
+    assert "sum_k" not in ds.scan_value.attrs["long_name"]
+
+
+def test_a_coupling_scan_without_a_series_stores_the_orders_of_its_path(tmp_path):
+    from anharmony.runner import run_case
+
+    p = tmp_path / "path.yaml"
+    p.write_text(CASE.replace("perturbation: {orders: 6}\n", ""))
+    ds = run_case(p)
+    assert "series_coefficient" not in ds or ds.sizes.get("order", 0) == 0
+    assert ds.series_term_order.values.tolist() == [1, 1, 2]
+    assert "sum_k lambda**k W_k" in ds.scan_value.attrs["long_name"]
 
 
 def test_a_case_with_orders_and_an_inverse_square_term_is_refused_at_its_line(tmp_path):
