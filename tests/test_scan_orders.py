@@ -241,6 +241,16 @@ def test_a_case_scans_the_coupling_of_a_well_with_orders_and_stores_them(tmp_pat
     ser_0 = ah.series(well, 1, None, level=0, orders=6, reference=REF)
     np.testing.assert_allclose(ds.series_coefficient.values[0, 0, 2], ser.coefficients,
                                rtol=1e-12, atol=1e-15)
+    # the well figure of a point draws the path's well (1 − λ) V_ref + Σ λ^k V_k
+    from anharmony import plots
+
+    fig = plots.make_figure(ds, "well", scan_index=1)
+    (line,) = [ln for ax in fig.axes for ln in ax.lines if ln.get_gid() == "potential"]
+    x, v = line.get_xydata().T
+    lam = 0.5
+    ok = np.isfinite(v)
+    np.testing.assert_allclose(v[ok], (0.5 * ((1 - lam) * 0.81 + lam) * x**2 + lam * 0.1 * x**3
+                                       + lam**2 * 0.05 * x**4)[ok], rtol=1e-12, atol=1e-12)
     # the stored series says which orders its terms had (read back from the file)
     out = write_dataset(ds, tmp_path / "orders.nc")
     back = read_dataset(out)
