@@ -276,6 +276,18 @@ def test_a_case_scans_the_coupling_of_a_well_with_orders_and_stores_them(tmp_pat
     assert said == pytest.approx(np.min(np.abs(sums - ds.energy.values[1, 0, 0])), rel=0.05)
 
 
+def test_check_says_the_scan_is_polynomial_in_lambda(tmp_path):
+    from anharmony.cases import load_case
+    from anharmony.runner import describe
+
+    p = tmp_path / "orders.yaml"
+    p.write_text(CASE)
+    text = "\n".join(describe(load_case(p)).lines)
+    assert "polynomial in lambda by the term orders: matrices built once" in text
+    p.write_text(CASE.replace(", order: 2", ""))
+    assert "linear: matrices built once" in "\n".join(describe(load_case(p)).lines)
+
+
 def test_a_case_without_orders_stores_first_order_and_show_is_silent(tmp_path):
     from anharmony.runner import run_case
 
