@@ -203,3 +203,13 @@ def test_blocks_of_continuum_states_alone_get_no_swatch_and_no_colour_rank():
     lines = _level_lines(fig, "energy")
     assert lines["energy:2:0"].get_color() == _style.colour(1)  # next rank after 1/2
     assert not any("π = −" in t for t in texts)  # no dashed block is drawn as a level
+
+
+def test_the_key_keeps_the_level_entry_when_the_dashed_channel_has_no_bound_level():
+    ds = _dataset(["s1/2", "p1/2"], [0, 1], [0.5, 0.5])
+    ds["bound"].values[:, 1] = 0  # p1/2 (dashed) holds only continuum states
+    ds.attrs["unit_system"] = "no-such-system"  # letters fall back to the atomic ones
+    fig = plots.make_figure(ds, "flow", orders=[1])
+    texts = _legend_texts(fig)
+    assert "diagonaliser" in texts and "discretised continuum" in texts
+    assert not any(t.startswith("l = ") for t in texts)  # one visible channel: no swatch

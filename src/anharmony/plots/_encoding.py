@@ -74,7 +74,7 @@ class Encoding:
         style tells channels apart."""
         keys = dict.fromkeys((s.style_key, _hashable(s.linestyle)) for s in self.shown
                              if s.style_key)
-        if not self.dashed:
+        if not self.dashed or not keys:
             return [proxy(label=label, **line)]
         if len(keys) == 1:  # one style drawn (one channel): the entry is drawn as it is
             ((_, ls),) = keys
@@ -108,7 +108,10 @@ def _central(view: ResultView, chans: Sequence[int]) -> list[ChannelStyle]:
         if dim == 2:
             out.append(ChannelStyle(_style.colour(l), SOLID, f"|m| = {l}"))
             continue
-        letter = orbital_letter(l, units=view.unit_system)
+        try:
+            letter = orbital_letter(l, units=view.unit_system)
+        except ValueError:  # a unit system this version does not know: atomic letters
+            letter = orbital_letter(l)
         key = (f"J = {l}" if view.unit_system == "molecular" and j is None
                else f"l = {l} ({letter})")
         if j is None:
