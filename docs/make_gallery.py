@@ -54,7 +54,8 @@ CONVERGENCE_SIZES = {"convergence": {"sizes": [8, 12, 16, 20, 24, 32]}}
 ENTRIES = [
     Entry("flow-quartic", "quartic-3d.yaml", "flow", "Level flow: a spherical oscillator "
           "with a growing quartic term",
-          "The diagonaliser's levels (solid) against the quartic strength for s, p and d "
+          "The diagonaliser's levels (solid, coloured by l) against the quartic strength for "
+          "s, p and d "
           "channels, with the Rayleigh–Schrödinger partial sums to first and second order "
           "(dashed, dotted) and the Borel–Padé values (open triangles). Low-order perturbation "
           "theory parts from the exact levels well before the strongest coupling."),
@@ -74,7 +75,14 @@ ENTRIES = [
           "The Ω^π blocks of a deformed Woods–Saxon well with its deformed spin–orbit term "
           "(axial basis, spin ½) from oblate to prolate shapes; each level is labelled by its "
           "asymptotic quantum numbers Ω^π[N n_z Λ] at the prolate end, and the spherical j "
-          "multiplets meet at β₂ = 0."),
+          "multiplets meet at β₂ = 0. The colour is Ω, the line style the parity (π = + "
+          "solid, π = − dashed); blocks holding only continuum states are grey."),
+    Entry("flow-proton", "proton-coulomb.yaml", "flow", "Spin–orbit partners against the "
+          "proton charge",
+          "Proton levels of a Woods–Saxon well with spin–orbit and Coulomb terms as the charge "
+          "grows: the colour is l, the line style j (j = l + ½ solid, j = l − ½ dashed), so "
+          "each spin–orbit pair shares a colour; the key explains the encoding once instead "
+          "of naming every curve."),
     Entry("shift-dot", "dot-2d.yaml", "shift", "Anharmonic shifts in a 2D quantum dot",
           "Shifts of the |m| = 0, 1, 2 levels of a parabolic dot with a quartic correction, "
           "in units of ħω₀, beside the low-order perturbative shifts."),
@@ -184,10 +192,16 @@ def _markdown(entries: list[Entry], sizes: dict[str, int]) -> str:
         "```",
         "",
         "Kinds: " + ", ".join(f"`{k}`" for k in dict.fromkeys(e.kind for e in entries)) + ".",
-        "Styles are the same in every figure: solid lines are the diagonaliser's levels,",
-        "dashed and dotted lines perturbative partial sums, open markers resummed values;",
+        "Styles are the same in every figure: thick lines are the diagonaliser's levels,",
+        "thin dashed and dotted lines perturbative partial sums, open markers resummed values;",
         "colour is never the only cue (curves are labelled directly), so the figures read in",
-        "greyscale and for colour-blind readers.",
+        "greyscale and for colour-blind readers. In the flow and shift figures the curves",
+        "carry their channel: the colour is l (|m| in 2D, the parity in 1D, Ω or Λ of an",
+        "axial block, one colour per Cartesian block) and, where spin–orbit channels exist,",
+        "the line style is j (j = l + ½ solid, j = l − ½ dashed; for axial blocks the parity,",
+        "π = + solid, π = − dashed). Where a line style tells channels apart the partial sums",
+        "take dotted and dash-dot patterns only. One small key below the axes explains the",
+        "encoding (a swatch per colour, an entry per line style), not every curve.",
         "",
         "The trap and quantum-dot figures are model results for idealised potentials, not a",
         "basis for building or operating hardware: see the caution in the",

@@ -370,34 +370,6 @@ def test_dense_partial_sums_at_one_converge_to_the_physical_level():
 
 
 # --------------------------------------------------------------------------- refusals
-def test_a_coupling_scan_refuses_term_orders():
-    # our contract: a coupling scan is H_ref + λ(H − H_ref); a λ-polynomial W is refused
-    # rather than scanned on another path (never a silent wrong answer)
-    well = ah.Well.from_terms(morse_taylor(F(1, 10)))
-    with pytest.raises(InputError, match=r"well\[2\]\.power\.order = 2"):
-        ah.scan(well, 1, None, parameter="coupling", values=[0.5, 1.0], size=20)
-    # λ = 1 alone is the physical well (a case without a scan runs it that way)
-    res = ah.scan(well, 1, None, parameter="coupling", values=[1.0], size=40)
-    spec = ah.solve(well, 1, None, size=40, levels=5)
-    np.testing.assert_allclose(res.energies[0], spec.energies, rtol=1e-12)
-
-
-def test_a_case_with_a_coupling_scan_and_term_orders_is_refused_at_its_line(tmp_path):
-    # our contract (DESIGN §4): refused before any work, at the field's line
-    from anharmony.cases import CaseError, load_case
-
-    text = ("schema: 1\nspace: {dimension: 1}\nwell:\n  - harmonic: {frequency: 1.0}\n"
-            "  - power: {exponent: 4, strength: 0.1, order: 2}\n"
-            "scan: {parameter: coupling, values: [0.5, 1.0]}\n")
-    p = tmp_path / "coupled.yaml"
-    p.write_text(text)
-    with pytest.raises(CaseError, match=r"coupled\.yaml:5:\d+: well\[1\].*order: is 2, but a "
-                       "coupling scan"):
-        load_case(p)
-    p.write_text(text.replace("[0.5, 1.0]", "[1.0]"))  # λ = 1 alone is the physical well
-    assert load_case(p).well_at(None).orders == (1, 2)
-
-
 def test_an_absorbed_inverse_square_term_takes_no_order():
     well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
                                {"power": {"exponent": -2, "strength": 0.3, "order": 2}}])

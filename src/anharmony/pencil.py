@@ -4,11 +4,16 @@
 (or, for the coupling λ, into H_ref and H − H_ref) and hands the wells here; A and B are kept in
 LAPACK band storage where the core's banded solver applies, so each value costs one banded
 eigensolve, and its error estimate the eigenvalues of two leading blocks of the same band.
+
+When the terms of a well carry perturbation orders (:attr:`anharmony.terms.base.Term.order`),
+the coupling path is the series' own, H(λ) = H_ref + Σ_k λ^k W_k: a polynomial pencil
+A + s B + Σ_{k≥2} s^k B_k (:func:`order_pencil`), its matrices built once as well.
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
@@ -27,23 +32,40 @@ from .hamiltonian import Channel, channel_hamiltonian
 from .well import Well
 
 __all__ = ["Pencil", "coupling_pencil", "coupling_threshold", "linear_threshold",
-           "term_pencil"]
+           "order_pencil", "term_pencil"]
 
 
 class Pencil:
-    """H(s) = A + s B of one channel, kept banded where the core's solver would be."""
+    """H(s) = A + s B (+ Σ_{k≥2} s^k B_k) of one channel, kept banded where the core's solver
+    would be.
 
-    def __init__(self, a: np.ndarray, b: np.ndarray, bandwidth: int | None) -> None:
+    ``higher`` maps a power k ≥ 2 to its matrix B_k (a polynomial pencil); without it the
+    pencil is linear and :meth:`at` costs one scaled addition.
+    """
+
+    def __init__(self, a: np.ndarray, b: np.ndarray, bandwidth: int | None,
+                 higher: Mapping[int, np.ndarray] | None = None) -> None:
         n = a.shape[0]
         self.banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * n
+        higher = dict(sorted((higher or {}).items()))
         if self.banded:
             self.a, self.b = upper_band(a, bandwidth), upper_band(b, bandwidth)
+            self.higher = {k: upper_band(m, bandwidth) for k, m in higher.items()}
         else:
             self.a, self.b = a, b
+            self.higher = higher
+
+    @property
+    def degree(self) -> int:
+        """The highest power of s (1 for a linear pencil)."""
+        return max(self.higher, default=1)
 
     def at(self, s: float) -> np.ndarray:
-        """A + s B (in band storage when banded)."""
-        return self.a + s * self.b
+        """A + s B + Σ s^k B_k (in band storage when banded)."""
+        h = self.a + s * self.b
+        for k, m in self.higher.items():
+            h += s**k * m
+        return h
 
     def levels(self, h: np.ndarray, size: int, count: int, vectors: bool = False
                ) -> tuple[np.ndarray, np.ndarray | None]:
@@ -92,6 +114,25 @@ def coupling_pencil(well: Well, reference_well: Well, channel: Channel, size: in
     bmat = full.potential + full.spin_orbit - href.potential
     thr = float(well.threshold(channel.dimension, symmetric=channel.l is not None))
     return Pencil(a, bmat, _bandwidth(full.bandwidth, href.bandwidth)), thr, math.nan, full.basis
+
+
+def order_pencil(parts: Mapping[int, Well], reference_well: Well, channel: Channel, size: int,
+                 b: float, center: float) -> tuple[Pencil, Any]:
+    """H_ref + λ W₁ + Σ_{k≥2} λ^k W_k: A = T + V_ref, B₁ = V₁ + V_so,₁ − V_ref, B_k = V_k + V_so,k.
+
+    ``parts`` are the terms of the well grouped by perturbation order (:meth:`Well.by_order`;
+    a missing order 1 is an empty part), the series' own split
+    (:func:`anharmony.series.series`). Returns the pencil and the basis.
+    """
+    href = channel_hamiltonian(reference_well, channel, size, b, center)
+    mats = {k: channel_hamiltonian(part, channel, size, b, center) for k, part in parts.items()}
+    a = href.total
+    bmat = -href.potential
+    if 1 in mats:
+        bmat = bmat + mats[1].potential + mats[1].spin_orbit
+    higher = {k: m.potential + m.spin_orbit for k, m in mats.items() if k != 1}
+    bandwidth = _bandwidth(href.bandwidth, *(m.bandwidth for m in mats.values()))
+    return Pencil(a, bmat, bandwidth, higher), href.basis
 
 
 def term_pencil(unit_well: Well, rest_well: Well | None, channel: Channel, size: int, b: float,

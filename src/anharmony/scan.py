@@ -7,6 +7,11 @@ otherwise H is rebuilt per value. Both give the levels of :func:`~anharmony.spec
 
 Parameters are named as in a case file: ``"coupling"`` (H = H_ref + λ (H − H_ref)),
 ``"well[i].name"`` or one polynomial coefficient ``"well[i].coefficients[k]"``.
+
+When terms carry perturbation orders (the generic term key ``order``), the coupling scan
+follows the series' own path H(λ) = H_ref + λ W₁ + Σ_{k≥2} λ^k W_k (W₁ = V₁ − V_ref,
+W_k = V_k, :func:`anharmony.series.series`): a polynomial pencil whose matrices are built once
+and summed per value. λ = 1 is the physical well either way.
 """
 
 from __future__ import annotations
@@ -24,7 +29,14 @@ from .eigensolvers import diagonalize, matrix_rounding
 from .errorbars import nested_error_estimate
 from .errors import InputError
 from .hamiltonian import Channel, channel_hamiltonian
-from .pencil import Pencil, coupling_pencil, coupling_threshold, linear_threshold, term_pencil
+from .pencil import (
+    Pencil,
+    coupling_pencil,
+    coupling_threshold,
+    linear_threshold,
+    order_pencil,
+    term_pencil,
+)
 from .reference import Reference, _lowest_oscillator_level, default_length, reference_oscillator
 from .request import _check_levels, _positive, resolve_channel
 from .spectrum import Spectrum
@@ -32,8 +44,8 @@ from .terms import Power, linear_parameters
 from .units import UnitSystem
 from .well import Well
 
-__all__ = ["SAME_BASIS_RTOL", "SCALED", "ScanResult", "coupled_well", "linear_in",
-           "pencil_applies", "scan", "set_parameter"]
+__all__ = ["SAME_BASIS_RTOL", "SCALED", "ScanResult", "coupled_well", "has_term_orders",
+           "linear_in", "pencil_applies", "scan", "set_parameter"]
 
 SAME_BASIS_RTOL = 1e-12  # references this close at every value share one basis (one pencil)
 
@@ -127,19 +139,37 @@ def _reference_well(well: Well, ref: Reference, radial: bool) -> Well:
     return Well.from_terms(terms, well.units, well.mass)
 
 
-def _refuse_term_orders(well: Well) -> None:
-    """A coupling scan follows H_ref + λ (H − H_ref): terms with an ``order`` ≠ 1 (W
-    polynomial in λ, the series' own path) are refused rather than scanned on another path."""
-    higher = [f"well[{i}].{t.kind}.order = {t.order}" for i, t in enumerate(well.terms)
-              if t.order != 1]
-    if higher:
-        raise InputError(f"scan: coupling: the scan follows H_ref + lambda (H - H_ref), with "
-                         f"every term at first order, but {', '.join(higher)}; drop the "
-                         "orders for a coupling scan, or scan a term parameter")
+def has_term_orders(well: Well) -> bool:
+    """Whether some term of the well carries a perturbation order other than 1."""
+    return any(t.order != 1 for t in well.terms)
+
+
+def _check_term_orders(well: Well, channel: Channel) -> None:
+    """A coupling scan of a well with term orders follows H_ref + Σ_k λ^k W_k, the series' own
+    path; refuse what that path cannot be (as :func:`anharmony.series.series` does)."""
+    if not has_term_orders(well):
+        return
+    if _inverse_square(well):
+        raise InputError("scan: coupling: a well with term orders and an inverse-square term "
+                         "has no coupling path here (the series takes the inverse-square term "
+                         "into the reference, at order 0); drop the orders, or scan a term "
+                         "parameter")
+    if channel.dimension == 1 and channel.l is not None:
+        for k, part in well.by_order().items():
+            if not part.is_symmetric(0.0):
+                raise InputError(
+                    f"l: the terms at perturbation order {k} are not symmetric about x = 0, "
+                    "so the parity channels do not decouple at every lambda; use l=None")
 
 
 def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> Well:
-    """The well λ V + (1 − λ) V_ref of H_ref + λ (H − H_ref), as terms of the same kinds.
+    """The well (1 − λ) V_ref + Σ_k λ^k V_k of the coupling path, as terms of the same kinds.
+
+    V_k are the terms at perturbation order k (:attr:`~anharmony.terms.base.Term.order`,
+    default 1): with every term at first order this is λ V + (1 − λ) V_ref, the well of
+    H_ref + λ (H − H_ref); with orders it is the well of the series' H_ref + Σ_k λ^k W_k
+    (W₁ = V₁ − V_ref, W_k = V_k), so λ = 1 is the physical well either way. The terms of the
+    result are at first order (it is one well, not a series).
 
     ``radial`` is True for central wells and 1D parity channels (V_ref centred at 0).
 
@@ -151,19 +181,19 @@ def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> 
     """
     if lam == 1.0:
         return well
-    _refuse_term_orders(well)
     units, mass = well.units, well.mass
     terms: list[Any] = []
     if lam != 0.0:
         for t in well.terms:
+            f = lam ** t.order
             if t.kind in ("harmonic", "polynomial"):
                 poly = t.polynomial() or {}
                 terms.append(Well.from_terms([{"polynomial": {
-                    "coefficients": {p: lam * v for p, v in poly.items()},
+                    "coefficients": {p: f * v for p, v in poly.items()},
                     "center": t.center}}], units, mass).terms[0])
             elif t.kind in SCALED:
                 name = SCALED[t.kind]
-                terms.append(dataclasses.replace(t, **{name: lam * getattr(t, name)}))
+                terms.append(dataclasses.replace(t, **{name: f * getattr(t, name), "order": 1}))
             else:
                 raise InputError(f"scan: coupling: the {t.kind} term cannot be scaled by "
                                  "lambda as a well; scan one of its parameters")
@@ -177,6 +207,56 @@ def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> 
     return Well.from_terms(terms, units, mass)
 
 
+def _polynomial_thresholds(well: Well, ref: Reference, channel: Channel,
+                           lams: np.ndarray) -> np.ndarray | None:
+    """Thresholds of (1 − λ) V_ref + Σ λ^k V_k at every λ from the leading power of the
+    polynomial on each side, when every central term is a polynomial (else None): what
+    :meth:`Well.threshold` gives, without building a well per value."""
+    radial = channel.l is not None
+    polys = {}
+    for order, part in well.by_order().items():
+        poly = part.polynomial()
+        if poly is None:
+            return None
+        polys[order] = poly
+    k = ref.frequency ** 2 / (2.0 * well.units.hbar2_over_2m(well.mass))
+    degree = max([2, *(p for poly in polys.values() for p in poly)])
+    coeffs = np.zeros((len(lams), degree + 1))
+    coeffs[:, 0] += (1.0 - lams) * ref.v_min  # the centre shifts no leading power
+    coeffs[:, 2] += (1.0 - lams) * 0.5 * k
+    for order, poly in polys.items():
+        for p, c in poly.items():
+            coeffs[:, p] += lams**order * c
+    out = np.empty(len(lams))
+    for i, row in enumerate(coeffs):
+        nz = np.flatnonzero(row)
+        d = int(nz[-1]) if nz.size else 0
+        lead = float(row[d])
+        if d == 0:
+            out[i] = lead
+            continue
+        hi = math.copysign(math.inf, lead)
+        lo = math.copysign(math.inf, lead * (-1) ** d)
+        out[i] = hi if radial else min(lo, hi)
+    return out
+
+
+def _coupling_threshold(well: Well, thr: float, lam: float, ref: Reference,
+                        channel: Channel) -> float:
+    """Threshold of the coupling path's well at λ: from the physical well's ``thr`` alone
+    when every term is at first order (:func:`~anharmony.pencil.coupling_threshold`); with
+    term orders, that of the well (1 − λ) V_ref + Σ λ^k V_k where it can be made of terms,
+    else the first-order rule."""
+    if lam == 1.0 or not has_term_orders(well):
+        return coupling_threshold(thr, lam)
+    radial = channel.l is not None
+    try:
+        w = coupled_well(well, lam, ref, radial)
+    except InputError:  # a formula term: the rule of the first-order path
+        return coupling_threshold(thr, lam)
+    return float(w.threshold(channel.dimension, symmetric=radial))
+
+
 # =========================================================================== the pencil
 def _split(well: Well, t: _Target, channel: Channel, ref: Reference, size: int, b: float,
            center: float) -> tuple[Pencil, float, float, Any]:
@@ -185,8 +265,12 @@ def _split(well: Well, t: _Target, channel: Channel, ref: Reference, size: int, 
     For ``coupling`` the first threshold is the physical well's and the second NaN.
     """
     if t.coupling:
-        return coupling_pencil(well, _reference_well(well, ref, channel.l is not None),
-                               channel, size, b, center)
+        ref_well = _reference_well(well, ref, channel.l is not None)
+        if has_term_orders(well):
+            pen, basis = order_pencil(well.by_order(), ref_well, channel, size, b, center)
+            thr = float(well.threshold(channel.dimension, symmetric=channel.l is not None))
+            return pen, thr, math.nan, basis
+        return coupling_pencil(well, ref_well, channel, size, b, center)
     terms = _spec_dicts(well)
     kind, (name, *sub) = t.kind, t.keys
     scanned = terms[t.index][kind]
@@ -278,19 +362,24 @@ class ScanResult:
     def potential(self, k: int, coords: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
         """Central potential and spin–orbit radial form (None without one) at value k.
 
-        For a coupling scan V_λ = (1 − λ) V_ref + λ V, for any term.
+        For a coupling scan V_λ = (1 − λ) V_ref + Σ_k λ^k V_k (V_k the terms at perturbation
+        order k; λ V with every term at first order), for any term.
         """
         t = _target(self.well, self.parameter)
         if not t.coupling:
             w = self.well_at(k)
             return w.value(coords), (w.spin_orbit_value(coords) if w.has_spin_orbit else None)
         lam = float(self.values[k])
-        v = self.well.value(coords)
-        so = self.well.spin_orbit_value(coords) if self.well.has_spin_orbit else None
-        if lam != 1.0:
-            ref = _reference_well(self.well, self.references[k], self.channel.l is not None)
-            v = (1.0 - lam) * ref.value(coords) + lam * v
-            so = None if so is None else lam * so
+        if lam == 1.0:
+            v = self.well.value(coords)
+            return v, (self.well.spin_orbit_value(coords) if self.well.has_spin_orbit else None)
+        ref = _reference_well(self.well, self.references[k], self.channel.l is not None)
+        v = (1.0 - lam) * ref.value(coords)
+        so = None
+        for order, part in self.well.by_order().items():
+            v = v + lam**order * part.value(coords)
+            if part.has_spin_orbit:
+                so = (0.0 if so is None else so) + lam**order * part.spin_orbit_value(coords)
         return v, so
 
     def wavefunctions(self, k: int, coords: np.ndarray) -> np.ndarray:
@@ -418,7 +507,7 @@ def _one_value(well: Well, t: _Target, channel: Channel, ref: Reference,
             e, vec = pen.levels(h, size, count, vectors)
             small = None if truncated is None else pen.levels(h, truncated, count)[0]
             err = pen.error_estimate(h, e, channel.l is None) if estimate else None
-            return e, vec, small, coupling_threshold(thr, v), basis_obj, err
+            return e, vec, small, _coupling_threshold(well, thr, v, ref, channel), basis_obj, err
     else:
         w = set_parameter(well, _path(t), v)
     mats = channel_hamiltonian(w, channel, size, b, center)
@@ -454,8 +543,9 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     well, dimension, l, j, size, units, mass, levels
         As in :func:`~anharmony.spectrum.solve`.
     parameter
-        ``"coupling"`` (H_ref + λ (H − H_ref), ``values`` are λ), ``"well[i].<name>"`` or
-        ``"well[i].coefficients[k]"``.
+        ``"coupling"`` (H_ref + λ (H − H_ref), ``values`` are λ; with term orders
+        H_ref + Σ_k λ^k W_k, the path of :func:`anharmony.series.series`),
+        ``"well[i].<name>"`` or ``"well[i].coefficients[k]"``.
     values
         The values of the parameter.
     length
@@ -486,7 +576,11 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     term, which changes the basis), there is more than one value and every value has the same
     basis; A and B are then built once and kept in LAPACK band storage where the banded solver
     applies; the error estimate then takes its sub-blocks from the same band. Otherwise each
-    value is solved as :func:`~anharmony.spectrum.solve` would.
+    value is solved as :func:`~anharmony.spectrum.solve` would. A coupling scan of a well with
+    term orders uses the polynomial pencil H_ref + λ B₁ + Σ_{k≥2} λ^k B_k
+    (:func:`~anharmony.pencil.order_pencil`); it refuses an inverse-square term (which the
+    series takes into H_ref) and, in 1D parity channels, orders whose terms are not
+    symmetric.
     """
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
@@ -503,7 +597,7 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     t = _target(well, parameter)
     vals = _values(values)
     if t.coupling and np.any(vals != 1.0):  # λ = 1 is the physical well, whatever the orders
-        _refuse_term_orders(well)
+        _check_term_orders(well, channel)
     radial = channel.l is not None
     wells = ([well] * len(vals) if t.coupling  # one basis for every λ: the physical well's
              else [set_parameter(well, _path(t), float(v)) for v in vals])
@@ -525,6 +619,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         b, center = bases[0]
         pen, thr_a, thr_b, basis = _split(well, t, channel, refs[0], size, b, center)
         basis_objs = [basis] * s
+        fast = (_polynomial_thresholds(well, refs[0], channel, vals)
+                if t.coupling and has_term_orders(well) else None)
         for k, v in enumerate(vals):
             h = pen.at(v)
             out_e[k], vec = pen.levels(h, size, count, vectors)
@@ -535,7 +631,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
             if out_err is not None and out_round is not None:
                 out_err[k], out_round[k] = pen.error_estimate(h, out_e[k], channel.l is None)
             if t.coupling:
-                out_thr[k] = coupling_threshold(thr_a, v)
+                out_thr[k] = (fast[k] if fast is not None and v != 1.0 else
+                              _coupling_threshold(well, thr_a, float(v), refs[k], channel))
                 continue
             thr = linear_threshold(thr_a, thr_b, v)
             out_thr[k] = thr if not math.isnan(thr) else float(

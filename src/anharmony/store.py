@@ -12,6 +12,7 @@ xarray and netCDF4 are imported inside the functions that need them, so that
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
 import json
 from collections.abc import Mapping
@@ -129,6 +130,10 @@ def build_dataset(case: Case, result: CaseResult, *, history: str | None = None
     k = result.series_coefficient.shape[-1]
     methods = list(result.resum_methods)
     scan = scan_axis(case)
+    if case.scan_target.kind == "coupling" and any(o != 1 for o in case.well_at(None).orders):
+        scan = dataclasses.replace(scan, long_name=(
+            "coupling lambda of H = H_ref + sum_k lambda**k W_k (W_1 = V_1 - V_ref, W_k = "
+            "V_k the terms at perturbation order k: series_term_order)"))
 
     def _float_attrs(units: str, long_name: str, **extra: Any) -> dict[str, Any]:
         return energy_attrs(u, units, long_name, **extra)

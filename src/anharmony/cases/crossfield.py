@@ -217,8 +217,9 @@ def _linked(model: CaseModel, target: ScanTarget) -> tuple[ScanTarget, Found]:
 
 
 def _coupling_order_issues(model: CaseModel, target: ScanTarget) -> Found:
-    """A coupling scan follows H_ref + λ(H − H_ref): terms with an ``order`` ≠ 1 (the series'
-    λ-polynomial) do not fit it away from λ = 1 (anharmony.scan refuses them as well)."""
+    """A coupling scan of a well with term orders follows the series' path H_ref + Σ λ^k W_k;
+    an inverse-square term (which the series takes into H_ref) has no place on it
+    (anharmony.scan refuses it as well)."""
     if target.kind != "coupling" or model.scan is None:
         return []
     try:
@@ -226,15 +227,16 @@ def _coupling_order_issues(model: CaseModel, target: ScanTarget) -> Found:
             return []
     except (TypeError, ValueError):  # the schema reports bad values
         return []
-    out: Found = []
-    for i, spec in enumerate(model.well):
-        (kind, params), = spec.items()
-        order = (params or {}).get("order", 1)
-        if order != 1:
-            out.append((("well", i, kind, "order"), f"is {order}, but a coupling scan follows "
-                        "H_ref + lambda (H - H_ref) with every term at first order; drop the "
-                        "order for a coupling scan, or scan a term parameter"))
-    return out
+    orders = [(i, kind, (params or {}).get("order", 1))
+              for i, spec in enumerate(model.well) for kind, params in spec.items()]
+    inverse = [i for i, spec in enumerate(model.well) for kind, params in spec.items()
+               if kind == "power" and (params or {}).get("exponent") == -2]
+    if not inverse or all(order == 1 for *_, order in orders):
+        return []
+    i, kind, order = next(o for o in orders if o[2] != 1)
+    return [(("well", i, kind, "order"), f"is {order}, but the coupling path of a well with "
+             f"term orders takes no inverse-square term (well[{inverse[0]}]); drop the "
+             "orders for a coupling scan, or scan a term parameter")]
 
 
 MIN_J_CONSTANTS = 3  # distinct J the Dunham constants need (De = -Y02 needs J(J+1) thrice)

@@ -18,6 +18,12 @@ def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
         return "-"
     e = float(ds.energy.values[k, c, n])
     sums = ds.series_partial_sum.values[k, c, n]
+    if str(ds.scan_value.attrs.get("parameter", "")) in ("coupling", "lambda"):
+        # the stored sums are at λ = 1; the level of this point is that of its own λ
+        lam = float(ds.scan_value.values[k])
+        coef = ds.series_coefficient.values[k, c, n].astype(float)
+        with np.errstate(all="ignore"):
+            sums = np.cumsum(coef * lam ** np.arange(coef.size, dtype=float))
     if not (math.isfinite(e) and np.any(np.isfinite(sums))):
         return "n/a"
     d = np.abs(sums - e)
@@ -157,6 +163,11 @@ def cmd_show(args: argparse.Namespace) -> int:
     if "convergence" in a:
         print(f"  convergence: {a['convergence']}; converged = error below {tol * scale:g}"
               f"{_unit_suffix(symbol)}")
+    if "series_term_order" in ds and any(int(o) != 1 for o in ds.series_term_order.values):
+        print("  series: terms at orders " + ", ".join(
+            f"well[{i}] {kind} {int(o)}" for i, (kind, o) in enumerate(zip(
+                ds.series_term_kind.values, ds.series_term_order.values, strict=True)))
+            + " (W(lambda) = sum_k lambda^k W_k)")
     param = ds.scan_value.attrs.get("parameter", "coupling")
     p_symbol = _symbol(ds.scan_value.attrs, a.get("unit_system"))
     b_symbol = _symbol(ds.length.attrs, a.get("unit_system"), "length")

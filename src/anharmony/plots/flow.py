@@ -1,8 +1,11 @@
 """Level flow: energies against the scanned parameter, per channel.
 
-The diagonaliser's levels are solid lines (discretised-continuum states dotted and grey), the
-Rayleigh–Schrödinger partial sums at the chosen orders dashed in the channel's colour, and the
-resummed values open markers. Each curve is labelled at its right end.
+The diagonaliser's levels are drawn in their channel's colour and line style (colour by l,
+j = l − ½ dashed and j = l + ½ solid where spin–orbit channels exist, parity in 1D, Ω^π blocks
+of geometry results: :mod:`anharmony.plots._encoding`; discretised-continuum states dotted
+and grey), the Rayleigh–Schrödinger partial sums at the chosen orders thin and patterned in
+the channel's colour, and the resummed values open markers. Each curve is labelled at its
+right end; one small key explains the encoding.
 """
 
 from __future__ import annotations
@@ -13,6 +16,7 @@ import numpy as np
 
 from . import _style
 from ._common import axis_label, direct_labels, fit_ylim, method_name, new_figure, proxy
+from ._encoding import channel_encoding, order_dash
 
 if TYPE_CHECKING:  # annotations only
     from ._common import FigureRequest, ResultView
@@ -96,13 +100,15 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     shown = []
     ends = []
     any_continuum = False
+    drawn = bound[:, :, levels] & np.isfinite(energy[:, :, levels])
+    enc = channel_encoding(view, chans, lw=1.6, visible=[drawn[:, c].any() for c in chans])
     for i, c in enumerate(chans):
-        col = _style.colour(i)
+        col, ls = enc.styles[i].colour, enc.styles[i].linestyle
         for n in levels:
             e = energy[:, c, n]
             exact = np.where(bound[:, c, n], e, np.nan)
             shown.append(e)
-            ax.plot(x, exact, color=col, lw=1.6, marker="." if x.size < 2 else None,
+            ax.plot(x, exact, color=col, lw=1.6, ls=ls, marker="." if x.size < 2 else None,
                     gid=f"energy:{c}:{n}", zorder=3)
             cont = np.where(bound[:, c, n], np.nan, e)
             if np.isfinite(cont).any():
@@ -110,7 +116,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
                 ax.plot(x, cont, color=_style.CONTINUUM, lw=1.0, ls=":",
                         gid=f"continuum:{c}:{n}", zorder=2)
             for o, k in enumerate(ords):
-                ax.plot(x, psum[:, c, n, o], color=col, lw=1.0, ls=_style.dash(o), alpha=0.9,
+                ax.plot(x, psum[:, c, n, o], color=col, lw=1.0, ls=order_dash(o, enc), alpha=0.9,
                         gid=f"partial_sum:{c}:{n}:{order_values[k]}", zorder=2)
             for q, m in enumerate(meths):
                 ax.plot(x, resum[:, c, n, m], ls="none", marker=_style.method_marker(
@@ -138,8 +144,8 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     names = ", ".join(view.labels[c] for c in chans)
     ax.set_title(f"levels against {view.scan_name} · channel{'s' if len(chans) > 1 else ''} "
                  f"{names}", loc="left")
-    handles = [proxy(lw=1.6, label="diagonaliser")]
-    handles += [proxy(lw=1.0, ls=_style.dash(o), label=f"RS partial sum to order "
+    handles = [*enc.handles, *enc.level_handles("diagonaliser", lw=1.6)]
+    handles += [proxy(lw=1.0, ls=order_dash(o, enc), label=f"RS partial sum to order "
                       f"{order_values[k]}") for o, k in enumerate(ords)]
     handles += [proxy(ls="none", marker=_style.method_marker(method_values[m], q), mfc="white",
                       mew=0.9, label=method_name(method_values[m])) for q, m in enumerate(meths)]

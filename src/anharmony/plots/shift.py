@@ -1,8 +1,9 @@
 """Anharmonic shifts against the scanned parameter, with the low-order perturbative shifts.
 
-The shift is ``energy − reference_energy`` (solid, with the scan points marked); the RS shift
-to order k is ``series_partial_sum[k] − series_coefficient[0]`` = Σ_{1≤i≤k} E_i (dashed; for
-a coupling scan Σ_{1≤i≤k} E_i λ^i).
+The shift is ``energy − reference_energy`` (with the scan points marked, in the channel's
+colour and line style: :mod:`anharmony.plots._encoding`); the RS shift to order k is
+``series_partial_sum[k] − series_coefficient[0]`` = Σ_{1≤i≤k} E_i (thin and patterned; for a
+coupling scan Σ_{1≤i≤k} E_i λ^i).
 With ``log=True`` the axes are log–log, |shift| against the parameter, the RS shift to first
 order only unless ``orders`` asks for more, and each curve gets a guide (a broad faint
 segment) of the local log–log slope of the lowest-order RS shift at its small-parameter end;
@@ -19,6 +20,7 @@ import numpy as np
 
 from . import _style
 from ._common import axis_label, direct_labels, finite_range, new_figure, padded, proxy
+from ._encoding import channel_encoding, order_dash
 from .flow import curves, perturbative
 
 if TYPE_CHECKING:  # annotations only
@@ -64,16 +66,19 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     ax = axes[0, 0]
     xs = np.where(x > 0, x, np.nan) if log else x
     ends, shown, guides = [], [], []
+    drawn = bound[:, :, levels] & np.isfinite(shift[:, :, levels])
+    enc = channel_encoding(view, chans, lw=1.5, marker="o", ms=2.6,
+                           visible=[drawn[:, c].any() for c in chans])
     for i, c in enumerate(chans):
-        col = _style.colour(i)
+        col, ls = enc.styles[i].colour, enc.styles[i].linestyle
         for n in levels:
             s = np.where(bound[:, c, n], shift[:, c, n], np.nan)
             ys = np.abs(s) if log else s
             if log:
                 ys = np.where(ys > 0, ys, np.nan)
             shown.append(ys[np.isfinite(xs)])
-            ax.plot(xs, ys, color=col, lw=1.5, marker="o", ms=2.6, gid=f"shift:{c}:{n}",
-                    zorder=3)
+            ax.plot(xs, ys, color=col, lw=1.5, ls=ls, marker="o", ms=2.6,
+                    gid=f"shift:{c}:{n}", zorder=3)
             pt_first = None
             for o, k in enumerate(ords):
                 pt = psum[:, c, n, o] - e0[:, c, n]
@@ -83,7 +88,7 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
                     yp = np.where(yp > 0, yp, np.nan)
                 if pt_first is None:
                     pt_first = yp
-                ax.plot(xs, yp, color=col, lw=1.0, ls=_style.dash(o), alpha=0.9,
+                ax.plot(xs, yp, color=col, lw=1.0, ls=order_dash(o, enc), alpha=0.9,
                         gid=f"pt_shift:{c}:{n}:{order_values[k]}", zorder=2)
             label = view.level_label(c, n)
             if log:
@@ -134,9 +139,9 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     names = ", ".join(view.labels[c] for c in chans)
     ax.set_title(f"shifts from the reference oscillator · channel"
                  f"{'s' if len(chans) > 1 else ''} {names}", loc="left")
-    handles = [proxy(lw=1.5, marker="o", ms=2.6, label="diagonaliser")]
-    handles += [proxy(lw=1.0, ls=_style.dash(o), label=f"RS shift to order {order_values[k]}")
-                for o, k in enumerate(ords)]
+    handles = [*enc.handles, *enc.level_handles("diagonaliser", lw=1.5, marker="o", ms=2.6)]
+    handles += [proxy(lw=1.0, ls=order_dash(o, enc), label=f"RS shift to order "
+                      f"{order_values[k]}") for o, k in enumerate(ords)]
     if guides:
         handles.append(proxy(lw=2.4, alpha=0.35, solid_capstyle="butt",
                              label="slope of the lowest-order RS shift"))

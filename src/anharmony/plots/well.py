@@ -4,7 +4,8 @@ Result files do not store potentials or wavefunctions, so the well is rebuilt fr
 kept in the file (global attribute ``case``) at the chosen scan value and solved again by the
 core (:func:`anharmony.scan.scan`) in the basis the run used (size ``basis_size``, length
 ``length``, the stored reference oscillator). For a ``coupling`` scan the well drawn is
-V_λ = V_ref + λ (V − V_ref), the levels those of H_ref + λ (H − H_ref).
+V_λ = V_ref + λ (V − V_ref), the levels those of H_ref + λ (H − H_ref); with term orders
+V_λ = (1 − λ) V_ref + Σ_k λ^k V_k, the path of the series (:func:`anharmony.scan.scan`).
 
 Level lines are the stored energies, drawn between the classical turning points; each density
 (|ψ|² in 1D, the radial density r^{d−1} R² for central wells) sits on its level, all on one

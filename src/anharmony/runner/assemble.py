@@ -119,7 +119,11 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         study_vars["cross_check_difference"] = (
             dims, out["energy"] - xe, {"units": case.units.energy,
                                        "long_name": "energy minus cross_check_energy"})
+    orders = next((p["out"]["term_orders"] for p in parts if p["out"].get("term_orders")), ())
+    if not orders and case.model.scan is not None and case.scan_target.kind == "coupling":
+        orders = case.well_at(None).orders  # the coupling path depends on them too
     return CaseResult(
+        extra=_term_order_variables(case, orders),
         scan_value=np.asarray(values, dtype=float),
         l=np.array([-1 if c.l is None else c.l for c in chans], dtype=np.int64),
         j=np.array([c.j for c in chans], dtype=float) if has_spin else None,
@@ -145,6 +149,25 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         notes=notes, warnings=(_study_warnings(case, out["study"]) if out["study"] else
                                _quick_warnings(case, out, err, converged)),
     )
+
+
+def _term_order_variables(case: Case, orders: Sequence[int]) -> dict[str, Any]:
+    """``series_term_order`` and ``series_term_kind`` over ``term`` (the series'
+    ``term_orders``, one per term of the well), when a series was made or the coupling was
+    scanned (whose path H_ref + Σ λ^k W_k they set)."""
+    if not orders:
+        return {}
+    kinds = [kind for kind, _ in case.well_at(None).specs][:len(orders)]
+    return {
+        "series_term_order": (("term",), np.asarray(orders, dtype=np.int16), {
+            "units": "1", "long_name": "perturbation order of each term of the well: the "
+            "power of lambda at which well[term] enters the perturbation W of the series "
+            "and of a coupling scan",
+            "comment": "W(lambda) = sum_k lambda**k W_k, W_1 = V_1 - V_ref, W_k = V_k (the "
+            "terms at order k); 1 for every term unless the case gives an order"}),
+        "series_term_kind": (("term",), np.asarray(kinds, dtype=str), {
+            "units": "1", "long_name": "kind of each term of the well, as in the case file"}),
+    }
 
 
 def _study_estimate(case: Case, out: dict[str, Any]) -> tuple[np.ndarray, np.ndarray]:

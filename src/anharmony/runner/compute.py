@@ -54,6 +54,7 @@ def empty(case: Case, s: int) -> dict[str, Any]:
     out.update(empty_like_series(s, c, n, orders, methods))
     out["notes"] = set()
     out["series_method"] = set()
+    out["term_orders"] = ()  # Series.term_orders, once a series is made
     out["cells"] = {}  # (k, c) → the study's variables of that cell
     out["study"] = {}  # (k, c) → the study's levels, errors and messages
     return out
@@ -361,6 +362,7 @@ def _series_block(case: Case, well: Well, ch: ChannelSpec, ref: Reference, mass:
                 out["series_optimal_error"][k, c, n] = float(best.error)
                 out["series_optimal_order"][k, c, n] = int(best.order)
         out["series_method"].add(str(ser.method))
+        out["term_orders"] = tuple(int(o) for o in ser.term_orders)
         for w in caught:
             out["notes"].add(f"series {ch.label} level {n}: {w.message}")
     return True

@@ -189,7 +189,10 @@ def describe(case: Case, *, reference: bool = True) -> Description:
               f"{m.levels.count} levels each"]
     if m.scan is not None:
         how = ("per point and channel, for the convergence study" if m.convergence.study
-               else "linear: matrices built once" if _linear(case)
+               else ("polynomial in lambda by the term orders: matrices built once"
+                     if case.scan_target.kind == "coupling"
+                     and any(o != 1 for o in case.well_at(None).orders)
+                     else "linear: matrices built once") if _linear(case)
                else "rebuilt per point")
         lines.append(f"  scan       {case.scan_parameter}: {len(values)} values "
                      f"{values[0]:g} … {values[-1]:g} ({how})")
