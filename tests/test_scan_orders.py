@@ -13,6 +13,7 @@ behaviour E(λ) − Σ_{n≤K} E_n λ^n = O(λ^{K+1}), Taylor's theorem, common 
 
 from __future__ import annotations
 
+import math
 import re
 import subprocess
 import sys
@@ -184,16 +185,32 @@ def test_small_lambda_behaviour_is_the_series_to_every_order():
 
 
 # --------------------------------------------------------------------------- refusals
-def test_an_inverse_square_term_with_orders_has_no_coupling_path():
-    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
-                               {"power": {"exponent": -2, "strength": 0.3}},
-                               {"power": {"exponent": 4, "strength": 0.1, "order": 2}}])
-    with pytest.raises(InputError, match="inverse-square term has no coupling path"):
-        scan(well, 3, 1, parameter="coupling", values=[0.5, 1.0], size=20)
-    # λ = 1 alone is the physical well
-    res = scan(well, 3, 1, parameter="coupling", values=[1.0], size=30, levels=2)
-    spec = ah.solve(well, 3, 1, size=30, levels=2)
-    np.testing.assert_allclose(res.energies[0], spec.energies, rtol=1e-12)
+@pytest.mark.parametrize("orders", [False, True])
+def test_an_inverse_square_term_stays_in_the_reference_on_the_coupling_path(orders):
+    # A radial channel absorbs g/r² into its basis (effective l), so the series puts it into
+    # H_ref; the coupling scan must follow the same path. At λ = 0 the levels are those of the
+    # oscillator with λ_eff(λ_eff + 1) = l(l + 1) + g/c (textbook: the 3D oscillator plus g/r²,
+    # e.g. Flügge, Practical Quantum Mechanics, problem 65, quoted from memory), and at small λ
+    # the scan follows the series' partial sums to O(λ^{K+1}).
+    g, hw = 0.3, 1.0
+    terms = [{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": -2, "strength": g}},
+             {"power": {"exponent": 4, "strength": 0.1, **({"order": 2} if orders else {})}}]
+    well = ah.Well.from_terms(terms)
+    ref = {"frequency": hw}
+    lams = np.array([0.0, 0.01, 0.02, 0.04])
+    res = scan(well, 3, 1, parameter="coupling", values=lams, size=40, levels=2, reference=ref)
+    lam_eff = -0.5 + math.sqrt(0.25 + 2 + g / 0.5)  # c = ħ²/2m = ½ in oscillator units
+    exact0 = hw * (2 * np.arange(2) + lam_eff + 1.5)  # v_min = 0 at r = 0 without g/r²
+    np.testing.assert_allclose(res.energies[0], exact0, rtol=1e-12)  # rounding of a 40-state eigh
+    c = ah.series(well, 3, 1, level=0, orders=6, reference=ref).coefficients
+    partial = np.polynomial.polynomial.polyval(lams, c[:4])
+    # remainder O(λ⁴): within 10× the next terms Σ_{k≥4} |c_k| λ^k at λ ≤ 0.04, plus rounding
+    tail = sum(abs(c[k]) * lams**k for k in range(4, 7))
+    assert abs(c[4]) > 0 and np.all(np.abs(res.energies[:, 0] - partial) <= 10 * tail + 1e-12)
+    # and every λ is a direct solve of the same well
+    for k in range(len(lams)):
+        direct = ah.solve(res.well_at(k), 3, 1, size=40, levels=2, reference=ref)
+        np.testing.assert_allclose(res.energies[k], direct.energies, rtol=1e-12)
 
 
 def test_parity_channels_need_each_order_symmetric():
@@ -309,18 +326,23 @@ def test_a_coupling_scan_without_a_series_stores_the_orders_of_its_path(tmp_path
     assert "sum_k lambda**k W_k" in ds.scan_value.attrs["long_name"]
 
 
-def test_a_case_with_orders_and_an_inverse_square_term_is_refused_at_its_line(tmp_path):
-    # our contract (DESIGN §4): refused before any work, at the field's line
-    from anharmony.cases import CaseError, load_case
+def test_a_case_with_orders_and_an_inverse_square_term_runs_on_the_series_path(tmp_path):
+    # the case runs through the core scan (the same numbers), g/r² kept in H_ref at every λ
+    from anharmony.runner import run_case
 
-    text = ("schema: 1\nspace: {dimension: 3}\nwell:\n  - harmonic: {frequency: 1.0}\n"
+    text = ("schema: 1\nspace: {dimension: 3, l: [1]}\nwell:\n  - harmonic: {frequency: 1.0}\n"
             "  - power: {exponent: -2, strength: 0.3}\n"
             "  - power: {exponent: 4, strength: 0.1, order: 2}\n"
-            "scan: {parameter: coupling, values: [0.5, 1.0]}\n")
+            "reference: {frequency: 1.0}\nbasis: {size: 30}\n"
+            "levels: {count: 2}\nscan: {parameter: coupling, values: [0.0, 0.5, 1.0]}\n"
+            "output: inv.nc\n")
     p = tmp_path / "coupled.yaml"
     p.write_text(text)
-    with pytest.raises(CaseError, match=r"coupled\.yaml:6:\d+: well\[2\].*order: is 2, but the "
-                       "coupling path"):
-        load_case(p)
-    p.write_text(text.replace("[0.5, 1.0]", "[1.0]"))  # λ = 1 alone is the physical well
-    assert load_case(p).well_at(None).orders == (1, 1, 2)
+    ds = run_case(p)
+    well = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                               {"power": {"exponent": -2, "strength": 0.3}},
+                               {"power": {"exponent": 4, "strength": 0.1, "order": 2}}])
+    res = scan(well, 3, 1, parameter="coupling", values=[0.0, 0.5, 1.0], size=30, levels=2,
+               reference={"frequency": 1.0})
+    np.testing.assert_allclose(ds.energy.values[:, 0], res.energies, rtol=RTOL_SAME,
+                               atol=ATOL_SAME)

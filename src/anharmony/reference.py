@@ -111,7 +111,13 @@ def reference_oscillator(well: Well, dimension: int = 3, l: int | None = 0,
             b = _positive("reference.length", spec["length"])
             hw = 2.0 * c / b**2
         x0 = 0.0 if radial else float(spec.get("center", well.minimum()[0]))
-        vmin = float(well.value(np.array([x0]))[0])
+        # a radial channel absorbs inverse-square terms into its basis (they belong to H_ref
+        # and would make V(0) infinite): v_min is the value of the rest at the centre
+        rest = well
+        if radial and any(t.inverse_square is not None for t in well.terms):
+            kept = [t for t in well.terms if t.inverse_square is None]
+            rest = Well.from_terms(kept, well.units, well.mass) if kept else None
+        vmin = 0.0 if rest is None else float(rest.value(np.array([x0]))[0])
         return Reference(hw, b, x0, vmin, "given", "reference oscillator given in the case")
     if spec != "auto":
         raise InputError(f"reference: expected 'auto' or a mapping; got {spec!r}")

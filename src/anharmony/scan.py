@@ -149,11 +149,6 @@ def _check_term_orders(well: Well, channel: Channel) -> None:
     path; refuse what that path cannot be (as :func:`anharmony.series.series` does)."""
     if not has_term_orders(well):
         return
-    if _inverse_square(well):
-        raise InputError("scan: coupling: a well with term orders and an inverse-square term "
-                         "has no coupling path here (the series takes the inverse-square term "
-                         "into the reference, at order 0); drop the orders, or scan a term "
-                         "parameter")
     if channel.dimension == 1 and channel.l is not None:
         for k, part in well.by_order().items():
             if not part.is_symmetric(0.0):
@@ -164,6 +159,9 @@ def _check_term_orders(well: Well, channel: Channel) -> None:
 
 def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> Well:
     """The well (1 − λ) V_ref + Σ_k λ^k V_k of the coupling path, as terms of the same kinds.
+
+    An inverse-square term of a radial channel stays whole at every λ: the channel absorbs it
+    into its basis, so it belongs to H_ref, as in :func:`anharmony.series.series`.
 
     V_k are the terms at perturbation order k (:attr:`~anharmony.terms.base.Term.order`,
     default 1): with every term at first order this is λ V + (1 − λ) V_ref, the well of
@@ -183,8 +181,13 @@ def coupled_well(well: Well, lam: float, reference: Reference, radial: bool) -> 
         return well
     units, mass = well.units, well.mass
     terms: list[Any] = []
+    for t in well.terms:
+        if radial and t.inverse_square is not None:
+            terms.append(t)  # absorbed into the basis: part of H_ref, as in the series
     if lam != 0.0:
         for t in well.terms:
+            if radial and t.inverse_square is not None:
+                continue
             f = lam ** t.order
             if t.kind in ("harmonic", "polynomial"):
                 poly = t.polynomial() or {}

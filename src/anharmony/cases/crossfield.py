@@ -183,7 +183,6 @@ def model_issues(model: CaseModel) -> tuple[Found, ScanTarget]:
         except ValueError as exc:
             out.append((("scan", "parameter"), str(exc)))
         else:
-            out += _coupling_order_issues(model, target)
             target, found = _linked(model, target)
             out += found
     return out, target
@@ -214,29 +213,6 @@ def _linked(model: CaseModel, target: ScanTarget) -> tuple[ScanTarget, Found]:
     if found or not linked:
         return target, found
     return dataclasses.replace(target, linear=False, linked=tuple(linked)), []
-
-
-def _coupling_order_issues(model: CaseModel, target: ScanTarget) -> Found:
-    """A coupling scan of a well with term orders follows the series' path H_ref + Σ λ^k W_k;
-    an inverse-square term (which the series takes into H_ref) has no place on it
-    (anharmony.scan refuses it as well)."""
-    if target.kind != "coupling" or model.scan is None:
-        return []
-    try:
-        if all(float(v) == 1.0 for v in model.scan.points()):
-            return []
-    except (TypeError, ValueError):  # the schema reports bad values
-        return []
-    orders = [(i, kind, (params or {}).get("order", 1))
-              for i, spec in enumerate(model.well) for kind, params in spec.items()]
-    inverse = [i for i, spec in enumerate(model.well) for kind, params in spec.items()
-               if kind == "power" and (params or {}).get("exponent") == -2]
-    if not inverse or all(order == 1 for *_, order in orders):
-        return []
-    i, kind, order = next(o for o in orders if o[2] != 1)
-    return [(("well", i, kind, "order"), f"is {order}, but the coupling path of a well with "
-             f"term orders takes no inverse-square term (well[{inverse[0]}]); drop the "
-             "orders for a coupling scan, or scan a term parameter")]
 
 
 MIN_J_CONSTANTS = 3  # distinct J the Dunham constants need (De = -Y02 needs J(J+1) thrice)
