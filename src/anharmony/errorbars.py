@@ -134,29 +134,23 @@ def _nested_rule(energies: np.ndarray, levels_of: Callable[[int, int], np.ndarra
     cap = ESTIMATE_RATIO_CAP
     with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
         d0 = np.maximum(e2 - e1 - 2.0 * rounding, 0.0)
-        r = np.where(d0 > 0.0, d1 / np.where(d0 > 0.0, d0, 1.0), cap)
-        r = np.where(np.isfinite(r), r, cap)
-        grown = (r >= 1.0) & (d1 > 0.0) & np.isfinite(d0)
-        if np.any(grown):  # differences growing: the mean ratio of two windows, if a third
-            third = 2 * sizes[1] - sizes[0]  # block N − 3q holds the level
-            e3 = _padded(levels_of, third, k)
+        r = d1 / d0  # 0/0, inf/inf: nan; x/0: inf — both taken as the cap below
+        grown = r >= 1.0  # differences growing (finite d₀ > 0, d₁ ≥ d₀)
+        if grown.any():  # the mean ratio of two windows, if a third block N − 3q holds it
+            e3 = _padded(levels_of, 2 * sizes[1] - sizes[0], k)
             dm = np.maximum(e3 - e2 - 2.0 * rounding, 0.0)
-            mean = np.sqrt(d1 / np.where(dm > 0.0, dm, np.inf))
-            r = np.where(grown & np.isfinite(dm) & (dm > d1), mean, r)
-        r = np.clip(r, 0.0, cap)
-        q = sizes[0] - sizes[1]
+            r = np.where(grown & (dm > d1) & (dm < np.inf), np.sqrt(d1 / dm), r)
+        r = np.where(r < cap, r, cap)  # nan → cap as well
         # the lower floor of long windows only for levels that moved by less than
         # ESTIMATE_SETTLED of the distance to a neighbouring level in the last window: a level
         # still entering the basis has a large d₀ for that reason, not by fast convergence
-        gap = np.full(k, np.inf)
+        q = sizes[0] - sizes[1]
+        floor = np.full(k, window_floor(q / 2 if split else q))
         if k > 1:
-            spacing = np.diff(energies)
-            gap[:-1] = spacing
-            gap[1:] = np.minimum(gap[1:], spacing)
-        settled = d1 < ESTIMATE_SETTLED * gap
-        floor = np.where(settled, window_floor(q / 2 if split else q), ESTIMATE_FLOOR)
-        remainder = d1 * np.maximum(r / (1.0 - r), floor)
-        err = ESTIMATE_SAFETY * remainder + rounding
+            near = ESTIMATE_SETTLED * np.diff(energies)
+            floor[:-1][d1[:-1] >= near] = ESTIMATE_FLOOR
+            floor[1:][d1[1:] >= near] = ESTIMATE_FLOOR
+        err = ESTIMATE_SAFETY * d1 * np.maximum(r / (1.0 - r), floor) + rounding
     err[~np.isfinite(e1)] = np.inf
     # two-window extrapolation needs the smaller block: with d₁ only, no sharpening
     only1 = np.isfinite(e1) & ~np.isfinite(e2)
