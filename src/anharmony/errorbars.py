@@ -70,9 +70,10 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue solve at N. The constants were chosen on measured
     ratios to the true error (benchmarks/RESULTS.md, tests/test_error_estimates.py, with
     hold-out wells): it bounds the error on smooth convergence and overestimates by
-    1–300× (most within 100×); it can fall under where a slow algebraic tail sets in below
-    a fast start (Woods–Saxon p₁/₂ at N = 40: the odd part of the well at r = 0, 2e-10 MeV)
-    or where a level is still entering the basis, and the phase-space count
+    1–300× (most within 100×); it can fall under where a slow algebraic tail lies below a
+    fast start (Woods–Saxon 1p₁/₂ at N = 40, error 1.9e-10 MeV: at the same length it falls
+    only as N^−2.4 up to N = 100, presumably from the well's part odd in r at r = 0) or
+    where a level is still entering the basis, and the phase-space count
     (:func:`bound_count_estimate`) and ``converge`` are the second checks there.
     """
     sizes = nested_sizes(h.shape[0], parity_pairs)
