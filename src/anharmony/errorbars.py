@@ -13,9 +13,9 @@ from .eigensolvers import BANDED_MAX_RATIO, band_eigenvalues, upper_band
 __all__ = ["band_error_estimate", "nested_error_estimate", "nested_sizes", "window_floor"]
 
 ESTIMATE_WINDOW = 0.25  # nested sub-blocks N − q, N − 2q with q = N/4 (cost ≈ 0.55 eigvalsh)
-ESTIMATE_SAFETY = 9.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
+ESTIMATE_SAFETY = 12.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
 ESTIMATE_RATIO_CAP = 0.9  # convergence ratio per window assumed at most this
-ESTIMATE_FLOOR = 1.0 / 15.0  # remainder never below this fraction of the last difference …
+ESTIMATE_FLOOR = 0.05  # remainder never below this fraction of the last difference …
 ESTIMATE_FLOOR_STATES = 8  # … for windows of at most this many states (of the level's parity
 ESTIMATE_FLOOR_POWER = 4.0  # block); above, the floor falls as (8/q)⁴ (RESULTS.md, 2026-12-04 c)
 ESTIMATE_SETTLED = 0.1  # … for levels whose last change d₁ is below this × the level spacing
@@ -70,7 +70,7 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue solve at N. The constants were chosen on measured
     ratios to the true error (benchmarks/RESULTS.md, tests/test_error_estimates.py, with
     hold-out wells): it bounds the error on smooth convergence and overestimates by
-    1–300× (most within 100×); it can fall under where a slow algebraic tail lies below a
+    1.6–300× (most within 100×); it can fall under where a slow algebraic tail lies below a
     fast start (Woods–Saxon 1p₁/₂ at N = 40, error 1.9e-10 MeV: at the same length it falls
     only as N^−2.4 up to N = 100, presumably from the well's part odd in r at r = 0) or
     where a level is still entering the basis, and the phase-space count
