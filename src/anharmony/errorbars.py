@@ -66,15 +66,17 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     holds it, and r is small for that reason (Morse levels at the threshold, N = 60).
     Where the differences grow (d₁ > d₀: no regular convergence yet) r is the mean ratio
     √(d₁/d₋₁) over two windows, from a third block N − 3q (solved only then; cost
-    (¼)³), or the cap without it. The sub-blocks need eigenvalues only: the cost is
-    ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue solve at N. The constants were chosen on measured
-    ratios to the true error (benchmarks/RESULTS.md, tests/test_error_estimates.py, with
-    hold-out wells): it bounds the error on smooth convergence and overestimates by
-    1.6–300× (most within 100×); it can fall under where a slow algebraic tail lies below a
-    fast start (Woods–Saxon 1p₁/₂ at N = 40, error 1.9e-10 MeV: at the same length it falls
-    only as N^−2.4 up to N = 100, presumably from the well's part odd in r at r = 0) or
-    where a level is still entering the basis, and the phase-space count
-    (:func:`bound_count_estimate`) and ``converge`` are the second checks there.
+    (¼)³) where it holds the level and d₋₁ > d₁, else the cap. The sub-blocks need
+    eigenvalues only: the cost is ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue solve at N. The
+    constants were chosen on measured ratios to the true error (benchmarks/RESULTS.md,
+    tests/test_error_estimates.py, with hold-out wells): it bounds the error on smooth
+    convergence and overestimates by 1.6–300× there (most within 100×; short windows whose
+    floor binds, such as the quartic at N ≤ 32, up to ~800×). It can fall under where a
+    slow algebraic tail lies below a fast start (Woods–Saxon 1p₁/₂ at N = 40, error
+    1.9e-10 MeV: at the same length it falls only as N^−2.4 up to N = 100, presumably from
+    the well's part odd in r at r = 0) or where a level is still entering the basis; the
+    phase-space count (:func:`bound_count_estimate`) and ``converge`` are the second checks
+    there.
     """
     sizes = nested_sizes(h.shape[0], parity_pairs)
     banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * sizes[0]
