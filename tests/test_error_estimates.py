@@ -13,6 +13,7 @@ import warnings
 
 import numpy as np
 import pytest
+from scipy.linalg import eigh
 
 import anharmony as ah
 from anharmony.errors import InputError
@@ -91,15 +92,91 @@ def cases():
     return out
 
 
-def ratio_rows():
+def _sinc_dvr_levels(v, c, half_width, points, count):
+    # Sinc discrete-variable representation on a uniform grid (D. T. Colbert & W. H. Miller,
+    # J. Chem. Phys. 96, 1982 (1992), eq. A7): spectral accuracy for smooth confining wells;
+    # numpy/scipy only. Checked: 801 vs 1201 points, box 7 vs 8, agree to 2e-12 here.
+    x = np.linspace(-half_width, half_width, points)
+    dx = x[1] - x[0]
+    d = np.subtract.outer(np.arange(points), np.arange(points))
+    with np.errstate(divide="ignore"):
+        t = np.where(d == 0, math.pi**2 / 3.0, 2.0 * (-1.0) ** d / np.where(d == 0, 1, d) ** 2)
+    h = c / dx**2 * t + np.diag(v(x))
+    return eigh(h, eigvals_only=True, subset_by_index=(0, count - 1))
+
+
+def _shoot(v, l, c, count, r_max, dimension=3):
+    # tests/refsolvers: level k by node counting (Prüfer angle), no energy guess (rtol 1e-12:
+    # within 5e-12 of rtol 3e-14, r_start 1e-8 on the Woods–Saxon p1/2 level)
+    return np.array([shooting_level(v, l, c, k, r_max=r_max, dimension=dimension)
+                     for k in range(count)])
+
+
+def holdout_cases():
+    """Wells that took no part in choosing the constants of the estimate (hold-out checks):
+    (name, well, solve kwargs, sizes, reference levels — a function of no argument)."""
+    out = []
+    x6 = W([{"power": {"exponent": 2, "strength": 0.5}},
+            {"power": {"exponent": 6, "strength": 0.1}}])
+    out.append(("x⁶ 1D", x6, {"dimension": 1, "l": None, "levels": 4}, (12, 16, 20, 28, 36),
+                lambda w=x6: _sinc_dvr_levels(w.value, 0.5, 7.0, 801, 4)))
+    cq = W([{"power": {"exponent": 2, "strength": 0.5}},
+            {"power": {"exponent": 3, "strength": 0.2}},
+            {"power": {"exponent": 4, "strength": 0.5}}])
+    out.append(("cubic + quartic 1D", cq, {"dimension": 1, "l": None, "levels": 4},
+                (12, 16, 20, 28, 36), lambda w=cq: _sinc_dvr_levels(w.value, 0.5, 7.0, 801, 4)))
+    dot = W([{"power": {"exponent": 2, "strength": 0.5}},
+             {"power": {"exponent": 4, "strength": 0.5}}])
+    # |m| = 0 only: a shooting reference costs ~1.5 s a level here (|m| = 1 measured alike:
+    # 5.7, 52, 4.6e3 at N = 10, 10, 14)
+    out.append(("2D quartic dot, |m| = 0", dot, {"dimension": 2, "l": 0, "levels": 3},
+                (10, 14, 20, 30), lambda w=dot: _shoot(w.value, 0, 0.5, 3, 4.0, 2)))
+    ws = W(WS, units="nuclear")
+    cn = ah.get_units("nuclear").hbar2_over_2m()
+    for l, j, lev in ((1, 0.5, 2), (3, 3.5, 1)):
+        def ref(l=l, j=j, lev=lev, w=ws):
+            ls = 0.5 * (j * (j + 1) - l * (l + 1) - 0.75)
+            return _shoot(lambda r: w.value(r) + ls * w.spin_orbit_value(r), l, cn, lev, 60.0)
+        out.append((f"Woods–Saxon l = {l}, j = {j}", ws,
+                    {"dimension": 3, "l": l, "j": j, "levels": lev, "units": "nuclear"},
+                    (12, 16, 20, 30, 40), ref))
+    # Pöschl–Teller just above the appearance of a level: s = 2.1 (n = 2 bound by 0.005) and
+    # s = 3.1 (n = 3), V₀ = ((2s + 1)² − 1)/8 (the exact levels of _poschl_teller_exact)
+    for s_, parity in ((2.1, 0), (3.1, 1)):
+        depth = ((2.0 * s_ + 1.0) ** 2 - 1.0) / 8.0
+        count = len(range(parity, math.ceil(s_), 2))
+        out.append((f"Pöschl–Teller s = {s_}, parity {parity}",
+                    W([{"poschl_teller": {"depth": depth, "range": 1.0}}]),
+                    {"dimension": 1, "l": parity, "levels": count}, (20, 30, 40, 60, 80),
+                    lambda d=depth, p=parity, c=count: _poschl_teller_exact(d, 1.0, p, c)))
+    out.append(("Morse D = 20, α = 0.5", W([{"morse": {"depth": 20.0, "width": 0.5}}]),
+                {"dimension": 1, "l": None, "levels": 10}, (20, 30, 40, 60, 80),
+                lambda: _morse_exact(20.0, 0.5, 0.5, 10)))
+    g = W([{"gaussian": {"depth": 4.0, "range": 1.5}}])
+    out.append(("Gaussian V₀ = 4, 3D l = 1", g, {"dimension": 3, "l": 1, "levels": 1},
+                (20, 30, 40, 60, 80), lambda w=g: _shoot(w.value, 1, 0.5, 1, 60.0)))
+    return out
+
+
+# the one hold-out row measured below its true error (0.1×): a slow algebraic tail under a
+# fast start, 1.9e-10 MeV (7e-12 relative; at the same length the error falls only as N^-2.4
+# from N = 40 to 100, presumably from the well's part odd in r at r = 0); the nested blocks
+# of N = 40 see only the fast start (see errorbars.nested_error_estimate)
+KNOWN_UNDER = {("Woods–Saxon l = 1, j = 0.5", 40, "1p1/2")}
+
+
+def ratio_rows(holdout=False):
     """(case, size, level, true error, estimate, ratio) where the true error is measurable."""
     rows = []
-    for name, well, kw, sizes, exact in cases():
+    for name, well, kw, sizes, exact in (holdout_cases() if holdout else cases()):
+        ref = None
         for n in sizes:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore", ah.ConvergenceWarning)  # judged here instead
                 s = ah.solve(well, size=n, **kw)
-            true = s.energies - exact(s)
+            if ref is None:  # the reference once per case (it depends on the count alone)
+                ref = np.asarray(exact() if holdout else exact(s))
+            true = s.energies - ref
             floor = max(ROUNDING_MARGIN * s.rounding, 10 * ATOL_SHOOT)
             for k in np.flatnonzero(s.bound & (np.abs(true) > floor)):
                 rows.append((name, n, s.labels[k], float(true[k]), float(s.error_estimate[k]),
@@ -110,6 +187,11 @@ def ratio_rows():
 @pytest.fixture(scope="module")
 def rows():
     return ratio_rows()
+
+
+@pytest.fixture(scope="module")
+def holdout_rows():
+    return ratio_rows(holdout=True)
 
 
 def test_the_estimate_is_pessimistic_by_at_most_about_100_in_most_checks(rows):
@@ -123,12 +205,82 @@ def test_the_estimate_bounds_the_true_error(rows):
     assert not low, f"estimates below the true error: {low}"
 
 
-@pytest.mark.xfail(strict=True, reason="measured: up to ~1e3× where convergence is fast and "
-                   "steady (Morse N = 80, quartic N ≤ 24); the floor on the Aitken sharpening that "
-                   "keeps the bound for levels still entering the basis costs this (RESULTS.md)")
+@pytest.mark.xfail(strict=True, reason="measured: up to 3e2× on the quartic at N ≤ 24 and "
+                   "Woods–Saxon d5/2 at N = 12 (windows of 1–3 states of a parity): there one "
+                   "window's ratio says little about the next (a level converges 1e-2 per window "
+                   "twice, then by 0.5: Woods–Saxon, x⁶ hold-outs), and the floor that keeps those "
+                   "bounded costs this (RESULTS.md, 2026-12-04 c)")
 def test_the_estimate_is_pessimistic_by_at_most_about_100(rows):
     high = [r for r in rows if r[5] > PESSIMISM_MAX]
     assert not high, f"estimates more than {PESSIMISM_MAX}× the true error: {high}"
+
+
+def test_the_estimate_is_sharp_where_windows_are_long(rows):
+    # the floor falls with the window: the levels of windows of ≥ 10 states (Morse N ≥ 40,
+    # Woods–Saxon, Gaussian and Pöschl–Teller at N ≥ 40) are all within [1, 100]
+    long = [r for r in rows if r[1] >= 40]
+    assert len(long) > 30
+    assert all(1.0 <= r[5] <= PESSIMISM_MAX for r in long), \
+        [r for r in long if not 1.0 <= r[5] <= PESSIMISM_MAX]
+
+
+@pytest.mark.slow  # ~8 s: the shooting references of the hold-out wells
+def test_the_estimate_bounds_the_true_error_on_holdout_wells(holdout_rows):
+    # wells that took no part in choosing the constants: x⁶, cubic + quartic, a 2D quartic
+    # dot, Woods–Saxon p1/2 and f7/2, Pöschl–Teller just above a level's appearance, another
+    # Morse well, a 3D Gaussian p level (references: Colbert & Miller sinc DVR, the shooting
+    # solver of tests/refsolvers.py, the exact Morse and Pöschl–Teller levels)
+    assert len(holdout_rows) > 80
+    low = [r for r in holdout_rows if r[5] < 1.0 and r[:3] not in KNOWN_UNDER]
+    assert not low, f"estimates below the true error: {low}"
+    ratios = np.array([r[5] for r in holdout_rows])
+    assert np.median(ratios) < 30 and np.mean(ratios <= PESSIMISM_MAX) > 0.9
+
+
+@pytest.mark.slow
+@pytest.mark.xfail(strict=True, reason="a slow algebraic tail (∝ N^-2.4 at fixed length) under "
+                   "a fast start: the blocks of N = 40 see only the start (0.1× measured)")
+def test_the_known_underestimate_is_gone(holdout_rows):
+    assert all(r[5] >= 1.0 for r in holdout_rows if r[:3] in KNOWN_UNDER)
+
+
+def test_band_storage_gives_the_same_estimate_and_sees_the_parity_blocks():
+    # band_error_estimate is the rule of nested_error_estimate on a matrix in band storage
+    # (its docstring; a scan's pencil and solve() give a level the same error bar). On the
+    # symmetric quartic line (no even–odd elements) both count q/2 states per window: at
+    # N = 64, q = 16, so the full floor of 8-state windows; a cubic term couples the parities
+    # and the floor falls (8/16)⁴ = 1/16 where it binds. Tolerance: the two solvers' rounding.
+    from anharmony.eigensolvers import matrix_rounding, upper_band
+    from anharmony.errorbars import band_error_estimate, nested_error_estimate
+    from anharmony.hamiltonian import Channel, channel_hamiltonian
+
+    quartic = [{"power": {"exponent": 2, "strength": 0.5}},
+               {"power": {"exponent": 4, "strength": 0.5}}]
+    out = []
+    for extra in ([], [{"power": {"exponent": 3, "strength": 0.2}}]):
+        m = channel_hamiltonian(W(quartic + extra), Channel(1, None), 64, 1.0)
+        h = m.total
+        e = eigh(h, eigvals_only=True)[:8]
+        rd = matrix_rounding(h)
+        dense = nested_error_estimate(h, e, None, rd, parity_pairs=True)
+        band = band_error_estimate(upper_band(h, m.bandwidth), e, rd, parity_pairs=True)
+        np.testing.assert_allclose(band, dense, rtol=1e-3, atol=1e3 * rd)
+        # the documented rule by hand: 12 d₁ max(r/(1 − r), f) + eps‖H‖₁, blocks 48 and 32
+        e1, e2 = (eigh(h[:n, :n], eigvals_only=True)[:8] for n in (48, 32))
+        d1, d0 = np.maximum(e1 - e - 2 * rd, 0), np.maximum(e2 - e1 - 2 * rd, 0)
+        r = d1 / d0
+        assert np.all(r < 0.9)  # the plain branch (no cap, no growing differences) here
+        spacing = np.diff(e)
+        settled = np.ones(8, bool)
+        settled[:-1] &= d1[:-1] < 0.1 * spacing
+        settled[1:] &= d1[1:] < 0.1 * spacing
+        f = np.where(settled, 0.05 if not extra else 0.05 / 16, 0.05)
+        # tolerance: eigenvalues from different LAPACK drivers differ by a few eps‖H‖₁, and
+        # the rule multiplies a difference by up to 12 × 9
+        np.testing.assert_allclose(dense, 12 * d1 * np.maximum(r / (1 - r), f) + rd,
+                                   rtol=1e-3, atol=1e3 * rd)
+        out.append(f)
+    assert np.all(out[0] == 0.05) and np.any(out[1] < 0.05)  # the parity count mattered
 
 
 def test_harmonic_levels_are_exact_and_converged():
@@ -152,9 +304,10 @@ def test_morse_levels_beyond_the_basis_are_caught():
     exact = _morse_exact(38000.0, 2.1, morse.units.hbar2_over_2m(0.96), 25)
     wrong = s.bound & (np.abs(s.energies - exact) > 1e-6 * 38000.0)
     assert wrong.any() and not (wrong & s.converged).any()
-    # each error bar is of the size of the error or larger; levels right at the threshold that
-    # are still entering the basis were measured up to 1.4× under (RESULTS.md): factor 0.5
-    assert np.all(s.error_estimate[wrong] >= 0.5 * np.abs(s.energies - exact)[wrong])
+    # each error bar is the error or larger: the levels right at the threshold that are still
+    # entering the basis (v = 16–19) keep the full floor (measured 1.24–2.81×; 0.74× before
+    # the floor was tied to settled levels, RESULTS.md 2026-12-04 c)
+    assert np.all(s.error_estimate[wrong] >= np.abs(s.energies - exact)[wrong])
 
 
 def test_missing_bound_levels_are_reported():
@@ -218,7 +371,10 @@ def test_tolerance_is_validated_and_scales_the_flags():
 
 
 if __name__ == "__main__":
+    import sys
+
+    hold = "--holdout" in sys.argv  # the hold-out wells instead of the table's
     print("| well | N | level | true error | estimate | estimate / true |")
     print("|---|---|---|---|---|---|")
-    for name, n, lab, t, e, r in ratio_rows():
+    for name, n, lab, t, e, r in ratio_rows(holdout=hold):
         print(f"| {name} | {n} | {lab} | {t:.2e} | {e:.2e} | {r:.3g} |")

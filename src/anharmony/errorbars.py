@@ -10,12 +10,15 @@ from scipy.linalg import eigh
 
 from .eigensolvers import BANDED_MAX_RATIO, band_eigenvalues, upper_band
 
-__all__ = ["band_error_estimate", "nested_error_estimate", "nested_sizes"]
+__all__ = ["band_error_estimate", "nested_error_estimate", "nested_sizes", "window_floor"]
 
 ESTIMATE_WINDOW = 0.25  # nested sub-blocks N − q, N − 2q with q = N/4 (cost ≈ 0.55 eigvalsh)
 ESTIMATE_SAFETY = 12.0  # factor on the extrapolated remainder (measured: see RESULTS.md)
 ESTIMATE_RATIO_CAP = 0.9  # convergence ratio per window assumed at most this
-ESTIMATE_FLOOR = 0.03  # remainder never taken below this fraction of the last difference
+ESTIMATE_FLOOR = 0.05  # remainder never below this fraction of the last difference …
+ESTIMATE_FLOOR_STATES = 8  # … for windows of at most this many states (of the level's parity
+ESTIMATE_FLOOR_POWER = 4.0  # block); above, the floor falls as (8/q)⁴ (RESULTS.md, 2026-12-04 c)
+ESTIMATE_SETTLED = 0.1  # … for levels whose last change d₁ is below this × the level spacing
 DENSE_ALL_ROWS = 12  # dense, eigenvalues only: all of them (syev) beat a selection (syevr)
 # below about 12 rows per wanted level (measured on Woods–Saxon and Morse blocks, m = 30…300:
 # benchmarks/RESULTS.md, 2026-12-04)
@@ -52,13 +55,28 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
     Hylleraas–Undheim–MacDonald theorem). For convergence by a ratio r = d₁/d₀ per window the
     remainder is d₁ r/(1 − r) (Aitken's Δ² extrapolation; A. C. Aitken, Proc. R. Soc. Edinb.
     46, 289 (1926)); the estimate is that remainder times ``ESTIMATE_SAFETY``, with r capped
-    at ``ESTIMATE_RATIO_CAP`` and the remainder never below ``ESTIMATE_FLOOR`` · d₁. The
-    sub-blocks need eigenvalues only: the cost is ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue
-    solve at N. The constants were chosen on measured ratios to the true error
-    (benchmarks/RESULTS.md): it bounds the error on smooth regular convergence and
-    overestimates by 1–100×; where a level is still entering the basis (the first drop
-    is much steeper than the next) it can underestimate, and the phase-space count
-    (:func:`bound_count_estimate`) is the second check there.
+    at ``ESTIMATE_RATIO_CAP``. The remainder is never taken below ``ESTIMATE_FLOOR`` · d₁
+    while a window holds at most ``ESTIMATE_FLOOR_STATES`` states of the level's parity
+    block (q, or q/2 on a line whose matrix has no even–odd elements): over so few states
+    the ratio of one window says little about the next (measured: a level can converge by
+    1e-2 per window twice and then by 0.5). Over longer windows the ratio is steadier and the
+    floor falls as (8/q)⁴, so fast convergence (Morse at N = 80: r ≈ 1e-3) is sharpened —
+    for settled levels only (d₁ below ``ESTIMATE_SETTLED`` of the distance to a neighbouring
+    level): a level still entering the basis has a large d₀ because the N − 2q block barely
+    holds it, and r is small for that reason (Morse levels at the threshold, N = 60).
+    Where the differences grow (d₁ > d₀: no regular convergence yet) r is the mean ratio
+    √(d₁/d₋₁) over two windows, from a third block N − 3q (solved only then; cost
+    (¼)³) where it holds the level and d₋₁ > d₁, else the cap. The sub-blocks need
+    eigenvalues only: the cost is ~(¾)³ + (½)³ ≈ 0.55 of an eigenvalue solve at N. The
+    constants were chosen on measured ratios to the true error (benchmarks/RESULTS.md,
+    tests/test_error_estimates.py, with hold-out wells): it bounds the error on smooth
+    convergence and overestimates by 1.6–300× there (most within 100×; short windows whose
+    floor binds, such as the quartic at N ≤ 32, up to ~800×). It can fall under where a
+    slow algebraic tail lies below a fast start (Woods–Saxon 1p₁/₂ at N = 40, error
+    1.9e-10 MeV: at the same length it falls only as N^−2.4 up to N = 100, presumably from
+    the well's part odd in r at r = 0) or where a level is still entering the basis; the
+    phase-space count (:func:`bound_count_estimate`) and ``converge`` are the second checks
+    there.
     """
     sizes = nested_sizes(h.shape[0], parity_pairs)
     banded = bandwidth is not None and bandwidth <= BANDED_MAX_RATIO * sizes[0]
@@ -74,7 +92,8 @@ def nested_error_estimate(h: np.ndarray, energies: np.ndarray,
         return eigh(block, eigvals_only=True, subset_by_index=(0, top - 1), driver="evr",
                     overwrite_a=True, check_finite=False)
 
-    return _nested_rule(energies, levels_of, sizes, rounding)
+    split = parity_pairs and not np.any(np.abs(h[0::2, 1::2]) > rounding)
+    return _nested_rule(energies, levels_of, sizes, rounding, split)
 
 
 def nested_sizes(n: int, parity_pairs: bool = False) -> tuple[int, int]:
@@ -95,10 +114,17 @@ def _padded(levels_of: Callable[[int, int], np.ndarray], m: int, k: int) -> np.n
     return out
 
 
+def window_floor(states: float) -> float:
+    """The floor of the remainder, as a fraction of d₁, for windows of ``states`` states of
+    the level's parity block (:func:`nested_error_estimate`)."""
+    return ESTIMATE_FLOOR * min(1.0, (ESTIMATE_FLOOR_STATES / states) ** ESTIMATE_FLOOR_POWER)
+
+
 def _nested_rule(energies: np.ndarray, levels_of: Callable[[int, int], np.ndarray],
-                 sizes: tuple[int, int], rounding: float) -> np.ndarray:
+                 sizes: tuple[int, int], rounding: float, split: bool = False) -> np.ndarray:
     """The estimate of :func:`nested_error_estimate` from E(N) and the sub-blocks' levels
-    (``levels_of(m, top)``: the lowest ``top`` eigenvalues of the leading m-block)."""
+    (``levels_of(m, top)``: the lowest ``top`` eigenvalues of the leading m-block); ``split``:
+    even and odd states do not couple (a window holds q/2 states of each parity)."""
     k = len(energies)
     e1 = _padded(levels_of, sizes[0], k)
     with np.errstate(invalid="ignore", over="ignore"):
@@ -108,17 +134,30 @@ def _nested_rule(energies: np.ndarray, levels_of: Callable[[int, int], np.ndarra
         # remainder d₁·(…) is 0 whatever the second block holds, so it is not solved
         return np.full(k, rounding)
     e2 = _padded(levels_of, sizes[1], k)
-    with np.errstate(invalid="ignore", over="ignore"):
+    cap = ESTIMATE_RATIO_CAP
+    with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
         d0 = np.maximum(e2 - e1 - 2.0 * rounding, 0.0)
-        r = np.where(d0 > 0.0, d1 / np.where(d0 > 0.0, d0, 1.0), ESTIMATE_RATIO_CAP)
-        r = np.clip(np.where(np.isfinite(r), r, ESTIMATE_RATIO_CAP), 0.0, ESTIMATE_RATIO_CAP)
-        remainder = d1 * np.maximum(r / (1.0 - r), ESTIMATE_FLOOR)
-        err = ESTIMATE_SAFETY * remainder + rounding
+        r = d1 / d0  # 0/0, inf/inf: nan; x/0: inf — both taken as the cap below
+        grown = r >= 1.0  # differences growing (finite d₀ > 0, d₁ ≥ d₀)
+        if grown.any():  # the mean ratio of two windows, if a third block N − 3q holds it
+            e3 = _padded(levels_of, 2 * sizes[1] - sizes[0], k)
+            dm = np.maximum(e3 - e2 - 2.0 * rounding, 0.0)
+            r = np.where(grown & (dm > d1) & (dm < np.inf), np.sqrt(d1 / dm), r)
+        r = np.where(r < cap, r, cap)  # nan → cap as well
+        # the lower floor of long windows only for levels that moved by less than
+        # ESTIMATE_SETTLED of the distance to a neighbouring level in the last window: a level
+        # still entering the basis has a large d₀ for that reason, not by fast convergence
+        q = sizes[0] - sizes[1]
+        floor = np.full(k, window_floor(q / 2 if split else q))
+        if k > 1:
+            near = ESTIMATE_SETTLED * np.diff(energies)
+            floor[:-1][d1[:-1] >= near] = ESTIMATE_FLOOR
+            floor[1:][d1[1:] >= near] = ESTIMATE_FLOOR
+        err = ESTIMATE_SAFETY * d1 * np.maximum(r / (1.0 - r), floor) + rounding
     err[~np.isfinite(e1)] = np.inf
     # two-window extrapolation needs the smaller block: with d₁ only, no sharpening
     only1 = np.isfinite(e1) & ~np.isfinite(e2)
-    err[only1] = ESTIMATE_SAFETY * ESTIMATE_RATIO_CAP / (1 - ESTIMATE_RATIO_CAP) * d1[only1] \
-        + rounding
+    err[only1] = ESTIMATE_SAFETY * cap / (1 - cap) * d1[only1] + rounding
     return err
 
 
@@ -126,5 +165,8 @@ def band_error_estimate(band: np.ndarray, energies: np.ndarray, rounding: float 
                         parity_pairs: bool = False) -> np.ndarray:
     """:func:`nested_error_estimate` of a matrix given in LAPACK upper band storage (the same
     rule, for a scan's pencil A + s B kept banded)."""
+    u = band.shape[0] - 1
+    split = parity_pairs and not any(np.any(np.abs(band[u - d, d:]) > rounding)
+                                     for d in range(1, u + 1, 2))
     return _nested_rule(energies, lambda m, top: band_eigenvalues(band, m, top),
-                        nested_sizes(band.shape[1], parity_pairs), rounding)
+                        nested_sizes(band.shape[1], parity_pairs), rounding, split)
