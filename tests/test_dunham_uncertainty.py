@@ -85,11 +85,11 @@ def levels():
     return ah.rovibrational(morse, J=tuple(range(9)), levels=6, mass=MU, size=120)
 
 
-def constants(rv, js, nv=6):
+def constants(rv, js):
+    """The constants of the J in ``js`` alone, as spectroscopic_constants would fit them."""
     rows = [list(rv.J).index(j) for j in js]
-    vv, jj = np.meshgrid(rv.v[:nv], np.array(js))
-    e = rv.term_values("bottom")[np.ix_(rows, range(nv))]
-    return dunham_fit(vv, jj, e, unit=rv.unit).constants()
+    return constants_of(type(rv)(rv.J[rows], rv.v, rv.energies[rows], rv.bound[rows],
+                                 rv.bottom, rv.unit, tuple(rv.spectra[i] for i in rows)))
 
 
 def test_the_reference_agrees_with_morse_and_pekeris(truth):
@@ -130,9 +130,10 @@ def test_the_docs_example_covers_the_reviewers_independent_de():
                                units="molecular", mass=MU)
     de = ah.spectroscopic_constants(morse, mass=MU, levels=6, J=(0, 1, 2, 3), size=120)["De"]
     assert abs(de.value - 0.0028445725) <= math.hypot(de.uncertainty, 1.5e-9)
-    # both parts are kept, and here the truncation error is most of it
-    assert de.uncertainty == pytest.approx(math.hypot(de.statistical, de.truncation))
-    assert de.truncation > de.statistical
+    # the three parts are kept, and here the truncation error is most of it
+    parts = (de.statistical, de.truncation, de.level_error)
+    assert de.uncertainty == pytest.approx(math.sqrt(sum(x**2 for x in parts)), rel=1e-12)
+    assert de.truncation > de.statistical and de.truncation > de.level_error > 0
 
 
 def test_a_truncation_error_that_cannot_be_assessed_is_flagged(levels):
@@ -141,9 +142,30 @@ def test_a_truncation_error_that_cannot_be_assessed_is_flagged(levels):
     rv = levels
     rows = [list(rv.J).index(j) for j in (0, 1, 2)]
     short = type(rv)(rv.J[rows], rv.v[:4], rv.energies[np.ix_(rows, range(4))],
-                     rv.bound[np.ix_(rows, range(4))], rv.bottom, rv.unit, rv.spectra)
+                     rv.bound[np.ix_(rows, range(4))], rv.bottom, rv.unit,
+                     tuple(rv.spectra[i] for i in rows))
     with pytest.warns(ConvergenceWarning, match="weye"):
         c = constants_of(short)
     assert math.isfinite(c["weye"].value) and math.isnan(c["weye"].uncertainty)
     assert "give one more v" in c["weye"].note
     assert all(math.isfinite(c[n].uncertainty) for n in ("we", "wexe", "Be", "alpha_e", "De"))
+
+
+def test_level_errors_bound_the_change_of_every_coefficient():
+    # The contract of dunham_fit(level_errors=δE): a least-squares fit is linear in the
+    # energies, so shifting every level by ±δE, signs chosen against a coefficient, moves it
+    # by at most its level_error (common practice, no source: |Σ g_i s_i δ_i| ≤ Σ |g_i| δ_i).
+    # Pekeris's closed form (1934) as data: an exact polynomial, so the order stays fixed.
+    vv, jj = np.meshgrid(np.arange(6), np.arange(5))
+    x = jj * (jj + 1.0)
+    e = (WE * (vv + 0.5) - WEXE * (vv + 0.5) ** 2 + PEKERIS_BE * x - PEKERIS_DE * x**2
+         - PEKERIS_AE * (vv + 0.5) * x)
+    delta = 1e-6 * (1.0 + vv)  # invented bounds, growing with v as a basis' do
+    base = dunham_fit(vv, jj, e, level_errors=delta)
+    rng = np.random.default_rng(3)
+    for _ in range(20):
+        shifted = dunham_fit(vv, jj, e + delta * rng.choice([-1.0, 1.0], size=e.shape))
+        assert sorted(shifted.coefficients) == sorted(base.coefficients)
+        for kl, c in base.coefficients.items():
+            assert abs(shifted.coefficients[kl].value - c.value) <= c.level_error * (1 + 1e-6)
+    assert all(c.level_error > 0 for c in base.coefficients.values())

@@ -21,11 +21,13 @@ already at rounding level (the data are fitted exactly).
 
 Uncertainty rule (stated once)
 ------------------------------
-Each coefficient's ``uncertainty`` is its statistical standard error (from σ, or from the
-residual scatter) and its *truncation* error — the error of stopping the Dunham series —
-added in quadrature; both are kept (``statistical``, ``truncation``). Near-exact computed
-levels leave almost no scatter, so the truncation error is most of it. It has two parts,
-added in quadrature:
+Each coefficient's ``uncertainty`` is three errors added in quadrature, each kept
+(``statistical``, ``truncation``, ``level_error``): the statistical standard error (from σ,
+or from the residual scatter); the *truncation* error of stopping the Dunham series; and,
+where the levels' own error bounds δE are given (``level_errors``; :func:`constants_of`
+gives the basis' error estimates), their bound Σ_i |∂Y/∂E_i| δE_i. Near-exact computed levels
+leave almost no scatter, so the truncation error is most of it. It has two parts, added in
+quadrature:
 
 - in v: the change of each coefficient when the highest v is left out of the data and the
   order rule is applied again (the series in v + ½ converges slowly, so the change bounds
@@ -33,9 +35,9 @@ added in quadrature:
 - in J: the change when the order in l is raised by one — the terms (k, L + 1) beside each
   fitted (k, L), L the highest l — where the data determine them; where they do not (as many
   l as distinct J), the bias those terms would cause, each of assumed size
-  ``TRUNCATION_SAFETY`` × ρ |Y_kL|, ρ = |Y02/Y01| (else 4 (Y01/Y10)², the Kratzer ratio
-  De/Be = 4Be²/ωe²): successive orders in J(J+1) shrink by about that ratio (Dunham 1932:
-  Y_kl ∝ (Be/ωe)^l at fixed k).
+  ``TRUNCATION_SAFETY`` × ρ_k |Y_kL|, ρ_k the larger of ρ = |Y02/Y01| (else 4 (Y01/Y10)²,
+  the Kratzer ratio De/Be = 4Be²/ωe²) and the column's own |Y_kL/Y_k,L−1|: successive
+  orders in J(J+1) shrink by about that ratio (Dunham 1932: Y_kl ∝ (Be/ωe)^l at fixed k).
 
 A coefficient whose truncation error cannot be assessed (one v, one J other than 0, or left
 undetermined when the highest v is dropped) gets NaN uncertainty and a note that says so.
@@ -74,8 +76,9 @@ _MAX_ORDER = 12  # highest Dunham order m = k + 2l tried
 class Constant:
     """A fitted constant: ``value`` ± ``uncertainty`` (one standard error), in ``unit``.
 
-    ``uncertainty`` is ``statistical`` and ``truncation`` (the Dunham model's own error; the
-    uncertainty rule of the module notes) added in quadrature. ``value`` and ``uncertainty``
+    ``uncertainty`` is ``statistical``, ``truncation`` (the Dunham model's own error; the
+    uncertainty rule of the module notes) and ``level_error`` (the levels' own error bounds,
+    propagated) added in quadrature. ``value`` and ``uncertainty``
     are NaN when the data cannot determine the constant, ``uncertainty`` alone when its
     truncation error cannot be assessed; then ``note`` says what is missing.
     """
@@ -86,6 +89,7 @@ class Constant:
     note: str = ""
     statistical: float = math.nan
     truncation: float = math.nan
+    level_error: float = 0.0
 
     def __float__(self) -> float:
         return self.value
@@ -241,7 +245,7 @@ class DunhamFit:
             else:
                 note = f"{'' if sign > 0 else '−'}Y{k}{l}" + c.note[len(f"Y{k}{l}"):]
                 out[name] = Constant(sign * c.value, c.uncertainty, self.unit, note,
-                                     c.statistical, c.truncation)
+                                     c.statistical, c.truncation, c.level_error)
         return out
 
 
@@ -265,7 +269,7 @@ def _lsq(x: np.ndarray, y: np.ndarray, w: np.ndarray):
 
 
 def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
-               unit: str = "") -> DunhamFit:
+               unit: str = "", level_errors=None) -> DunhamFit:
     """Fit E(v, J) = Σ Y_kl (v + ½)^k [J(J+1)]^l (order and uncertainty rules in the module
     notes).
 
@@ -282,14 +286,23 @@ def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
         Level of the partial F-test that admits a higher order.
     unit
         Energy unit, carried into the constants.
+    level_errors
+        Error bounds of the energies themselves (e.g. a basis' error estimates), shaped like
+        them: propagated as Σ_i |∂Y_kl/∂E_i| δE_i (no cancellation assumed: such errors are
+        systematic) into each coefficient's ``level_error``.
 
     Returns
     -------
     DunhamFit
-        Each coefficient's uncertainty holds its statistical and its truncation error.
+        Each coefficient's uncertainty holds its statistical, truncation and level errors.
     """
     v, J, e = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (v, J, energies)))
     keep = np.isfinite(e)
+    delta = None
+    if level_errors is not None:
+        delta = np.broadcast_to(np.asarray(level_errors, dtype=float), keep.shape)[keep].ravel()
+        if np.any(delta < 0):
+            raise InputError("level_errors: error bounds must be >= 0")
     v, J, e = v[keep].ravel(), J[keep].ravel(), e[keep].ravel()
     if sigma is None:
         w = np.ones_like(e)
@@ -310,6 +323,7 @@ def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
     trunc_j, why_j = _truncation_in_j(v, jj, w, terms, coef, e)
     trunc = np.hypot(trunc_v, trunc_j)
     history.append(f"truncation: {why_v}; {why_j}")
+    lev = np.zeros(len(terms)) if delta is None else _propagated(v, jj, w, terms, delta)
     resid = e - _columns(v, jj, terms) @ coef
     coefficients = {}
     for i, kl in enumerate(terms):
@@ -317,8 +331,11 @@ def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
         if not math.isfinite(trunc[i]):
             why = lost_v if math.isnan(trunc_v[i]) else why_j
             note += f"; truncation error not assessed ({why})"
-        coefficients[kl] = Constant(float(coef[i]), float(math.hypot(stat[i], trunc[i])), unit,
-                                    note, float(stat[i]), float(trunc[i]))
+        if not math.isfinite(lev[i]):
+            note += "; the levels' error bounds are not all finite"
+        total = math.sqrt(stat[i] ** 2 + trunc[i] ** 2 + lev[i] ** 2)
+        coefficients[kl] = Constant(float(coef[i]), total, unit, note, float(stat[i]),
+                                    float(trunc[i]), float(lev[i]))
     return DunhamFit(coefficients, resid, rss, dof, tuple(history), unit)
 
 
@@ -368,6 +385,16 @@ def _search(v: np.ndarray, jj: np.ndarray, e: np.ndarray, w: np.ndarray,
     return terms, fit, history
 
 
+def _propagated(v, jj, w, terms, delta) -> np.ndarray:
+    """Σ_i |∂Y/∂E_i| δE_i: the level errors' bound on each coefficient (rows of the
+    weighted pseudo-inverse, columns scaled as in :func:`_lsq`)."""
+    xs = _columns(v, jj, terms) * w[:, None]
+    scale = np.max(np.abs(xs), axis=0)
+    scale[scale == 0] = 1.0
+    gain = np.linalg.pinv(xs / scale) / scale[:, None] * w[None, :]
+    return np.abs(gain) @ delta
+
+
 def _truncation_in_v(v, jj, e, w, significance, terms, coef) -> tuple[np.ndarray, str, str]:
     """|change| of each coefficient when the highest v is left out (NaN: not assessed), how
     it was found, and why a NaN."""
@@ -411,13 +438,16 @@ def _truncation_in_j(v, jj, w, terms, coef, e) -> tuple[np.ndarray, str]:
         return np.full(len(terms), math.nan), "in J: no ratio of J orders (needs Y01 and Y10)"
     bias = np.zeros(len(terms))
     for k, (kn, ln) in zip(ks, nxt, strict=True):
-        size = TRUNCATION_SAFETY * rho * abs(c[(k, top)])
+        ratio = rho  # this column's own ratio of its last two J orders, where larger
+        if c.get((k, top - 1), 0.0) != 0.0:
+            ratio = max(rho, abs(c[(k, top)] / c[(k, top - 1)]))
+        size = TRUNCATION_SAFETY * ratio * abs(c[(k, top)])
         response = _lsq(x, _columns(v, jj, [(kn, ln)])[:, 0], w)
         if response is None:
             return np.full(len(terms), math.nan), "in J: not determined"
         bias += (size * response[0]) ** 2
     return np.sqrt(bias), (f"in J: bias of l = {top + 1} terms of size "
-                           f"{TRUNCATION_SAFETY:g}ρ|Y_k{top}|, ρ = {rho:.3g}")
+                           f"{TRUNCATION_SAFETY:g}ρ_k|Y_k{top}|, ρ_k >= {rho:.3g}")
 
 
 def spectroscopic_constants(well, units: str | UnitSystem = "molecular",
@@ -442,7 +472,8 @@ def constants_of(rv: Rovibrational) -> dict[str, Constant]:
     """The named constants of already computed levels (a Dunham fit with equal weights of the
     term values from the well bottom), as :func:`spectroscopic_constants` returns them."""
     vv, jj = np.meshgrid(rv.v, rv.J)
-    fit = dunham_fit(vv, jj, rv.term_values("bottom"), unit=rv.unit)
+    bounds = np.array([s.error_estimate[:rv.v.size] for s in rv.spectra])
+    fit = dunham_fit(vv, jj, rv.term_values("bottom"), unit=rv.unit, level_errors=bounds)
     out = fit.constants()
     blind = [f"{n} ({c.note.split('; ', 1)[1]})" for n, c in out.items()
              if math.isfinite(c.value) and not math.isfinite(c.uncertainty)]
