@@ -18,6 +18,29 @@ relative to ωe, Dunham 1932), each group kept only when a partial F-test reject
 improvement" at the ``significance`` level (default 1 %) and at least one degree of freedom is
 left; the first group that fails ends the search. The search also ends when the residuals are
 already at rounding level (the data are fitted exactly).
+
+Uncertainty rule (stated once)
+------------------------------
+Each coefficient's ``uncertainty`` is three errors added in quadrature, each kept
+(``statistical``, ``truncation``, ``level_error``): the statistical standard error (from σ,
+or from the residual scatter); the *truncation* error of stopping the Dunham series; and,
+where the levels' own error bounds δE are given (``level_errors``; :func:`constants_of`
+gives the basis' error estimates), their bound Σ_i |∂Y/∂E_i| δE_i. Near-exact computed levels
+leave almost no scatter, so the truncation error is most of it. It has two parts, added in
+quadrature:
+
+- in v: the change of each coefficient when the highest v is left out of the data and the
+  order rule is applied again (the series in v + ½ converges slowly, so the change bounds
+  the error of the larger set);
+- in J: the change when the order in l is raised by one — the terms (k, L + 1) beside each
+  fitted (k, L), L the highest l — where the data determine them; where they do not (as many
+  l as distinct J), the bias those terms would cause, each of assumed size
+  ``TRUNCATION_SAFETY`` × ρ_k |Y_kL|, ρ_k the larger of ρ = |Y02/Y01| (else 4 (Y01/Y10)²,
+  the Kratzer ratio De/Be = 4Be²/ωe²) and the column's own |Y_kL/Y_k,L−1|: successive
+  orders in J(J+1) shrink by about that ratio (Dunham 1932: Y_kl ∝ (Be/ωe)^l at fixed k).
+
+A coefficient whose truncation error cannot be assessed (one v, one J other than 0, or left
+undetermined when the highest v is dropped) gets NaN uncertainty and a note that says so.
 """
 
 from __future__ import annotations
@@ -45,6 +68,7 @@ NAMED: dict[str, tuple[tuple[int, int], float]] = {  # name: ((k, l), sign) with
     "De": ((0, 2), -1.0),
 }
 ROUNDING_ULPS = 64.0  # residuals below this many ulp of max |E| count as an exact fit
+TRUNCATION_SAFETY = 3.0  # assumed size of an undetermined next J order, in units of ρ|Y_kL|
 _MAX_ORDER = 12  # highest Dunham order m = k + 2l tried
 
 
@@ -52,14 +76,20 @@ _MAX_ORDER = 12  # highest Dunham order m = k + 2l tried
 class Constant:
     """A fitted constant: ``value`` ± ``uncertainty`` (one standard error), in ``unit``.
 
-    ``value`` and ``uncertainty`` are NaN when the data cannot determine the constant; then
-    ``note`` says what is missing.
+    ``uncertainty`` is ``statistical``, ``truncation`` (the Dunham model's own error; the
+    uncertainty rule of the module notes) and ``level_error`` (the levels' own error bounds,
+    propagated) added in quadrature. ``value`` and ``uncertainty``
+    are NaN when the data cannot determine the constant, ``uncertainty`` alone when its
+    truncation error cannot be assessed; then ``note`` says what is missing.
     """
 
     value: float
     uncertainty: float
     unit: str = ""
     note: str = ""
+    statistical: float = math.nan
+    truncation: float = math.nan
+    level_error: float = 0.0
 
     def __float__(self) -> float:
         return self.value
@@ -213,8 +243,9 @@ class DunhamFit:
                                      f"not determined: Y{k}{l} needs {k + 1} distinct v and "
                                      f"{l + 1} distinct J")
             else:
-                out[name] = Constant(sign * c.value, c.uncertainty, self.unit,
-                                     f"{'' if sign > 0 else '−'}Y{k}{l}")
+                note = f"{'' if sign > 0 else '−'}Y{k}{l}" + c.note[len(f"Y{k}{l}"):]
+                out[name] = Constant(sign * c.value, c.uncertainty, self.unit, note,
+                                     c.statistical, c.truncation, c.level_error)
         return out
 
 
@@ -238,8 +269,9 @@ def _lsq(x: np.ndarray, y: np.ndarray, w: np.ndarray):
 
 
 def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
-               unit: str = "") -> DunhamFit:
-    """Fit E(v, J) = Σ Y_kl (v + ½)^k [J(J+1)]^l (order rule in the module notes).
+               unit: str = "", level_errors=None) -> DunhamFit:
+    """Fit E(v, J) = Σ Y_kl (v + ½)^k [J(J+1)]^l (order and uncertainty rules in the module
+    notes).
 
     Parameters
     ----------
@@ -247,19 +279,30 @@ def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
         Equal-length sequences (or broadcastable arrays) of the levels; NaN energies are
         dropped.
     sigma
-        Standard errors of the energies. Given: weighted least squares, uncertainties from
-        the covariance (XᵀWX)⁻¹. ``None``: equal weights, the covariance scaled by the
-        residual variance RSS/dof (uncertainties then measure how well the truncated series
-        fits).
+        Standard errors of the energies. Given: weighted least squares, statistical errors
+        from the covariance (XᵀWX)⁻¹. ``None``: equal weights, the covariance scaled by the
+        residual variance RSS/dof.
     significance
         Level of the partial F-test that admits a higher order.
     unit
         Energy unit, carried into the constants.
-    """
-    from scipy.stats import f as f_dist
+    level_errors
+        Error bounds of the energies themselves (e.g. a basis' error estimates), shaped like
+        them: propagated as Σ_i |∂Y_kl/∂E_i| δE_i (no cancellation assumed: such errors are
+        systematic) into each coefficient's ``level_error``.
 
+    Returns
+    -------
+    DunhamFit
+        Each coefficient's uncertainty holds its statistical, truncation and level errors.
+    """
     v, J, e = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (v, J, energies)))
     keep = np.isfinite(e)
+    delta = None
+    if level_errors is not None:
+        delta = np.broadcast_to(np.asarray(level_errors, dtype=float), keep.shape)[keep].ravel()
+        if np.any(delta < 0):
+            raise InputError("level_errors: error bounds must be >= 0")
     v, J, e = v[keep].ravel(), J[keep].ravel(), e[keep].ravel()
     if sigma is None:
         w = np.ones_like(e)
@@ -271,6 +314,36 @@ def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
     if not 0 < significance < 1:
         raise InputError(f"significance: must lie between 0 and 1; got {significance!r}")
     jj = J * (J + 1.0)
+    terms, (coef, cov, rss), history = _search(v, jj, e, w, significance)
+    dof = e.size - len(terms)
+    if sigma is None:
+        cov = cov * (rss / dof if dof else math.nan)
+    stat = np.sqrt(np.abs(np.diag(cov)))
+    trunc_v, why_v, lost_v = _truncation_in_v(v, jj, e, w, significance, terms, coef)
+    trunc_j, why_j = _truncation_in_j(v, jj, w, terms, coef, e)
+    trunc = np.hypot(trunc_v, trunc_j)
+    history.append(f"truncation: {why_v}; {why_j}")
+    lev = np.zeros(len(terms)) if delta is None else _propagated(v, jj, w, terms, delta)
+    resid = e - _columns(v, jj, terms) @ coef
+    coefficients = {}
+    for i, kl in enumerate(terms):
+        note = f"Y{kl[0]}{kl[1]}"
+        if not math.isfinite(trunc[i]):
+            why = lost_v if math.isnan(trunc_v[i]) else why_j
+            note += f"; truncation error not assessed ({why})"
+        if not math.isfinite(lev[i]):
+            note += "; the levels' error bounds are not all finite"
+        total = math.sqrt(stat[i] ** 2 + trunc[i] ** 2 + lev[i] ** 2)
+        coefficients[kl] = Constant(float(coef[i]), total, unit, note, float(stat[i]),
+                                    float(trunc[i]), float(lev[i]))
+    return DunhamFit(coefficients, resid, rss, dof, tuple(history), unit)
+
+
+def _search(v: np.ndarray, jj: np.ndarray, e: np.ndarray, w: np.ndarray,
+            significance: float) -> tuple[list[tuple[int, int]], tuple, list[str]]:
+    """The order search of the module notes: the terms kept, their fit, the history."""
+    from scipy.stats import f as f_dist
+
     nv, nj = np.unique(v).size, np.unique(jj).size
 
     def ok(k: int, l: int) -> bool:
@@ -309,15 +382,72 @@ def dunham_fit(v, J, energies, sigma=None, significance: float = 0.01,
             break
         history.append(f"order {m} {group}: F = {f_stat:.3g}, p = {p:.2g}: kept")
         terms, fit = trial, new
-    coef, cov, rss = fit
-    dof = e.size - len(terms)
-    if sigma is None:
-        cov = cov * (rss / dof if dof else math.nan)
-    err = np.sqrt(np.abs(np.diag(cov)))
-    resid = e - _columns(v, jj, terms) @ coef
-    coefficients = {kl: Constant(float(c), float(u), unit, f"Y{kl[0]}{kl[1]}")
-                    for kl, c, u in zip(terms, coef, err, strict=True)}
-    return DunhamFit(coefficients, resid, rss, dof, tuple(history), unit)
+    return terms, fit, history
+
+
+def _propagated(v, jj, w, terms, delta) -> np.ndarray:
+    """Σ_i |∂Y/∂E_i| δE_i: the level errors' bound on each coefficient (rows of the
+    weighted pseudo-inverse, columns scaled as in :func:`_lsq`)."""
+    xs = _columns(v, jj, terms) * w[:, None]
+    scale = np.max(np.abs(xs), axis=0)
+    scale[scale == 0] = 1.0
+    gain = np.linalg.pinv(xs / scale) / scale[:, None] * w[None, :]
+    return np.abs(gain) @ delta
+
+
+def _truncation_in_v(v, jj, e, w, significance, terms, coef) -> tuple[np.ndarray, str, str]:
+    """|change| of each coefficient when the highest v is left out (NaN: not assessed), how
+    it was found, and why a NaN."""
+    out = np.full(len(terms), math.nan)
+    if np.unique(v).size < 2:
+        return out, "in v: one v only", "one v only"
+    keep = v < v.max()
+    try:
+        sub_terms, (sub, _, _), _ = _search(v[keep], jj[keep], e[keep], w[keep], significance)
+    except InputError:
+        why = "too few levels without the highest v; give one more v"
+        return out, "in v: " + why, why
+    for i, kl in enumerate(terms):  # a coefficient the smaller set cannot hold stays NaN
+        if kl in sub_terms:
+            out[i] = abs(sub[sub_terms.index(kl)] - coef[i])
+    return out, "in v: highest v left out", ("not determined without the highest v; give "
+                                              "one more v")
+
+
+def _truncation_in_j(v, jj, w, terms, coef, e) -> tuple[np.ndarray, str]:
+    """The coefficients' error from the J(J+1) orders not fitted (module notes)."""
+    nj = np.unique(jj).size
+    if nj == 1:
+        if float(jj[0]) == 0.0:
+            return np.zeros(len(terms)), "in J: J = 0 only"
+        return np.full(len(terms), math.nan), "in J: one J only"
+    top = max(l for _, l in terms)
+    ks = [k for k, l in terms if l == top]
+    nxt = [(k, top + 1) for k in ks]
+    x = _columns(v, jj, terms)
+    if top + 1 <= nj - 1 and e.size - len(terms) - len(nxt) >= 1:
+        new = _lsq(np.hstack([x, _columns(v, jj, nxt)]), e, w)
+        if new is not None:
+            return np.abs(new[0][:len(terms)] - coef), f"in J: l raised to {top + 1}"
+    c = dict(zip(terms, coef, strict=True))
+    if (0, 2) in c and (0, 1) in c and c[(0, 1)] != 0:
+        rho = abs(c[(0, 2)] / c[(0, 1)])
+    elif (0, 1) in c and (1, 0) in c and c[(1, 0)] != 0:
+        rho = 4.0 * (c[(0, 1)] / c[(1, 0)]) ** 2
+    else:
+        return np.full(len(terms), math.nan), "in J: no ratio of J orders (needs Y01 and Y10)"
+    bias = np.zeros(len(terms))
+    for k, (kn, ln) in zip(ks, nxt, strict=True):
+        ratio = rho  # this column's own ratio of its last two J orders, where larger
+        if c.get((k, top - 1), 0.0) != 0.0:
+            ratio = max(rho, abs(c[(k, top)] / c[(k, top - 1)]))
+        size = TRUNCATION_SAFETY * ratio * abs(c[(k, top)])
+        response = _lsq(x, _columns(v, jj, [(kn, ln)])[:, 0], w)
+        if response is None:
+            return np.full(len(terms), math.nan), "in J: not determined"
+        bias += (size * response[0]) ** 2
+    return np.sqrt(bias), (f"in J: bias of l = {top + 1} terms of size "
+                           f"{TRUNCATION_SAFETY:g}ρ_k|Y_k{top}|, ρ_k >= {rho:.3g}")
 
 
 def spectroscopic_constants(well, units: str | UnitSystem = "molecular",
@@ -330,7 +460,10 @@ def spectroscopic_constants(well, units: str | UnitSystem = "molecular",
 
     Solves :func:`rovibrational` (arguments as there), fits :func:`dunham_fit` to the bound
     levels measured from the well bottom with equal weights, and returns the named constants
-    (keys of :data:`NAMED`), each with ``.value`` and ``.uncertainty`` in the energy unit.
+    (keys of :data:`NAMED`), each with ``.value`` and ``.uncertainty`` (statistical and
+    truncation error, module notes) in the energy unit. A constant whose truncation error
+    cannot be assessed has NaN uncertainty, and a :class:`~anharmony.errors.ConvergenceWarning`
+    names it.
     """
     return constants_of(rovibrational(well, J, levels, units, mass, size, length, reference))
 
@@ -339,5 +472,12 @@ def constants_of(rv: Rovibrational) -> dict[str, Constant]:
     """The named constants of already computed levels (a Dunham fit with equal weights of the
     term values from the well bottom), as :func:`spectroscopic_constants` returns them."""
     vv, jj = np.meshgrid(rv.v, rv.J)
-    fit = dunham_fit(vv, jj, rv.term_values("bottom"), unit=rv.unit)
-    return fit.constants()
+    bounds = np.array([s.error_estimate[:rv.v.size] for s in rv.spectra])
+    fit = dunham_fit(vv, jj, rv.term_values("bottom"), unit=rv.unit, level_errors=bounds)
+    out = fit.constants()
+    blind = [f"{n} ({c.note.split('; ', 1)[1]})" for n, c in out.items()
+             if math.isfinite(c.value) and not math.isfinite(c.uncertainty)]
+    if blind:
+        warnings.warn("Dunham constants without an uncertainty: " + "; ".join(blind),
+                      ConvergenceWarning, stacklevel=2)
+    return out

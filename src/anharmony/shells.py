@@ -14,6 +14,18 @@ channel                        degeneracy
 Levels are filled in ascending energy (ties keep the order of the spectra given, then the
 radial index); the last level reached may be partly filled. Only bound levels are filled:
 asking for more particles than the bound levels hold is refused.
+
+Completeness (stated once)
+--------------------------
+A spectrum holds only the lowest levels that were asked for; a level not computed cannot be
+filled. A channel is *complete* when every bound level it holds was computed: one of its
+computed levels lies above the threshold, or its phase-space count of bound levels
+(:attr:`Spectrum.bound_count_estimate`) is no larger than its computed bound levels. Every
+level below the *horizon* — the lowest top computed level of the incomplete channels
+(``inf`` when all are complete) — is known. The filling is trusted only when the last filled
+level lies strictly below the horizon (so every level up to it, and the next level above
+it, are known); otherwise :func:`fill_shells` refuses and names the channels and the level
+count they need. ``closures`` holds only the shells whose gap lies below the horizon.
 """
 
 from __future__ import annotations
@@ -21,6 +33,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -63,11 +76,15 @@ class ShellFilling:
         Energy from the Fermi level up to the next empty level (NaN when there is none bound
         or the highest shell is not closed).
     closures : tuple of (int, float)
-        For every shell that closes below the highest bound one: (particle number at which it
-        is full, gap to the next shell). Large gaps mark the magic numbers of the well.
+        For every shell that closes below the highest bound one, with the next shell below
+        the horizon (module notes): (particle number at which it is full, gap to the next
+        shell). Large gaps mark the magic numbers of the well.
     rms_radius : float
         √(Σ_k occ_k ⟨r²⟩_k / N), the rms radius of the filled orbitals.
     energy_unit, length_unit : str
+    horizon : float
+        Every level below this energy was computed (module notes); ``inf`` when every channel
+        given is complete.
     """
 
     levels: tuple[FilledLevel, ...]
@@ -79,6 +96,7 @@ class ShellFilling:
     rms_radius: float
     energy_unit: str
     length_unit: str
+    horizon: float = math.inf
 
     def table(self) -> list[str]:
         """The filling as printable lines: each level with its occupancy, then the read-outs."""
@@ -132,6 +150,14 @@ def fill_shells(spectra: Sequence, particles: int, spin_degeneracy: int = 2) -> 
     Returns
     -------
     ShellFilling
+
+    Raises
+    ------
+    InputError
+        Bad arguments; more particles than the bound levels given hold; or a channel whose
+        levels were not all computed stops at or below the last filled level (module notes:
+        completeness), so a level not computed could lie below it. The message names the
+        channels and the levels per channel to ask for.
     """
     if isinstance(particles, bool) or not isinstance(particles, (int, np.integer)) \
             or particles < 0:
@@ -159,6 +185,8 @@ def fill_shells(spectra: Sequence, particles: int, spin_degeneracy: int = 2) -> 
         for n in np.flatnonzero(s.bound):
             rows.append((float(s.energies[n]), order, int(n), s, g, float(radii[n])))
     rows.sort(key=lambda r: (r[0], r[1], r[2]))
+    open_channels = _incomplete(spectra)
+    horizon = min((top for _, top, _ in open_channels), default=math.inf)
     capacity = sum(r[4] for r in rows)
     if particles > capacity:
         raise InputError(f"particles: {particles} exceed the {capacity} states of the bound "
@@ -168,7 +196,7 @@ def fill_shells(spectra: Sequence, particles: int, spin_degeneracy: int = 2) -> 
     sizes = np.array([sum(r[4] for r in shell) for shell in shells])
     full = np.cumsum(sizes)  # particles held up to and including each shell
     closures = tuple((int(full[k]), shells[k + 1][0][0] - shells[k][-1][0])
-                     for k in range(len(shells) - 1))
+                     for k in range(len(shells) - 1) if shells[k + 1][-1][0] <= horizon)
     left = particles
     levels = []
     for shell in shells:
@@ -181,15 +209,54 @@ def fill_shells(spectra: Sequence, particles: int, spin_degeneracy: int = 2) -> 
     if particles:
         k_f = int(np.searchsorted(full, particles))  # the shell holding the last particle
         fermi = max(lv.energy for lv in levels if lv.occupancy)
+        if fermi >= horizon:
+            raise InputError(_incomplete_message(particles, fermi, open_channels,
+                                                 spectra[0].units))
         closed = bool(full[k_f] == particles)
         if closed and k_f + 1 < len(shells):
-            gap = closures[k_f][1]
+            gap = shells[k_f + 1][0][0] - shells[k_f][-1][0]
     occ = np.array([lv.occupancy for lv in levels])
     r2 = np.array([lv.rms_radius for lv in levels]) ** 2
     radius = float(np.sqrt(occ @ r2 / particles)) if particles else float("nan")
     first = spectra[0].units
     return ShellFilling(tuple(levels), int(particles), fermi, closed, float(gap), closures,
-                        radius, first.energy, first.length)
+                        radius, first.energy, first.length, float(horizon))
+
+
+def _incomplete(spectra: list) -> list[tuple[Any, float, float]]:
+    """The channels whose bound levels may not all be computed (module notes), each as
+    (spectrum, energy of its highest computed level, phase-space count of bound levels)."""
+    out = []
+    for s in spectra:
+        energies = np.asarray(s.energies, dtype=float)
+        if energies.size and not np.all(s.bound):
+            continue  # a computed level above the threshold: every bound one is below it
+        count = s.bound_count_estimate
+        if int(np.count_nonzero(s.bound)) >= count:
+            continue
+        out.append((s, float(energies[-1]) if energies.size else -math.inf, float(count)))
+    return out
+
+
+def _incomplete_message(particles: int, fermi: float, open_channels: list, units) -> str:
+    """Why a filling is refused, and the levels per channel to ask for."""
+    from .units import units_symbol
+
+    e = units_symbol(units.energy, None, "energy") or units.energy
+    e = "" if e == "1" else " " + e
+    short = [(s, top, count) for s, top, count in open_channels if top <= fermi]
+    parts = []
+    need = 0
+    for s, top, count in short:
+        n = int(np.asarray(s.energies).size)
+        held = f"holds about {count:.0f} bound levels" if math.isfinite(count) else \
+            "is confining (levels without end)"
+        parts.append(f"{s.channel.label} ({n} computed, the highest at {top:.6g}{e}; it {held})")
+        need = max(need, int(count) if math.isfinite(count) else n + 1)
+    return (f"particles: {particles} particles reach {fermi:.6g}{e}, at or above the highest "
+            "computed level of channel(s) " + "; ".join(parts) + ": a level not computed "
+            f"may lie below the Fermi level; compute at least {need} levels per channel "
+            "(levels= of solve; levels.count in a case file)")
 
 
 def _group(rows: list, tol: float) -> list[list]:

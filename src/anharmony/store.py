@@ -404,8 +404,8 @@ def _rotation_variables(u: Any, rot: RotationOutcome) -> tuple[dict, dict, dict]
         data[f"constant_{name}"] = ((), np.float64(value), energy_attrs(
             u, e_units, f"{long}, from a Dunham fit of rovib_energy"))
         data[f"constant_{name}_uncertainty"] = ((), np.float64(err), energy_attrs(
-            u, e_units, f"standard error of constant_{name} (least-squares, scaled by "
-                        "the residual variance)"))
+            u, e_units, f"standard error of constant_{name}: least-squares, Dunham "
+                        "truncation and level errors in quadrature"))
     attrs = {"rovib_well_bottom": float(rot.bottom),
              "rovib_warnings": "\n".join(rot.warnings)}
     return coords, data, attrs
