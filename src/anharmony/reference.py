@@ -24,12 +24,13 @@ from .request import _channel_from, _positive
 from .semiclassical import _phase_space
 from .well import Well
 
-__all__ = ["Reference", "default_length", "reference_oscillator"]
+__all__ = ["Reference", "basis_centre", "default_length", "reference_oscillator"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
 WALL_FRACTION = 0.02  # auto length: V at the basis' reach ≤ this · the rounding-warning level
 LENGTH_KEEP = 0.1  # auto length: keep a harmonic reference's b within this relative change
+SYMMETRY_RTOL = 1e-12  # basis centre: a well symmetric about a point to this is centred there
 
 
 @dataclass(frozen=True)
@@ -296,3 +297,55 @@ def _auto_length(well: Well, channel: Channel, levels: int, size: int, ref: Refe
         why += (f", shortened to {b:.4g} so that the basis' reach √(q_N)·b stays inside the "
                 "steep wall")
     return b, why
+
+
+def basis_centre(well: Well, channel: Channel, levels: int, tolerance: float, ref: Reference
+                 ) -> tuple[float, str]:
+    """Centre x₀ of the Hermite basis of the line without symmetry, and the reason (cached by
+    value): the centre of the smallest phase-space disk that holds the classical orbit of the
+    highest requested bound level and its evanescent tails to ``tolerance``.
+
+    Parameters
+    ----------
+    tolerance
+        Energy (the unit system's unit) to which the tails must be covered: the tail of a
+        level of excitation S = E − V_min is followed until ψ² has fallen by tolerance/S,
+        ∫ κ dx = ½ ln(S/tolerance) beyond each turning point.
+
+    Notes
+    -----
+    Cutting a bound level's tail off where ψ² has fallen by a factor f changes its energy by
+    about f times its energy scale (common practice, no source), hence the depth of the tail.
+    A well symmetric about the reference centre or about the mean centre of its terms keeps
+    that point exactly (the symmetric disk's centre). Radial channels, 1D parity channels, a
+    given reference and a channel with no bound level to match keep the reference centre.
+    """
+    return _cached("reference", (_well_key(well), channel, levels, float(tolerance), "centre",
+                                 ref),
+                   lambda: _auto_centre(well, channel, levels, float(tolerance), ref))
+
+
+def _auto_centre(well: Well, channel: Channel, levels: int, tolerance: float, ref: Reference
+                 ) -> tuple[float, str]:
+    if channel.l is not None:
+        return 0.0, "radial and parity bases are centred at the origin"
+    if ref.method == "given":
+        return ref.center, "the reference oscillator's centre (given)"
+    for point in (ref.center, well.center):
+        if well.is_symmetric(point, SYMMETRY_RTOL):
+            return point, f"the well's symmetry point {point:.6g}"
+    ps = _phase_space(well, channel, ref.center)
+    count = ps.line_count()
+    top = min(levels - 1, int(count - 1)) if math.isfinite(count) else levels - 1
+    if top < 0:
+        return ref.center, "the reference oscillator's centre (no bound level to match)"
+    e_top = ps.level(top)
+    excitation = e_top - ps.v_min
+    depth = 0.5 * math.log(excitation / tolerance) if excitation > tolerance > 0 else 0.0
+    x0, b, q, where = ps.covering_disk(e_top, depth)
+    if not math.isfinite(x0):
+        return ref.center, "the reference oscillator's centre (no classical orbit to match)"
+    return x0, (f"centre of the smallest phase-space disk (x − x₀)²/b² + (kb)² ≤ {q:.3g} "
+                f"(b = {b:.4g}) holding the classical orbit of level {top} (semiclassical "
+                f"E = {e_top:.6g}; {where}, where ψ² has fallen by {tolerance:.2g}/"
+                f"{excitation:.3g})")

@@ -43,7 +43,7 @@ from .._checks import flag, integer
 from ..errors import ConvergenceWarning, InputError, NumericalError
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem, shared_docs
+from ._problem import Problem, make_problem, shared_docs, with_covering_centre
 from .bounds import (
     KT_ASSUMPTION,
     UPPER_BOUND_NOTE,
@@ -327,6 +327,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
         raise InputError(f"sizes: {levels} levels need a basis of at least that size; "
                          f"the largest size is {ladder[-1]}")
     tol = tolerance if tolerance is not None else DEFAULT_RTOL * problem.reference.frequency
+    problem = with_covering_centre(problem, levels, tol)  # the line without symmetry only
     nlev = levels + 1  # one more level: the gap estimate of the highest requested one
     center = problem.reference.length
     history: list[tuple[int, tuple[float, ...]]] = []
@@ -401,7 +402,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
         tolerance=float(tol), tolerance_driven=grow, size_limit=int(limit),
         stopped=stopped, threshold=problem.threshold, units=problem.units,
         reference=problem.reference, history=tuple(history), messages=tuple(messages),
-        notes=notes)
+        notes=notes, center_reason=problem.center_reason)
 
 
 def _messages(problem: Problem, scan: BasisScan, ritz: np.ndarray, bound: np.ndarray,
