@@ -201,7 +201,7 @@ class _PhaseSpace:
             return math.nan, math.nan, math.nan, "no classical orbit"
         x, k, _ = self._orbit(e)
         on = np.flatnonzero(k > 0)
-        step = max(1, on.size // 600)  # the orbit on ≤ ~600 of its nodes, ends kept
+        step = max(1, on.size // 300)  # the orbit on ≤ ~300 of its nodes, ends kept
         pick = np.unique(np.concatenate([on[::step], on[-1:]]))
         px = np.concatenate([x[pick], [x_lo, x_hi, y_lo, y_hi]])
         pk2 = np.concatenate([k[pick] ** 2, [0.0, 0.0, 0.0, 0.0]])
@@ -213,7 +213,7 @@ class _PhaseSpace:
             lo = np.full(b2.shape, float(np.min(px)))
             hi = np.full(b2.shape, float(np.max(px)))
             w = pk2[None, :] * b2[:, None] ** 2  # (k b)² b², so that f·b² = (x − c)² + w
-            for _ in range(60):  # bisection on the sign of the (sub)gradient
+            for _ in range(44):  # bisection on the sign of the (sub)gradient (2^-44 of the span)
                 c = 0.5 * (lo + hi)
                 g = (px[None, :] - c[:, None]) ** 2 + w
                 i = np.argmax(g, axis=1)
@@ -224,7 +224,7 @@ class _PhaseSpace:
                        + pk2[None, :] * b2[:, None], axis=1)
             return c, f
 
-        logs = math.log(guess) + np.linspace(-3.0, 3.0, 61)
+        logs = math.log(guess) + np.linspace(-3.0, 3.0, 41)
         for _ in range(3):  # zoom in log b around the best
             c, f = best_centre(np.exp(2.0 * logs))
             i = int(np.argmin(f))

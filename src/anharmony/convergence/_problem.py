@@ -166,12 +166,14 @@ def make_problem(well: Well, dimension: int, l: int | None, j: float | str | Non
         hbar2_2m=system.hbar2_over_2m(mass), units=system, mass=mass, lam=lam, rest=rest)
 
 
-def with_covering_centre(problem: Problem, levels: int, tolerance: float) -> Problem:
-    """The problem with the basis centre of :func:`anharmony.reference.basis_centre` (the line
-    without symmetry: the centre of the phase-space disk that holds the highest requested
-    level's orbit and its tails to ``tolerance``); other channels unchanged."""
+def with_covering_centre(problem: Problem, levels: int, tolerance: float, size: int
+                         ) -> Problem:
+    """The problem with the basis centre of :func:`anharmony.reference.basis_centre` for a
+    basis of ``size`` states (the line without symmetry: the centre of the phase-space disk
+    that holds the highest requested level's orbit and its tails to ``tolerance``, as deep as
+    that basis allows); other channels unchanged."""
     if problem.radial:
         return problem
     x0, why = basis_centre(problem.well, problem.channel, levels, tolerance,
-                           problem.reference)
+                           problem.reference, size)
     return replace(problem, center=float(x0), center_reason=why)

@@ -320,14 +320,13 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
     grow = s.tolerance is not None if s.grow is None else s.grow
     if grow and tolerance is None:
         raise InputError("grow: growing the basis needs a tolerance")
-    problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
+    problem = base = make_problem(well, dimension, l, j, units, mass, levels, reference)
     explicit = resolve_lengths(problem, lengths, frequencies)
     ladder, limit = _ladder(sizes_t, max_size, tolerance if grow else None, levels)
     if ladder[-1] < levels:
         raise InputError(f"sizes: {levels} levels need a basis of at least that size; "
                          f"the largest size is {ladder[-1]}")
     tol = tolerance if tolerance is not None else DEFAULT_RTOL * problem.reference.frequency
-    problem = with_covering_centre(problem, levels, tol)  # the line without symmetry only
     nlev = levels + 1  # one more level: the gap estimate of the highest requested one
     center = problem.reference.length
     history: list[tuple[int, tuple[float, ...]]] = []
@@ -340,6 +339,8 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
         now = ladder[: k + 1]
         if now[-1] < levels:
             continue
+        # the line without symmetry: the basis centre that this step's largest basis affords
+        problem = with_covering_centre(base, levels, tol, int(now[-1]))
         if explicit is None:
             scan = auto_scan(problem, now, nlev, center)
         else:
