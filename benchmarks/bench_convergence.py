@@ -182,7 +182,7 @@ def _morse(lam: float, units: str = "oscillator", mass: float | None = None,
     well = ah.Well.from_terms([{"morse": {"depth": depth, "width": width, "center": center}}],
                               units=units, mass=mass)
     hw = 2.0 * depth / lam
-    v = np.arange(int(math.floor(lam - 0.5)) + 1)
+    v = np.arange(math.floor(lam - 0.5) + 1)
     return well, hw * (v + 0.5) - (hw * (v + 0.5)) ** 2 / (4.0 * depth)
 
 
@@ -192,7 +192,7 @@ def _poschl_teller(s: float, center: float = 0.0) -> tuple[ah.Well, np.ndarray]:
     c = 0.5
     well = ah.Well.from_terms([{"poschl_teller": {"depth": c * s * (s + 1.0), "range": 1.0,
                                                   "center": center}}])
-    n = np.arange(int(math.ceil(s)))
+    n = np.arange(math.ceil(s))
     return well, -c * (s - n) ** 2
 
 
