@@ -251,24 +251,25 @@ def centre_wells() -> list[tuple[str, ah.Well, tuple[np.ndarray, np.ndarray], di
     return out
 
 
-def centre_study() -> None:
-    """Before/after of the basis-centre rule on 1D wells without symmetry (l = None).
+def centre_study(modes: tuple[str, ...] = ("minimum", "rule")) -> None:
+    """Convergence studies of 1D wells without symmetry (l = None), one row per well and mode.
 
-    "before" is the same code with the basis centred at the reference centre (the minimum):
-    the centre rule is bypassed, nothing else changes.
+    Modes: ``rule`` (this code), ``minimum`` (this code with the basis centred at the
+    reference centre, the minimum: the centre rule bypassed, nothing else changed) and
+    ``plain`` (whatever ``anharmony`` is imported, e.g. an older checkout on PYTHONPATH).
     """
     import anharmony.convergence.driver as drv
 
-    rule = drv.with_covering_centre
-    print("(err/est: |E − E_ref| / (error_estimate + the reference's error + 1e-14 |E|), bound "
-          "levels; ≤ 1 means every estimate holds)\n")
-    print("| well | centre before → after | before: time, size, converged, max err/est, "
-          "max err | after: time, size, converged, max err/est, max err |")
-    print("|---|---|---|---|")
+    rule = getattr(drv, "with_covering_centre", None)
+    print("(err/est: max over bound levels of |E − E_ref| / (error_estimate + the reference's "
+          "error + 1e-14 |E|); ≤ 1 means every estimate holds)\n")
+    print("| well | code | centre | time (s) | final size | converged | max err/est | "
+          "max err |")
+    print("|---|---|---:|---:|---:|---:|---:|---:|")
     for name, well, (exact, ref_err), kw, _src in centre_wells():
-        cells, centres = [], []
-        for bypass in (True, False):
-            drv.with_covering_centre = (lambda p, *_: p) if bypass else rule
+        for mode in modes:
+            if rule is not None:
+                drv.with_covering_centre = (lambda p, *_: p) if mode == "minimum" else rule
             kw2 = dict(kw)
             units = kw2.pop("units", "oscillator")
             mass = kw2.pop("mass", None)
@@ -283,11 +284,11 @@ def centre_study() -> None:
             # the true error within the level's estimate plus the reference's own error
             ratio = np.max(err / (r.error_estimate[:n][bound] + ref_err[bound]
                                   + 1e-14 * np.abs(exact[bound])))
-            cells.append(f"{dt:.2f} s, {r.size}, {int(np.sum(r.converged))}/{r.levels}, "
-                         f"{ratio:.2g}, {np.max(err):.1e}")
-            centres.append(r.center)
-        drv.with_covering_centre = rule
-        print(f"| {name} | {centres[0]:.4g} → {centres[1]:.4g} | {cells[0]} | {cells[1]} |")
+            centre = getattr(r, "center", r.scan.center)
+            print(f"| {name} | {mode} | {centre:.4g} | {dt:.2f} | {r.size} | "
+                  f"{int(np.sum(r.converged))}/{r.levels} | {ratio:.2g} | {np.max(err):.1e} |")
+        if rule is not None:
+            drv.with_covering_centre = rule
 
 
 def main() -> None:
@@ -295,7 +296,8 @@ def main() -> None:
         morse25()
         return
     if "centre" in sys.argv[1:]:
-        centre_study()
+        modes = tuple(m for m in ("plain", "minimum", "rule") if m in sys.argv[1:])
+        centre_study(modes or ("minimum", "rule"))
         return
     print(f"machine: {platform.processor() or platform.machine()}, "
           f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}")
