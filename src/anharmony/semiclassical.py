@@ -183,8 +183,7 @@ class _PhaseSpace:
             v = np.asarray(self.well.value(x), dtype=float)
         return np.where(np.isnan(v), np.inf, v)
 
-    def covering_disk(self, e: float, depth: float, fixed: float | None = None
-                      ) -> tuple[float, float, float, str]:
+    def covering_disk(self, e: float, depth: float) -> tuple[float, float, float, str]:
         """(x₀, b, q, text): the centre and length of the smallest oscillator phase-space disk
         (x − x₀)²/b² + (k b)² ≤ q that holds the classical orbit at ``e`` together with its
         evanescent tails out to ∫ κ dx = ``depth`` beyond both turning points (the tail ends
@@ -195,7 +194,7 @@ class _PhaseSpace:
         is free, so an asymmetric orbit (a Morse level near its threshold: a steep inner wall,
         a long outer tail) is not paid for twice. The minimax is convex in x₀ at fixed b
         (a maximum of parabolas) and is found by bisection there, on a zoomed grid in log b.
-        With ``fixed`` the centre is that point and only b is chosen. NaN without an orbit.
+        NaN without an orbit.
         """
         x_lo, x_hi, y_lo, y_hi = self.tail_ends(e, depth)
         if not math.isfinite(x_lo):
@@ -211,10 +210,6 @@ class _PhaseSpace:
         guess = math.sqrt(0.5 * span / math.sqrt(kmax2)) if kmax2 > 0 else 0.5 * span
 
         def best_centre(b2: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-            if fixed is not None:
-                c = np.full(b2.shape, float(fixed))
-                return c, np.max(((px[None, :] - c[:, None]) ** 2) / b2[:, None]
-                                 + pk2[None, :] * b2[:, None], axis=1)
             lo = np.full(b2.shape, float(np.min(px)))
             hi = np.full(b2.shape, float(np.max(px)))
             w = pk2[None, :] * b2[:, None] ** 2  # (k b)² b², so that f·b² = (x − c)² + w
