@@ -230,6 +230,11 @@ def centre_wells() -> list[tuple[str, ah.Well, tuple[np.ndarray, np.ndarray], di
     w = ah.Well.from_terms([{"gaussian": {"depth": 10.0, "range": 1.0}}])
     out.append(("Gaussian −10 e^{−x²}, 5 levels", w, _grid_reference(w, 5, -40, 40),
                 {"levels": 5, "tolerance": 1e-6}, "finite differences"))
+    w = ah.Well.from_terms([{"gaussian": {"depth": 5.0, "range": 1.0, "center": -1.0}},
+                            {"gaussian": {"depth": 3.0, "range": 0.7, "center": 1.5}}])
+    out.append(("two Gaussians −5 e^{−(x+1)²} − 3 e^{−((x−1.5)/0.7)²}, 4 levels", w,
+                _grid_reference(w, 4, -40, 40), {"levels": 4, "tolerance": 1e-6,
+                                                 "max_size": 160}, "finite differences"))
     for s, x0 in ((5.5, 0.0), (5.5, 1.3)):
         w, e = _poschl_teller(s, x0)
         out.append((f"Pöschl–Teller s = {s}, x₀ = {x0}, {e.size} levels", w, (e, 0 * e),
