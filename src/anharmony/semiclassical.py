@@ -142,8 +142,9 @@ class _PhaseSpace:
         (no symmetry) and the points beyond them where the WKB tail has decayed by
         ∫ κ dx = ``depth`` (κ = sqrt((V − e)/(ħ²/2m))); NaN without an orbit.
 
-        The tail ψ ∝ exp(−∫ κ dx) of a bound level (WKB, e.g. L. D. Landau and
-        E. M. Lifshitz, *Quantum Mechanics*, §46) is what a basis must reach beyond the
+        The tail ψ ∝ exp(−∫ κ dx) of a bound level (the WKB approximation, e.g. L. D. Landau
+        and E. M. Lifshitz, *Quantum Mechanics*, the chapter on the quasi-classical case;
+        quoted from memory) is what a basis must reach beyond the
         classical orbit: ψ² has fallen by e^{−2·depth} at y±. Where the grid ends before, the
         rest is extrapolated with the κ of the grid's last node (a limit of V: a constant κ).
         """
