@@ -170,9 +170,139 @@ def morse25() -> None:
           f"max_size 60: {time.perf_counter() - t:.1f} s, sizes tried {tried}")
 
 
+def _morse(lam: float, units: str = "oscillator", mass: float | None = None,
+           depth: float | None = None, width: float = 1.0, center: float = 0.0
+           ) -> tuple[ah.Well, np.ndarray]:
+    """A Morse well with λ = sqrt(2mD)/(αħ) (or the given depth) and its exact levels
+    (P. M. Morse, Phys. Rev. 34, 57 (1929)): E_v = ħω(v+½) − [ħω(v+½)]²/(4D), ħω = 2D/λ."""
+    c = ah.units.get_units(units).hbar2_over_2m(mass)
+    if depth is None:
+        depth = (lam * width) ** 2 * c
+    lam = math.sqrt(depth / c) / width
+    well = ah.Well.from_terms([{"morse": {"depth": depth, "width": width, "center": center}}],
+                              units=units, mass=mass)
+    hw = 2.0 * depth / lam
+    v = np.arange(math.floor(lam - 0.5) + 1)
+    return well, hw * (v + 0.5) - (hw * (v + 0.5)) ** 2 / (4.0 * depth)
+
+
+def _poschl_teller(s: float, center: float = 0.0) -> tuple[ah.Well, np.ndarray]:
+    """−V₀/cosh²(x − x₀) with s(s+1) = V₀/c (ħ = m = 1: c = ½) and its exact levels
+    E_n = −c (s − n)², n < s (G. Pöschl and E. Teller, Z. Phys. 83, 143 (1933))."""
+    c = 0.5
+    well = ah.Well.from_terms([{"poschl_teller": {"depth": c * s * (s + 1.0), "range": 1.0,
+                                                  "center": center}}])
+    n = np.arange(math.ceil(s))
+    return well, -c * (s - n) ** 2
+
+
+def _grid_reference(well: ah.Well, levels: int, lo: float, hi: float
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """Finite differences on [lo, hi], Richardson-extrapolated (tests/refsolvers.py): the
+    levels and their error estimates."""
+    from refsolvers import line_richardson_levels
+
+    c = well.units.hbar2_over_2m(well.mass)
+    ref = line_richardson_levels(well.value, c, lo, hi, levels, grids=(2000, 4000, 8000))
+    return ref.energies, ref.error
+
+
+def centre_wells() -> list[tuple[str, ah.Well, tuple[np.ndarray, np.ndarray], dict, str]]:
+    """(name, well, (reference levels, their errors), converge keywords, source of the
+    levels) of the 1D study; exact levels carry error 0."""
+    out = []
+
+    def poly(coeffs: dict) -> ah.Well:
+        return ah.Well.from_terms([{"polynomial": {"coefficients": coeffs}}])
+
+    w = ah.Well.from_terms([{"harmonic": {"frequency": 1.0}},
+                            {"power": {"exponent": 4, "strength": 0.1}}])
+    out.append(("quartic ½x² + 0.1x⁴, 8 levels", w, _grid_reference(w, 8, -12, 12),
+                {"levels": 8, "tolerance": 1e-8}, "finite differences"))
+    w = poly({2: 0.5, 3: 0.3, 4: 0.1})
+    out.append(("cubic+quartic ½x² + 0.3x³ + 0.1x⁴, 8 levels", w,
+                _grid_reference(w, 8, -16, 12), {"levels": 8, "tolerance": 1e-8},
+                "finite differences"))
+    w = poly({1: 0.6, 2: -4.0, 4: 1.0})
+    out.append(("tilted double well x⁴ − 4x² + 0.6x, 8 levels", w,
+                _grid_reference(w, 8, -6, 6), {"levels": 8, "tolerance": 1e-8},
+                "finite differences"))
+    w = ah.Well.from_terms([{"gaussian": {"depth": 10.0, "range": 1.0}}])
+    out.append(("Gaussian −10 e^{−x²}, 5 levels", w, _grid_reference(w, 5, -40, 40),
+                {"levels": 5, "tolerance": 1e-6}, "finite differences"))
+    w = ah.Well.from_terms([{"gaussian": {"depth": 5.0, "range": 1.0, "center": -1.0}},
+                            {"gaussian": {"depth": 3.0, "range": 0.7, "center": 1.5}}])
+    out.append(("two Gaussians −5 e^{−(x+1)²} − 3 e^{−((x−1.5)/0.7)²}, 4 levels", w,
+                _grid_reference(w, 4, -40, 40), {"levels": 4, "tolerance": 1e-6,
+                                                 "max_size": 160}, "finite differences"))
+    for s, x0 in ((5.5, 0.0), (5.5, 1.3)):
+        w, e = _poschl_teller(s, x0)
+        out.append((f"Pöschl–Teller s = {s}, x₀ = {x0}, {e.size} levels", w, (e, 0 * e),
+                    {"levels": int(e.size), "tolerance": 1e-6}, "exact"))
+    for lam, tol in ((8.3, 1e-8), (12.6, 1e-6)):
+        w, e = _morse(lam)
+        out.append((f"Morse λ = {lam}, all {e.size} levels", w, (e, 0 * e),
+                    {"levels": int(e.size), "tolerance": tol}, "exact"))
+    w, e = _morse(0.0, "molecular", 0.96, depth=38000.0, width=2.1, center=0.93)
+    out.append(("demo diatomic-morse well, 8 levels, 1e-4 cm⁻¹", w, (e[:8], 0 * e[:8]),
+                {"levels": 8, "tolerance": 1e-4, "units": "molecular", "mass": 0.96},
+                "exact"))
+    w = ah.Well.from_terms([{"gaussian": {"depth": 150.0, "waist": 0.85}}], units="trap",
+                           mass=86.909180)
+    out.append(("demo trap-fit well (Gaussian beam), 4 levels, 1e-6 h·kHz", w,
+                _grid_reference(w, 4, -6, 6),
+                {"levels": 4, "tolerance": 1e-6, "units": "trap", "mass": 86.909180},
+                "finite differences"))
+    return out
+
+
+def centre_study(modes: tuple[str, ...] = ("minimum", "rule")) -> None:
+    """Convergence studies of 1D wells without symmetry (l = None), one row per well and mode.
+
+    Modes: ``rule`` (this code), ``minimum`` (this code with the basis centred at the
+    reference centre, the minimum: the centre rule bypassed, nothing else changed) and
+    ``plain`` (whatever ``anharmony`` is imported, e.g. an older checkout on PYTHONPATH).
+    """
+    import anharmony.convergence.driver as drv
+
+    rule = getattr(drv, "with_covering_centre", None)
+    print("(err/est: max over bound levels of |E − E_ref| / (error_estimate + the reference's "
+          "error + 1e-14 |E|); ≤ 1 means every estimate holds)\n")
+    print("| well | code | centre | time (s) | final size | converged | max err/est | "
+          "max err |")
+    print("|---|---|---:|---:|---:|---:|---:|---:|")
+    for name, well, (exact, ref_err), kw, _src in centre_wells():
+        for mode in modes:
+            if rule is not None:
+                drv.with_covering_centre = (lambda p, *_: p) if mode == "minimum" else rule
+            kw2 = dict(kw)
+            units = kw2.pop("units", "oscillator")
+            mass = kw2.pop("mass", None)
+            t = time.perf_counter()
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                r = converge(well, 1, None, units=units, mass=mass, **kw2)
+            dt = time.perf_counter() - t
+            n = exact.size
+            bound = r.bound[:n]
+            err = np.abs(r.energies[:n] - exact)[bound]
+            # the true error within the level's estimate plus the reference's own error
+            ratio = np.max(err / (r.error_estimate[:n][bound] + ref_err[bound]
+                                  + 1e-14 * np.abs(exact[bound])))
+            centre = getattr(r, "center", r.scan.center)
+            print(f"| {name} | {mode} | {centre:.4g} | {dt:.2f} | {r.size} | "
+                  f"{int(np.sum(r.converged))}/{r.levels} | {ratio:.2g} | {np.max(err):.1e} |")
+        if rule is not None:
+            drv.with_covering_centre = rule
+
+
 def main() -> None:
     if "morse25" in sys.argv[1:]:
         morse25()
+        return
+    if "centre" in sys.argv[1:]:
+        modes = tuple(m for m in ("plain", "minimum", "rule") if m in sys.argv[1:])
+        centre_study(modes or ("minimum", "rule"))
         return
     print(f"machine: {platform.processor() or platform.machine()}, "
           f"{os.cpu_count()} cores, Python {platform.python_version()}, numpy {np.__version__}")

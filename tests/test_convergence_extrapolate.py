@@ -93,12 +93,16 @@ def test_rising_sequence_is_not_extrapolated():
     assert math.isnan(fit.value) and fit.uncertainty == math.inf
 
 
-def test_three_sizes_give_the_whole_correction_as_uncertainty():
+def test_three_sizes_give_the_last_change_or_the_whole_correction_as_uncertainty():
+    # no fourth point tests the rate: the uncertainty is the larger of the correction
+    # E_last − E∞ and the last change (common practice, no source)
     n = np.array([4, 6, 8])
     e = 1.0 + np.exp(-n)
     fit = extrapolate_exponential(n, e)
     assert fit.valid
-    assert fit.uncertainty == pytest.approx(e[-1] - fit.value, rel=RTOL_FIT)
+    assert fit.uncertainty == pytest.approx(max(e[-1] - fit.value, e[-2] - e[-1]),
+                                            rel=RTOL_FIT)
+    assert fit.uncertainty >= e[-1] - 1.0  # the exact remainder e^{-8}
 
 
 @pytest.mark.parametrize("nu", [0.0, 1.0, 2.0, 5.0])

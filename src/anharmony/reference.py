@@ -24,12 +24,13 @@ from .request import _channel_from, _positive
 from .semiclassical import _phase_space
 from .well import Well
 
-__all__ = ["Reference", "default_length", "reference_oscillator"]
+__all__ = ["Reference", "basis_centre", "default_length", "reference_oscillator"]
 
 HALF_DEPTH = 0.5  # the well's extent: where V first climbs half-way to the threshold
 _VARIATIONAL_SIZE = 16  # "modest basis" for choosing b variationally
 WALL_FRACTION = 0.02  # auto length: V at the basis' reach ≤ this · the rounding-warning level
 LENGTH_KEEP = 0.1  # auto length: keep a harmonic reference's b within this relative change
+SYMMETRY_RTOL = 1e-12  # basis centre: a well symmetric about a point to this is centred there
 
 
 @dataclass(frozen=True)
@@ -302,3 +303,81 @@ def _auto_length(well: Well, channel: Channel, levels: int, size: int, ref: Refe
         why += (f", shortened to {b:.4g} so that the basis' reach √(q_N)·b stays inside the "
                 "steep wall")
     return b, why
+
+
+TAIL_FRACTIONS = tuple(k / 8 for k in range(8, -1, -1))  # basis centre: tail depths tried
+DISK_SHARE = 0.5  # basis centre: the orbit and its tails within this share of the basis' disk
+#                   area, q ≤ DISK_SHARE·(2N + 1); states near the disk's edge converge last.
+#                   Measured on Morse wells at N = 320 (λ = 12.6 and 25.3): shares of 0.3–0.6
+#                   converge every level the minimum's centre converges, 0.85 none of them
+
+
+def basis_centre(well: Well, channel: Channel, levels: int, tolerance: float, ref: Reference,
+                 size: int | None = None) -> tuple[float, str]:
+    """Centre x₀ of the Hermite basis of the line without symmetry, and the reason (cached by
+    value): the centre of the smallest phase-space disk that holds the classical orbit of the
+    highest requested bound level and its evanescent tails to ``tolerance``.
+
+    Parameters
+    ----------
+    tolerance
+        Energy (the unit system's unit) to which the tails must be covered: the tail of a
+        level of excitation S = E − V_min is followed until ψ² has fallen by tolerance/S,
+        ∫ κ dx = ½ ln(S/tolerance) beyond each turning point.
+    size
+        Basis size N: the disk may fill only ``DISK_SHARE`` of the basis' own,
+        q ≤ DISK_SHARE·(2N + 1). The deepest of the tail depths ``TAIL_FRACTIONS`` ×
+        ½ ln(S/tolerance) that fits is taken; where not even the bare orbit fits (a small
+        basis for a long orbit), the reference centre. ``None``: no limit.
+
+    Notes
+    -----
+    Cutting a bound level's tail off where ψ² has fallen by a factor f changes its energy by
+    about f times its energy scale (common practice, no source), hence the depth of the tail.
+    An oscillator basis of N states spans the phase-space disk (x − x₀)²/b² + (kb)² ≤ 2N + 1
+    (the classical orbit of its highest state). A well symmetric about the reference centre or
+    about the mean centre of its terms keeps that point exactly (the symmetric disk's centre).
+    Radial channels, 1D parity channels, a given reference and a channel with no bound level
+    to match keep the reference centre.
+    """
+    return _cached("reference", (_well_key(well), channel, levels, float(tolerance), "centre",
+                                 ref, size),
+                   lambda: _auto_centre(well, channel, levels, float(tolerance), ref, size))
+
+
+def _auto_centre(well: Well, channel: Channel, levels: int, tolerance: float, ref: Reference,
+                 size: int | None) -> tuple[float, str]:
+    if channel.l is not None:
+        return 0.0, "radial and parity bases are centred at the origin"
+    if ref.method == "given":
+        return ref.center, "the reference oscillator's centre (given)"
+    for point in (ref.center, well.center):
+        if well.is_symmetric(point, SYMMETRY_RTOL):
+            return point, f"the well's symmetry point {point:.6g}"
+    ps = _phase_space(well, channel, ref.center)
+    count = ps.line_count()
+    top = min(levels - 1, int(count - 1)) if math.isfinite(count) else levels - 1
+    if top < 0:
+        return ref.center, "the reference oscillator's centre (no bound level to match)"
+    e_top = ps.level(top)
+    excitation = e_top - ps.v_min
+    full = 0.5 * math.log(excitation / tolerance) if excitation > tolerance > 0 else 0.0
+    budget = math.inf if size is None else DISK_SHARE * (2.0 * size + 1.0)
+    q = math.nan
+    for frac in TAIL_FRACTIONS:
+        x0, b, q, where = _cached("phase_space", (_well_key(well), channel, float(ref.center),
+                                                  "disk", e_top, frac * full),
+                                  lambda f=frac: ps.covering_disk(e_top, f * full))
+        if not math.isfinite(x0):
+            return ref.center, "the reference oscillator's centre (no classical orbit to match)"
+        if q <= budget:
+            deep = ("" if frac == 1.0 else
+                    f"; the tails only to {frac:.0%} of that depth, as deep as a basis of "
+                    f"{size} states holds within {DISK_SHARE:.0%} of its disk")
+            return x0, (f"centre of the smallest phase-space disk (x − x₀)²/b² + (kb)² ≤ "
+                        f"{q:.3g} (b = {b:.4g}) holding the classical orbit of level {top} "
+                        f"(semiclassical E = {e_top:.6g}) and its tails ({where}) to where ψ² "
+                        f"has fallen by {tolerance:.2g}/{excitation:.3g}{deep}")
+    return ref.center, (f"the reference oscillator's centre: {DISK_SHARE:.0%} of the disk of a "
+                        f"basis of {size} states ({budget:.0f}) cannot hold the classical orbit "
+                        f"of level {top}, which needs {q:.3g}")

@@ -137,6 +137,103 @@ class _PhaseSpace:
             logs = np.linspace(logs[max(i - 1, 0)], logs[min(i + 1, logs.size - 1)], 41)
         return math.exp(best[0]), best[1]
 
+    def tail_ends(self, e: float, depth: float) -> tuple[float, float, float, float]:
+        """(x₋, x₊, y₋, y₊): the outermost turning points of the orbit at ``e`` on the line
+        (no symmetry) and the points beyond them where the WKB tail has decayed by
+        ∫ κ dx = ``depth`` (κ = sqrt((V − e)/(ħ²/2m))); NaN without an orbit.
+
+        The tail ψ ∝ exp(−∫ κ dx) of a bound level (the WKB approximation, e.g. L. D. Landau
+        and E. M. Lifshitz, *Quantum Mechanics*, the chapter on the quasi-classical case;
+        quoted from memory) is what a basis must reach beyond the
+        classical orbit: ψ² has fallen by e^{−2·depth} at y±. Where the grid ends before, the
+        rest is extrapolated with the κ of the grid's last node (a limit of V: a constant κ).
+        """
+        x, k, dx = self._orbit(e)
+        on = np.flatnonzero(k > 0)
+        if not on.size or self.radial or self.parity is not None:
+            return math.nan, math.nan, math.nan, math.nan
+        i_lo, i_hi = int(on[0]), int(on[-1])
+        with np.errstate(invalid="ignore"):
+            kappa = np.sqrt(np.maximum(self.well_values(x) - e, 0.0) / self.c)
+        kappa = np.where(np.isnan(kappa), np.inf, kappa)
+
+        def reach(side: np.ndarray, start: float, step: float) -> float:
+            if depth <= 0.0:
+                return start
+            cum = np.cumsum(kappa[side]) * dx
+            j = int(np.searchsorted(cum, depth))
+            if j < side.size:
+                return float(x[side[j]])
+            end = kappa[side[-1]] if side.size else 0.0
+            last = float(x[side[-1]]) if side.size else start
+            left = depth - (float(cum[-1]) if side.size else 0.0)
+            if not end > 0.0:  # V at the grid's end equals e: no decay to extrapolate
+                return last
+            return last + step * min(left / float(end), float(x[-1] - x[0]))
+
+        y_hi = reach(np.arange(i_hi + 1, x.size), float(x[i_hi]), 1.0)
+        y_lo = reach(np.arange(i_lo - 1, -1, -1), float(x[i_lo]), -1.0)
+        return float(x[i_lo]), float(x[i_hi]), y_lo, y_hi
+
+    def well_values(self, x: np.ndarray) -> np.ndarray:
+        """V (with ⟨l·s⟩ V_ls) at the nodes of one of this phase space's grids."""
+        for xs, v, _ in self._grids.values():
+            if xs is x:
+                return v
+        with np.errstate(all="ignore"):
+            v = np.asarray(self.well.value(x), dtype=float)
+        return np.where(np.isnan(v), np.inf, v)
+
+    def covering_disk(self, e: float, depth: float) -> tuple[float, float, float, str]:
+        """(x₀, b, q, text): the centre and length of the smallest oscillator phase-space disk
+        (x − x₀)²/b² + (k b)² ≤ q that holds the classical orbit at ``e`` together with its
+        evanescent tails out to ∫ κ dx = ``depth`` beyond both turning points (the tail ends
+        as points of zero momentum), on the line without symmetry.
+
+        The disk is what a Hermite basis of N states centred at x₀ spans (q ≈ 2N + 1): its
+        reach √q·b and resolution √q/b. :meth:`matched_length` fixes x₀ at the minimum; here x₀
+        is free, so an asymmetric orbit (a Morse level near its threshold: a steep inner wall,
+        a long outer tail) is not paid for twice. The minimax is convex in x₀ at fixed b
+        (a maximum of parabolas) and is found by bisection there, on a zoomed grid in log b.
+        NaN without an orbit.
+        """
+        x_lo, x_hi, y_lo, y_hi = self.tail_ends(e, depth)
+        if not math.isfinite(x_lo):
+            return math.nan, math.nan, math.nan, "no classical orbit"
+        x, k, _ = self._orbit(e)
+        on = np.flatnonzero(k > 0)
+        step = max(1, on.size // 300)  # the orbit on ≤ ~300 of its nodes, ends kept
+        pick = np.unique(np.concatenate([on[::step], on[-1:]]))
+        px = np.concatenate([x[pick], [x_lo, x_hi, y_lo, y_hi]])
+        pk2 = np.concatenate([k[pick] ** 2, [0.0, 0.0, 0.0, 0.0]])
+        span = max(y_hi - y_lo, float(np.max(px) - np.min(px)), 1e-300)
+        kmax2 = float(np.max(pk2))
+        guess = math.sqrt(0.5 * span / math.sqrt(kmax2)) if kmax2 > 0 else 0.5 * span
+
+        def best_centre(b2: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+            lo = np.full(b2.shape, float(np.min(px)))
+            hi = np.full(b2.shape, float(np.max(px)))
+            w = pk2[None, :] * b2[:, None] ** 2  # (k b)² b², so that f·b² = (x − c)² + w
+            for _ in range(44):  # bisection on the sign of the (sub)gradient (2^-44 of the span)
+                c = 0.5 * (lo + hi)
+                g = (px[None, :] - c[:, None]) ** 2 + w
+                i = np.argmax(g, axis=1)
+                right = px[i] > c  # the farthest point lies to the right: move right
+                lo, hi = np.where(right, c, lo), np.where(right, hi, c)
+            c = 0.5 * (lo + hi)
+            f = np.max(((px[None, :] - c[:, None]) ** 2) / b2[:, None]
+                       + pk2[None, :] * b2[:, None], axis=1)
+            return c, f
+
+        logs = math.log(guess) + np.linspace(-3.0, 3.0, 41)
+        for _ in range(3):  # zoom in log b around the best
+            c, f = best_centre(np.exp(2.0 * logs))
+            i = int(np.argmin(f))
+            best = (float(c[i]), math.exp(float(logs[i])), float(f[i]))
+            logs = np.linspace(logs[max(i - 1, 0)], logs[min(i + 1, logs.size - 1)], 21)
+        text = (f"turning points {x_lo:.4g} … {x_hi:.4g}, tails to {y_lo:.4g} … {y_hi:.4g}")
+        return best[0], best[1], best[2], text
+
 
     def wall_distance(self, v_cap: float) -> float:
         """Distance from the centre (outwards from the minimum in radial channels) at which

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any, TypeVar
 
 import numpy as np
@@ -25,7 +25,7 @@ from ..hamiltonian import (
     effective_lambda,
     make_basis,
 )
-from ..reference import Reference, reference_oscillator
+from ..reference import Reference, basis_centre, reference_oscillator
 from ..request import resolve_channel
 from ..terms import Term
 from ..units import UnitSystem
@@ -33,7 +33,7 @@ from ..well import Well
 
 F = TypeVar("F", bound=Callable[..., Any])
 
-__all__ = ["Problem", "make_problem", "shared_docs"]
+__all__ = ["Problem", "make_problem", "shared_docs", "with_covering_centre"]
 
 # Parameter entries every convergence front end shares with :func:`anharmony.solve` (numpydoc),
 # put into a docstring where a line holds only the marker ``[name]``
@@ -70,6 +70,7 @@ class Problem:
     mass: float | None
     lam: float | None  # effective λ when inverse-square terms are absorbed
     rest: tuple[Term, ...]  # central terms left for the potential matrix
+    center_reason: str = "the reference oscillator's centre"
 
     @property
     def radial(self) -> bool:
@@ -163,3 +164,16 @@ def make_problem(well: Well, dimension: int, l: int | None, j: float | str | Non
         well=well, channel=channel, reference=ref, center=0.0 if radial else ref.center,
         threshold=float(well.threshold(dimension, symmetric=radial)),
         hbar2_2m=system.hbar2_over_2m(mass), units=system, mass=mass, lam=lam, rest=rest)
+
+
+def with_covering_centre(problem: Problem, levels: int, tolerance: float, size: int
+                         ) -> Problem:
+    """The problem with the basis centre of :func:`anharmony.reference.basis_centre` for a
+    basis of ``size`` states (the line without symmetry: the centre of the phase-space disk
+    that holds the highest requested level's orbit and its tails to ``tolerance``, as deep as
+    that basis allows); other channels unchanged."""
+    if problem.radial:
+        return problem
+    x0, why = basis_centre(problem.well, problem.channel, levels, tolerance,
+                           problem.reference, size)
+    return replace(problem, center=float(x0), center_reason=why)

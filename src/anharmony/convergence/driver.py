@@ -13,7 +13,8 @@ How ``error_estimate`` is chosen, per level (the reason is stored in the report)
    uncertainty is kept. A fit whose E∞ lies above the level's lowest Ritz value by more than its
    uncertainty contradicts the variational principle and is dropped.
 2. The *used* extrapolation is the kept fit with the smallest uncertainty; its uncertainty is
-   raised to the spread of the valid models when that is larger, and its estimate of the Ritz
+   raised to the disagreement of the other valid models with it, each less its own
+   uncertainty (max |E∞,i − E∞| − u_i), when that is larger, and its estimate of the Ritz
    error is (E_Ritz − E∞) + uncertainty.
 3. Where the Kato–Temple bound applies (gap assumption met), the Ritz error is at most
    E_Ritz − E_KT. If that is smaller, it is used instead (``kato_temple``).
@@ -43,7 +44,7 @@ from .._checks import flag, integer
 from ..errors import ConvergenceWarning, InputError, NumericalError
 from ..units import UnitSystem
 from ..well import Well
-from ._problem import Problem, make_problem, shared_docs
+from ._problem import Problem, make_problem, shared_docs, with_covering_centre
 from .bounds import (
     KT_ASSUMPTION,
     UPPER_BOUND_NOTE,
@@ -171,9 +172,15 @@ def _estimate(problem: Problem, scan: BasisScan, level: int, ir_length: str,
         elif m == "exponential" and not problem.smooth:
             why += "; note: the well is not analytic in the basis variable"
         unc = f.uncertainty
-        if math.isfinite(spread) and spread > unc:
-            unc = spread
-            why += "; uncertainty raised to the spread of the valid models"
+        # another valid model contradicts this one only by the part of their difference its
+        # own uncertainty does not cover: a fit of uncertainty 175 that differs by 15 (say, at
+        # a length whose rounding scale is 130) says nothing against one of ± 5e-4
+        conflict = max((abs(g.value - f.value) - g.uncertainty for x, g in valid.items()
+                        if x != m), default=0.0)
+        if conflict > unc:
+            unc = conflict
+            why += ("; uncertainty raised to the disagreement of the valid models beyond their "
+                    "own uncertainties")
         cand.append((max(ritz - f.value, 0.0) + unc, m, why, f.value, unc))
     if bounds is not None:
         width = float(bounds.kato_temple_width[level])
@@ -320,7 +327,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
     grow = s.tolerance is not None if s.grow is None else s.grow
     if grow and tolerance is None:
         raise InputError("grow: growing the basis needs a tolerance")
-    problem = make_problem(well, dimension, l, j, units, mass, levels, reference)
+    problem = base = make_problem(well, dimension, l, j, units, mass, levels, reference)
     explicit = resolve_lengths(problem, lengths, frequencies)
     ladder, limit = _ladder(sizes_t, max_size, tolerance if grow else None, levels)
     if ladder[-1] < levels:
@@ -339,6 +346,8 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
         now = ladder[: k + 1]
         if now[-1] < levels:
             continue
+        # the line without symmetry: the basis centre that this step's largest basis affords
+        problem = with_covering_centre(base, levels, tol, int(now[-1]))
         if explicit is None:
             scan = auto_scan(problem, now, nlev, center)
         else:
@@ -401,7 +410,7 @@ def converge(well: Well, dimension: int = 3, l: int | None = 0, j: float | str |
         tolerance=float(tol), tolerance_driven=grow, size_limit=int(limit),
         stopped=stopped, threshold=problem.threshold, units=problem.units,
         reference=problem.reference, history=tuple(history), messages=tuple(messages),
-        notes=notes)
+        notes=notes, center_reason=problem.center_reason)
 
 
 def _messages(problem: Problem, scan: BasisScan, ritz: np.ndarray, bound: np.ndarray,

@@ -77,6 +77,8 @@ class ConvergenceReport:
         The texts of the warnings about non-converged levels.
     notes : tuple of str
         Statements that go with the numbers (upper bounds, Kato–Temple assumption).
+    center_reason : str
+        Why the basis has its centre :attr:`center` (the line without symmetry).
     """
 
     channel: Channel
@@ -108,6 +110,12 @@ class ConvergenceReport:
     history: tuple[tuple[int, tuple[float, ...]], ...] = ()
     messages: tuple[str, ...] = ()
     notes: tuple[str, ...] = field(default=())
+    center_reason: str = ""
+
+    @property
+    def center(self) -> float:
+        """Centre x₀ of the basis (the line without symmetry; 0 for radial channels)."""
+        return float(self.scan.center)
 
     @property
     def sizes(self) -> np.ndarray:

@@ -14,7 +14,9 @@ from .scans import GRID_HALF_WIDTH, MAX_LENGTHS
 
 __all__ = ["DEFAULT_MAX_SIZE", "ConvergenceSettings", "size_ladder"]
 
-DEFAULT_MAX_SIZE = 320  # size limit of tolerance-driven runs without an explicit limit
+DEFAULT_MAX_SIZE = 452  # size limit of tolerance-driven runs without an explicit limit: the
+#                        √2 ladder's step after 320, where the last of the 25 Morse levels of
+#                        benchmarks/RESULTS.md (bound by 38 cm⁻¹) first meets 1e-4 cm⁻¹
 DEFAULT_FIXED_TOP = 80  # largest size of a scan without tolerance or sizes
 LADDER_RATIO = math.sqrt(2.0)  # successive sizes of the default ladder
 IR_LENGTHS = ("eigenvalue", "closed_form")
@@ -56,7 +58,7 @@ class ConvergenceSettings:
         Grow the basis towards the tolerance (default: whenever a tolerance is given); False
         scans every size and only flags ``converged``.
     max_size : int or None
-        Size limit of a tolerance-driven run (default: the largest of ``sizes``, or 320).
+        Size limit of a tolerance-driven run (default: the largest of ``sizes``, or 452).
     cross_check : bool
         Also run the cross-check solver of another family.
     bounds : bool
