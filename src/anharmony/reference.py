@@ -266,6 +266,17 @@ def default_length(well: Well, channel: Channel, levels: int, size: int, ref: Re
                    lambda: _auto_length(well, channel, levels, size, ref))
 
 
+def _is_oscillator(well: Well, center: float) -> bool:
+    """Whether the well is c₀ + c₂ (x − center)² alone (no other power, no non-central term)."""
+    if len(well.central_terms) != len(well.terms):
+        return False
+    poly = well.polynomial(center)
+    if poly is None or not poly.get(2, 0.0) > 0.0:
+        return False
+    scale = abs(poly[2]) * well.scale**2
+    return all(p in (0, 2) or abs(c) * well.scale**p <= 1e-14 * scale for p, c in poly.items())
+
+
 def _auto_length(well: Well, channel: Channel, levels: int, size: int, ref: Reference
                  ) -> tuple[float, str]:
     """Basis length for ``length="auto"`` and the reason (see :func:`solve`, Notes)."""
@@ -274,6 +285,9 @@ def _auto_length(well: Well, channel: Channel, levels: int, size: int, ref: Refe
     if ref.method == "off-centre":  # a disk about r = 0 cannot fit an orbit about r_m > 0
         return ref.length, ("the reference oscillator's length, sized to reach beyond the "
                             "off-centre minimum (see the reference's reason)")
+    if ref.method == "harmonic" and _is_oscillator(well, ref.center):
+        return ref.length, ("the reference oscillator's length: the well is that oscillator, "
+                            "whose levels this basis holds exactly")
     ps = _phase_space(well, channel, ref.center)
     parity = channel.l if channel.dimension == 1 else None
     top = levels - 1 if parity is None else 2 * (levels - 1) + parity  # full-line index
