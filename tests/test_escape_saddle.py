@@ -165,12 +165,13 @@ def test_a_pass_beyond_the_first_box_is_found_by_growing_it():
 
 
 def test_quasi_bound_levels_of_the_tilted_gaussian_are_those_below_the_true_pass():
-    from anharmony.geometry.by_block import solve_blocks
+    from anharmony.geometry import by_block
 
+    assert ah.solve_blocks is by_block.solve_blocks  # a top-level name (it was not)
     well = _tilted_gaussian()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ah.ConvergenceWarning)
-        blocks = solve_blocks(well, 2, geometry="cartesian", shells=20, levels=6)
+        blocks = ah.solve_blocks(well, 2, geometry="cartesian", shells=20, levels=6)
     energy, _ = _gaussian_pass()
     assert blocks.barrier == pytest.approx(energy, rel=RTOL_SADDLE_ENERGY)
     e = blocks.energies[np.isfinite(blocks.energies)]
