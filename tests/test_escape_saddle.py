@@ -177,3 +177,32 @@ def test_quasi_bound_levels_of_the_tilted_gaussian_are_those_below_the_true_pass
     e = blocks.energies[np.isfinite(blocks.energies)]
     # (1,1) at −4.617 and (0,2) at −4.589 lie above the pass −4.654: 4 quasi-bound, not 6
     assert np.sum(e < blocks.barrier) == np.sum(e < energy) == 4
+
+
+def test_a_narrow_well_on_a_broad_one_is_resolved_at_the_minimum():
+    # ranges 0.1 and 20 (well.scale = 20): the pass of the narrow well lies at 0.26 from the
+    # centre, on the line of the tilt (symmetry); the grid's step there must be finer than 0.1
+    f, angle = 0.5, 0.4
+    well = ah.Well.from_terms([{"gaussian": {"depth": 10.0, "range": 0.1}},
+                               {"gaussian": {"depth": 1.0, "range": 20.0}},
+                               {"tilt": {"force": f * math.cos(angle), "axis": "x"}},
+                               {"tilt": {"force": f * math.sin(angle), "axis": "y"}}])
+    line = lambda s: -10 * math.exp(-s * s / 0.01) - math.exp(-s * s / 400) - f * s  # noqa: E731
+    ref = optimize.minimize_scalar(lambda s: -line(s), bounds=(0.15, 0.5), method="bounded",
+                                   options={"xatol": 1e-12})
+    found = escape_saddle(well, 2, _minimum(well, 2, 0.5))
+    assert found.kind == "saddle"
+    assert found.energy == pytest.approx(-ref.fun, rel=RTOL_SADDLE_ENERGY)
+
+
+def test_a_degenerate_pass_falls_back_on_the_grid_level_with_a_warning():
+    # ½x² − 0.1x³ + y²(1 − x/x_s)² + 0.01y⁴: the pass at x_s = 10/3 has zero curvature across
+    # (V_yy = 0 there), so it is no first-order saddle; V(x_s, 0) = x_s²/2 − x_s³/10 exactly
+    xs = 10.0 / 3.0
+    well = ah.Well.from_terms([{"expression": {
+        "formula": f"0.5*x**2 - 0.1*x**3 + y**2*(1 - x/{xs!r})**2 + 0.01*y**4"}}])
+    found = escape_saddle(well, 2, [0.0, 0.0])
+    assert found.kind == "grid" and np.all(np.isnan(found.curvatures))
+    assert abs(found.energy - (xs**2 / 2 - xs**3 / 10)) <= found.resolution
+    with pytest.warns(AnharmonyWarning, match="could not be refined"):
+        escape_barrier(well, 2, [0.0, 0.0])

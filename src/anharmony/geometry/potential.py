@@ -251,7 +251,10 @@ def geometry_threshold(well, dimension: int = 3) -> float:
 # The escape barrier of an open well: the lowest mountain pass out of the basin of the minimum
 
 _GRID_POINTS = {2: 129, 3: 49}  # grid nodes per axis (Cartesian 2D, 3D); axial: 129 in z, 65 in ρ
-_STRETCH = 3.0  # nodes at start + L sinh(α u)/sinh(α): ~10× denser at the minimum than at the edge
+# nodes at start + L sinh(α u)/sinh(α), u uniform in [−1, 1]: α ≥ 3 (~10× denser at the
+# minimum than at the edge), more where that keeps the step at the minimum below a tenth of the
+# smallest length scale of the terms (a narrow well on a broad one, a box grown ×4)
+_STRETCH, _STRETCH_MAX, _CENTRAL_STEP = 3.0, 20.0, 0.1
 _BOX_FIRST, _BOX_GROWTH, _BOX_LAST = 8.0, 4.0, 1e3  # box half-widths, in units of well.scale
 _NEAR_NODE = 3.0  # the refined saddle lies within this many grid steps of the grid's pass node
 
@@ -337,8 +340,9 @@ def escape_saddle(well, dimension: int, start) -> EscapeSaddle:
     """
     start = np.asarray(start, dtype=float).reshape(dimension)
     scale = float(well.scale)
+    finest = _CENTRAL_STEP * min((t.scale for t in well.terms if t.scale > 0), default=scale)
     axial = dimension == 3 and _all_axial(well) and \
-        math.hypot(start[0], start[1]) <= 1e-9 * scale
+        math.hypot(start[0], start[1]) <= 1e-6 * scale
     if axial:
         def vfun(*c):
             return axial_value(well, np.abs(c[0]), c[1])  # even in ρ about the axis
@@ -351,7 +355,7 @@ def escape_saddle(well, dimension: int, start) -> EscapeSaddle:
         coordinates = "cartesian"
     half = _BOX_FIRST * scale
     while True:
-        found = _pass_in_box(vfun, origin, half, axial, dimension)
+        found = _pass_in_box(vfun, origin, half, axial, dimension, finest)
         if not isinstance(found, float) or half >= _BOX_LAST * scale:
             break
         half = min(half * _BOX_GROWTH, _BOX_LAST * scale)
@@ -390,13 +394,29 @@ def _all_axial(well) -> bool:
     return True
 
 
-def _axis_nodes(center: float, half: float, n: int, one_sided: bool) -> np.ndarray:
+def _stretch(half: float, intervals: int, finest: float) -> float:
+    """α of the sinh nodes: the central step L α / (sinh α · intervals) at most ``finest``."""
+    from scipy.optimize import brentq
+
+    def excess(a):
+        return half * a / (math.sinh(a) * intervals) - finest
+
+    if excess(_STRETCH) <= 0.0:
+        return _STRETCH
+    if excess(_STRETCH_MAX) > 0.0:
+        return _STRETCH_MAX
+    return float(brentq(excess, _STRETCH, _STRETCH_MAX, xtol=1e-3))
+
+
+def _axis_nodes(center: float, half: float, n: int, one_sided: bool, finest: float
+                ) -> np.ndarray:
     """Grid nodes about ``center``, denser there (sinh stretching); ``center`` is a node."""
+    a = _stretch(half, n - 1 if one_sided else (n - 1) // 2, finest)
     u = np.linspace(0.0 if one_sided else -1.0, 1.0, n)
-    return center + half * np.sinh(_STRETCH * u) / math.sinh(_STRETCH)
+    return center + half * np.sinh(a * u) / math.sinh(a)
 
 
-def _pass_in_box(vfun, origin, half, axial, dimension):
+def _pass_in_box(vfun, origin, half, axial, dimension, finest):
     """The grid's lowest pass out of the basin of ``origin`` inside the box.
 
     Returns the pass node (coordinates), its level, the level's resolution and the local grid
@@ -406,10 +426,11 @@ def _pass_in_box(vfun, origin, half, axial, dimension):
     from scipy import ndimage
 
     if axial:
-        axes = [_axis_nodes(0.0, half, 65, True), _axis_nodes(origin[1], half, 129, False)]
+        axes = [_axis_nodes(0.0, half, 65, True, finest),
+                _axis_nodes(origin[1], half, 129, False, finest)]
     else:
         n = _GRID_POINTS[dimension]
-        axes = [_axis_nodes(c, half, n, False) for c in origin]
+        axes = [_axis_nodes(c, half, n, False, finest) for c in origin]
     mesh = np.meshgrid(*axes, indexing="ij")
     with np.errstate(all="ignore"):
         v = np.asarray(vfun(*mesh), dtype=float)
