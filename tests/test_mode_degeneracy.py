@@ -187,3 +187,15 @@ def test_labels_mixed_above_ten_percent_are_flagged():
         q = tuple(int(v) for v in lab.strip("()").split(","))
         row = int(np.flatnonzero(np.all(spec.states == q, axis=1))[0])
         assert w == pytest.approx(spec.vectors[row, k] ** 2, rel=1e-12)
+
+
+def test_levels_without_error_bars_are_not_taken_for_degenerate():
+    # error_estimate=False leaves the bars NaN: they must not widen the degeneracy test
+    w = np.array([1.0, 1.3, 1.7])
+    well = ah.Well.from_terms([{"anisotropic_harmonic": {"frequencies": list(w)}},
+                               {"power": {"exponent": 4, "strength": 1e-4}}])
+    spec = ah.solve_geometry(well, 3, geometry="cartesian", shells=10, levels=12,
+                             lengths=list(1 / np.sqrt(w)), error_estimate=False)
+    m = ah.mode_shifts(spec)
+    assert m.degenerate == ()
+    assert np.all(np.isfinite(m.chi))  # every pair has its cross term

@@ -261,11 +261,12 @@ def _modes(spec, states, weights, energies, errors, d) -> list[tuple[int, ...]]:
     ground = float(energies[int(np.argmax(weights[_zero_index(states), :]))]) \
         if _zero_index(states) is not None else float(energies[0])
     ones.sort(key=lambda k: energies[k])
+    bars = np.where(np.isfinite(errors), errors, 0.0)  # a bar not computed widens nothing
     clusters: list[list[int]] = [[ones[0]]]
     for k in ones[1:]:
         last = clusters[-1][-1]
         scale = max(abs(energies[k]), abs(energies[last]), abs(energies[k] - ground))
-        if abs(energies[k] - energies[last]) <= errors[k] + errors[last] + DEGENERACY_RTOL * scale:
+        if abs(energies[k] - energies[last]) <= bars[k] + bars[last] + DEGENERACY_RTOL * scale:
             clusters[-1].append(k)
         else:
             clusters.append([k])
@@ -347,7 +348,8 @@ def _levels(spec, states, vectors, weights, energies, errors, modes):
         energy = float(np.mean([r[0] for r in rows]))
         spread = max(r[0] for r in rows) - min(r[0] for r in rows)
         error = max(r[1] for r in rows) + 0.5 * spread
-        if len(rows) == 2 and spread > sum(r[1] for r in rows) + DEGENERACY_RTOL * abs(energy):
+        bars = sum(r[1] for r in rows if math.isfinite(r[1]))
+        if len(rows) == 2 and spread > bars + DEGENERACY_RTOL * abs(energy):
             raise InputError(f"spec: the ±ℓ levels {rows[0][3]} differ by {spread:.3g}, more "
                              "than their error bars: the degenerate mode is split, so the "
                              "symmetry that makes it degenerate does not hold in this basis")
