@@ -398,9 +398,9 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
              "basis_size is N_max; frequency and length are those of the first axis"]
     if np.any(np.isfinite(barrier)):
         extra["escape_barrier"] = (("scan",), barrier, {
-            "units": u.energy, "long_name": "escape energy of the open well (threshold -inf) "
-            "along straight rays from the minimum, an upper bound on its mountain pass; "
-            "levels below it are quasi-bound"})
+            "units": u.energy, "long_name": "escape energy of the open well (threshold -inf): "
+            "V at its lowest mountain pass out of the basin of the minimum (a first-order "
+            "saddle); levels below it are quasi-bound"})
         notes.append("the well is open (V falls without bound one way, as under gravity): no "
                      "level is bound (bound = 0); levels below escape_barrier are quasi-bound "
                      "states that leave by tunnelling")
