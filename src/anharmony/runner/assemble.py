@@ -7,6 +7,7 @@ writes the warning lines that name every level that is not converged.
 from __future__ import annotations
 
 import dataclasses
+import math
 from collections.abc import Sequence
 from typing import Any
 
@@ -317,6 +318,7 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
     energy = np.full((s, nb, n), np.nan)
     error = np.full((s, nb, n), np.nan)
     bound = np.zeros((s, nb, n), dtype=bool)
+    quasi = np.zeros((s, nb, n), dtype=bool)
     threshold = np.full((s, nb), np.nan)
     names = np.full((s, nb, n), "", dtype=object)
     naxes = 2 if geometry == "axial" else case.dimension
@@ -332,6 +334,8 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
             energy[k, b] = res.energies[i]
             error[k, b] = res.error_estimate[i]
             bound[k, b] = res.bound[i]
+            if res.quasi_bound is not None:
+                quasi[k, b] = res.quasi_bound[i]
             names[k, b] = res.level_labels[i]
             degeneracy[b] = res.degeneracy[i]
         threshold[k] = res.threshold
@@ -340,19 +344,23 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
         trap[k] = part["trap"]
         messages += part["messages"]
     tol = case.model.convergence.tolerance
-    converged = bound & (error <= tol)
+    judged = bound | quasi  # an open well's quasi-bound levels are judged as bound ones
+    with np.errstate(invalid="ignore"):
+        converged = judged & (error <= tol)
     hw = 2.0 * case.units.hbar2_over_2m(case.mass) / lengths[:, 0] ** 2
     labels = [block_label(geometry, key) for key in keys]
     warnings_ = []
     at = case.scan_parameter
     for k in range(s):
         bad = [str(names[k, b, m]) or f"{labels[b]} #{m}" for b in range(nb) for m in range(n)
-               if bound[k, b, m] and not converged[k, b, m]]
+               if judged[k, b, m] and not converged[k, b, m]]
         if bad:
             where = f" at {at} = {values[k]:g}" if case.model.scan is not None else ""
-            warnings_.append(f"{len(bad)} bound level(s) not converged{where} (change from "
-                             f"shells - 2 to shells above {tol:g}): {', '.join(bad[:8])}"
-                             + (", …" if len(bad) > 8 else "") + "; raise space.shells")
+            kind = "bound or quasi-bound" if math.isfinite(barrier[k]) else "bound"
+            warnings_.append(f"{len(bad)} {kind} level(s) not converged{where} (error bar "
+                             f"from the nested truncations below shells above {tol:g}): "
+                             f"{', '.join(bad[:8])}" + (", …" if len(bad) > 8 else "")
+                             + "; raise space.shells")
     u = case.units
     axes = ("perp", "z") if geometry == "axial" else ("x", "y", "z")[:case.dimension]
     extra = {
@@ -371,7 +379,9 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
                             "without a curved minimum, such as a deformed Woods-Saxon well)"}),
     }
     notes = [f"{geometry} geometry: channels are the blocks ({', '.join(labels)}); "
-             "error_estimate is the change of each level from shells - 2 to shells; "
+             "error_estimate is each level's error bar from its values in the nested "
+             "truncations below shells (docs/geometries.md; inf where the truncated basis may "
+             "lack a lower level of the block); "
              "basis_size is N_max; frequency and length are those of the first axis"]
     if np.any(np.isfinite(barrier)):
         extra["escape_barrier"] = (("scan",), barrier, {
@@ -380,7 +390,11 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
             "levels below it are quasi-bound"})
         notes.append("the well is open (V falls without bound one way, as under gravity): no "
                      "level is bound (bound = 0); levels below escape_barrier are quasi-bound "
-                     "states that leave by tunnelling")
+                     "states that leave by tunnelling (quasi_bound = 1), and their convergence "
+                     "is judged as a bound level's; levels above it are not judged")
+        extra["quasi_bound"] = (("scan", "channel", "level"), quasi.astype(np.int8), {
+            "units": "1", "long_name": "level of an open well below its escape barrier "
+            "(1) or not (0)"})
     nan = np.full(s, np.nan)
     series = empty_like_series(s, nb, n, 0, 0)
     return CaseResult(
