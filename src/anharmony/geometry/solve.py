@@ -250,8 +250,12 @@ def solve_shells(well, dimension, geometry, shells, levels, lengths, centers, tr
     poly = (lambda t: cartesian_polynomial(t, dimension)) if geometry == "cartesian" else \
         axial_polynomial
     smooth = _split(well, poly)[2] == "weight" and not has_spin(well)
-    ladders = {key: nested_ladder(h, measure(geometry, st, weights), shells, levels, step)
-               for key, (_, _, st, h) in main.items()} if error_estimate else {}
+    ladders, made = {}, {}
+    for key, (_, _, st, h) in main.items() if error_estimate else ():
+        if id(h) not in made:  # ±Λ (±Ω) share their matrix
+            made[id(h)] = nested_ladder(h, measure(geometry, st, weights), shells, levels,
+                                        step)
+        ladders[key] = made[id(h)]
     return Blocks(well=well, dimension=dimension, hbar2_2m=c, lengths=tuple(b),
                   centers=tuple(x0), shells=int(shells), weights=weights, hw=hw,
                   geometry=geometry, main=main, ladders=ladders, parity=parity, omega=omega,
