@@ -255,3 +255,33 @@ def test_an_open_line_has_an_escape_barrier_and_judges_its_quasi_bound_levels():
     unconverged = [lab for lab, q, c in zip(s.labels, s.quasi_bound, s.converged,
                                             strict=True) if q and not c]
     assert unconverged and all(lab in text for lab in unconverged)
+
+
+OPEN_LINE_CASE = """\
+schema: 1
+title: open line
+units: oscillator
+space: {dimension: 1}
+well:
+  - gaussian: {depth: 10.0, range: 1.0}
+  - tilt: {force: 1.0}
+levels: {count: 5}
+output: line.nc
+"""
+
+
+def test_a_case_on_the_open_line_stores_its_barrier_and_judges_quasi_bound_levels(tmp_path,
+                                                                                   capsys):
+    path = tmp_path / "line.yaml"
+    path.write_text(OPEN_LINE_CASE)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ah.ConvergenceWarning)
+        assert main(["run", str(path), "--progress", "off"]) == 0
+    err = capsys.readouterr().err
+    ds = ah.read_dataset(tmp_path / "line.nc")
+    x = brentq(lambda t: 20.0 * t * math.exp(-t * t) + 1.0, -4.0, -1.0)  # as above
+    assert float(ds["escape_barrier"].values[0]) == pytest.approx(
+        -10.0 * math.exp(-x * x) + x, abs=1e-9)
+    q = ds["quasi_bound"].values.astype(bool)
+    assert np.array_equal(q, ds["energy"].values < ds["escape_barrier"].values[0])
+    assert "quasi-bound level(s) not converged" in err and "above the escape barrier" in err

@@ -103,6 +103,20 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         else:
             notes.append(f"error_estimate: |E(N) - E(M)| with N = {case.model.basis.size} "
                          f"and M = {smaller_size(case)} basis states, the same basis length")
+    quasi, barrier = _open_line(case, out)
+    extra: dict[str, Any] = {}
+    if quasi is not None:
+        out = {**out, "quasi": quasi}
+        extra["escape_barrier"] = (("scan",), barrier, {
+            "units": case.units.energy, "long_name": "escape energy of the open line "
+            "(threshold -inf): the highest V between the minimum and the side where V falls "
+            "below it; levels below it are quasi-bound"})
+        extra["quasi_bound"] = (("scan", "channel", "level"), quasi.astype(np.int8), {
+            "units": "1", "long_name": "level of an open well below its escape barrier "
+            "(1) or not (0)"})
+        notes.append("the well is open (V falls without bound on one side): no level is bound "
+                     "(bound = 0); levels below escape_barrier are quasi-bound "
+                     "(quasi_bound = 1), and their convergence is judged as a bound level's")
     if out["study"]:
         notes += sorted({n for st in out["study"].values() for n in st["notes"]})
     if case.model.perturbation is not None and not series_ok:
@@ -145,7 +159,29 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
                       for c in range(len(chans))],
         notes=notes, warnings=(_study_warnings(case, out["study"]) if out["study"] else
                                _quick_warnings(case, out, err, converged)),
+        extra=extra,
     )
+
+
+def _open_line(case: Case, out: dict[str, Any]) -> tuple[np.ndarray | None, np.ndarray]:
+    """The quasi-bound levels (S, C, L) and escape barrier (S,) of a case on the open line
+    (1D channels without parity, threshold −∞ at some point); (None, …) otherwise."""
+    chans = case.channels()
+    line = [c for c, ch in enumerate(chans) if ch.dimension == 1 and ch.l is None]
+    values = case.scan_values()
+    barrier = np.full(len(values), np.nan)
+    if not line or not np.any(out["threshold"][:, line] == -np.inf):
+        return None, barrier
+    from ..spectrum import _line_barrier
+
+    quasi = np.zeros(out["energy"].shape, dtype=bool)
+    for k, value in enumerate(values):
+        if not np.any(out["threshold"][k, line] == -np.inf):
+            continue
+        barrier[k] = _line_barrier(case.well_at(value))
+        with np.errstate(invalid="ignore"):
+            quasi[k, line] = ~out["bound"][k, line] & (out["energy"][k, line] < barrier[k])
+    return quasi, barrier
 
 
 def _study_estimate(case: Case, out: dict[str, Any]) -> tuple[np.ndarray, np.ndarray]:
@@ -266,6 +302,10 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
         return []
     values = case.scan_values()
     energy, bound = out["energy"], out["bound"]
+    quasi = out.get("quasi")
+    is_open = quasi is not None
+    if is_open:  # an open line: its quasi-bound levels are judged as bound ones
+        bound = bound | quasi
     unit = "" if case.units.energy == "1" else f" {case.units.energy}"
     lines = []
     slow = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])
@@ -281,7 +321,8 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
         what = (f"the error estimate (nested basis blocks up to {case.model.basis.size} "
                 "states)" if core_estimate(case) else
                 f"the change from {m} to {case.model.basis.size} basis states")
-        lines.append(f"{len(slow)} bound level(s) not converged: {what} exceeds the tolerance "
+        lines.append(f"{len(slow)} {'bound or quasi-bound' if is_open else 'bound'} level(s) "
+                     f"not converged: {what} exceeds the tolerance "
                      f"{tol:g}{unit}"
                      f": {', '.join(names)}; raise basis.size (or set basis.length), or run a "
                      "convergence study (convergence: {max_size: ...})")
@@ -291,9 +332,15 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
         names = [_label(case, c, n) + (
             f" ({np.count_nonzero(np.isfinite(energy[:, c, n]) & ~bound[:, c, n])} of "
             f"{len(values)} scan points)" if len(values) > 1 else "") for c, n in above]
-        lines.append(f"{len(above)} level(s) lie above the threshold, discretised-continuum "
-                     f"states flagged bound = 0 and converged = 0: {', '.join(names)}; request "
-                     "fewer levels (levels.count), or raise basis.size if one should be bound")
+        if is_open:
+            lines.append(f"{len(above)} level(s) lie above the escape barrier of the open well "
+                         f"(not quasi-bound; their error bars are not judged): "
+                         f"{', '.join(names)}")
+        else:
+            lines.append(f"{len(above)} level(s) lie above the threshold, discretised-continuum "
+                         f"states flagged bound = 0 and converged = 0: {', '.join(names)}; "
+                         "request fewer levels (levels.count), or raise basis.size if one "
+                         "should be bound")
     return lines
 
 
