@@ -68,7 +68,10 @@ class GeometrySpectrum:
     error_estimate : ndarray
         The error bar of each level from its values in the nested truncations N_max − 2,
         N_max − 4, … of its block (:func:`nested_error`); ``inf`` where a smaller basis has
-        no such level, or where the level is ``incomplete``; ``nan`` when not computed.
+        no such level, or where the level is ``incomplete``; ``nan`` when not computed. The
+        bar belongs to the level of its block (the k-th of the block): in the merged ladder a
+        level whose bar is large or infinite may truly lie below its neighbours, so the n-th
+        entry is the well's n-th level only within the bars of the entries above it.
     vectors : ndarray
         Eigenvectors on :attr:`states`, shape (states, levels).
     states : ndarray
