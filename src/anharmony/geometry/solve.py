@@ -9,6 +9,7 @@ are merged in ascending order.
 
 from __future__ import annotations
 
+import itertools
 import math
 import warnings
 from dataclasses import dataclass, field
@@ -423,9 +424,12 @@ def nested_error(e: np.ndarray, ladder: np.ndarray, smooth: bool = True) -> np.n
       while the step before it moved (a staircase; a plateau of the slow, algebraic
       convergence at a cusp such as the centre of a Woods–Saxon well, whose remainder is
       then several times the last change); the discounted older change still covers it;
-    - where the changes shrink steadily (d_1 < d_2 < d_3), also the geometric remainder
-      d_1 r/(1 − r) with the slower of the last two rates r, for slow convergence, whose
-      remainder exceeds the last change;
+    - at least the geometric remainder d_1 r/(1 − r): where the known changes shrink
+      (every ratio d_j/d_{j+1} < 1), r is the slowest of those ratios (slow convergence,
+      whose remainder exceeds the last change); where they do not shrink, or only d_1 is
+      known (the level is missing, or a sub-basis lacks a state below it, one step further
+      down), the level is not yet seen converging and r = :data:`NESTED_RATE_MAX`
+      (remainder 9 d_1);
     - ``inf`` when the level is missing from N_max − s (a change d_j of a level missing
       further down is left out).
     """
@@ -444,8 +448,11 @@ def nested_error(e: np.ndarray, ladder: np.ndarray, smooth: bool = True) -> np.n
             known.append(x)
         q = NESTED_DECAY if smooth else NESTED_DECAY_SLOW
         est = max(q**j * x for j, x in enumerate(known))
-        if len(known) == 3 and known[0] < known[1] < known[2]:
-            r = max(known[0] / known[1], known[1] / known[2])
+        if known[0] > 0.0:
+            ratios = [a / b if b > 0.0 else math.inf for a, b in itertools.pairwise(known)]
+            r = max(ratios, default=math.inf)  # one change alone: no rate known
+            if r >= 1.0:  # not shrinking: not yet converging, take the slowest rate allowed
+                r = NESTED_RATE_MAX
             est = max(est, known[0] * r / (1.0 - r))
         out[k] = NESTED_SAFETY * est
     return out
@@ -455,6 +462,7 @@ def nested_error(e: np.ndarray, ladder: np.ndarray, smooth: bool = True) -> np.n
 # measured on the cases of benchmarks/RESULTS_geometry.md, 2026-12-04 evening)
 NESTED_DECAY = 0.1
 NESTED_DECAY_SLOW = 0.5
+NESTED_RATE_MAX = 0.9  # the rate taken where the changes do not shrink (remainder 9 d_1)
 NESTED_SAFETY = 1.0  # factor on the nested estimate (measured: benchmarks/RESULTS_geometry.md)
 NESTED_STEPS = 6  # nested truncations N_max − 2, …, N_max − 12 below the basis (error bars)
 _SLACK = 1e-9
