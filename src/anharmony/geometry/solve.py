@@ -345,7 +345,7 @@ def oscillator_energy(geometry: str, states: np.ndarray, hw: np.ndarray) -> np.n
     return hw[0] * (2 * states[:, 0] + np.abs(states[:, 1]) + 1) + hw[1] * (states[:, 2] + 0.5)
 
 
-def excluded_floor(geometry: str, shells: int, weights: np.ndarray, hw: np.ndarray, keys,
+def excluded_floor(geometry: str, shells: float, weights: np.ndarray, hw: np.ndarray, keys,
                    every: bool = False, parity: Any = None) -> float:
     """The lowest basis-oscillator energy of a state of the blocks ``keys`` that the
     truncation at ``shells`` leaves out (``inf`` if none of those blocks loses a state).
@@ -355,53 +355,53 @@ def excluded_floor(geometry: str, shells: int, weights: np.ndarray, hw: np.ndarr
     lies below it, but the basis cannot make it: with ``truncation="shells"`` and unequal
     frequencies, the many quanta of a soft axis). ``every``: all blocks of the geometry
     that ``parity`` allows, also those the truncation leaves empty (axial Λ above the top).
-    The search reaches 2 max(w) + Σ w beyond the cut: the cheapest excluded state of a
-    parity class loses its exclusion when two quanta are taken off one axis, unless every
-    quantum number is 0 or 1 (common practice, no source).
+
+    The candidates are the basis states with one or two quanta added along one axis (and the
+    states with every quantum 0, 1 or 2): the cheapest excluded state of a parity class gives
+    an included state of the same class when one quantum (an axis without parity) or two
+    are taken off an axis, unless all its quanta are below 2 (common practice, no source).
     """
     w = np.asarray(weights, dtype=float)
-    reach = shells + 2.0 * float(np.max(w)) * (2 if geometry == "axial" else 1) + \
-        float(np.sum(w)) * 2 + 1.0
+    top = shells + _SLACK
     best = math.inf
     if geometry == "cartesian":
-        grids = np.meshgrid(*(np.arange(math.floor(reach / wi) + 1) for wi in w),
-                            indexing="ij")
-        st = np.column_stack([g.ravel() for g in grids])
-        cut = st @ w
-        st = st[(cut > shells + _SLACK) & (cut <= reach)]
+        d = len(w)
+        base = cartesian_states(max(shells, 0.0), w) if shells >= 0 else np.zeros((0, d), int)
+        small = np.array(list(itertools.product(range(3), repeat=d)), dtype=np.intp)
+        eye = np.eye(d, dtype=np.intp)
+        cands = np.vstack([small] + [base + k * eye[i] for i in range(d) for k in (1, 2)])
+        cands = cands[cands @ w > top]
         if every:
             classes = [None if parity is None else tuple(
                 None if p is None else (0 if p == 1 else 1) for p in parity)]
         else:
             classes = list(keys)
         for key in classes:
-            sel = np.ones(len(st), dtype=bool)
+            sel = np.ones(len(cands), dtype=bool)
             if key is not None:
                 for axis, p in enumerate(key):
                     if p is not None:
-                        sel &= st[:, axis] % 2 == p
+                        sel &= cands[:, axis] % 2 == p
             if np.any(sel):
-                best = min(best, float(np.min(oscillator_energy(geometry, st[sel], hw))))
+                best = min(best, float(np.min(oscillator_energy(geometry, cands[sel], hw))))
         return best
-    w_perp, w_z = w
+    w_perp = float(w[0])
     if every:
-        top = int(reach // w_perp) + 1
-        classes = [(lam, None if parity is None else parity) for lam in range(top + 1)]
-        lam_sets = [(c[0],) for c in classes]
+        last = int(max(shells, 0.0) // w_perp) + 2
+        sets = [((lam,), None if parity is None else parity) for lam in range(last + 1)]
     else:
-        classes, lam_sets = [], []
+        sets = []
         for om, pi in keys:
             a = abs(float(om))
-            lam_sets.append((int(a),) if float(a).is_integer() else
-                            (int(a - 0.5), int(a + 0.5)))
-            classes.append((None, pi))
-    for (_, pi), lams in zip(classes, lam_sets, strict=True):
+            sets.append(((int(a),) if float(a).is_integer() else (int(a - 0.5), int(a + 0.5)),
+                         pi))
+    small = np.array([(0, 0), (0, 1), (0, 2), (1, 0), (1, 1)], dtype=np.intp)
+    for lams, pi in sets:
         for lam in lams:
-            n_rho, n_z = np.meshgrid(np.arange(math.floor(reach / (2 * w_perp)) + 1),
-                                     np.arange(math.floor(reach / w_z) + 1), indexing="ij")
-            st = np.column_stack([n_rho.ravel(), np.full(n_rho.size, lam), n_z.ravel()])
-            cut = measure("axial", st, w)
-            sel = (cut > shells + _SLACK) & (cut <= reach)
+            base = axial_states(shells, lam, w) if shells >= 0 else np.zeros((0, 2), int)
+            pairs = np.vstack([small] + [base + step for step in ((1, 0), (0, 1), (0, 2))])
+            st = np.column_stack([pairs[:, 0], np.full(len(pairs), lam), pairs[:, 1]])
+            sel = measure("axial", st, w) > top
             if pi is not None:
                 sel &= axial_parity(lam, st[:, 2]) == pi
             if np.any(sel):
