@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import sys
 import time
+import warnings
 from datetime import date
 from pathlib import Path
 
@@ -73,13 +74,26 @@ def axial_deformed_spin():
     dt, spec = _best(block)
     print("| axial Ω = 1/2, π = +, deformed WS + SO A = 40, β₂ = 0.25, N_max = 12 "
           f"({len(spec.states)} states) | {1e3 * dt:.0f} ms | E0 = {spec.energies[0]:.6f} MeV |")
+
+    def block_with_errors():
+        return solve_geometry(well, 3, geometry="axial", omega="1/2", parity=1, shells=12,
+                              lengths=[2.0, 2.0], units="nuclear", levels=5)
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        block_with_errors()
+        dt, spec = _best(block_with_errors)
+    print("| the same block with its error bars (error_estimate=True) | "
+          f"{1e3 * dt:.0f} ms | δE0 = {spec.error_estimate[0]:.1e} MeV |")
     from anharmony.geometry.by_block import solve_blocks
 
     def scheme():
         return solve_blocks(well, 3, geometry="axial", shells=12, units="nuclear", levels=3)
 
-    scheme()
-    dt, res = _best(scheme, repeat=2)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        scheme()
+        dt, res = _best(scheme, repeat=2)
     print(f"| every block ({len(res.keys)} Ω^π), N_max = 12 and 10, one β₂ point | "
           f"{dt:.2f} s | lowest {np.nanmin(res.energies):.6f} MeV |")
 

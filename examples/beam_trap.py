@@ -30,7 +30,7 @@ print(f"atom of {MASS:g} u in a 200 h·kHz focused beam, gravity m g = {GRAVITY:
 print("trap frequencies (h·kHz): " + ", ".join(f"{f:.4f}" for f in tf.frequencies))
 print(f"minimum at z = {tf.minimum[2] * 1e3:.2f} nm (gravity sag), V = {tf.value:.4f} h·kHz")
 
-spec = ah.solve(well, geometry="axial", shells=16, truncation="energy", units="trap",
+spec = ah.solve(well, geometry="axial", shells=24, truncation="energy", units="trap",
                 mass=MASS, levels=8)
 print(f"{'level':>12} {'E/h (kHz)':>12} {'above ground':>13} {'error est.':>11}")
 for label, e, err in zip(spec.labels, spec.energies, spec.error_estimate, strict=True):

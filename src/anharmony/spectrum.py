@@ -54,7 +54,7 @@ from .errorbars import (
     nested_error_estimate,
     nested_sizes,
 )
-from .errors import ConvergenceWarning, InputError
+from .errors import AnharmonyError, ConvergenceWarning, InputError
 from .hamiltonian import Channel, ChannelMatrices, channel_hamiltonian
 from .labels import channel_label
 from .reference import (
@@ -173,6 +173,10 @@ class Spectrum:
     tolerance: float = math.nan
     labels: tuple[str, ...] = ()
     length_reason: str = ""
+    # an open line (V → −∞ on one side, as under a tilt): the escape barrier (NaN otherwise)
+    # and the levels below it, quasi-bound, whose convergence is judged as a bound level's
+    barrier: float = math.nan
+    quasi_bound: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
 
     def __getstate__(self) -> dict[str, Any]:
         # pickled and copied with every lazy field made (a _Deferred holds a closure)
@@ -394,6 +398,8 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     threshold = _cached("reference", (_well_key(well), "threshold", dimension, radial),
                         lambda: well.threshold(dimension, symmetric=radial))
     bound = energies < threshold
+    barrier = _line_barrier(well) if threshold == -math.inf and not radial else math.nan
+    quasi = ~bound & (energies < barrier)
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
     if isinstance(ref, Reference):
@@ -410,22 +416,67 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     spacing = (float(energies[nb - 1] - energies[0]) / (nb - 1) if nb > 1 else 0.0) \
         or mats.hbar_omega
     tol = tolerance * spacing
-    converged = bound & (errors <= tol)
+    converged = (bound | quasi) & (errors <= tol)
     labels = _labels(channel, levels, system)
     spec = Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
                     mass=mass, well=well, reference_energies=ref_levels, rounding=rounding,
                     error_estimate=errors, converged=converged, tolerance=tol, labels=labels,
-                    length_reason=why)
+                    length_reason=why, barrier=barrier, quasi_bound=quasi)
     _warn_unconverged(spec, levels, size, length)
     return spec
 
 
+def _line_barrier(well: Well) -> float:
+    """The escape barrier of an open line: from the minimum, the highest V on each side up to
+    where V falls below V_min (far out, 10³ length scales), lowest over the sides that fall;
+    NaN if no side falls below V_min or the well has no minimum."""
+    from scipy.optimize import minimize_scalar
+
+    try:
+        x0, v0, _ = well.minimum(radial=False)
+    except (AnharmonyError, ValueError, ArithmeticError):
+        return math.nan
+    r = np.concatenate([[0.0], np.geomspace(1e-3, 1e3, 2000) * well.scale])
+    best = math.nan
+    for side in (1.0, -1.0):
+        with np.errstate(all="ignore"):
+            v = np.asarray(well.value(x0 + side * r), dtype=float)
+        below = np.flatnonzero(v < v0)
+        if below.size == 0:
+            continue
+        stop = int(below[0])
+        i = int(np.argmax(v[:stop + 1]))
+        lo, hi = r[max(i - 1, 0)], r[min(i + 1, stop)]
+        peak = float(v[i])
+        if hi > lo:
+            def minus(t: float, s: float = side) -> float:
+                with np.errstate(all="ignore"):
+                    return -float(well.value(np.array([x0 + s * t]))[0])
+
+            res = minimize_scalar(minus, bounds=(lo, hi), method="bounded",
+                                  options={"xatol": 1e-12 * max(hi, 1.0)})
+            peak = max(peak, -float(res.fun))
+        best = peak if math.isnan(best) else min(best, peak)
+    return best
+
+
 def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> None:
-    """One ConvergenceWarning for bound levels above tolerance or missing bound levels."""
-    bad = np.flatnonzero(spec.bound & ~spec.converged)
+    """One ConvergenceWarning for bound (or quasi-bound) levels above tolerance, missing bound
+    levels, and the levels of an open line above its escape barrier."""
+    judged = spec.bound | spec.quasi_bound
+    bad = np.flatnonzero(judged & ~spec.converged)
     problems = []
     unit = "" if spec.units.energy == "1" else " " + spec.units.energy
+    name = channel_label(spec.channel.dimension, spec.channel.l, spec.channel.j,
+                         units=spec.units)
+    above = int(np.count_nonzero(~judged))
+    if math.isfinite(spec.barrier) and above:
+        warnings.warn(f"{name}: the well is open (V falls without bound on one side): "
+                      f"{int(np.count_nonzero(spec.quasi_bound))} level(s) lie below its "
+                      f"escape barrier {spec.barrier:.6g}{unit} and are quasi-bound, {above} "
+                      "above it (not quasi-bound: their error bars are not judged)",
+                      ConvergenceWarning, stacklevel=3)
     if bad.size:
         worst = float(np.max(spec.error_estimate[bad]))
         names = ", ".join(spec.labels[k] for k in bad[:8]) + (", …" if bad.size > 8 else "")
@@ -444,7 +495,5 @@ def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> No
             else "increase size (length is chosen automatically)")
     if not isinstance(length, str):
         hint += ", or try length='auto'"
-    name = channel_label(spec.channel.dimension, spec.channel.l, spec.channel.j,
-                         units=spec.units)
     warnings.warn(f"{name}: " + "; ".join(problems) + f" with size={size}; "
                   f"{hint}", ConvergenceWarning, stacklevel=3)

@@ -415,7 +415,7 @@ def _convergence_mode(case: Case) -> str:
     """How the case's levels were checked, in words (global attribute ``convergence``)."""
     conv = case.model.convergence
     if case.model.space.geometry != "central":
-        return "change of each level from shells - 2 to shells"
+        return "error bar of each level from the nested truncations below shells"
     if not conv.study:
         return {"smaller_basis": "quick estimate: changes from smaller bases",
                 "none": "not estimated"}[conv.method]

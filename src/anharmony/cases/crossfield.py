@@ -91,8 +91,9 @@ def _geometry_issues(model: CaseModel) -> Found:
                     f"which the {geometry} geometry has not; scan a parameter of the well"))
     study = set(model.convergence.model_fields_set) - {"tolerance"}
     if study:
-        out.append((("convergence", sorted(study)[0]), f"the {geometry} geometry's error bar is "
-                    "the change from shells - 2 to shells; only convergence.tolerance applies"))
+        out.append((("convergence", sorted(study)[0]), f"the {geometry} geometry's error bar comes "
+                    "from the nested truncations below shells; only convergence.tolerance "
+                    "applies"))
     well = _well_of(model)
     if out or well is None:
         return out

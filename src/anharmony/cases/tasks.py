@@ -199,7 +199,8 @@ def estimate_work(case: Case) -> WorkEstimate:
 
 
 def _geometry_work(case: Case) -> WorkEstimate:
-    """A Cartesian or axial case: every block at N_max and N_max − 2 shells per scan point.
+    """A Cartesian or axial case: every block at N_max and N_max − 2 shells per scan point (an
+    upper bound since the nested truncations are sub-blocks of the N_max matrices).
 
     The states up to N_max shells number C(N + d, d) in d dimensions (twice with spin); the
     axial blocks are about 2(N + 1) (Λ or Ω, and parity), the Cartesian ones up to 2^d. The

@@ -2,8 +2,9 @@
 
 :func:`~anharmony.geometry.solve.solve_geometry` merges the blocks into one ladder; a result
 file keeps them apart (DESIGN §10: the channel dimension holds the geometry's blocks), with the
-lowest ``levels`` of every block, an error bar on each (the change from N_max − 2 to N_max
-shells, the same rule as ``solve_geometry``) and the asymptotic label of each level. Of a pair
+lowest ``levels`` of every block, an error bar on each (from the nested truncations
+N_max − 2, N_max − 4, …, the same rule as ``solve_geometry``: :func:`~anharmony.geometry.solve.
+nested_error`) and the asymptotic label of each level. Of a pair
 of time-reversed blocks ±Λ (or ±Ω with spin) only the non-negative one is kept, with
 degeneracy 2.
 """
@@ -17,8 +18,8 @@ from typing import Any
 import numpy as np
 
 from ..units import UnitSystem
-from .potential import escape_barrier, geometry_threshold
-from .solve import _label, solve_shells
+from .potential import geometry_threshold
+from .solve import _label, judged, open_barrier, solve_shells, warn_levels
 
 __all__ = ["BlockSpectra", "block_label", "solve_blocks"]
 
@@ -50,6 +51,14 @@ class BlockSpectra:
         The basis lengths (b_⊥, b_z or b_x, b_y[, b_z]) and centres used.
     shells : int
         N_max of the basis (given, or chosen from ``count``).
+    quasi_bound : ndarray of bool (B, L)
+        Open well: the level lies below the escape barrier; its convergence is judged as a
+        bound level's (:meth:`converged`). Levels of an open well above the barrier are
+        neither bound nor quasi-bound.
+    incomplete : ndarray of bool (B, L)
+        The level's basis-oscillator energy ⟨H₀⟩ comes within half a quantum of the lowest
+        oscillator state of its block that the truncation leaves out (``complete_below``,
+        (B,)): the basis may lack a lower level of the block; error bar ``inf``.
     """
 
     keys: list[tuple]
@@ -64,6 +73,20 @@ class BlockSpectra:
     lengths: tuple[float, ...]
     centers: tuple[float, ...]
     shells: int = 0
+    quasi_bound: np.ndarray | None = None
+    incomplete: np.ndarray | None = None
+    complete_below: np.ndarray | None = None
+
+    def judged(self) -> np.ndarray:
+        """(B, L) bool: the levels whose convergence is judged: bound, or quasi-bound (an
+        open well's levels below its escape barrier)."""
+        quasi = np.zeros_like(self.bound) if self.quasi_bound is None else self.quasi_bound
+        return judged(self.bound, quasi)
+
+    def converged(self, tolerance: float) -> np.ndarray:
+        """(B, L) bool: judged levels whose error bar is at most ``tolerance`` (energy)."""
+        with np.errstate(invalid="ignore"):
+            return self.judged() & (self.error_estimate <= tolerance)
 
 
 def block_label(geometry: str, key: tuple) -> str:
@@ -89,38 +112,47 @@ def solve_blocks(well, dimension: int = 3, *, geometry: str = "axial", shells: i
     """The lowest ``levels`` of every block of a well in a Cartesian or axial basis.
 
     Parameters are those of :func:`~anharmony.geometry.solve.solve_geometry` (every block is
-    solved; the error bar of each level is its change from ``shells − 2`` to ``shells``;
-    ``count`` chooses ``shells`` from a count of Cartesian states).
+    solved; the error bar of each level comes from the nested truncations below ``shells``;
+    ``count`` chooses ``shells`` from a count of Cartesian states). Levels that the truncated
+    basis of their block may not represent completely (``incomplete``) are named in a
+    :class:`~anharmony.errors.ConvergenceWarning`.
     """
-    well, dimension, c, b, x0, shells, main, small = solve_shells(
-        well, dimension, geometry, shells, levels, lengths, centers, truncation, units, mass,
-        count)
+    res = solve_shells(well, dimension, geometry, shells, levels, lengths, centers, truncation,
+                       units, mass, count)
+    well, main, shells = res.well, res.main, res.shells
     keys = sorted((k for k in main if geometry == "cartesian" or k[0] >= 0),
                   key=lambda k: _order(geometry, k))
     threshold = geometry_threshold(well, dimension)
     nb = len(keys)
     energies = np.full((nb, levels), math.nan)
     errors = np.full((nb, levels), math.nan)
+    incomplete = np.zeros((nb, levels), dtype=bool)
+    floors = np.full(nb, math.inf)
     names = [[""] * levels for _ in range(nb)]
     for i, key in enumerate(keys):
-        e, vec, states = main[key]
+        e, vec, states, _ = main[key]
         count = min(levels, len(e))
         energies[i, :count] = e[:count]
-        es = small.get(key, ((), None, None))[0]
+        errors[i, :count] = res.errors(key)[:count]
+        # a block's own ladder is complete below the lowest oscillator state it lacks
+        floors[i] = res.floor([key])
+        incomplete[i, :count] = res.content(key)[:count] > floors[i] - res.margin()
         for k in range(count):
-            errors[i, k] = abs(e[k] - es[k]) if k < len(es) else math.inf
             names[i][k] = _label(geometry, key, states[np.argmax(vec[:, k] ** 2)])
+    errors[incomplete] = math.inf
     degeneracy = np.array([2 if geometry == "axial" and k[0] > 0 else 1 for k in keys])
-    barrier = math.nan
-    if threshold == -math.inf:
-        from .frequencies import trap_frequencies_of
-
-        minimum = trap_frequencies_of(well, dimension, c).minimum
-        barrier = escape_barrier(well, dimension, minimum)
+    barrier = open_barrier(well, dimension, res.hbar2_2m, threshold)
     with np.errstate(invalid="ignore"):
         bound = energies < threshold
+        quasi = ~bound & (energies < barrier)
+    if np.any(incomplete):
+        flat = [names[i][k] for i in range(nb) for k in range(levels) if incomplete[i, k]]
+        warn_levels(np.zeros(len(flat)), np.full(len(flat), math.inf), flat,
+                    np.zeros(len(flat), bool), np.zeros(len(flat), bool),
+                    np.ones(len(flat), bool), shells, truncation, math.nan)
     return BlockSpectra(keys=keys, labels=[block_label(geometry, k) for k in keys],
                         degeneracy=degeneracy, energies=energies, error_estimate=errors,
                         bound=bound, level_labels=names, threshold=threshold, barrier=barrier,
-                        lengths=tuple(float(v) for v in b), centers=tuple(float(v) for v in x0),
-                        shells=int(shells))
+                        lengths=tuple(float(v) for v in res.lengths),
+                        centers=tuple(float(v) for v in res.centers), shells=int(shells),
+                        quasi_bound=quasi, incomplete=incomplete, complete_below=floors)

@@ -15,7 +15,8 @@ How ``solve``'s central arguments map (DESIGN §10, docs/geometries.md):
 - ``length``: ``"auto"`` (lengths from the Hessian at the minimum, or the reference
   oscillator of a central well) or one number, used on every axis;
 - ``reference`` and ``tolerance``: refused when written (no reference series and no
-  ``converged`` flag here; ``error_estimate`` is the change against N_max − 2 shells).
+  ``converged`` flag here; ``error_estimate`` comes from the nested truncations below N_max,
+  :func:`~anharmony.geometry.solve.nested_error`).
 """
 
 from __future__ import annotations
@@ -69,8 +70,8 @@ def solve_in_geometry(well: Any, dimension: Any, l: Any, j: Any, *, geometry: An
                          f"basis is cut by shells=N_max instead (default {DEFAULT_SHELLS}); "
                          f"got size={size!r}")
     if not is_unset(tolerance):
-        raise InputError(f"tolerance: the {geometry} geometry reports error_estimate (the "
-                         "change against N_max − 2 shells) but no converged flag; leave "
+        raise InputError(f"tolerance: the {geometry} geometry reports error_estimate (from "
+                         "the nested truncations below N_max) but no converged flag; leave "
                          f"tolerance out; got tolerance={tolerance!r}")
     if not (isinstance(reference, str) and reference == "auto"):
         raise InputError(f"reference: the {geometry} geometry takes its basis from the "

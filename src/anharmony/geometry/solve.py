@@ -9,6 +9,7 @@ are merged in ascending order.
 
 from __future__ import annotations
 
+import itertools
 import math
 import warnings
 from dataclasses import dataclass, field
@@ -41,8 +42,8 @@ __all__ = ["GEOMETRIES", "GeometrySpectrum", "shells_for_count", "solve_geometry
            "trap_frequencies"]
 
 GEOMETRIES = ("cartesian", "axial")
-# a bound level whose change from N_max − 2 to N_max exceeds this share of the mean level
-# spacing is named in a ConvergenceWarning (the difference is a pessimistic error bar)
+# a bound (or quasi-bound) level whose error bar exceeds this share of the mean level spacing
+# is named in a ConvergenceWarning
 GEOMETRY_TOLERANCE = 1e-6
 _SYMMETRY_RTOL = 1e-12  # a reflection symmetry holds to rounding, or it is not used
 
@@ -66,13 +67,29 @@ class GeometrySpectrum:
         basis, (Ω, π or None) in the axial one (Ω = Λ without spin, a half-integer float
         with it).
     error_estimate : ndarray
-        |E(N_max) − E(N_max − 2)| for the same level of the same block (``inf`` where the
-        smaller basis has no such level); ``nan`` when not computed.
+        The error bar of each level from its values in the nested truncations N_max − 2,
+        N_max − 4, … of its block (:func:`nested_error`); ``inf`` where a smaller basis has
+        no such level, or where the level is ``incomplete``; ``nan`` when not computed. The
+        bar belongs to the level of its block (the k-th of the block): in the merged ladder a
+        level whose bar is large or infinite may truly lie below its neighbours, so the n-th
+        entry is the well's n-th level only within the bars of the entries above it.
     vectors : ndarray
         Eigenvectors on :attr:`states`, shape (states, levels).
     states : ndarray
         Quanta of every basis state of the requested blocks: (n_x, n_y[, n_z]), (n_ρ, Λ, n_z),
         or with spin (n_ρ, Λ, n_z, 2Σ).
+    barrier : float
+        The escape barrier of an open well (threshold −∞, as under a tilt), NaN otherwise.
+    quasi_bound : ndarray of bool
+        Open well: the level lies below the escape barrier (its error bar is judged as a
+        bound level's is).
+    incomplete : ndarray of bool
+        The level's energy in the basis oscillator, ⟨H₀⟩, comes within half a quantum of
+        ``complete_below``: the truncated basis may lack a state below it, so the level may
+        not be the n-th of the well (error bar ``inf``).
+    complete_below : float
+        The lowest basis-oscillator energy of a state the truncation leaves out, over the
+        requested blocks.
     """
 
     energies: np.ndarray
@@ -92,6 +109,10 @@ class GeometrySpectrum:
     units: UnitSystem
     mass: float | None
     well: Well = field(repr=False)
+    barrier: float = math.nan
+    quasi_bound: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    incomplete: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
+    complete_below: float = math.inf
 
 
 def _resolve(well, units, mass) -> Well:
@@ -217,12 +238,10 @@ def prepare(well, dimension, geometry, shells, levels, lengths, centers, truncat
 def solve_shells(well, dimension, geometry, shells, levels, lengths, centers, truncation,
                  units, mass, count, parity=None, omega=None, error_estimate=True):
     """The blocks of a geometry solve at N_max = ``shells`` (chosen from ``count`` when given)
-    and, for the error bars, at N_max − 2: the work :func:`solve_geometry` and
-    :func:`~anharmony.geometry.by_block.solve_blocks` share.
+    and the nested truncations below it, for the error bars: the work :func:`solve_geometry`
+    and :func:`~anharmony.geometry.by_block.solve_blocks` share.
 
-    Returns the well in its units, the dimension, ħ²/2m, the basis lengths and centres, N_max
-    and two dictionaries block key → (energies, vectors, states): at N_max, and at N_max − 2
-    (empty below 2 shells or without ``error_estimate``).
+    Returns a :class:`Blocks`.
     """
     well, dimension, c, b, x0, weights = prepare(well, dimension, geometry, shells, levels,
                                                  lengths, centers, truncation, units, mass)
@@ -230,9 +249,249 @@ def solve_shells(well, dimension, geometry, shells, levels, lengths, centers, tr
         shells = shells_for_count(count, geometry, weights)
     solver = _cartesian if geometry == "cartesian" else _axial
     main = solver(well, dimension, b, x0, shells, weights, parity, omega, c, levels)
-    small = solver(well, dimension, b, x0, shells - 2, weights, parity, omega, c, levels) \
-        if error_estimate and shells >= 2 else {}
-    return well, dimension, c, b, x0, shells, main, small
+    hw = np.array([2.0 * c / v**2 for v in b])
+    step = nested_step(weights)
+    poly = (lambda t: cartesian_polynomial(t, dimension)) if geometry == "cartesian" else \
+        axial_polynomial
+    smooth = _split(well, poly)[2] == "weight" and not has_spin(well)
+    ladders, made = {}, {}
+    for key, (_, _, st, h) in main.items() if error_estimate else ():
+        if id(h) not in made:  # ±Λ (±Ω) share their matrix
+            made[id(h)] = nested_ladder(h, measure(geometry, st, weights), shells, levels,
+                                        step)
+        ladders[key] = made[id(h)]
+    return Blocks(well=well, dimension=dimension, hbar2_2m=c, lengths=tuple(b),
+                  centers=tuple(x0), shells=int(shells), weights=weights, hw=hw,
+                  geometry=geometry, main=main, ladders=ladders, parity=parity, omega=omega,
+                  smooth=smooth)
+
+
+@dataclass(frozen=True)
+class Blocks:
+    """The solved blocks of one geometry request.
+
+    ``main``: block key → (energies, vectors, states, matrix) at N_max; ``ladders``: block
+    key → array (steps, levels) of the same levels in the nested truncations N_max − 2,
+    N_max − 4, … (``inf`` where the smaller basis has no such level; empty without error
+    estimate); ``hw``: ħω of each basis axis; ``smooth``: every term is a polynomial or
+    analytic (quadrature by the Gauss rule of the basis), so the levels converge
+    exponentially; a kink or cusp (panels) or a spin–orbit term converges algebraically.
+    """
+
+    well: Well
+    dimension: int
+    hbar2_2m: float
+    lengths: tuple[float, ...]
+    centers: tuple[float, ...]
+    shells: int
+    weights: np.ndarray
+    hw: np.ndarray
+    geometry: str
+    main: dict
+    ladders: dict
+    parity: Any = None
+    omega: Any = None
+    smooth: bool = True
+
+    def errors(self, key) -> np.ndarray:
+        """The error bar of each level of block ``key`` (:func:`nested_error`)."""
+        e = self.main[key][0]
+        if key not in self.ladders:
+            return np.full(len(e), math.nan)
+        ladder = self.ladders[key].copy()
+        # a sub-basis that lacks an oscillator state below the level (its ⟨H₀⟩ reaches the
+        # sub-basis' floor) may hold another state in its place: no change is read there
+        content = self.content(key)
+        step = nested_step(self.weights)
+        for j in range(len(ladder)):
+            floor = excluded_floor(self.geometry, self.shells - step * (j + 1), self.weights,
+                                   self.hw, [key])
+            ladder[j, :len(e)][content > floor - self.margin()] = math.inf
+        return nested_error(e, ladder, self.smooth)
+
+    def content(self, key) -> np.ndarray:
+        """⟨H₀⟩ of each level of block ``key``: its energy in the basis oscillator."""
+        _, vec, st, _ = self.main[key]
+        return oscillator_energy(self.geometry, st, self.hw) @ (vec * vec)
+
+    def floor(self, keys=None) -> float:
+        """The lowest basis-oscillator energy of a state that the truncation leaves out, over
+        the blocks ``keys`` (default: every block of the request, the empty ones included):
+        below it the basis holds every oscillator state of those blocks."""
+        return excluded_floor(self.geometry, self.shells, self.weights, self.hw,
+                              self.main if keys is None else keys,
+                              every=keys is None and self.omega is None, parity=self.parity)
+
+    def margin(self) -> float:
+        """Half the smallest basis quantum: how far below :meth:`floor` a level's ⟨H₀⟩ must
+        lie to count as complete."""
+        return 0.5 * float(np.min(self.hw))
+
+
+def measure(geometry: str, states: np.ndarray, weights: np.ndarray) -> np.ndarray:
+    """What the truncation cuts, per state: Σ w_i n_i (Cartesian) or w_⊥(2n_ρ + |Λ|) + w_z n_z
+    (axial states (n_ρ, Λ, n_z[, 2Σ]))."""
+    states = np.asarray(states)
+    if geometry == "cartesian":
+        return states @ np.asarray(weights, dtype=float)
+    return weights[0] * (2 * states[:, 0] + np.abs(states[:, 1])) + weights[1] * states[:, 2]
+
+
+def oscillator_energy(geometry: str, states: np.ndarray, hw: np.ndarray) -> np.ndarray:
+    """The energy of each state in the basis oscillator (ħω_i of the basis lengths)."""
+    states = np.asarray(states)
+    if geometry == "cartesian":
+        return (states + 0.5) @ hw
+    return hw[0] * (2 * states[:, 0] + np.abs(states[:, 1]) + 1) + hw[1] * (states[:, 2] + 0.5)
+
+
+def excluded_floor(geometry: str, shells: float, weights: np.ndarray, hw: np.ndarray, keys,
+                   every: bool = False, parity: Any = None) -> float:
+    """The lowest basis-oscillator energy of a state of the blocks ``keys`` that the
+    truncation at ``shells`` leaves out (``inf`` if none of those blocks loses a state).
+
+    Below it the truncated basis holds every oscillator state of those blocks; a level whose
+    ⟨H₀⟩ reaches it may stand in for a state the basis lacks (a level of the right block
+    lies below it, but the basis cannot make it: with ``truncation="shells"`` and unequal
+    frequencies, the many quanta of a soft axis). ``every``: all blocks of the geometry
+    that ``parity`` allows, also those the truncation leaves empty (axial Λ above the top).
+
+    The candidates are the basis states with one or two quanta added along one axis (and the
+    states with every quantum 0, 1 or 2): the cheapest excluded state of a parity class gives
+    an included state of the same class when one quantum (an axis without parity) or two
+    are taken off an axis, unless all its quanta are below 2 (common practice, no source).
+    """
+    w = np.asarray(weights, dtype=float)
+    top = shells + _SLACK
+    best = math.inf
+    if geometry == "cartesian":
+        d = len(w)
+        base = cartesian_states(max(shells, 0.0), w) if shells >= 0 else np.zeros((0, d), int)
+        small = np.array(list(itertools.product(range(3), repeat=d)), dtype=np.intp)
+        eye = np.eye(d, dtype=np.intp)
+        cands = np.vstack([small] + [base + k * eye[i] for i in range(d) for k in (1, 2)])
+        cands = cands[cands @ w > top]
+        if every:
+            classes = [None if parity is None else tuple(
+                None if p is None else (0 if p == 1 else 1) for p in parity)]
+        else:
+            classes = list(keys)
+        for key in classes:
+            sel = np.ones(len(cands), dtype=bool)
+            if key is not None:
+                for axis, p in enumerate(key):
+                    if p is not None:
+                        sel &= cands[:, axis] % 2 == p
+            if np.any(sel):
+                best = min(best, float(np.min(oscillator_energy(geometry, cands[sel], hw))))
+        return best
+    w_perp = float(w[0])
+    if every:
+        last = int(max(shells, 0.0) // w_perp) + 2
+        sets = [((lam,), None if parity is None else parity) for lam in range(last + 1)]
+    else:
+        sets = []
+        for om, pi in keys:
+            a = abs(float(om))
+            sets.append(((int(a),) if float(a).is_integer() else (int(a - 0.5), int(a + 0.5)),
+                         pi))
+    small = np.array([(0, 0), (0, 1), (0, 2), (1, 0), (1, 1)], dtype=np.intp)
+    for lams, pi in sets:
+        for lam in lams:
+            base = axial_states(shells, lam, w) if shells >= 0 else np.zeros((0, 2), int)
+            pairs = np.vstack([small] + [base + step for step in ((1, 0), (0, 1), (0, 2))])
+            st = np.column_stack([pairs[:, 0], np.full(len(pairs), lam), pairs[:, 1]])
+            sel = measure("axial", st, w) > top
+            if pi is not None:
+                sel &= axial_parity(lam, st[:, 2]) == pi
+            if np.any(sel):
+                best = min(best, float(np.min(oscillator_energy("axial", st[sel], hw))))
+    return best
+
+
+def nested_error(e: np.ndarray, ladder: np.ndarray, smooth: bool = True) -> np.ndarray:
+    """Error bars of the levels ``e`` (at N_max) from their values in the nested truncations
+    (``ladder``: rows N_max − s, N_max − 2s, …, s = :func:`nested_step`; docs/geometries.md,
+    "Error bars").
+
+    With E_j the level at N_max − js (E_0 = E(N_max)) and the changes d_j = E_j − E_{j−1} ≥ 0
+    (the k-th eigenvalue of a principal sub-block lies above the k-th of the block: Cauchy
+    interlacing):
+
+    - the largest recent change, each older one discounted by q per step:
+      max(d_1, q d_2, q² d_3), q = :data:`NESTED_DECAY` for ``smooth`` wells (exponential
+      convergence), :data:`NESTED_DECAY_SLOW` otherwise. A level can stand still for a step
+      while the step before it moved (a staircase; a plateau of the slow, algebraic
+      convergence at a cusp such as the centre of a Woods–Saxon well, whose remainder is
+      then several times the last change); the discounted older change still covers it;
+    - at least the geometric remainder d_1 r/(1 − r): where the known changes shrink
+      (every ratio d_j/d_{j+1} < 1), r is the slowest of those ratios (slow convergence,
+      whose remainder exceeds the last change); where they do not shrink, or only d_1 is
+      known (the level is missing, or a sub-basis lacks a state below it, one step further
+      down), the level is not yet seen converging and r = :data:`NESTED_RATE_MAX`
+      (remainder 9 d_1);
+    - ``inf`` when the level is missing from N_max − s (a change d_j of a level missing
+      further down is left out).
+    """
+    seq = np.vstack([e[None, :], ladder[:, :len(e)]])
+    with np.errstate(invalid="ignore"):
+        d = np.maximum(np.diff(seq, axis=0), 0.0)  # rounding can make a change −1e-15
+    out = np.full(len(e), math.inf)
+    for k in range(len(e)):
+        dk = [float(x) for x in d[:3, k]]
+        if not dk or not math.isfinite(dk[0]):
+            continue
+        known = []
+        for x in dk:
+            if not math.isfinite(x):
+                break
+            known.append(x)
+        q = NESTED_DECAY if smooth else NESTED_DECAY_SLOW
+        est = max(q**j * x for j, x in enumerate(known))
+        if known[0] > 0.0:
+            ratios = [a / b if b > 0.0 else math.inf for a, b in itertools.pairwise(known)]
+            r = max(ratios, default=math.inf)  # one change alone: no rate known
+            if r >= 1.0:  # not shrinking: not yet converging, take the slowest rate allowed
+                r = NESTED_RATE_MAX
+            est = max(est, known[0] * r / (1.0 - r))
+        out[k] = NESTED_SAFETY * est
+    return out
+
+
+# the most an older change is discounted per nested step (exponential, algebraic convergence;
+# measured on the cases of benchmarks/RESULTS_geometry.md, 2026-12-04 evening)
+NESTED_DECAY = 0.1
+NESTED_DECAY_SLOW = 0.5
+NESTED_RATE_MAX = 0.9  # the rate taken where the changes do not shrink (remainder 9 d_1)
+NESTED_SAFETY = 1.0  # factor on the nested estimate (measured: benchmarks/RESULTS_geometry.md)
+NESTED_STEPS = 6  # nested truncations N_max − 2, …, N_max − 12 below the basis (error bars)
+_SLACK = 1e-9
+
+
+def nested_step(weights: np.ndarray) -> float:
+    """The step between nested truncations: two quanta of the stiffest axis, 2 max(w_i) (2
+    with ``truncation="shells"``). A smaller step can leave the stiff axis' quanta unchanged
+    over several truncations, and the levels then stand still on a staircase (the same
+    two quanta in n_ρ: 2n_ρ is counted in the axial measure, w_⊥ per quantum of N)."""
+    return 2.0 * float(np.max(weights))
+
+
+def nested_ladder(h: np.ndarray, cut: np.ndarray, shells: int, levels: int,
+                  step: float = 2.0, steps: int = NESTED_STEPS) -> np.ndarray:
+    """The lowest ``levels`` eigenvalues of the principal sub-blocks of ``h`` on the states
+    with ``cut`` ≤ N_max − s, N_max − 2s, … (s = ``step``): the same Hamiltonian in the
+    nested smaller bases (the matrices of a sub-basis are the sub-blocks: same lengths and
+    centres, quadrature settled to its tolerance). Rows: steps; ``inf`` where a sub-block has
+    too few states."""
+    out = np.full((steps, levels), math.inf)
+    for j in range(1, steps + 1):
+        keep = np.flatnonzero(cut <= shells - step * j + _SLACK)
+        if len(keep) == 0:
+            break
+        sub = h[np.ix_(keep, keep)]
+        m = min(levels, len(keep))
+        out[j - 1, :m] = eigh(sub, eigvals_only=True, subset_by_index=(0, m - 1), driver="evr")
+    return out
 
 
 def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian",
@@ -274,7 +533,8 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
     levels
         Number of levels returned (fewer if the blocks hold fewer states).
     error_estimate
-        Also solve with N_max − 2 shells and report the change of each level.
+        Also solve the nested truncations N_max − 2, N_max − 4, … (sub-blocks of the same
+        matrices) and report each level's error bar (:func:`nested_error`).
     count
         Cartesian only: instead of ``shells``, the smallest N_max (of the ``truncation``)
         whose basis holds at least this many states; the last shell is kept whole, so that
@@ -282,55 +542,122 @@ def solve_geometry(well: Well, dimension: int = 3, *, geometry: str = "cartesian
     """
     if omega is not None and geometry != "axial":
         raise InputError("omega: only the axial geometry has Ω blocks")
-    well, dimension, _, b, x0, shells, main, small = solve_shells(
-        well, dimension, geometry, shells, levels, lengths, centers, truncation, units, mass,
-        count, parity, omega, error_estimate)
+    res = solve_shells(well, dimension, geometry, shells, levels, lengths, centers, truncation,
+                       units, mass, count, parity, omega, error_estimate)
+    well, main, shells = res.well, res.main, res.shells
     energies, where = [], []
-    for key, (e, _, _) in main.items():
+    for key, (e, _, _, _) in main.items():
         energies += list(e)
         where += [(key, k) for k in range(len(e))]
     order = np.argsort(energies, kind="stable")[:levels]
-    states = np.concatenate([st for _, _, st in main.values()])
-    offsets = np.cumsum([0] + [len(st) for _, _, st in main.values()])
+    states = np.concatenate([st for _, _, st, _ in main.values()])
+    offsets = np.cumsum([0] + [len(st) for _, _, st, _ in main.values()])
     offset_of = dict(zip(main, offsets[:-1], strict=True))
     vectors = np.zeros((len(states), len(order)))
     labels, blocks, err = [], [], np.full(len(order), np.nan)
+    content = np.zeros(len(order))
+    errors = {key: res.errors(key) for key in main} if error_estimate else {}
+    contents = {key: res.content(key) for key in main}
     for col, i in enumerate(order):
         key, k = where[i]
-        e, vec, st = main[key]
+        e, vec, st, _ = main[key]
         v = vec[:, k]
         vectors[offset_of[key]:offset_of[key] + len(st), col] = v
         labels.append(_label(geometry, key, st[np.argmax(v * v)]))
         blocks.append(key)
+        content[col] = contents[key][k]
         if error_estimate:
-            es = small.get(key, ((), None, None))[0]
-            err[col] = abs(e[k] - es[k]) if k < len(es) else math.inf
+            err[col] = errors[key][k]
     if len(order) < levels:
         raise InputError(f"levels: {levels} levels asked for, but the requested blocks hold "
                          f"{len(order)} states up to shells = {shells}; raise shells or ask "
                          "for fewer levels")
+    # the merged ladder is complete below the lowest oscillator state any requested block
+    # lacks (a missing state of one block would sit between the levels of the others)
+    complete_below = res.floor()
+    incomplete = content > complete_below - res.margin()
+    err[incomplete] = math.inf
     e_out = np.asarray(energies)[order]
     threshold = geometry_threshold(well, dimension)
-    if error_estimate:
-        _warn_unconverged(e_out, err, labels, e_out < threshold, shells)
+    barrier = open_barrier(well, dimension, res.hbar2_2m, threshold)
+    bound = e_out < threshold
+    quasi = ~bound & (e_out < barrier)
+    warn_levels(e_out, err, labels, bound, quasi, incomplete, shells, truncation, barrier,
+                tolerance=None)
     return GeometrySpectrum(
-        energies=e_out, bound=e_out < threshold, labels=labels, blocks=blocks,
+        energies=e_out, bound=bound, labels=labels, blocks=blocks,
         error_estimate=err, vectors=vectors, states=states, geometry=geometry,
-        dimension=dimension, lengths=tuple(b), centers=tuple(x0), shells=int(shells),
-        truncation=truncation, threshold=threshold, units=well.units, mass=well.mass, well=well)
+        dimension=dimension, lengths=tuple(res.lengths), centers=tuple(res.centers),
+        shells=int(shells), truncation=truncation, threshold=threshold, units=well.units,
+        mass=well.mass, well=well, barrier=barrier, quasi_bound=quasi, incomplete=incomplete,
+        complete_below=complete_below)
 
 
-def _warn_unconverged(energies, err, labels, bound, shells) -> None:
-    """One ConvergenceWarning naming the bound levels whose error bar exceeds the tolerance."""
-    e = energies[bound]
-    spacing = float(np.mean(np.diff(np.unique(e)))) if np.unique(e).size > 1 else 1.0
-    bad = [lab for lab, b, x in zip(labels, bound, err, strict=True)
-           if b and not x <= GEOMETRY_TOLERANCE * spacing]
+def open_barrier(well, dimension: int, hbar2_2m: float, threshold: float) -> float:
+    """The escape barrier of an open well (threshold −∞), NaN otherwise or when the well has
+    no minimum to start from (:func:`~anharmony.geometry.potential.escape_barrier`)."""
+    if threshold != -math.inf:
+        return math.nan
+    from ..errors import AnharmonyError
+    from .potential import escape_barrier
+
+    try:
+        minimum = trap_frequencies_of(well, dimension, hbar2_2m).minimum
+        return float(escape_barrier(well, dimension, minimum))
+    except (AnharmonyError, ValueError, ArithmeticError, np.linalg.LinAlgError):
+        return math.nan
+
+
+def judged(bound: np.ndarray, quasi: np.ndarray) -> np.ndarray:
+    """The levels whose convergence is judged: bound, or quasi-bound below the barrier."""
+    return np.asarray(bound) | np.asarray(quasi)
+
+
+def warn_levels(energies, err, labels, bound, quasi, incomplete, shells, truncation, barrier,
+                tolerance=None, where="") -> None:
+    """The ConvergenceWarnings of a geometry solve.
+
+    - levels whose ⟨H₀⟩ reaches the lowest oscillator state the basis leaves out (error bar
+      ``inf``): the basis may skip states below them;
+    - bound or quasi-bound levels whose error bar exceeds ``tolerance`` (energy), or, without
+      one, :data:`GEOMETRY_TOLERANCE` of the mean spacing of those levels;
+    - in an open well, how many levels lie above the escape barrier (not judged).
+    """
+    energies, err = np.asarray(energies, dtype=float), np.asarray(err, dtype=float)
+    labels = list(labels)
+    if np.any(incomplete):
+        names = [lab for lab, f in zip(labels, incomplete, strict=True) if f]
+        hint = ("raise shells, or use truncation='energy' (it keeps the states of the soft "
+                "axes)" if truncation == "shells" else "raise shells")
+        warnings.warn(f"{len(names)} level(s){where} lie where the truncated basis (shells = "
+                      f"{shells}, truncation '{truncation}') lacks some oscillator states "
+                      f"below them, so a lower level may be missing: {_shown(names)}; their "
+                      f"error bar is inf; {hint}", ConvergenceWarning, stacklevel=3)
+    look = judged(bound, quasi) & ~np.asarray(incomplete)
+    if tolerance is None:
+        e = np.unique(energies[look])
+        spacing = float(np.mean(np.diff(e))) if e.size > 1 else 1.0
+        tol, said = GEOMETRY_TOLERANCE * spacing, f"{GEOMETRY_TOLERANCE:g} of the level spacing"
+    else:
+        tol, said = tolerance, f"{tolerance:g}"
+    bad = [lab for lab, j, x in zip(labels, look, err, strict=True)
+           if j and not math.isnan(x) and not x <= tol]  # NaN: not estimated
+    kind = "bound or quasi-bound" if np.any(quasi) or math.isfinite(barrier) else "bound"
     if bad:
-        shown = ", ".join(bad[:8]) + (", …" if len(bad) > 8 else "")
-        warnings.warn(f"{len(bad)} bound level(s) not converged (change from shells = "
-                      f"{shells - 2} to {shells} above {GEOMETRY_TOLERANCE:g} of the level "
-                      f"spacing): {shown}; raise shells", ConvergenceWarning, stacklevel=3)
+        warnings.warn(f"{len(bad)} {kind} level(s) not converged{where} (error bar from the "
+                      f"nested truncations below shells = {shells} above {said}): "
+                      f"{_shown(bad)}; raise shells", ConvergenceWarning, stacklevel=3)
+    if math.isfinite(barrier):
+        above = int(np.count_nonzero(~np.asarray(bound) & ~np.asarray(quasi)
+                                     & np.isfinite(energies)))
+        if above:
+            warnings.warn(f"the well is open{where}: {above} level(s) lie above its escape "
+                          f"barrier {barrier:.6g} (they are not quasi-bound; their error bars "
+                          "are not judged)", ConvergenceWarning, stacklevel=3)
+
+
+def _shown(names) -> str:
+    return ", ".join(names[:8]) + (", …" if len(names) > 8 else "")
 
 
 def _label(geometry, key, quanta):
@@ -383,7 +710,7 @@ def _cartesian(well, dimension, b, x0, shells, weights, parity, omega, c, levels
             h = h + basis.quadrature(lambda *xs: cartesian_value(rest_well, xs), idx,
                                      kind=kind)
         e, v = _diagonalise(h, levels)
-        out[key] = (e, v, states[idx])
+        out[key] = (e, v, states[idx], h)
     return out
 
 
@@ -452,7 +779,7 @@ def _axial(well, dimension, b, x0, shells, weights, parity, omega, c, levels):
             for s in signs:
                 f = full.copy()
                 f[:, 1] = s
-                out[(s, pi)] = (e, v, f)
+                out[(s, pi)] = (e, v, f, h)
     return out
 
 
@@ -542,5 +869,5 @@ def _omega_blocks(well, b, cz, shells, weights, parity, omega, c, levels, even, 
                 f = full.copy()
                 f[:, 1] *= sign
                 f[:, 3] *= sign
-                out[(sign * om, pi)] = (e, vec, f)
+                out[(sign * om, pi)] = (e, vec, f, h)
     return out

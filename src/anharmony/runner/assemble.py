@@ -7,6 +7,7 @@ writes the warning lines that name every level that is not converged.
 from __future__ import annotations
 
 import dataclasses
+import math
 from collections.abc import Sequence
 from typing import Any
 
@@ -102,6 +103,20 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
         else:
             notes.append(f"error_estimate: |E(N) - E(M)| with N = {case.model.basis.size} "
                          f"and M = {smaller_size(case)} basis states, the same basis length")
+    quasi, barrier = _open_line(case, out)
+    extra: dict[str, Any] = {}
+    if quasi is not None:
+        out = {**out, "quasi": quasi}
+        extra["escape_barrier"] = (("scan",), barrier, {
+            "units": case.units.energy, "long_name": "escape energy of the open line "
+            "(threshold -inf): the highest V between the minimum and the side where V falls "
+            "below it; levels below it are quasi-bound"})
+        extra["quasi_bound"] = (("scan", "channel", "level"), quasi.astype(np.int8), {
+            "units": "1", "long_name": "level of an open well below its escape barrier "
+            "(1) or not (0)"})
+        notes.append("the well is open (V falls without bound on one side): no level is bound "
+                     "(bound = 0); levels below escape_barrier are quasi-bound "
+                     "(quasi_bound = 1), and their convergence is judged as a bound level's")
     if out["study"]:
         notes += sorted({n for st in out["study"].values() for n in st["notes"]})
     if case.model.perturbation is not None and not series_ok:
@@ -123,7 +138,6 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
     if not orders and case.model.scan is not None and case.scan_target.kind == "coupling":
         orders = case.well_at(None).orders  # the coupling path depends on them too
     return CaseResult(
-        extra=_term_order_variables(case, orders),
         scan_value=np.asarray(values, dtype=float),
         l=np.array([-1 if c.l is None else c.l for c in chans], dtype=np.int64),
         j=np.array([c.j for c in chans], dtype=float) if has_spin else None,
@@ -148,6 +162,7 @@ def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
                       for c in range(len(chans))],
         notes=notes, warnings=(_study_warnings(case, out["study"]) if out["study"] else
                                _quick_warnings(case, out, err, converged)),
+        extra={**extra, **_term_order_variables(case, orders)},
     )
 
 
@@ -168,6 +183,27 @@ def _term_order_variables(case: Case, orders: Sequence[int]) -> dict[str, Any]:
         "series_term_kind": (("term",), np.asarray(kinds, dtype=str), {
             "units": "1", "long_name": "kind of each term of the well, as in the case file"}),
     }
+
+
+def _open_line(case: Case, out: dict[str, Any]) -> tuple[np.ndarray | None, np.ndarray]:
+    """The quasi-bound levels (S, C, L) and escape barrier (S,) of a case on the open line
+    (1D channels without parity, threshold −∞ at some point); (None, …) otherwise."""
+    chans = case.channels()
+    line = [c for c, ch in enumerate(chans) if ch.dimension == 1 and ch.l is None]
+    values = case.scan_values()
+    barrier = np.full(len(values), np.nan)
+    if not line or not np.any(out["threshold"][:, line] == -np.inf):
+        return None, barrier
+    from ..spectrum import _line_barrier
+
+    quasi = np.zeros(out["energy"].shape, dtype=bool)
+    for k, value in enumerate(values):
+        if not np.any(out["threshold"][k, line] == -np.inf):
+            continue
+        barrier[k] = _line_barrier(case.well_at(value))
+        with np.errstate(invalid="ignore"):
+            quasi[k, line] = ~out["bound"][k, line] & (out["energy"][k, line] < barrier[k])
+    return quasi, barrier
 
 
 def _study_estimate(case: Case, out: dict[str, Any]) -> tuple[np.ndarray, np.ndarray]:
@@ -288,6 +324,10 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
         return []
     values = case.scan_values()
     energy, bound = out["energy"], out["bound"]
+    quasi = out.get("quasi")
+    is_open = quasi is not None
+    if is_open:  # an open line: its quasi-bound levels are judged as bound ones
+        bound = bound | quasi
     unit = "" if case.units.energy == "1" else f" {case.units.energy}"
     lines = []
     slow = [(c, n) for c in range(energy.shape[1]) for n in range(energy.shape[2])
@@ -303,7 +343,8 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
         what = (f"the error estimate (nested basis blocks up to {case.model.basis.size} "
                 "states)" if core_estimate(case) else
                 f"the change from {m} to {case.model.basis.size} basis states")
-        lines.append(f"{len(slow)} bound level(s) not converged: {what} exceeds the tolerance "
+        lines.append(f"{len(slow)} {'bound or quasi-bound' if is_open else 'bound'} level(s) "
+                     f"not converged: {what} exceeds the tolerance "
                      f"{tol:g}{unit}"
                      f": {', '.join(names)}; raise basis.size (or set basis.length), or run a "
                      "convergence study (convergence: {max_size: ...})")
@@ -313,9 +354,15 @@ def _quick_warnings(case: Case, out: dict[str, Any], err: np.ndarray, converged:
         names = [_label(case, c, n) + (
             f" ({np.count_nonzero(np.isfinite(energy[:, c, n]) & ~bound[:, c, n])} of "
             f"{len(values)} scan points)" if len(values) > 1 else "") for c, n in above]
-        lines.append(f"{len(above)} level(s) lie above the threshold, discretised-continuum "
-                     f"states flagged bound = 0 and converged = 0: {', '.join(names)}; request "
-                     "fewer levels (levels.count), or raise basis.size if one should be bound")
+        if is_open:
+            lines.append(f"{len(above)} level(s) lie above the escape barrier of the open well "
+                         f"(not quasi-bound; their error bars are not judged): "
+                         f"{', '.join(names)}")
+        else:
+            lines.append(f"{len(above)} level(s) lie above the threshold, discretised-continuum "
+                         f"states flagged bound = 0 and converged = 0: {', '.join(names)}; "
+                         "request fewer levels (levels.count), or raise basis.size if one "
+                         "should be bound")
     return lines
 
 
@@ -340,6 +387,7 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
     energy = np.full((s, nb, n), np.nan)
     error = np.full((s, nb, n), np.nan)
     bound = np.zeros((s, nb, n), dtype=bool)
+    quasi = np.zeros((s, nb, n), dtype=bool)
     threshold = np.full((s, nb), np.nan)
     names = np.full((s, nb, n), "", dtype=object)
     naxes = 2 if geometry == "axial" else case.dimension
@@ -355,6 +403,8 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
             energy[k, b] = res.energies[i]
             error[k, b] = res.error_estimate[i]
             bound[k, b] = res.bound[i]
+            if res.quasi_bound is not None:
+                quasi[k, b] = res.quasi_bound[i]
             names[k, b] = res.level_labels[i]
             degeneracy[b] = res.degeneracy[i]
         threshold[k] = res.threshold
@@ -363,19 +413,23 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
         trap[k] = part["trap"]
         messages += part["messages"]
     tol = case.model.convergence.tolerance
-    converged = bound & (error <= tol)
+    judged = bound | quasi  # an open well's quasi-bound levels are judged as bound ones
+    with np.errstate(invalid="ignore"):
+        converged = judged & (error <= tol)
     hw = 2.0 * case.units.hbar2_over_2m(case.mass) / lengths[:, 0] ** 2
     labels = [block_label(geometry, key) for key in keys]
     warnings_ = []
     at = case.scan_parameter
     for k in range(s):
         bad = [str(names[k, b, m]) or f"{labels[b]} #{m}" for b in range(nb) for m in range(n)
-               if bound[k, b, m] and not converged[k, b, m]]
+               if judged[k, b, m] and not converged[k, b, m]]
         if bad:
             where = f" at {at} = {values[k]:g}" if case.model.scan is not None else ""
-            warnings_.append(f"{len(bad)} bound level(s) not converged{where} (change from "
-                             f"shells - 2 to shells above {tol:g}): {', '.join(bad[:8])}"
-                             + (", …" if len(bad) > 8 else "") + "; raise space.shells")
+            kind = "bound or quasi-bound" if math.isfinite(barrier[k]) else "bound"
+            warnings_.append(f"{len(bad)} {kind} level(s) not converged{where} (error bar "
+                             f"from the nested truncations below shells above {tol:g}): "
+                             f"{', '.join(bad[:8])}" + (", …" if len(bad) > 8 else "")
+                             + "; raise space.shells")
     u = case.units
     axes = ("perp", "z") if geometry == "axial" else ("x", "y", "z")[:case.dimension]
     extra = {
@@ -394,7 +448,9 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
                             "without a curved minimum, such as a deformed Woods-Saxon well)"}),
     }
     notes = [f"{geometry} geometry: channels are the blocks ({', '.join(labels)}); "
-             "error_estimate is the change of each level from shells - 2 to shells; "
+             "error_estimate is each level's error bar from its values in the nested "
+             "truncations below shells (docs/geometries.md; inf where the truncated basis may "
+             "lack a lower level of the block); "
              "basis_size is N_max; frequency and length are those of the first axis"]
     if np.any(np.isfinite(barrier)):
         extra["escape_barrier"] = (("scan",), barrier, {
@@ -403,7 +459,11 @@ def _assemble_geometry(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResul
             "saddle); levels below it are quasi-bound"})
         notes.append("the well is open (V falls without bound one way, as under gravity): no "
                      "level is bound (bound = 0); levels below escape_barrier are quasi-bound "
-                     "states that leave by tunnelling")
+                     "states that leave by tunnelling (quasi_bound = 1), and their convergence "
+                     "is judged as a bound level's; levels above it are not judged")
+        extra["quasi_bound"] = (("scan", "channel", "level"), quasi.astype(np.int8), {
+            "units": "1", "long_name": "level of an open well below its escape barrier "
+            "(1) or not (0)"})
     nan = np.full(s, np.nan)
     series = empty_like_series(s, nb, n, 0, 0)
     return CaseResult(

@@ -163,9 +163,9 @@ def describe(case: Case, *, reference: bool = True) -> Description:
                      f"; at least {m.basis.size} states, whole shells")
                   + f" ({m.space.truncation or 'shells'} truncation), "
                   f"length {m.basis.length}; {m.levels.count} levels per block",
-                  ("  errors     change from N_max - 2 to N_max shells" if "size" in
+                  ("  errors     nested truncations below N_max" if "size" in
                    m.basis.model_fields_set else
-                   f"  errors     change from {max(shells - 2, 0)} to {shells} shells")
+                   f"  errors     nested truncations below {shells} shells")
                   + f"; converged below {m.convergence.tolerance:g} {u.energy_text}"]
         if m.scan is not None:
             lines.append(f"  scan       {case.scan_parameter}: {len(values)} values "
