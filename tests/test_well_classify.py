@@ -59,3 +59,18 @@ def test_one_lattice_site_in_a_harmonic_envelope_is_confined_and_solved():
     ref = line_richardson_levels(well.value, 0.5, -25.0, 25.0, levels=4,
                                  grids=(2000, 4000, 8000))
     np.testing.assert_allclose(spec.energies, ref.energies, rtol=1e-7)
+
+
+@pytest.mark.parametrize("dimension, symmetric", [(2, False), (3, False), (1, True)])
+@pytest.mark.parametrize("term", [{"tilt": {"force": 0.3}},
+                                  {"anisotropic_harmonic": {"frequencies": [1.0, 2.0, 3.0]}}])
+def test_a_non_central_term_has_no_radial_classification(term, dimension, symmetric):
+    # A Gaussian plus a tilt falls without bound along the tilt (V → −∞ as x → −∞: the
+    # well is open; elementary), but its radial limit r → ∞ along +x is +∞: the radial
+    # classification said "confining" for it. Radial and parity channels refuse such terms,
+    # so classify does too, with the term's own message.
+    well = ah.Well.from_terms([{"gaussian": {"depth": 5.0, "range": 1.0}}, term])
+    with pytest.raises(InputError, match="not central"):
+        well.classify(dimension, symmetric=symmetric)
+    if "tilt" in term:  # on the line the tilt is a function of x: open, threshold −∞
+        assert well.classify(1).kind == "open" and well.threshold(1) == -np.inf

@@ -209,6 +209,13 @@ class Well:
         symmetric
             True for the 1D parity channels and radial channels (only x, r → +∞ counts).
 
+        Raises
+        ------
+        InputError
+            In a radial or parity channel (``dimension`` ≥ 2, or ``symmetric``) when a term is
+            not central (a tilt, an anisotropic or deformed term): only the geometry bases
+            treat those.
+
         Returns
         -------
         Classification
@@ -225,6 +232,18 @@ class Well:
         constant): if the spread of V does not shrink with R (it keeps more than half of
         its size, and more than 10⁻⁶ of the well's energy scale), V has no limit there.
         """
+        if dimension != 1 or symmetric:
+            off = [f"well[{i}] ({t.kind})" for i, t in enumerate(self.terms)
+                   if not getattr(t, "central", True)]
+            for t in self.terms:  # the term's own refusal first (it names the channels)
+                if not getattr(t, "central", True):
+                    t.check_channel(dimension, 0, None, None)
+            if off:  # a radial limit would ignore the directions where V falls or rises
+                raise InputError(
+                    f"classify: {', '.join(off)} is not central, so a radial classification "
+                    "does not apply in this channel; a well without spherical symmetry has "
+                    "its threshold from anharmony.geometry.potential.geometry_threshold and, "
+                    "when open, its escape barrier from ah.solve_blocks (BlockSpectra.barrier)")
         key = ("classify", dimension == 1 and not symmetric)
         if key not in self._memo:
             self._memo[key] = self._classify(both_sides=key[1])
