@@ -197,3 +197,14 @@ def test_a_count_of_states_cuts_the_cartesian_basis_at_whole_shells(tmp_path, ca
     bad.write_text(text.replace("geometry: cartesian}", "geometry: cartesian, shells: 4}"))
     assert main(["check", str(bad)]) == 2
     assert "give space.shells or basis.size" in capsys.readouterr().err
+
+
+def test_asymptotic_labels_separate_numbers_of_two_digits():
+    # Ω^π[N n_z Λ] (Nilsson, Mat. Fys. Medd. Dan. Vid. Selsk. 29, no. 16 (1955); common
+    # practice) is written without separators while every quantum number has one digit;
+    # N = 10, n_z = 1, Λ = 9 would read [1019], so two-digit numbers are separated.
+    from anharmony.geometry.solve import _label
+
+    assert _label("axial", (0.5, -1), (0, 1, 0)) == "1/2-[101]"  # N = 1, n_z = 0, Λ = 1
+    assert _label("axial", (9.5, 1), (0, 9, 1)) == "19/2+[10,1,9]"
+    assert _label("cartesian", None, (1, 0, 2)) == "(1,0,2)"

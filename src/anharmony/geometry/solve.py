@@ -669,7 +669,11 @@ def _label(geometry, key, quanta):
     sign = "" if pi is None else ("+" if pi > 0 else "-")
     om = key[0]
     shown = str(om) if float(om).is_integer() else f"{round(2 * om)}/2"
-    return f"{shown}{sign}[{big_n}{n_z}{abs(lam)}]"
+    q = (big_n, n_z, abs(lam))
+    # [N n_z Λ] written together as the trade does while every number is one digit; with a
+    # number of two digits ([10 1 9] would read [1019]) they are separated by commas
+    inner = "".join(map(str, q)) if max(q) < 10 else ",".join(map(str, q))
+    return f"{shown}{sign}[{inner}]"
 
 
 def _diagonalise(h, levels):
