@@ -312,6 +312,22 @@ def test_flow_masks_continuum_states_out_of_the_level_lines(synthetic):
     assert_same(got["continuum:0:2"][:, 1], np.where(np.arange(4) < 2, np.nan, e))
 
 
+def test_flow_frames_the_bound_levels_not_a_far_continuum(synthetic):
+    # Our figure contract: a discretised continuum far above must not squeeze the bound
+    # levels into a strip; the frame holds every bound level and the threshold, and the
+    # continuum lines are clipped (they stay in the figure, drawn by their own gid).
+    ds = synthetic.copy(deep=True)
+    ds["bound"].values[:, 0, 2] = 0
+    ds["energy"].values[:, 0, 2] = 1e3  # far above the others (< 12 ħω)
+    ds["threshold"].values[:] = 9.0
+    fig = plots.make_figure(ds, "flow", channel="s1/2")
+    ax = fig.axes[0]
+    lo, hi = ax.get_ylim()
+    bound = ds.energy.values[:, 0, :2]
+    assert lo <= bound.min() and max(bound.max(), 9.0) <= hi < 1e3
+    assert "continuum:0:2" in lines_by_gid(fig)
+
+
 def test_flow_of_a_coupling_scan_sums_the_series_at_each_lambda(morse):
     got = lines_by_gid(plots.make_figure(morse, "flow", orders=[2]))
     lam = morse.scan_value.values

@@ -451,7 +451,13 @@ def direct_labels(ax: Any, items: Sequence[tuple[float, float, str, str]],
     gy = (lambda v: 10.0 ** v) if logy else (lambda v: v)
     ys = fy(np.array([it[1] for it in items]))
     lo, hi = float(fy(y0)), float(fy(y1))
-    placed = spread_labels(ys, gap_frac * (hi - lo), lo, hi)
+    # labels are spread apart among those at the same x only (a curve that ends inside the
+    # frame keeps its label beside its end, not pushed along by the labels at the right edge)
+    xs = np.array([it[0] for it in items], dtype=float)  # points of the scan: exact repeats
+    placed = np.empty(len(items))
+    for x_end in np.unique(xs):
+        group = np.flatnonzero(xs == x_end)
+        placed[group] = spread_labels(ys[group], gap_frac * (hi - lo), lo, hi)
     texts = []
     for (x, _, text, col), yp in zip(items, placed, strict=True):
         if logx:

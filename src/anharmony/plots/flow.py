@@ -126,7 +126,17 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
             if last.size:
                 ends.append((x[last[-1]], exact[last[-1]], view.level_label(c, n), col))
 
-    rng = fit_ylim(ax, shown, 0.08)
+    # the frame holds the bound levels (and the threshold): a discretised continuum reaching
+    # far above would squeeze them into a strip; its lines are clipped at the frame's top
+    bound_vals = [np.where(drawn[:, c, k], energy[:, c, n], np.nan)
+                  for c in chans for k, n in enumerate(levels)]
+    frame = shown
+    if any_continuum and np.isfinite(np.concatenate(bound_vals)).any():
+        frame = list(bound_vals)
+        if view.has("threshold"):
+            thr_all = view.values("threshold").astype(float)[:, chans]
+            frame.append(thr_all[np.isfinite(thr_all)])
+    rng = fit_ylim(ax, frame, 0.12 if frame is not shown else 0.08)
     if view.has("threshold"):
         thr = view.values("threshold").astype(float)[:, chans]
         for t in np.unique(thr[np.isfinite(thr)]):
@@ -141,7 +151,9 @@ def draw(view: ResultView, req: FigureRequest) -> Any:
     direct_labels(ax, ends)
     ax.set_xlabel(view.scan_label)
     ax.set_ylabel(axis_label("energy E", view.energy_units))
-    names = ", ".join(view.labels[c] for c in chans)
+    labels = [view.labels[c] for c in chans]
+    names = (", ".join(labels) if len(labels) <= 6
+             else f"{', '.join(labels[:3])}, …, {labels[-1]} ({len(labels)})")
     ax.set_title(f"levels against {view.scan_name} · channel{'s' if len(chans) > 1 else ''} "
                  f"{names}", loc="left")
     handles = [*enc.handles, *enc.level_handles("diagonaliser", lw=1.6)]
