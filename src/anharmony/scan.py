@@ -19,6 +19,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import re
+import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -27,8 +28,9 @@ import numpy as np
 
 from .eigensolvers import diagonalize, matrix_rounding
 from .errorbars import nested_error_estimate
-from .errors import InputError
+from .errors import ConvergenceWarning, InputError
 from .hamiltonian import Channel, channel_hamiltonian
+from .labels import channel_label
 from .pencil import (
     Pencil,
     coupling_pencil,
@@ -39,7 +41,7 @@ from .pencil import (
 )
 from .reference import Reference, _lowest_oscillator_level, default_length, reference_oscillator
 from .request import _check_levels, _positive, resolve_channel
-from .spectrum import Spectrum
+from .spectrum import Spectrum, check_tolerance, judge_levels, line_barrier
 from .terms import Power, linear_parameters
 from .units import UnitSystem
 from .well import Well
@@ -318,6 +320,17 @@ class ScanResult:
         of the same matrix); ``None`` when the scan ran with ``error_estimate=False``.
     rounding : ndarray (S,) or None
         eps·‖H‖₁ at each value, included in ``error_estimate``.
+    converged : ndarray (S, L) or None
+        Bound (or quasi-bound) levels whose error bar is within ``tolerance``, judged as
+        :func:`~anharmony.spectrum.solve` judges them; ``None`` without error estimates.
+    tolerance : ndarray (S,) or None
+        The absolute tolerance at each value (the relative ``tolerance`` of :func:`scan` times
+        the mean spacing of the bound levels, or ħω of the basis).
+    quasi_bound : ndarray (S, L)
+        Levels of an open line (1D without symmetry, V → −∞ on a side) below its escape
+        barrier; all False elsewhere.
+    barrier : ndarray (S,)
+        The escape barrier of an open line at each value (NaN elsewhere).
     method : str
         ``"pencil"`` (A + s B built once) or ``"rebuild"`` (the Hamiltonian per value).
     vectors : ndarray (S, N, L) or None
@@ -345,6 +358,10 @@ class ScanResult:
     vectors: np.ndarray | None = dataclasses.field(repr=False, default=None)
     error_estimate: np.ndarray | None = None
     rounding: np.ndarray | None = None
+    converged: np.ndarray | None = None
+    tolerance: np.ndarray | None = None
+    quasi_bound: np.ndarray | None = None
+    barrier: np.ndarray | None = None
 
     def __len__(self) -> int:
         return len(self.values)
@@ -399,6 +416,10 @@ class ScanResult:
         if self.error_estimate is not None and self.rounding is not None:
             extra = {"error_estimate": self.error_estimate[k],
                      "rounding": float(self.rounding[k])}
+        if self.converged is not None and self.tolerance is not None:
+            extra.update(converged=self.converged[k], tolerance=float(self.tolerance[k]))
+        if self.quasi_bound is not None and self.barrier is not None:
+            extra.update(quasi_bound=self.quasi_bound[k], barrier=float(self.barrier[k]))
         labels = tuple(self.channel.level_label(n, units=self.units)
                        for n in range(self.energies.shape[1]))
         return Spectrum(energies=self.energies[k], bound=self.bound[k], vectors=vec,
@@ -538,7 +559,8 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
          units: str | UnitSystem = "oscillator", mass: float | None = None, levels: int = 5,
          reference: str | Mapping[str, float] | Reference | Sequence[Any] = "auto",
          truncated: int | None = None, vectors: bool = False,
-         error_estimate: bool = True) -> ScanResult:
+         error_estimate: bool = True, tolerance: float = 1e-8,
+         warn: bool = True) -> ScanResult:
     """Lowest levels of one channel at every value of a scanned parameter.
 
     Parameters
@@ -568,6 +590,13 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
         Give every level at every value the error bar of :func:`~anharmony.spectrum.solve`
         (:func:`~anharmony.spectrum.nested_error_estimate` of the same matrix: two
         eigenvalue-only solves of its leading ¾N and ½N blocks); ``False`` skips it.
+    tolerance
+        Relative tolerance of the error bars, as in :func:`~anharmony.spectrum.solve`
+        (× the mean spacing of the bound levels at each value): ``ScanResult.converged``.
+    warn
+        Issue one :class:`~anharmony.ConvergenceWarning` naming the bound (or quasi-bound)
+        levels above tolerance and at how many values; the runner, which names them for a
+        case itself, passes ``False``.
 
     Returns
     -------
@@ -597,6 +626,9 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
                          f"got {truncated!r}")
     if not isinstance(error_estimate, bool):
         raise InputError(f"error_estimate: must be True or False; got {error_estimate!r}")
+    if not isinstance(warn, bool):
+        raise InputError(f"warn: must be True or False; got {warn!r}")
+    tolerance = check_tolerance(tolerance)
     t = _target(well, parameter)
     vals = _values(values)
     if t.coupling and np.any(vals != 1.0):  # λ = 1 is the physical well, whatever the orders
@@ -657,12 +689,50 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     lengths = np.array([b for b, _ in bases])
     v_min = np.array([r.v_min for r in refs])
     hw = np.array([r.frequency for r in refs])
+    basis_hw = np.array([system.frequency_from_length(b, well.mass) for b in lengths])
+    bound = out_e < out_thr[:, None]
+    barrier = np.full(s, np.nan)
+    if not radial:
+        for k in np.flatnonzero(out_thr == -math.inf):
+            barrier[k] = line_barrier(wells[k] if not t.coupling else coupled_well(
+                well, float(vals[k]), refs[k], radial))
+    quasi = ~bound & (out_e < barrier[:, None])
+    converged = tol_abs = None
+    if out_err is not None:
+        judged = [judge_levels(out_e[k], bound[k], quasi[k], out_err[k], tolerance,
+                               float(basis_hw[k])) for k in range(s)]
+        converged = np.array([c for c, _ in judged]).reshape(s, count)
+        tol_abs = np.array([tl for _, tl in judged])
+        if warn:
+            _warn_scan(channel, system, vals, bound | quasi, converged, out_err, tol_abs,
+                       _path(t), size)
     return ScanResult(
-        parameter=_path(t), values=vals, energies=out_e, bound=out_e < out_thr[:, None],
+        parameter=_path(t), values=vals, energies=out_e, bound=bound,
         threshold=out_thr, reference_energies=v_min[:, None] + hw[:, None] * osc[None, :],
         references=refs, length=lengths, center=np.array([c for _, c in bases]),
-        basis_frequency=np.array([system.frequency_from_length(b, well.mass) for b in lengths]),
+        basis_frequency=basis_hw,
         channel=channel, units=system, mass=well.mass, size=int(size),
         method="pencil" if pencil else "rebuild", well=well, bases=tuple(basis_objs),
         truncated_size=truncated, truncated_energies=out_small, vectors=out_vec,
-        error_estimate=out_err, rounding=out_round)
+        error_estimate=out_err, rounding=out_round, converged=converged, tolerance=tol_abs,
+        quasi_bound=quasi, barrier=barrier)
+
+
+def _warn_scan(channel: Channel, system: UnitSystem, vals: np.ndarray, judged: np.ndarray,
+               converged: np.ndarray, errors: np.ndarray, tol: np.ndarray, parameter: str,
+               size: int) -> None:
+    """One ConvergenceWarning naming the judged levels above tolerance, with at how many of
+    the values (as the runner names them for a case)."""
+    bad = judged & ~converged
+    if not bad.any():
+        return
+    unit = "" if system.energy == "1" else " " + system.energy
+    name = channel_label(channel.dimension, channel.l, channel.j, units=system)
+    cols = np.flatnonzero(bad.any(axis=0))
+    names = ", ".join(f"{channel.level_label(int(n), units=system)} ({int(bad[:, n].sum())} "
+                      f"of {len(vals)} values)" for n in cols[:8])
+    worst = float(np.max(errors[bad]))
+    warnings.warn(f"{name}: scan of {parameter}: level(s) {names}{', …' if cols.size > 8 else ''}"
+                  f" not converged (error estimate up to {worst:.2e}{unit}, tolerance "
+                  f"{float(np.min(tol[bad.any(axis=1)])):.2e}{unit} or more) with size={size}; "
+                  "increase size", ConvergenceWarning, stacklevel=3)

@@ -255,7 +255,7 @@ def _labels(channel: Channel, levels: int, system: UnitSystem) -> tuple[str, ...
     return tuple(channel.level_label(n, units=system) for n in range(levels))
 
 
-def _check_tolerance(tolerance: Any) -> float:
+def check_tolerance(tolerance: Any) -> float:
     if isinstance(tolerance, bool) or not isinstance(tolerance, (int, float, np.floating)) \
             or not math.isfinite(tolerance) or tolerance <= 0:
         raise InputError(f"tolerance: must be a positive number (relative to the level "
@@ -351,7 +351,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     if isinstance(size, bool) or not isinstance(size, (int, np.integer)) or size < 1:
         raise InputError(f"size: must be an integer >= 1; got {size!r}")
     levels = _check_levels(levels, size)
-    tolerance = _check_tolerance(tolerance)
+    tolerance = check_tolerance(tolerance)
     radial = channel.l is not None
     auto_length = isinstance(length, str) and length == "auto"
     if auto_length or not (isinstance(reference, str) and reference == "auto"):
@@ -398,7 +398,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     threshold = _cached("reference", (_well_key(well), "threshold", dimension, radial),
                         lambda: well.threshold(dimension, symmetric=radial))
     bound = energies < threshold
-    barrier = _line_barrier(well) if threshold == -math.inf and not radial else math.nan
+    barrier = line_barrier(well) if threshold == -math.inf and not radial else math.nan
     quasi = ~bound & (energies < barrier)
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
@@ -412,11 +412,7 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
         ref_levels = _Deferred(reference_levels)
     errors = nested_error_estimate(h, energies, mats.bandwidth, rounding,
                                    parity_pairs=channel.l is None)
-    nb = int(np.count_nonzero(bound))
-    spacing = (float(energies[nb - 1] - energies[0]) / (nb - 1) if nb > 1 else 0.0) \
-        or mats.hbar_omega
-    tol = tolerance * spacing
-    converged = (bound | quasi) & (errors <= tol)
+    converged, tol = judge_levels(energies, bound, quasi, errors, tolerance, mats.hbar_omega)
     labels = _labels(channel, levels, system)
     spec = Spectrum(energies=energies, bound=bound, vectors=vectors, channel=channel,
                     basis=mats.basis, reference=ref, threshold=threshold, units=system,
@@ -427,7 +423,20 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     return spec
 
 
-def _line_barrier(well: Well) -> float:
+def judge_levels(energies: np.ndarray, bound: np.ndarray, quasi: np.ndarray,
+                 errors: np.ndarray, tolerance: float, hbar_omega: float
+                 ) -> tuple[np.ndarray, float]:
+    """``converged`` of each level and the absolute tolerance, as :func:`solve` judges them:
+    a bound or quasi-bound level whose error estimate is within ``tolerance`` × the mean
+    spacing of the bound levels (ħω of the basis with fewer than two bound levels)."""
+    nb = int(np.count_nonzero(bound))
+    spacing = (float(energies[nb - 1] - energies[0]) / (nb - 1) if nb > 1 else 0.0) \
+        or hbar_omega
+    tol = tolerance * spacing
+    return (bound | quasi) & (errors <= tol), tol
+
+
+def line_barrier(well: Well) -> float:
     """The escape barrier of an open line: from the minimum, the highest V on each side up to
     where V falls below V_min (far out, 10³ length scales), lowest over the sides that fall;
     NaN if no side falls below V_min or the well has no minimum."""

@@ -115,7 +115,7 @@ def rebuild(view: ResultView, p: int, c: int, count: int, coords: np.ndarray | N
     lam = value if coupling and value is not None else 1.0
     res = scan(well, d, l, view.j_of(c), parameter="coupling", values=[lam], size=size,
                length=b, units=case.units, mass=mass, levels=count, reference=ref,
-               vectors=True)
+               vectors=True, warn=False)  # a figure of stored results
     radial = l is not None and d > 1
     if coords is None:
         top = (2 * (size - 1) + (l or 0) + 0.5 * d) if l is not None else (size - 0.5)

@@ -194,13 +194,13 @@ def _open_line(case: Case, out: dict[str, Any]) -> tuple[np.ndarray | None, np.n
     barrier = np.full(len(values), np.nan)
     if not line or not np.any(out["threshold"][:, line] == -np.inf):
         return None, barrier
-    from ..spectrum import _line_barrier
+    from ..spectrum import line_barrier
 
     quasi = np.zeros(out["energy"].shape, dtype=bool)
     for k, value in enumerate(values):
         if not np.any(out["threshold"][k, line] == -np.inf):
             continue
-        barrier[k] = _line_barrier(case.well_at(value))
+        barrier[k] = line_barrier(case.well_at(value))
         with np.errstate(invalid="ignore"):
             quasi[k, line] = ~out["bound"][k, line] & (out["energy"][k, line] < barrier[k])
     return quasi, barrier

@@ -81,7 +81,7 @@ def _scan_call(case: Case, ch: ChannelSpec, points: tuple[int, ...],
                 size=case.model.basis.size, length=lengths,
                 units=case.units, mass=mass, levels=case.model.levels.count,
                 reference=list(refs), truncated=None if nested else smaller_size(case),
-                error_estimate=nested)
+                error_estimate=nested, warn=False)  # the case's warnings name them
 
 
 def core_estimate(case: Case) -> bool:
