@@ -166,16 +166,20 @@ output: open.nc
 """
 
 
-def test_a_case_of_an_open_well_warns_about_its_unconverged_quasi_bound_levels(tmp_path,
-                                                                                 capsys):
-    path = tmp_path / "open.yaml"
-    path.write_text(OPEN_CASE)
+def _run_case(tmp_path, name, text, capsys):
+    """Run a case file through the command line (exit 0); its stderr and result."""
+    path = tmp_path / f"{name}.yaml"
+    path.write_text(text)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ah.ConvergenceWarning)
         assert main(["run", str(path), "--progress", "off"]) == 0
-    err = capsys.readouterr().err
+    return capsys.readouterr().err, ah.read_dataset(tmp_path / f"{name}.nc")
+
+
+def test_a_case_of_an_open_well_warns_about_its_unconverged_quasi_bound_levels(tmp_path,
+                                                                                 capsys):
+    err, ds = _run_case(tmp_path, "open", OPEN_CASE, capsys)
     assert "quasi-bound level(s) not converged" in err
-    ds = ah.read_dataset(tmp_path / "open.nc")
     q = ds["quasi_bound"].values.astype(bool)
     assert np.any(q) and not np.any(ds["bound"].values)
     conv = ds["converged"].values.astype(bool)
@@ -272,13 +276,7 @@ output: line.nc
 
 def test_a_case_on_the_open_line_stores_its_barrier_and_judges_quasi_bound_levels(tmp_path,
                                                                                    capsys):
-    path = tmp_path / "line.yaml"
-    path.write_text(OPEN_LINE_CASE)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", ah.ConvergenceWarning)
-        assert main(["run", str(path), "--progress", "off"]) == 0
-    err = capsys.readouterr().err
-    ds = ah.read_dataset(tmp_path / "line.nc")
+    err, ds = _run_case(tmp_path, "line", OPEN_LINE_CASE, capsys)
     x = brentq(lambda t: 20.0 * t * math.exp(-t * t) + 1.0, -4.0, -1.0)  # as above
     assert float(ds["escape_barrier"].values[0]) == pytest.approx(
         -10.0 * math.exp(-x * x) + x, abs=1e-9)
