@@ -24,7 +24,7 @@ from scipy import constants, optimize
 
 import anharmony as ah
 from anharmony.errors import AnharmonyWarning
-from anharmony.geometry.potential import escape_barrier, escape_saddle
+from anharmony.geometry.saddle import escape_barrier, escape_saddle
 
 # the saddle is a root of a central-difference gradient (steps 10⁻³ of the grid step): its
 # position is good to ~1e-8 of the well's length, its energy (stationary there) to rounding

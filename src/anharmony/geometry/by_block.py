@@ -3,7 +3,7 @@
 :func:`~anharmony.geometry.solve.solve_geometry` merges the blocks into one ladder; a result
 file keeps them apart (DESIGN §10: the channel dimension holds the geometry's blocks), with the
 lowest ``levels`` of every block, an error bar on each (from the nested truncations
-N_max − 2, N_max − 4, …, the same rule as ``solve_geometry``: :func:`~anharmony.geometry.solve.
+N_max − 2, N_max − 4, …, the same rule as ``solve_geometry``: :func:`~anharmony.geometry.nested.
 nested_error`) and the asymptotic label of each level. Of a pair
 of time-reversed blocks ±Λ (or ±Ω with spin) only the non-negative one is kept, with
 degeneracy 2.
@@ -44,8 +44,9 @@ class BlockSpectra:
         Ω^π[N n_z Λ] or (n_x,n_y,n_z) of the dominant basis state; ``""`` where no level.
     threshold : float
     barrier : float
-        For an open well (threshold −∞, e.g. a trap tilted by gravity): its escape energy along
-        straight rays from the minimum (:func:`~anharmony.geometry.potential.escape_barrier`);
+        For an open well (threshold −∞, e.g. a trap tilted by gravity): its escape energy, the
+        lowest pass out of the basin of the minimum
+        (:func:`~anharmony.geometry.saddle.escape_barrier`);
         the levels below it are quasi-bound. NaN for a well with a finite threshold.
     lengths, centers : tuple of float
         The basis lengths (b_⊥, b_z or b_x, b_y[, b_z]) and centres used.

@@ -16,7 +16,7 @@ How ``solve``'s central arguments map (DESIGN §10, docs/geometries.md):
   oscillator of a central well) or one number, used on every axis;
 - ``reference`` and ``tolerance``: refused when written (no reference series and no
   ``converged`` flag here; ``error_estimate`` comes from the nested truncations below N_max,
-  :func:`~anharmony.geometry.solve.nested_error`).
+  :func:`~anharmony.geometry.nested.nested_error`).
 """
 
 from __future__ import annotations
