@@ -374,6 +374,32 @@ def test_show_prints_one_ladder_in_energy_order_for_a_symmetric_1d_well(tmp_path
     assert [float(r[2]) for r in rows] == pytest.approx([v + 0.5 for v in range(6)], abs=1e-7)
 
 
+GAUSS_STUDY = """\
+schema: 1
+units: oscillator
+space: {dimension: 3, l: [0]}
+well:
+  - gaussian: {depth: 40.0, range: 2.0}
+basis: {size: 20, length: 0.8}
+levels: {count: 2}
+output: gauss.nc
+"""
+
+
+def test_show_names_the_reference_oscillator_apart_from_the_basis(tmp_path, capsys):
+    # The harmonic approximation of −V₀ e^{−r²/a²} at r = 0: m ω² = 2 V₀/a², so with
+    # ħ = m = 1 ħω = sqrt(2 V₀)/a = sqrt(80)/2 (calculus); the table's first line must give
+    # that as the reference, beside the basis' own b = 0.8 (both are printed).
+    (tmp_path / "case.yaml").write_text(GAUSS_STUDY)
+    assert _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))[0] == 0
+    code, out, _ = _run(capsys, "show", str(tmp_path / "gauss.nc"))
+    head = next(line for line in out.splitlines() if "hbar*omega = " in line)
+    first = float(head.split("hbar*omega = ")[1].split(",")[0])
+    assert code == 0 and "harmonic" in head
+    assert first == pytest.approx(80**0.5 / 2, rel=1e-5)  # 6 significant digits printed
+    assert "basis hbar*omega = " in head and "b = 0.8" in head
+
+
 SLOW_LEVELS = """\
 schema: 1
 units: oscillator

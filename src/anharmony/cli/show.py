@@ -11,6 +11,27 @@ from ._common import EXIT_BAD_INPUT, EXIT_OK, SHOW_ALL_UP_TO, say
 __all__ = ["ROUNDING_TEXT", "cmd_show"]
 
 
+def _oscillators(ds: Any, k: int, scale: float, symbol: str, b_symbol: str) -> str:
+    """The reference oscillator (ħω, b and how it was chosen) and, where it differs, the
+    basis oscillator of scan point k: the reference's ħω is the harmonic frequency a reader
+    takes from the table (a trap frequency, ω_e), the basis' may be re-optimised."""
+    def pair(hw: float, b: float) -> str:
+        return (f"hbar*omega = {scale * hw:.6g}{_unit_suffix(symbol)}, b = {b:.6g}"
+                f"{_unit_suffix(b_symbol)}")
+
+    basis = (float(ds.frequency.values[k]), float(ds.length.values[k]))
+    method = str(ds.reference_method.values[k])
+    if "reference_frequency" not in ds or "reference_length" not in ds:
+        return f"{pair(*basis)} (basis; reference {method})"
+    ref = (float(ds.reference_frequency.values[k]), float(ds.reference_length.values[k]))
+    if not all(math.isfinite(v) for v in ref):
+        return f"{pair(*basis)} (basis; reference {method})"
+    if math.isclose(ref[0], basis[0], rel_tol=1e-9) and math.isclose(ref[1], basis[1],
+                                                                      rel_tol=1e-9):
+        return f"{pair(*ref)} (reference {method}, also the basis)"
+    return f"reference {pair(*ref)} ({method}); basis {pair(*basis)}"
+
+
 def _verdict(ds: Any, k: int, c: int, n: int, tol: float) -> str:
     import numpy as np
 
@@ -183,10 +204,8 @@ def cmd_show(args: argparse.Namespace) -> int:
     floored = False
     for k in points:
         sv = float(ds.scan_value.values[k])
-        hw = scale * float(ds.frequency.values[k])
-        print(f"\n{param} = {sv:g}{_unit_suffix(p_symbol)}: hbar*omega = "
-              f"{hw:.6g}{_unit_suffix(symbol)}, b = {float(ds.length.values[k]):.6g}"
-              f"{_unit_suffix(b_symbol)} ({ds.reference_method.values[k]})")
+        print(f"\n{param} = {sv:g}{_unit_suffix(p_symbol)}: "
+              + _oscillators(ds, k, scale, symbol, b_symbol))
         if "escape_barrier" in ds and math.isfinite(float(ds.escape_barrier.values[k])):
             eb = float(ds.escape_barrier.values[k])
             below = int(np.sum(ds.energy.values[k] < eb))
