@@ -73,3 +73,23 @@ def test_an_open_line_is_judged_below_its_escape_barrier():
     assert res.quasi_bound[0].any() and not res.bound.any()
     spec = res.spectra[0]
     assert spec.quasi_bound.any() and spec.barrier == res.barrier[0]
+
+
+def test_states_of_the_open_side_are_not_quasi_bound():
+    # ½x² + 0.05x³ falls without bound as x → −∞ (barrier 200/27 at x = −20/3). Its resonances
+    # near the well follow second-order perturbation theory, E_v ≈ v + ½ − g²(30v² + 30v + 11)/8
+    # (Landau & Lifshitz, Quantum Mechanics, §38 problem 3); the basis also holds a state that
+    # lives beyond the barrier (at 0.865 for the default size), which must not be flagged
+    # quasi-bound, in solve and in scan alike.
+    well = W([{"harmonic": {"frequency": 1.0}}, {"power": {"exponent": 3, "strength": 0.05}}])
+    g = 0.05
+    pt = np.array([v + 0.5 - g * g * (30 * v * v + 30 * v + 11) / 8 for v in range(4)])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ah.ConvergenceWarning)
+        spec = ah.solve(well, 1, None, levels=4)
+        res = ah.scan(well, 1, None, parameter="well[1].strength", values=[g], levels=4)
+    assert spec.barrier == pytest.approx(200 / 27, rel=1e-9)
+    near = np.array([np.min(np.abs(pt - e)) < 0.03 for e in spec.energies])  # PT error ~ g⁴
+    assert near.sum() >= 2 and not near.all()  # at least one state of the open side is there
+    np.testing.assert_array_equal(spec.quasi_bound, near)
+    np.testing.assert_array_equal(res.quasi_bound[0], near)

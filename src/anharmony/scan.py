@@ -49,7 +49,14 @@ from .pencil import (
 )
 from .reference import Reference, _lowest_oscillator_level, default_length, reference_oscillator
 from .request import _check_levels, _positive, resolve_channel
-from .spectrum import Spectrum, check_tolerance, judge_levels, line_barrier
+from .spectrum import (
+    QUASI_INSIDE,
+    Spectrum,
+    check_tolerance,
+    inside_share,
+    judge_levels,
+    line_pass,
+)
 from .terms import Power
 from .units import UnitSystem
 from .well import Well
@@ -567,11 +574,18 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     basis_hw = np.array([system.frequency_from_length(b, well.mass) for b in lengths])
     bound = out_e < out_thr[:, None]
     barrier = np.full(s, np.nan)
+    quasi = np.zeros_like(bound)
     if not radial:
         for k in np.flatnonzero(out_thr == -math.inf):
-            barrier[k] = line_barrier(wells[k] if not t.coupling else coupled_well(
-                well, float(vals[k]), refs[k], radial))
-    quasi = ~bound & (out_e < barrier[:, None])
+            w_k = wells[k] if not t.coupling else coupled_well(well, float(vals[k]), refs[k],
+                                                                radial)
+            barrier[k], pass_x, side = line_pass(w_k)
+            quasi[k] = ~bound[k] & (out_e[k] < barrier[k])
+            if quasi[k].any():  # below the pass but living beyond it: the open side's states
+                vec = (out_vec[k] if out_vec is not None else
+                       _one_value(well, t, channel, refs[k], bases[k], size, count, None,
+                                  float(vals[k]), True, False)[1])
+                quasi[k] &= inside_share(basis_objs[k], vec, pass_x, side) > QUASI_INSIDE
     converged = tol_abs = None
     if out_err is not None:
         judged = [judge_levels(out_e[k], bound[k], quasi[k], out_err[k], tolerance,

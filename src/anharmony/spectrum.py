@@ -398,8 +398,12 @@ def solve(well: Well, dimension: int = 3, l: int | None = unset(0), j: Any = Non
     threshold = _cached("reference", (_well_key(well), "threshold", dimension, radial),
                         lambda: well.threshold(dimension, symmetric=radial))
     bound = energies < threshold
-    barrier = line_barrier(well) if threshold == -math.inf and not radial else math.nan
+    barrier, pass_x, side = (line_pass(well) if threshold == -math.inf and not radial
+                             else (math.nan, math.nan, math.nan))
     quasi = ~bound & (energies < barrier)
+    if quasi.any() and vectors.shape[1] == len(energies):
+        # below the pass but living beyond it: a discretised state of the open side
+        quasi &= inside_share(mats.basis, vectors, pass_x, side) > QUASI_INSIDE
     osc = (2.0 * np.arange(levels) + _lowest_oscillator_level(channel) if radial
            else np.arange(levels) + 0.5)
     if isinstance(ref, Reference):
@@ -440,14 +444,21 @@ def line_barrier(well: Well) -> float:
     """The escape barrier of an open line: from the minimum, the highest V on each side up to
     where V falls below V_min (far out, 10³ length scales), lowest over the sides that fall;
     NaN if no side falls below V_min or the well has no minimum."""
+    return line_pass(well)[0]
+
+
+def line_pass(well: Well) -> tuple[float, float, float]:
+    """(energy, position, side) of the escape barrier of an open line (:func:`line_barrier`):
+    ``side`` is +1 or −1, the direction from the minimum in which V falls beyond the pass;
+    NaNs where there is none."""
     from scipy.optimize import minimize_scalar
 
     try:
         x0, v0, _ = well.minimum(radial=False)
     except (AnharmonyError, ValueError, ArithmeticError):
-        return math.nan
+        return math.nan, math.nan, math.nan
     r = np.concatenate([[0.0], np.geomspace(1e-3, 1e3, 2000) * well.scale])
-    best = math.nan
+    best = (math.nan, math.nan, math.nan)
     for side in (1.0, -1.0):
         with np.errstate(all="ignore"):
             v = np.asarray(well.value(x0 + side * r), dtype=float)
@@ -457,7 +468,7 @@ def line_barrier(well: Well) -> float:
         stop = int(below[0])
         i = int(np.argmax(v[:stop + 1]))
         lo, hi = r[max(i - 1, 0)], r[min(i + 1, stop)]
-        peak = float(v[i])
+        peak, at = float(v[i]), float(r[i])
         if hi > lo:
             def minus(t: float, s: float = side) -> float:
                 with np.errstate(all="ignore"):
@@ -465,9 +476,28 @@ def line_barrier(well: Well) -> float:
 
             res = minimize_scalar(minus, bounds=(lo, hi), method="bounded",
                                   options={"xatol": 1e-12 * max(hi, 1.0)})
-            peak = max(peak, -float(res.fun))
-        best = peak if math.isnan(best) else min(best, peak)
+            if -float(res.fun) > peak:
+                peak, at = -float(res.fun), float(res.x)
+        if math.isnan(best[0]) or peak < best[0]:
+            best = (peak, x0 + side * at, side)
     return best
+
+
+QUASI_INSIDE = 0.5  # a quasi-bound level holds more than this share of its density inside
+
+
+def inside_share(basis: Any, vectors: np.ndarray, position: float, side: float
+                 ) -> np.ndarray:
+    """Share of each level's density on the well's side of the pass at ``position`` (the
+    rest lies beyond it, on the side ``side`` where V falls): a discretised state of the
+    open side has most of its density beyond the pass."""
+    reach = 1.2 * basis.length * math.sqrt(2.0 * basis.size + 1.0)
+    x = np.linspace(basis.center - reach, basis.center + reach, 8 * basis.size + 401)
+    dens = (vectors.T @ basis.functions(x)) ** 2
+    total = dens.sum(axis=1)
+    inside = dens[:, (x - position) * side <= 0.0].sum(axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(total > 0, inside / total, 0.0)
 
 
 def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> None:
@@ -479,13 +509,18 @@ def _warn_unconverged(spec: Spectrum, levels: int, size: int, length: Any) -> No
     unit = "" if spec.units.energy == "1" else " " + spec.units.energy
     name = channel_label(spec.channel.dimension, spec.channel.l, spec.channel.j,
                          units=spec.units)
-    above = int(np.count_nonzero(~judged))
-    if math.isfinite(spec.barrier) and above:
+    if math.isfinite(spec.barrier) and np.any(~judged):
+        above = int(np.count_nonzero(~judged & (spec.energies >= spec.barrier)))
+        beyond = int(np.count_nonzero(~judged & (spec.energies < spec.barrier)))
+        parts = [f"{above} above it"] if above else []
+        if beyond:
+            parts.append(f"{beyond} below it that live beyond the pass (states of the open "
+                         "side)")
         warnings.warn(f"{name}: the well is open (V falls without bound on one side): "
                       f"{int(np.count_nonzero(spec.quasi_bound))} level(s) lie below its "
-                      f"escape barrier {spec.barrier:.6g}{unit} and are quasi-bound, {above} "
-                      "above it (not quasi-bound: their error bars are not judged)",
-                      ConvergenceWarning, stacklevel=3)
+                      f"escape barrier {spec.barrier:.6g}{unit} and are quasi-bound, "
+                      f"{' and '.join(parts)} (not quasi-bound: their error bars are not "
+                      "judged)", ConvergenceWarning, stacklevel=3)
     if bad.size:
         worst = float(np.max(spec.error_estimate[bad]))
         names = ", ".join(spec.labels[k] for k in bad[:8]) + (", …" if bad.size > 8 else "")

@@ -23,10 +23,11 @@ from .plan import smaller_size
 
 __all__ = ["assemble"]
 
-_MERGE = ("energy", "bound", "smaller", "error", "reference_energy", "threshold",
+_MERGE = ("energy", "bound", "quasi", "smaller", "error", "reference_energy", "threshold",
           "series_coefficient", "series_partial_sum", "series_resummed", "series_optimal",
           "series_optimal_error", "series_optimal_order")
-_PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min")
+_PER_POINT = ("frequency", "length", "ref_frequency", "ref_length", "center", "v_min",
+              "barrier")
 
 
 def assemble(case: Case, parts: Sequence[dict[str, Any]]) -> CaseResult:
@@ -194,15 +195,11 @@ def _open_line(case: Case, out: dict[str, Any]) -> tuple[np.ndarray | None, np.n
     barrier = np.full(len(values), np.nan)
     if not line or not np.any(out["threshold"][:, line] == -np.inf):
         return None, barrier
-    from ..spectrum import line_barrier
-
     quasi = np.zeros(out["energy"].shape, dtype=bool)
-    for k, value in enumerate(values):
-        if not np.any(out["threshold"][k, line] == -np.inf):
-            continue
-        barrier[k] = line_barrier(case.well_at(value))
-        with np.errstate(invalid="ignore"):
-            quasi[k, line] = ~out["bound"][k, line] & (out["energy"][k, line] < barrier[k])
+    for k in range(len(values)):  # the core scan's flags and barrier (anharmony.scan)
+        if np.any(out["threshold"][k, line] == -np.inf):
+            barrier[k] = out["barrier"][k]
+            quasi[k, line] = out["quasi"][k, line]
     return quasi, barrier
 
 

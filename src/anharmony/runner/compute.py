@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import contextlib
 import importlib
+import math
 import warnings
 from collections.abc import Callable
 from typing import Any
@@ -50,6 +51,8 @@ def empty(case: Case, s: int) -> dict[str, Any]:
         "frequency": np.full(s, np.nan), "length": np.full(s, np.nan),
         "ref_frequency": np.full(s, np.nan), "ref_length": np.full(s, np.nan),
         "center": np.full(s, np.nan), "v_min": np.full(s, np.nan),
+        "quasi": np.zeros((s, c, n), dtype=bool),  # below an open line's escape barrier
+        "barrier": np.full(s, np.nan),  # the escape barrier of an open line (scan)
     }
     out.update(empty_like_series(s, c, n, orders, methods))
     out["notes"] = set()
@@ -100,6 +103,10 @@ def _store_levels(out: dict[str, Any], res: ScanResult, points: tuple[int, ...],
         ref = res.references[i]
         out["energy"][k, c] = res.energies[i]
         out["bound"][k, c] = res.bound[i]
+        if res.quasi_bound is not None and res.barrier is not None:
+            out["quasi"][k, c] = res.quasi_bound[i]
+            if math.isfinite(res.barrier[i]):
+                out["barrier"][k] = res.barrier[i]
         out["threshold"][k, c] = res.threshold[i]
         out["reference_energy"][k, c] = res.reference_energies[i]
         if res.truncated_energies is not None:

@@ -110,6 +110,8 @@ class Power(ExactTerm):
 
     def value(self, x):
         y = arr(x) - self.center
+        if self.strength == 0.0:  # 0 · ∞ at the centre of a negative power is no term at all
+            return np.zeros_like(y)
         with np.errstate(divide="ignore"):
             if self._integer:
                 return self.strength * y ** self.exponent
