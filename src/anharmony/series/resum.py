@@ -483,6 +483,9 @@ def pade_sum(
         rejected.append(fam.rejected)
         if first is None and fam.members:
             first = approx_of(fam.members[0])
+    from ._family import guard_path
+
+    guard_path(coefficients, flat, uncs, trusted, reasons)
     if first is None:
         top = centre or (order - order // 2, order // 2)
         got = approx_of(top) if order >= 1 and top[1] >= 0 else None
