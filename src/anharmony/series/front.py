@@ -131,7 +131,10 @@ class Series:
         """Padé sum at λ with its uncertainty (:func:`anharmony.series.pade_sum`).
 
         ``L``, ``M`` choose the top approximant (default near-diagonal); the value of one
-        single approximant is :meth:`pade_approximant` called at λ.
+        single approximant is :meth:`pade_approximant` called at λ. With the default family
+        the uncertainty of a trusted value is widened to hold the trusted Borel–Padé
+        interval (and likewise in :meth:`borel_pade`), and on a well that is not
+        :attr:`confining` no value at λ ≥ 0.8 is trusted.
         """
         res = pade_sum(self.precise, lam, L, M)
         if L is None and M is None:

@@ -322,8 +322,11 @@ class Resummed:
         two orders fewer) from ``value``, plus their own numerical error (quadrature,
         rounding); inf where fewer than three approximants survive.
     trusted : ndarray of bool
-        Enough approximants survive and ``uncertainty`` is below half the resummed correction
-        |value − E_0|.
+        Enough approximants survive, ``uncertainty`` is below half the resummed correction
+        |value − E_0|, and the measured growth puts no singularity on the path within
+        |λ|/R < 0.8 (:func:`~.growth.path_singularities`: there agreement among approximants
+        bounds nothing; the uncertainty is then at least the geometric tail).
+        :class:`~.front.Series` adds two checks (:meth:`~.front.Series.pade`).
     reason : tuple of str
         Per coupling: how many approximants from which orders the value rests on and, where
         not trusted, why.
