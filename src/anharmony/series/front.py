@@ -131,13 +131,14 @@ class Series:
         """Padé sum at λ with its uncertainty (:func:`anharmony.series.pade_sum`).
 
         ``L``, ``M`` choose the top approximant (default near-diagonal); the value of one
-        single approximant is :meth:`pade_approximant` called at λ. With the default family
-        the uncertainty of a trusted value is widened to hold the trusted Borel–Padé
-        interval (and likewise in :meth:`borel_pade`), and on a well that is not
+        single approximant is :meth:`pade_approximant` called at λ. With the default family,
+        where the growth of the coefficients is not settled (:meth:`large_order` not
+        ``supported``), the uncertainty of a trusted value is widened to hold the trusted
+        Borel–Padé interval (and likewise in :meth:`borel_pade`); and on a well that is not
         :attr:`confining` no value at λ ≥ 0.8 is trusted.
         """
         res = pade_sum(self.precise, lam, L, M)
-        if L is None and M is None:
+        if L is None and M is None and not self._settled():
             res = _cross_checked(res, lambda: borel_pade(self.precise, lam), "Borel–Padé",
                                  self.precise[0])
         return _threshold_checked(res, self.confining)
@@ -147,10 +148,17 @@ class Series:
         """Borel(–Leroy)–Padé sum at λ with its uncertainty
         (:func:`anharmony.series.borel_pade`)."""
         res = borel_pade(self.precise, lam, L, M, power=power)
-        if L is None and M is None:
+        if L is None and M is None and not self._settled():
             res = _cross_checked(res, lambda: pade_sum(self.precise, lam), "Padé",
                                  self.precise[0])
         return _threshold_checked(res, self.confining)
+
+    def _settled(self) -> bool:
+        """The large-order analysis reaches its regime (:attr:`LargeOrder.supported`)."""
+        try:
+            return bool(large_order(self.precise).supported)
+        except InputError:
+            return False
 
     def optimal_truncation(self, lam: float = 1.0) -> OptimalTruncation:
         """Sum up to the smallest term at λ, with that term as the error estimate."""
@@ -185,6 +193,7 @@ def _threshold_checked(res: Resummed, confining: bool) -> Resummed:
 def _cross_checked(res: Resummed, other_of: Any, name: str, c0: Any) -> Resummed:
     """Widen each trusted value's uncertainty to hold the other method's trusted interval.
 
+    Called where the growth is not settled, so nothing else says which sum to believe.
     Padé and Borel–Padé sums are two estimates of one number: where both are trusted, the
     truth lies in both intervals only if each holds the other's, so each uncertainty becomes
     at least |v − v_other| + u_other; trust is then judged again (below half the correction).
