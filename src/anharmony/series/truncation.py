@@ -68,7 +68,9 @@ class OptimalTruncation:
         |c_order λ^order|, the usual estimate of the error of ``value``; where the terms
         still decrease at the last order (``reached_end``) the whole geometric tail
         |c_N λ^N|/(1 − ρ) instead, ρ the larger of the last term ratios and (|λ|/R)^step from
-        a settled geometric growth (:func:`~.growth.large_order`); inf for ρ ≥ 1.
+        a settled geometric growth (:func:`~.growth.large_order`); inf for ρ ≥ 1. Where
+        no term decreases (the smallest is the first nonzero correction), the larger of the
+        first two corrections.
     order : int
         Order of the smallest nonzero term (k ≥ 1).
     reached_end : bool
@@ -110,6 +112,11 @@ def optimal_truncation(coefficients: Sequence[Any], lam: float) -> OptimalTrunca
         error = mpf_to_float(abs(terms[k_star]))
         if end:
             error = _tail(coefficients, x, [abs(terms[k]) for k in nonzero], error)
+        elif k_star == nonzero[0]:
+            # no term decreases: the value is E_0 and the first correction says nothing of
+            # the error (Morse v = 3, 8: 883 and 5407 cm⁻¹ for true 949 and 5595); take the
+            # larger of the first two corrections
+            error = max(error, mpf_to_float(abs(terms[nonzero[1]])))
         return OptimalTruncation(
             value=mpf_to_float(value), error=error, order=int(k_star), reached_end=end,
         )
