@@ -146,3 +146,18 @@ def near_point(points: Sequence[complex] | np.ndarray, end: float, rtol: float) 
     with np.errstate(all="ignore"):
         along = (w.real > 0) & (np.abs(np.angle(w)) <= rtol) & (np.abs(w) <= 1 + rtol)
     return along | (np.abs(w - 1) <= rtol)
+
+
+def guard_path(coefficients: Sequence, lam: np.ndarray, uncs: list, trusted: list,
+               reasons: list) -> None:
+    """Untrust (in place) the values at couplings where the measured geometric growth puts a
+    singularity on the path (:func:`~.growth.path_singularities`), and widen their
+    uncertainty to at least the geometric tail estimate."""
+    from .growth import path_singularities
+
+    for i, hit in enumerate(path_singularities(coefficients, lam)):
+        if hit is None:
+            continue
+        uncs[i] = max(uncs[i], hit.tail)
+        trusted[i] = False
+        reasons[i] = f"{reasons[i]}; not trusted: {hit.reason}"

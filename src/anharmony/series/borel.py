@@ -32,7 +32,7 @@ import numpy as np
 
 from anharmony.errors import InputError, NumericalError
 
-from ._family import combine
+from ._family import combine, guard_path
 from ._values import to_mpf
 from .resum import (
     DOUBLET_RTOL,
@@ -427,6 +427,7 @@ def borel_pade(
         if first is None:
             pick = integrand_of(fam.members[0], math.copysign(1.0, z)) if fam.members else top_f
             first = pick if isinstance(pick, _Integrand) else None
+    guard_path(coefficients, flat, out["unc"], out["trusted"], out["reason"])
     shape = lam_arr.shape
     if first is None and top[1] >= 1 and order >= 1:
         got = integrand_of(top)

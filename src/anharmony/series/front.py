@@ -19,6 +19,7 @@ physical well, and with every term at order 1 (the default) nothing changes.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import warnings
 from collections.abc import Mapping
@@ -29,14 +30,14 @@ from typing import Any
 import mpmath
 import numpy as np
 
-from anharmony.errors import ConvergenceWarning, InputError
+from anharmony.errors import ConvergenceWarning, InputError, NumericalError
 from anharmony.hamiltonian import Channel, channel_hamiltonian, effective_lambda
 from anharmony.reference import Reference, reference_oscillator
 from anharmony.request import resolve_channel
 from anharmony.units import UnitSystem
 from anharmony.well import Well
 
-from ._values import as_float_array
+from ._values import as_float_array, to_mpf
 from .borel import BorelPade, borel_pade
 from .growth import LargeOrder, large_order
 from .resum import PadeApproximant, Resummed, pade_approximant, pade_sum
@@ -89,6 +90,11 @@ class Series:
     term_orders : tuple of int
         The perturbation order of each term of the well (:attr:`anharmony.Well.orders`): the
         power of λ at which it enters W (module docstring); all 1 by default.
+    confining : bool
+        The well rises without bound on every side. When it does not (a finite threshold, an
+        open or periodic well), the coupled well (1 − λ) V_ref + λ V falls without bound for
+        λ > 1: λ = 1 is a singular point of E(λ), and :meth:`pade` / :meth:`borel_pade` do
+        not trust a value at λ ≥ 0.8 on the agreement of their approximants.
     """
 
     coefficients: np.ndarray
@@ -102,6 +108,7 @@ class Series:
     precision: float
     units: UnitSystem
     term_orders: tuple[int, ...] = ()
+    confining: bool = True
 
     @property
     def orders(self) -> int:
@@ -124,15 +131,34 @@ class Series:
         """Padé sum at λ with its uncertainty (:func:`anharmony.series.pade_sum`).
 
         ``L``, ``M`` choose the top approximant (default near-diagonal); the value of one
-        single approximant is :meth:`pade_approximant` called at λ.
+        single approximant is :meth:`pade_approximant` called at λ. With the default family,
+        where the growth of the coefficients is not settled (:meth:`large_order` not
+        ``supported``), the uncertainty of a trusted value is widened to hold the trusted
+        Borel–Padé interval (and likewise in :meth:`borel_pade`); and on a well that is not
+        :attr:`confining` no value at λ ≥ 0.8 is trusted.
         """
-        return pade_sum(self.precise, lam, L, M)
+        res = pade_sum(self.precise, lam, L, M)
+        if L is None and M is None and not self._settled():
+            res = _cross_checked(res, lambda: borel_pade(self.precise, lam), "Borel–Padé",
+                                 self.precise[0])
+        return _threshold_checked(res, self.confining)
 
     def borel_pade(self, lam: Any = 1.0, L: int | None = None, M: int | None = None, *,
                    power: int | None = None) -> BorelPade:
         """Borel(–Leroy)–Padé sum at λ with its uncertainty
         (:func:`anharmony.series.borel_pade`)."""
-        return borel_pade(self.precise, lam, L, M, power=power)
+        res = borel_pade(self.precise, lam, L, M, power=power)
+        if L is None and M is None and not self._settled():
+            res = _cross_checked(res, lambda: pade_sum(self.precise, lam), "Padé",
+                                 self.precise[0])
+        return _threshold_checked(res, self.confining)
+
+    def _settled(self) -> bool:
+        """The large-order analysis reaches its regime (:attr:`LargeOrder.supported`)."""
+        try:
+            return bool(large_order(self.precise).supported)
+        except InputError:
+            return False
 
     def optimal_truncation(self, lam: float = 1.0) -> OptimalTruncation:
         """Sum up to the smallest term at λ, with that term as the error estimate."""
@@ -141,6 +167,68 @@ class Series:
     def large_order(self, **options: Any) -> LargeOrder:
         """Ratio-test analysis of the growth of E_k (:func:`anharmony.series.large_order`)."""
         return large_order(self.precise, **options)
+
+
+SINGULAR_COUPLING = 0.8  # |λ| at and beyond which λ = 1, singular for a finite well, spoils a value
+
+
+def _threshold_checked(res: Resummed, confining: bool) -> Resummed:
+    """Untrust the values at λ ≥ 0.8 of a well that is not confining (:attr:`Series.confining`)."""
+    lam = np.asarray(res.lam, dtype=float).reshape(-1)
+    hit = lam >= SINGULAR_COUPLING
+    if confining or not hit.any():
+        return res
+    trusted = np.asarray(res.trusted, dtype=bool).reshape(-1).copy()
+    reasons = list(res.reason)
+    for i in np.flatnonzero(hit):
+        trusted[i] = False
+        reasons[i] = (f"{reasons[i]}; not trusted: the well is not confining, so for λ > 1 the "
+                      "coupled well (1 − λ) V_ref + λ V falls without bound and λ = 1 is a "
+                      f"singular point of E(λ); at λ = {lam[i]:.4g} agreement among "
+                      "approximants bounds nothing")
+    return dataclasses.replace(res, trusted=trusted.reshape(np.shape(res.trusted)),
+                               reason=tuple(reasons))
+
+
+def _cross_checked(res: Resummed, other_of: Any, name: str, c0: Any) -> Resummed:
+    """Widen each trusted value's uncertainty to hold the other method's trusted interval.
+
+    Called where the growth is not settled, so nothing else says which sum to believe.
+    Padé and Borel–Padé sums are two estimates of one number: where both are trusted, the
+    truth lies in both intervals only if each holds the other's, so each uncertainty becomes
+    at least |v − v_other| + u_other; trust is then judged again (below half the correction).
+    """
+    from ._family import TRUST_FRACTION
+
+    ok = np.asarray(res.trusted, dtype=bool).reshape(-1)
+    if not ok.any():
+        return res
+    try:
+        other = other_of()
+    except NumericalError:
+        return res
+    value = np.asarray(res.value, dtype=float).reshape(-1)
+    unc = np.asarray(res.uncertainty, dtype=float).reshape(-1).copy()
+    trusted = ok.copy()
+    o_val = np.asarray(other.value, dtype=float).reshape(-1)
+    o_unc = np.asarray(other.uncertainty, dtype=float).reshape(-1)
+    o_ok = np.asarray(other.trusted, dtype=bool).reshape(-1)
+    c0 = float(to_mpf(c0))
+    reasons = list(res.reason)
+    for i in np.flatnonzero(ok & o_ok & np.isfinite(o_val) & np.isfinite(o_unc)):
+        need = abs(value[i] - o_val[i]) + o_unc[i]
+        if not need > unc[i]:
+            continue
+        unc[i] = need
+        reasons[i] += (f"; widened to hold the {name} value {o_val[i]:.10g} ± {o_unc[i]:.2g}")
+        correction = abs(value[i] - c0)
+        if not unc[i] < TRUST_FRACTION * correction:
+            trusted[i] = False
+            reasons[i] += (f"; not trusted: {unc[i]:.2g} is not below half the resummed "
+                           f"correction {correction:.2g}")
+    shape = np.shape(res.value)
+    return dataclasses.replace(res, uncertainty=unc.reshape(shape),
+                               trusted=trusted.reshape(shape), reason=tuple(reasons))
 
 
 def _rational(x: float, scale: float) -> Fraction | None:
@@ -375,6 +463,7 @@ def series(
     _validate(well, dimension, l, level, orders, exact, max_size, levels)
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units
+    confining = _confining(well, channel)
     ref = reference_oscillator(well, dimension, l, None, max(levels, level + 1),
                                reference, channel.j)
     center = ref.center if channel.l is None else 0.0
@@ -395,7 +484,7 @@ def series(
         precise = tuple([offset + scale * exact_values[0]]
                         + [scale * e for e in exact_values[1:]])
         return _make(precise, exact_values, ref, channel, level, "exact", size, 0.0, system,
-                     orders_of_terms)
+                     orders_of_terms, confining)
 
     probe = channel_hamiltonian(well, channel, 4, ref.length, center)
     if probe.bandwidth is not None:
@@ -403,7 +492,7 @@ def series(
         size = level + orders * h + 1
         res = _numeric_at(parts, channel, ref, center, level, orders, size, h)
         return _make(tuple(res.mp()), None, ref, channel, level, "banded", size, 0.0, system,
-                     orders_of_terms)
+                     orders_of_terms, confining)
 
     size = min(max_size, max(DENSE_START, 2 * (level + orders) + 10))
     if size == max_size:  # leave room for one comparison below the cap
@@ -426,16 +515,27 @@ def series(
         previous = current
         size = min(max_size, math.ceil(size * DENSE_GROWTH))
     return _make(tuple(current), None, ref, channel, level, "dense", size, change, system,
-                 orders_of_terms)
+                 orders_of_terms, confining)
 
 
 def _make(precise: tuple, exact_values: list[Fraction] | None, ref: Reference,
           channel: Channel, level: int, method: str, size: int, precision: float,
-          system: UnitSystem, term_orders: tuple[int, ...]) -> Series:
+          system: UnitSystem, term_orders: tuple[int, ...], confining: bool = True) -> Series:
     coeffs = as_float_array(precise)
     return Series(
         coefficients=coeffs, exact=None if exact_values is None else list(exact_values),
         precise=precise, reference=ref, channel=channel, level=int(level), method=method,
         basis_size=int(size), precision=float(precision), units=system,
-        term_orders=tuple(term_orders),
+        term_orders=tuple(term_orders), confining=bool(confining),
     )
+
+
+def _confining(well: Well, channel: Channel) -> bool:
+    """Whether the well rises without bound on every side of the channel."""
+    from anharmony.well import CONFINING
+
+    symmetric = channel.dimension > 1 or channel.l is not None
+    try:
+        return well.classify(channel.dimension, symmetric).kind == CONFINING
+    except InputError:  # pragma: no cover - resolve_channel refuses these channels first
+        return False

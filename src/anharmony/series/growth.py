@@ -13,7 +13,7 @@ import numpy as np
 from ..errors import InputError
 from ._values import check_coefficients, even_series, to_mpf
 
-__all__ = ["LargeOrder", "large_order"]
+__all__ = ["LargeOrder", "PathSingularity", "large_order", "path_singularities"]
 
 MIN_SPARE = 3  # tail ratios beyond the number of fitted parameters
 SETTLED_FRACTION = 0.5  # 1/k corrections above this fraction of the leading term: not settled
@@ -195,3 +195,65 @@ def large_order(
         note = rests + ("" if ok else f"; not in the large-order regime: {why}")
         return LargeOrder("factorial", step, ratios, p, a, b, const, 0.0 if ok else math.nan,
                           sign, big_k, ok, note)
+
+
+NEAR_RADIUS = 0.8  # |λ|/R at and beyond which a singularity on the path spoils agreement
+
+
+@dataclass(frozen=True)
+class PathSingularity:
+    """A singularity of the sum on the path (0, λ], seen from the measured growth.
+
+    ``reason`` says where (R, λ, |λ|/R); ``tail`` is the geometric tail estimate
+    |c_N λ^N|·ρ/(1 − ρ) of the terms beyond the last (ρ = (|λ|/R)^step; inf for ρ ≥ 1).
+    """
+
+    reason: str
+    tail: float
+
+
+def path_singularities(coefficients: Sequence[Any], lam: Any) -> list[PathSingularity | None]:
+    """Per coupling (flattened): the singularity the growth puts on the path, or None.
+
+    Only a settled geometric growth (:attr:`LargeOrder.supported`) says where the nearest
+    singularity is: at λ = +R for terms of one sign, at −R for alternating ones (in λ², at
+    λ = ±R, on the real axis, or ±iR). Where it lies on the segment (0, λ] side and
+    |λ|/R ≥ :data:`NEAR_RADIUS`, the approximants are evaluated at or beyond a singularity
+    they resolve only slowly: their agreement is no error bound there (a Padé sequence at a
+    branch point converges slowly and all its members err the same way; common practice,
+    e.g. Baker & Graves-Morris, *Padé Approximants*, 2nd ed. 1996, ch. 1 and §5.6).
+    """
+    flat = [float(x) for x in np.asarray(lam, dtype=float).reshape(-1)]
+    try:
+        lo = large_order(coefficients)
+    except InputError:
+        return [None] * len(flat)
+    radius = lo.radius
+    if not (lo.supported and lo.kind == "geometric" and math.isfinite(radius) and radius > 0):
+        return [None] * len(flat)
+    with mpmath.workdps(30):
+        even = even_series(coefficients)
+        c = [to_mpf(x) for x in (coefficients if even is None else even)]
+        last = max((k for k in range(1, len(c)) if c[k] != 0), default=0)
+        out: list[PathSingularity | None] = []
+        for x in flat:
+            r = abs(x) / radius
+            if lo.step == 2:
+                on_path, where = lo.sign == "fixed", f"λ = ±{radius:.3g}"
+            elif lo.sign == "fixed":
+                on_path, where = x > 0, f"λ = {radius:.3g}"
+            else:
+                on_path, where = lo.sign == "alternating" and x < 0, f"λ = −{radius:.3g}"
+            if x == 0 or not on_path or r < NEAR_RADIUS:
+                out.append(None)
+                continue
+            rho = r**lo.step
+            term = float(abs(c[last] * mpmath.mpf(x) ** last)) if last else 0.0
+            tail = term * rho / (1.0 - rho) if rho < 1.0 else math.inf
+            out.append(PathSingularity(
+                f"the coefficients grow geometrically with {lo.sign} signs (radius of "
+                f"convergence R = {radius:.4g}: a singularity at {where}, on the path); at "
+                f"λ = {x:.4g}, |λ|/R = {r:.3g} ≥ {NEAR_RADIUS}, so agreement among "
+                f"approximants bounds nothing; geometric tail |c_N λ^N|·ρ/(1 − ρ) = {tail:.2g}",
+                tail))
+        return out

@@ -322,8 +322,11 @@ class Resummed:
         two orders fewer) from ``value``, plus their own numerical error (quadrature,
         rounding); inf where fewer than three approximants survive.
     trusted : ndarray of bool
-        Enough approximants survive and ``uncertainty`` is below half the resummed correction
-        |value − E_0|.
+        Enough approximants survive, ``uncertainty`` is below half the resummed correction
+        |value − E_0|, and the measured growth puts no singularity on the path within
+        |λ|/R < 0.8 (:func:`~.growth.path_singularities`: there agreement among approximants
+        bounds nothing; the uncertainty is then at least the geometric tail).
+        :class:`~.front.Series` adds two checks (:meth:`~.front.Series.pade`).
     reason : tuple of str
         Per coupling: how many approximants from which orders the value rests on and, where
         not trusted, why.
@@ -483,6 +486,9 @@ def pade_sum(
         rejected.append(fam.rejected)
         if first is None and fam.members:
             first = approx_of(fam.members[0])
+    from ._family import guard_path
+
+    guard_path(coefficients, flat, uncs, trusted, reasons)
     if first is None:
         top = centre or (order - order // 2, order // 2)
         got = approx_of(top) if order >= 1 and top[1] >= 0 else None
