@@ -359,10 +359,16 @@ output: ladder.nc
 """
 
 
+def _run_and_show(capsys, folder, text, output):
+    """Write a case, run it (exit 0) and show its result: (exit code, stdout of show)."""
+    (folder / "case.yaml").write_text(text)
+    assert _run(capsys, "run", "--progress", "off", str(folder / "case.yaml"))[0] == 0
+    code, out, _ = _run(capsys, "show", str(folder / output))
+    return code, out
+
+
 def test_show_prints_one_ladder_in_energy_order_for_a_symmetric_1d_well(tmp_path, capsys):
-    (tmp_path / "case.yaml").write_text(LADDER)
-    assert _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))[0] == 0
-    code, out, _ = _run(capsys, "show", str(tmp_path / "ladder.nc"))
+    code, out = _run_and_show(capsys, tmp_path, LADDER, "ladder.nc")
     assert code == 0
     rows = [line.split() for line in out.splitlines() if line.strip().startswith("v=")]
     assert [r[0] for r in rows] == [f"v={v}" for v in range(6)]
@@ -390,9 +396,7 @@ def test_show_names_the_reference_oscillator_apart_from_the_basis(tmp_path, caps
     # The harmonic approximation of −V₀ e^{−r²/a²} at r = 0: m ω² = 2 V₀/a², so with
     # ħ = m = 1 ħω = sqrt(2 V₀)/a = sqrt(80)/2 (calculus); the table's first line must give
     # that as the reference, beside the basis' own b = 0.8 (both are printed).
-    (tmp_path / "case.yaml").write_text(GAUSS_STUDY)
-    assert _run(capsys, "run", "--progress", "off", str(tmp_path / "case.yaml"))[0] == 0
-    code, out, _ = _run(capsys, "show", str(tmp_path / "gauss.nc"))
+    code, out = _run_and_show(capsys, tmp_path, GAUSS_STUDY, "gauss.nc")
     head = next(line for line in out.splitlines() if "hbar*omega = " in line)
     first = float(head.split("hbar*omega = ")[1].split(",")[0])
     assert code == 0 and "harmonic" in head
