@@ -18,25 +18,9 @@ import xarray as xr
 from anharmony.cases import load_case
 from anharmony.runner import run_case
 from anharmony.store import ResultFileError, read_dataset, write_dataset
+from result_case import result_case
 
-CASE = """\
-schema: 1
-title: Plain reader test
-units: nuclear
-space: {dimension: 3, l: [0, 1], spin: 1/2}
-well:
-  - woods_saxon: {depth: 50.0, radius: 3.5, diffuseness: 0.6}
-  - spin_orbit: {strength: 20.0, radius: 3.5, diffuseness: 0.6}
-reference: {frequency: 14.0}
-basis: {size: 10}
-levels: {count: 2}
-scan:
-  parameter: well[0].depth
-  values: [45.0, 50.0]
-perturbation: {orders: 3, exact: false, resum: [pade]}
-convergence: {sizes: [6, 8], tolerance: 1.0e-3, estimate: smaller_basis}
-output: plain.nc
-"""
+CASE = result_case("Plain reader test", "plain.nc")
 
 
 def _same_attrs(a, b) -> bool:

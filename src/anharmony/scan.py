@@ -492,9 +492,9 @@ def scan(well: Well, dimension: int = 3, l: int | None = 0, j: Any = None, *,
     applies; the error estimate then takes its sub-blocks from the same band. Otherwise each
     value is solved as :func:`~anharmony.spectrum.solve` would. A coupling scan of a well with
     term orders uses the polynomial pencil H_ref + λ B₁ + Σ_{k≥2} λ^k B_k
-    (:func:`~anharmony.pencil.order_pencil`); it refuses an inverse-square term (which the
-    series takes into H_ref) and, in 1D parity channels, orders whose terms are not
-    symmetric.
+    (:func:`~anharmony.pencil.order_pencil`); an inverse-square term of a radial channel stays
+    whole at every λ (the series takes it into H_ref), and in 1D parity channels orders whose
+    terms are not symmetric are refused.
     """
     well, channel = resolve_channel(well, dimension, l, j, units, mass)
     system = well.units

@@ -440,17 +440,11 @@ def judge_levels(energies: np.ndarray, bound: np.ndarray, quasi: np.ndarray,
     return (bound | quasi) & (errors <= tol), tol
 
 
-def line_barrier(well: Well) -> float:
-    """The escape barrier of an open line: from the minimum, the highest V on each side up to
-    where V falls below V_min (far out, 10³ length scales), lowest over the sides that fall;
-    NaN if no side falls below V_min or the well has no minimum."""
-    return line_pass(well)[0]
-
-
 def line_pass(well: Well) -> tuple[float, float, float]:
-    """(energy, position, side) of the escape barrier of an open line (:func:`line_barrier`):
-    ``side`` is +1 or −1, the direction from the minimum in which V falls beyond the pass;
-    NaNs where there is none."""
+    """(energy, position, side) of the escape barrier of an open line: from the minimum, the
+    highest V on each side up to where V falls below V_min (far out, 10³ length scales),
+    lowest over the sides that fall; ``side`` is +1 or −1, the direction from the minimum in
+    which V falls beyond the pass. NaNs if no side falls below V_min or there is no minimum."""
     from scipy.optimize import minimize_scalar
 
     try:

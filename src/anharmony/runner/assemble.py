@@ -188,19 +188,13 @@ def _term_order_variables(case: Case, orders: Sequence[int]) -> dict[str, Any]:
 
 def _open_line(case: Case, out: dict[str, Any]) -> tuple[np.ndarray | None, np.ndarray]:
     """The quasi-bound levels (S, C, L) and escape barrier (S,) of a case on the open line
-    (1D channels without parity, threshold −∞ at some point); (None, …) otherwise."""
+    (1D channels without parity, threshold −∞ at some point), as the core scan flagged them
+    (:func:`anharmony.scan.scan`); (None, …) otherwise."""
     chans = case.channels()
     line = [c for c, ch in enumerate(chans) if ch.dimension == 1 and ch.l is None]
-    values = case.scan_values()
-    barrier = np.full(len(values), np.nan)
     if not line or not np.any(out["threshold"][:, line] == -np.inf):
-        return None, barrier
-    quasi = np.zeros(out["energy"].shape, dtype=bool)
-    for k in range(len(values)):  # the core scan's flags and barrier (anharmony.scan)
-        if np.any(out["threshold"][k, line] == -np.inf):
-            barrier[k] = out["barrier"][k]
-            quasi[k, line] = out["quasi"][k, line]
-    return quasi, barrier
+        return None, np.full(len(case.scan_values()), np.nan)
+    return out["quasi"], out["barrier"]
 
 
 def _study_estimate(case: Case, out: dict[str, Any]) -> tuple[np.ndarray, np.ndarray]:
